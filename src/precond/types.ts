@@ -1,0 +1,35 @@
+import type { Bsr, Csr } from '../sparse/types.js';
+import type { BufferBytes } from '../solvers/types.js';
+
+/** The matrix as a preconditioner factory sees it. */
+export interface SystemMatrix {
+  /** Scalar CSR as read (point methods use this pattern). */
+  readonly csr: Csr;
+  /** Block view (bs = 1 when no block size is known). */
+  readonly bsr: Bsr;
+  /** Block-row offsets of time slabs (first 0, last nBlockRows), when known. */
+  readonly slabOffsets?: Int32Array;
+}
+
+export type SetupOutcome =
+  | { ok: true }
+  | { ok: false; reason: 'zero-pivot' | 'non-finite' | 'inner-solve-failed' | 'invalid'; message: string; blockRow?: number };
+
+/**
+ * A preconditioner: z ← M⁻¹ r. Created by a factory (cheap: checks options, no heavy work),
+ * then setup() once (symbolic + numeric; may fail politely), then apply() many times.
+ * All workspace is allocated in setup(); apply() never allocates.
+ */
+export interface Preconditioner {
+  readonly name: string;
+  readonly n: number;
+  /** True when M changes between applications (inner iterative solves): use FGMRES. */
+  readonly variable: boolean;
+  setup(): SetupOutcome;
+  /** z ← M⁻¹ r; r and z different arrays of length n; r never modified. */
+  apply(r: Float64Array, z: Float64Array): void;
+  /** Bytes by named buffer (factors, pivots, permutation, workspace…). */
+  memory(): BufferBytes;
+  /** Optional statistics (inner iterations per slab, pivots shifted…). */
+  stats?(): Record<string, unknown>;
+}

@@ -1,0 +1,48 @@
+/**
+ * Sparse matrix types. All indices are 0-based and stored in Int32Array, so a dimension or
+ * nonzero count must stay below 2^31 − 1 (checked by readers and generators before allocating).
+ */
+
+/**
+ * Compressed sparse rows. Row i holds entries rowPtr[i] .. rowPtr[i+1]-1 with column indices
+ * colInd[k] sorted ascending and unique within the row. Explicit zeros are kept: they belong
+ * to the pattern (and so to the ILU(0) pattern).
+ */
+export interface Csr {
+  readonly nRows: number;
+  readonly nCols: number;
+  readonly rowPtr: Int32Array; // length nRows + 1
+  readonly colInd: Int32Array; // length nnz
+  readonly values: Float64Array; // length nnz
+}
+
+/**
+ * Block compressed sparse rows with square bs×bs blocks, each stored ROW-MAJOR:
+ * entry (i, j) of block k (0 ≤ i, j < bs) is values[k*bs*bs + i*bs + j].
+ * Block row I holds blocks rowPtr[I] .. rowPtr[I+1]-1 with block column indices colInd[k]
+ * sorted ascending and unique. Scalar size is nBlockRows*bs × nBlockCols*bs.
+ */
+export interface Bsr {
+  readonly nBlockRows: number;
+  readonly nBlockCols: number;
+  readonly bs: number;
+  readonly rowPtr: Int32Array; // length nBlockRows + 1
+  readonly colInd: Int32Array; // length nBlocks
+  readonly values: Float64Array; // length nBlocks * bs * bs
+}
+
+/** Largest count an Int32 index array can address. */
+export const MAX_INT32_INDEX = 2 ** 31 - 1;
+
+/**
+ * Sidecar layout of a matrix: `NAME.layout.json` beside `NAME.mtx`.
+ * slabOffsets are BLOCK-row offsets: slab s holds block rows slabOffsets[s] .. slabOffsets[s+1]-1;
+ * first entry 0, last entry the number of block rows.
+ */
+export interface Layout {
+  readonly blockSize: number;
+  readonly slabOffsets?: readonly number[];
+  /** Free-form provenance: generator parameters, source code, date… */
+  readonly provenance?: Record<string, unknown>;
+  readonly [extra: string]: unknown;
+}
