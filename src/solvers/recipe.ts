@@ -1,3 +1,4 @@
+import { UserError, optionError } from '../util/errors.js';
 /**
  * A solver recipe: one named combination of Krylov method, preconditioner, ordering and
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
@@ -71,3 +72,202 @@ export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
   divergence: 1e10,
   baseline: 'rhs',
 });
+
+// ---------------------------------------------------------------------------------------------
+// Validation: suite-file recipes (parseRecipe) and command-line options (recipeFromOptions).
+// Added by the solvers area; the types above are unchanged.
+// ---------------------------------------------------------------------------------------------
+
+export const BLOCK_INVERSES: readonly BlockInverse[] = ['lu', 'inverse'];
+export const PRECONDITION_SIDES: readonly PreconditionSide[] = ['right', 'left'];
+export const ORTHOGONALIZATIONS: readonly Orthogonalization[] = ['mgs', 'cgs2'];
+export const BASELINES: readonly Recipe['baseline'][] = ['rhs', 'initial-residual'];
+
+/** Inner recipe a slab preconditioner uses when none is given: GMRES(30) + block ILU(0) to 1e-10. */
+export const DEFAULT_INNER_RECIPE: Readonly<Recipe> = Object.freeze({
+  ...DEFAULT_RECIPE,
+  name: 'slab-inner',
+  preconditioner: 'block-ilu0',
+  rtol: 1e-10,
+  maxIterations: 500,
+});
+
+type FieldSpec =
+  | { kind: 'enum'; values: readonly string[] }
+  | { kind: 'int'; min: number; max: number }
+  | { kind: 'number'; min: number; minOpen: boolean; max?: number; maxOpen?: boolean };
+
+type ScalarField = Exclude<keyof Recipe, 'name' | 'inner'>;
+
+/** One spec per recipe field: the single source for suite files and command-line options. */
+const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
+  krylov: { kind: 'enum', values: KRYLOV_NAMES },
+  restart: { kind: 'int', min: 1, max: 10000 },
+  side: { kind: 'enum', values: PRECONDITION_SIDES },
+  orthogonalization: { kind: 'enum', values: ORTHOGONALIZATIONS },
+  preconditioner: { kind: 'enum', values: PRECONDITIONER_NAMES },
+  sweep: { kind: 'enum', values: SWEEP_DIRECTIONS },
+  ordering: { kind: 'enum', values: ORDERING_NAMES },
+  omega: { kind: 'number', min: 0, minOpen: true },
+  sweeps: { kind: 'int', min: 1, max: 1000 },
+  shift: { kind: 'number', min: 0, minOpen: false },
+  blockInverse: { kind: 'enum', values: BLOCK_INVERSES },
+  rtol: { kind: 'number', min: 0, minOpen: false, max: 1, maxOpen: true },
+  atol: { kind: 'number', min: 0, minOpen: false },
+  maxIterations: { kind: 'int', min: 0, max: 1e9 },
+  divergence: { kind: 'number', min: 1, minOpen: true },
+  baseline: { kind: 'enum', values: BASELINES },
+};
+
+function describeSpec(s: FieldSpec): string {
+  if (s.kind === 'enum') return `one of ${s.values.join(', ')}`;
+  if (s.kind === 'int') return `an integer from ${s.min} to ${s.max}`;
+  const lo = `${s.minOpen ? '>' : '≥'} ${s.min}`;
+  const hi = s.max === undefined ? '' : ` and ${s.maxOpen ? '<' : '≤'} ${s.max}`;
+  return `a finite number ${lo}${hi}`;
+}
+
+/** Check one value against its spec; returns an error text or undefined. `fromText`: value is a CLI string. */
+function checkValue(spec: FieldSpec, raw: unknown, fromText: boolean): { value?: string | number; error?: string } {
+  const shown = typeof raw === 'string' ? JSON.stringify(raw) : String(raw);
+  const expected = `expected ${describeSpec(spec)}, got ${shown}`;
+  if (spec.kind === 'enum') {
+    return typeof raw === 'string' && spec.values.includes(raw) ? { value: raw } : { error: expected };
+  }
+  let v: number;
+  if (typeof raw === 'number') v = raw;
+  else if (fromText && typeof raw === 'string' && raw.trim() !== '' && /^[-+0-9.eE]+$/.test(raw.trim())) v = Number(raw);
+  else return { error: expected };
+  if (!Number.isFinite(v)) return { error: expected };
+  if (spec.kind === 'int') {
+    return Number.isInteger(v) && v >= spec.min && v <= spec.max ? { value: v } : { error: expected };
+  }
+  if (spec.minOpen ? !(v > spec.min) : !(v >= spec.min)) return { error: expected };
+  if (spec.max !== undefined && (spec.maxOpen ? !(v < spec.max) : !(v <= spec.max))) return { error: expected };
+  return { value: v };
+}
+
+/** Checks between fields (same wording for suite files and options). Returns [field, message] or undefined. */
+function crossCheck(r: Recipe, isInner: boolean): [keyof Recipe, string] | undefined {
+  if (r.preconditioner === 'block-gs' && !(r.omega < 2)) {
+    return ['omega', `block-gs relaxation must be below 2, got ${r.omega}`];
+  }
+  if (r.krylov === 'fgmres' && r.side === 'left') return ['side', 'fgmres preconditions on the right only'];
+  if (r.inner && r.preconditioner !== 'slab') return ['inner', 'an inner recipe is only used by preconditioner slab'];
+  if (isInner && r.preconditioner === 'slab') return ['preconditioner', 'a slab inner recipe cannot itself use slab'];
+  return undefined;
+}
+
+/**
+ * Validate a recipe from a suite file (JSON). Missing fields take DEFAULT_RECIPE values
+ * (DEFAULT_INNER_RECIPE for `inner`); unknown fields are rejected so that a typo cannot silently
+ * fall back to a default. `where` names the object, e.g. "suite.json: recipes[2]".
+ * A slab recipe without `inner` gets DEFAULT_INNER_RECIPE.
+ */
+export function parseRecipe(obj: unknown, where: string): Recipe {
+  return parseRecipeAt(obj, where, false);
+}
+
+function parseRecipeAt(obj: unknown, where: string, isInner: boolean): Recipe {
+  if (obj === null || typeof obj !== 'object' || Array.isArray(obj)) {
+    throw new UserError(`${where}: expected an object with recipe fields`);
+  }
+  const src = obj as Record<string, unknown>;
+  const base = isInner ? DEFAULT_INNER_RECIPE : DEFAULT_RECIPE;
+  const out: Record<string, unknown> = { ...base };
+  delete out.inner;
+  for (const key of Object.keys(src)) {
+    if (key === 'name') {
+      if (typeof src.name !== 'string' || src.name.trim() === '') {
+        throw new UserError(`${where}.name: expected a non-empty string`);
+      }
+      out.name = src.name;
+      continue;
+    }
+    if (key === 'inner') continue;
+    const spec = (FIELD_SPECS as Record<string, FieldSpec | undefined>)[key];
+    if (!spec) {
+      throw new UserError(`${where}: unknown field "${key}" (recipe fields: name, ${Object.keys(FIELD_SPECS).join(', ')}, inner)`);
+    }
+    const c = checkValue(spec, src[key], false);
+    if (c.error) throw new UserError(`${where}.${key}: ${c.error}`);
+    out[key] = c.value;
+  }
+  if (src.name === undefined) out.name = isInner ? base.name : `${out.krylov}-${out.preconditioner}`;
+  const recipe = out as unknown as Recipe;
+  if (src.inner !== undefined) {
+    if (isInner) throw new UserError(`${where}.inner: an inner recipe cannot have its own inner recipe`);
+    recipe.inner = parseRecipeAt(src.inner, `${where}.inner`, true);
+  }
+  const bad = crossCheck(recipe, isInner);
+  if (bad) throw new UserError(`${where}.${bad[0]}: ${bad[1]}`);
+  if (recipe.preconditioner === 'slab' && !recipe.inner) recipe.inner = { ...DEFAULT_INNER_RECIPE };
+  return recipe;
+}
+
+/** Command-line flag (without "--") for each recipe field. Inner fields take the prefix "inner-". */
+export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
+  krylov: 'krylov',
+  restart: 'restart',
+  side: 'side',
+  orthogonalization: 'ortho',
+  preconditioner: 'precond',
+  sweep: 'sweep',
+  ordering: 'order',
+  omega: 'omega',
+  sweeps: 'sweeps',
+  shift: 'shift',
+  blockInverse: 'block-inverse',
+  rtol: 'rtol',
+  atol: 'atol',
+  maxIterations: 'max-iters',
+  divergence: 'divergence',
+  baseline: 'baseline',
+};
+
+/** commander's camelCase key for a flag ("max-iters" → "maxIters", "inner-precond" → "innerPrecond"). */
+export function flagKey(flag: string): string {
+  return flag.replace(/-([a-z])/g, (_m, c: string) => c.toUpperCase());
+}
+
+/** Short description of a recipe field's accepted values (for --help). */
+export function describeRecipeField(field: ScalarField): string {
+  return describeSpec(FIELD_SPECS[field]);
+}
+
+export const RECIPE_FIELDS: readonly ScalarField[] = Object.keys(FIELD_SPECS) as ScalarField[];
+
+/**
+ * Build a recipe from parsed command-line options (commander's camelCase keys, string values).
+ * Options not given take DEFAULT_RECIPE values; `--inner-<flag>` options fill the slab inner recipe
+ * (defaults DEFAULT_INNER_RECIPE) and are rejected unless --precond slab.
+ */
+export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
+  const outer: Record<string, unknown> = { ...DEFAULT_RECIPE };
+  const inner: Record<string, unknown> = { ...DEFAULT_INNER_RECIPE };
+  let innerGiven: string | undefined;
+  for (const field of RECIPE_FIELDS) {
+    const flag = RECIPE_FLAGS[field];
+    for (const [target, prefix] of [[outer, ''], [inner, 'inner-']] as const) {
+      const raw = opts[flagKey(prefix + flag)];
+      if (raw === undefined) continue;
+      const c = checkValue(FIELD_SPECS[field], raw, true);
+      if (c.error) throw optionError(`--${prefix}${flag}`, c.error);
+      target[field] = c.value;
+      if (prefix) innerGiven ??= `--${prefix}${flag}`;
+    }
+  }
+  outer.name = `${outer.krylov}-${outer.preconditioner}`;
+  const recipe = outer as unknown as Recipe;
+  if (recipe.preconditioner === 'slab') recipe.inner = inner as unknown as Recipe;
+  else if (innerGiven) throw optionError(innerGiven, 'inner options are only used with --precond slab');
+  for (const [r, prefix] of [[recipe, ''], [recipe.inner, 'inner-']] as const) {
+    if (!r) continue;
+    const bad = crossCheck(r, prefix !== '');
+    if (bad) {
+      const f = bad[0] === 'inner' ? 'precond' : RECIPE_FLAGS[bad[0] as ScalarField];
+      throw optionError(`--${prefix}${f}`, bad[1]);
+    }
+  }
+  return recipe;
+}

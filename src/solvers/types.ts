@@ -59,6 +59,8 @@ export interface ResidualCheck {
   iteration: number;
   estimate: number; // relative, as monitored
   trueValue: number; // ‖b − A x‖ / baseline norm
+  /** Left preconditioning only: the recomputed monitored residual ‖M⁻¹(b − A x)‖ / baselineNorm. */
+  monitoredValue?: number;
 }
 
 export interface SolveResult {
@@ -79,6 +81,11 @@ export interface SolveResult {
   baselineNorm: number;
   /** ‖b − A x‖ / baselineNorm at the end, recomputed from scratch. */
   trueRelativeResidual: number;
+  /**
+   * The unpreconditioned norm trueRelativeResidual divides by (‖b‖ or ‖r0‖). Equals baselineNorm
+   * except under left preconditioning, where baselineNorm is ‖M⁻¹b‖ or ‖M⁻¹r0‖.
+   */
+  trueBaselineNorm?: number;
   residualChecks: ResidualCheck[];
   /** true when a recursive estimate and the true residual disagreed by more than a factor 10 (and above rtol). */
   residualMismatch: boolean;

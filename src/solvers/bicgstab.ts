@@ -1,0 +1,144 @@
+import type { LinearOperator, ResidualCheck, SolveResult, StopReason } from './types.js';
+import type { KrylovOptions } from './options.js';
+import { checkKrylovOptions, checkVectors } from './options.js';
+import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
+import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
+import { axpy, dot, norm2 } from './vector.js';
+
+/**
+ * BiCGStab with right preconditioning (van der Vorst, SIAM J. Sci. Stat. Comput. 13(2), 1992,
+ * Alg. "preconditioned Bi-CGSTAB"; Barrett et al., Templates, 1994, Fig. 2.10).
+ *
+ * One iteration = two operator and two preconditioner applications. The monitored residual is the
+ * recursively updated r, which equals b − A x up to rounding (right preconditioning). When it says
+ * "converged" the true residual is recomputed; if that does not confirm, the method starts again
+ * from the true residual (a new shadow vector) and `restarts` counts those re-starts. Breakdown:
+ * ρ = (r̂, r) = 0, (r̂, v) = 0 or ω = 0.
+ */
+export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, opts: KrylovOptions): SolveResult {
+  const method = 'bicgstab';
+  checkKrylovOptions(method, opts);
+  const n = A.n;
+  const M = opts.M;
+  checkVectors(method, n, b, x, M);
+
+  const r = new Float64Array(n);
+  const rHat = new Float64Array(n);
+  const p = new Float64Array(n);
+  const v = new Float64Array(n);
+  const s = new Float64Array(n);
+  const t = new Float64Array(n);
+  const pHat = M ? new Float64Array(n) : p;
+  const sHat = M ? new Float64Array(n) : s;
+  const krylov = bytesOf({ r, rHat, p, v, s, t, pHat: M ? pHat : undefined, sHat: M ? sHat : undefined });
+  const work = {};
+
+  const meter = meterPreconditioner(M);
+  const t0 = performance.now();
+  const history: number[] = [];
+  const residualChecks: ResidualCheck[] = [];
+  let residualMismatch = false;
+  let iterations = 0;
+  let restarts = 0;
+  let failure: { message: string; blockRow?: number } | undefined;
+  const rule: StopRule = { rtol: opts.rtol, atol: opts.atol, divergence: opts.divergence, baselineNorm: 0 };
+  let trueNorm = 0;
+
+  const finish = (reason: StopReason): SolveResult => buildResult({
+    method, M, reason, iterations, restarts, history, monitored: 'true', baseline: opts.baseline,
+    baselineNorm: rule.baselineNorm, trueBaselineNorm: rule.baselineNorm, trueResidualNorm: trueNorm,
+    residualChecks, residualMismatch, solveSeconds: secondsSince(t0), meter, krylov, work, failure,
+  });
+  const trueResidual = (): number => {
+    A.apply(x, r);
+    for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
+    return norm2(n, r);
+  };
+  const stopMonitor = (): SolveResult => {
+    failure = { message: 'stopped by the onIteration monitor' };
+    return finish('max-iterations');
+  };
+
+  const bNorm = norm2(n, b);
+  if (!Number.isFinite(bNorm)) { trueNorm = NaN; history.push(NaN); return finish('non-finite'); }
+  if (bNorm === 0) { x.fill(0); history.push(0); return finish('converged-rtol'); }
+  trueNorm = trueResidual();
+  rule.baselineNorm = opts.baseline === 'rhs' ? bNorm : trueNorm;
+  let rel = relative(trueNorm, rule.baselineNorm);
+  history.push(rel);
+  let vote: Vote = combineVotes(residualVote(rule, trueNorm), monitorVote(opts.onIteration, 0, rel));
+  if (isStop(vote)) return vote === 'max-iterations' ? stopMonitor() : finish(vote);
+  if (opts.maxIterations === 0) return finish('max-iterations');
+
+  for (;;) {
+    // (re)start from the residual in r
+    rHat.set(r);
+    let rho = 1, alpha = 1, omega = 1;
+    p.fill(0);
+    v.fill(0);
+    let rNorm = trueNorm;
+    vote = 'continue';
+    while (iterations < opts.maxIterations) {
+      const rhoNew = dot(n, rHat, r);
+      if (rhoNew === 0 || !Number.isFinite(rhoNew)) {
+        vote = Number.isFinite(rhoNew) ? 'breakdown' : 'non-finite';
+        failure = vote === 'breakdown' ? { message: 'bicgstab: (r̂, r) = 0' } : undefined;
+        break;
+      }
+      const beta = (rhoNew / rho) * (alpha / omega);
+      for (let i = 0; i < n; i++) p[i] = r[i] + beta * (p[i] - omega * v[i]);
+      if (M) meter.apply(p, pHat);
+      A.apply(pHat, v);
+      const rv = dot(n, rHat, v);
+      if (rv === 0 || !Number.isFinite(rv)) {
+        vote = Number.isFinite(rv) ? 'breakdown' : 'non-finite';
+        failure = vote === 'breakdown' ? { message: 'bicgstab: (r̂, A M⁻¹ p) = 0' } : undefined;
+        break;
+      }
+      alpha = rhoNew / rv;
+      for (let i = 0; i < n; i++) s[i] = r[i] - alpha * v[i];
+      const sNorm = norm2(n, s);
+      const sVote = residualVote(rule, sNorm);
+      if (sVote === 'converged-rtol' || sVote === 'converged-atol') {
+        // half step suffices: x ← x + α p̂ (counts as an iteration)
+        axpy(n, alpha, pHat, x);
+        r.set(s);
+        rNorm = sNorm;
+        iterations++;
+        rel = relative(rNorm, rule.baselineNorm);
+        history.push(rel);
+        vote = combineVotes(sVote, monitorVote(opts.onIteration, iterations, rel));
+        break;
+      }
+      if (M) meter.apply(s, sHat);
+      A.apply(sHat, t);
+      const tt = dot(n, t, t);
+      omega = tt > 0 ? dot(n, t, s) / tt : 0;
+      axpy(n, alpha, pHat, x);
+      axpy(n, omega, sHat, x);
+      for (let i = 0; i < n; i++) r[i] = s[i] - omega * t[i];
+      rho = rhoNew;
+      rNorm = norm2(n, r);
+      iterations++;
+      rel = relative(rNorm, rule.baselineNorm);
+      history.push(rel);
+      vote = combineVotes(residualVote(rule, rNorm), monitorVote(opts.onIteration, iterations, rel));
+      if (!Number.isFinite(omega)) vote = 'non-finite';
+      if (isStop(vote)) break;
+      if (omega === 0) { vote = 'breakdown'; failure = { message: 'bicgstab: ω = 0 (stagnation)' }; break; }
+    }
+    const estimate = relative(rNorm, rule.baselineNorm);
+    trueNorm = trueResidual();
+    const trueRel = relative(trueNorm, rule.baselineNorm);
+    residualChecks.push({ iteration: iterations, estimate, trueValue: trueRel });
+    if (residualsDisagree(estimate, trueRel, opts.rtol)) residualMismatch = true;
+    if (!Number.isFinite(trueNorm)) return finish('non-finite');
+    if (vote === 'max-iterations') return stopMonitor();
+    if (isStop(vote) && !vote.startsWith('converged')) return finish(vote);
+    const trueVote = residualVote(rule, trueNorm);
+    if (isStop(trueVote)) return finish(trueVote);
+    if (iterations >= opts.maxIterations) return finish('max-iterations');
+    // recursive residual claimed convergence the true residual does not confirm: start again
+    restarts++;
+  }
+}

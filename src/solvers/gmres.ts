@@ -1,0 +1,263 @@
+import { UserError } from '../util/errors.js';
+import type { LinearOperator, ResidualCheck, SolveResult, StopReason } from './types.js';
+import type { KrylovOptions } from './options.js';
+import { checkKrylovOptions, checkVectors } from './options.js';
+import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
+import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
+import { axpy, dot, isZero, norm2, scale } from './vector.js';
+import { ritzValues } from './ritz.js';
+
+/**
+ * Happy breakdown: h_{j+1,j} ≤ HAPPY·‖A z_j‖ means the Krylov space is (numerically) invariant and
+ * the cycle's least-squares solution is exact (Saad 2003, Prop. 6.10). Common practice threshold.
+ */
+const HAPPY = 1e-14;
+
+/** Largest basis we allocate: (m+1)·n doubles must fit a typed array. */
+const MAX_BASIS_ENTRIES = 2 ** 32 - 1;
+
+/**
+ * Restarted GMRES(m) and flexible GMRES(m) (Saad & Schultz 1986; Saad 1993 for FGMRES; the
+ * algorithm as in Saad, Iterative Methods for Sparse Linear Systems, 2nd ed. 2003, Alg. 6.9/9.5/9.6).
+ *
+ * - x holds x₀ on entry and the solution on return; b is never modified.
+ * - Right preconditioning (default): minimizes ‖b − A x‖, so the monitored residual is the true one
+ *   up to rounding. Left: minimizes ‖M⁻¹(b − A x)‖, and that preconditioned norm is monitored.
+ * - Flexible (opts.flexible): right only, stores Z_j = M⁻¹ v_j, so M may change between applications.
+ * - Modified Gram–Schmidt (default) or classical Gram–Schmidt with one reorthogonalization ('cgs2',
+ *   Giraud, Langou & Rozložník 2005); Givens rotations on the Hessenberg matrix.
+ * - At each restart and at the end the true residual ‖b − A x‖ is recomputed and recorded beside the
+ *   recursive estimate; the next cycle starts from the recomputed residual.
+ * - maxIterations counts inner iterations in total; restarts counts cycles begun after the first.
+ * Never throws for numerical trouble: it ends with a StopReason.
+ */
+export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts: KrylovOptions): SolveResult {
+  const flexible = opts.flexible === true;
+  const method = flexible ? 'fgmres' : 'gmres';
+  checkKrylovOptions(method, opts);
+  const n = A.n;
+  const M = opts.M;
+  checkVectors(method, n, b, x, M);
+  if (flexible && opts.side === 'left') throw new UserError('fgmres: option side: flexible GMRES preconditions on the right only');
+  const left = opts.side === 'left' && M !== undefined;
+  const m = Math.max(1, Math.min(opts.restart, n));
+  if ((m + 1) * n > MAX_BASIS_ENTRIES) {
+    throw new UserError(`${method}: option restart: a basis of ${m + 1} vectors of length ${n} is too large`);
+  }
+
+  // ---- setup: every buffer the iterations use ----
+  const ldh = m + 1;
+  const V = new Float64Array((m + 1) * n);
+  const vs: Float64Array[] = [];
+  for (let j = 0; j <= m; j++) vs.push(V.subarray(j * n, (j + 1) * n));
+  const Z = flexible && M ? new Float64Array(m * n) : undefined;
+  const zs: Float64Array[] = [];
+  if (Z) for (let j = 0; j < m; j++) zs.push(Z.subarray(j * n, (j + 1) * n));
+  const H = new Float64Array(ldh * m);
+  const wantRitz = opts.ritz !== false;
+  const Hraw = wantRitz ? new Float64Array(ldh * m) : undefined;
+  const cs = new Float64Array(m);
+  const sn = new Float64Array(m);
+  const g = new Float64Array(m + 1);
+  const y = new Float64Array(m);
+  const hTmp = new Float64Array(m + 1);
+  const r = new Float64Array(n);
+  const w = new Float64Array(n);
+  const z = M ? new Float64Array(n) : undefined;
+  const krylov = bytesOf({ basis: V, flexibleBasis: Z, hessenberg: H, ritzHessenberg: Hraw, rotations: cs });
+  krylov.rotations = cs.byteLength + sn.byteLength + g.byteLength + y.byteLength + hTmp.byteLength;
+  const work = bytesOf({ residual: r, product: w, preconditioned: z });
+
+  const meter = meterPreconditioner(M);
+  const t0 = performance.now();
+  const history: number[] = [];
+  const residualChecks: ResidualCheck[] = [];
+  let residualMismatch = false;
+  let iterations = 0;
+  let restarts = 0;
+  let ritz: { re: number[]; im: number[] } | undefined;
+  let failure: { message: string; blockRow?: number } | undefined;
+  const rule: StopRule = { rtol: opts.rtol, atol: opts.atol, divergence: opts.divergence, baselineNorm: 0 };
+  let trueBase = 0;
+  let trueNorm = 0;
+
+  const finish = (reason: StopReason): SolveResult => buildResult({
+    method, M, reason, iterations, restarts, history, monitored: left ? 'preconditioned' : 'true',
+    baseline: opts.baseline, baselineNorm: rule.baselineNorm, trueBaselineNorm: trueBase,
+    trueResidualNorm: trueNorm, residualChecks, residualMismatch, solveSeconds: secondsSince(t0), meter,
+    krylov, work, ritz, failure,
+  });
+
+  // r ← b − A x, returns ‖r‖
+  const trueResidual = (): number => {
+    A.apply(x, r);
+    for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
+    return norm2(n, r);
+  };
+
+  // ---- iteration 0 ----
+  const bNorm = norm2(n, b);
+  if (!Number.isFinite(bNorm)) {
+    trueNorm = NaN;
+    history.push(NaN);
+    return finish('non-finite');
+  }
+  if (bNorm === 0) {
+    // b = 0: the solution of a nonsingular system is x = 0, reached without iterating.
+    x.fill(0);
+    history.push(0);
+    return finish('converged-rtol');
+  }
+  const x0Zero = isZero(n, x);
+  trueNorm = trueResidual();
+  trueBase = opts.baseline === 'rhs' ? bNorm : trueNorm;
+  // beta: the monitored residual norm; the cycle's first basis vector is built in vs[0].
+  let beta: number;
+  if (left) {
+    meter.apply(r, vs[0]);
+    beta = norm2(n, vs[0]);
+    if (opts.baseline === 'rhs') {
+      if (x0Zero) rule.baselineNorm = beta;
+      else { meter.apply(b, w); rule.baselineNorm = norm2(n, w); }
+    } else rule.baselineNorm = beta;
+    if (rule.baselineNorm === 0 && Number.isFinite(beta) && trueNorm > 0) {
+      history.push(Infinity);
+      failure = { message: 'the preconditioner maps the residual to zero' };
+      return finish('breakdown');
+    }
+  } else {
+    vs[0].set(r);
+    beta = trueNorm;
+    rule.baselineNorm = trueBase;
+  }
+  let rel = relative(beta, rule.baselineNorm);
+  history.push(rel);
+  let vote = combineVotes(residualVote(rule, beta), monitorVote(opts.onIteration, 0, rel));
+  if (!Number.isFinite(trueNorm)) vote = 'non-finite';
+  if (isStop(vote)) {
+    if (vote === 'max-iterations') failure = { message: 'stopped by the onIteration monitor' };
+    return finish(vote);
+  }
+  if (opts.maxIterations === 0) return finish('max-iterations');
+
+  // ---- cycles ----
+  for (let cycle = 0; ; cycle++) {
+    scale(n, 1 / beta, vs[0]);
+    g.fill(0);
+    g[0] = beta;
+    let k = 0;
+    let cycleVote: Vote = 'continue';
+    let estimate = beta;
+    for (let j = 0; j < m; j++) {
+      const vj = vs[j];
+      const next = vs[j + 1];
+      // next ← (preconditioned) operator applied to v_j
+      if (!M) A.apply(vj, next);
+      else if (left) { A.apply(vj, z!); meter.apply(z!, next); }
+      else if (Z) { meter.apply(vj, zs[j]); A.apply(zs[j], next); }
+      else { meter.apply(vj, z!); A.apply(z!, next); }
+      const hc = j * ldh;
+      const wNorm0 = norm2(n, next);
+      if (opts.orthogonalization === 'mgs') {
+        for (let i = 0; i <= j; i++) {
+          const hij = dot(n, next, vs[i]);
+          H[hc + i] = hij;
+          axpy(n, -hij, vs[i], next);
+        }
+      } else {
+        // classical Gram–Schmidt, twice ("twice is enough", Giraud, Langou & Rozložník 2005)
+        for (let i = 0; i <= j; i++) H[hc + i] = 0;
+        for (let pass = 0; pass < 2; pass++) {
+          for (let i = 0; i <= j; i++) hTmp[i] = dot(n, next, vs[i]);
+          for (let i = 0; i <= j; i++) { axpy(n, -hTmp[i], vs[i], next); H[hc + i] += hTmp[i]; }
+        }
+      }
+      const hNext = norm2(n, next);
+      H[hc + j + 1] = hNext;
+      if (Hraw && cycle === 0) for (let i = 0; i <= j + 1; i++) Hraw[hc + i] = H[hc + i];
+      const happy = !(hNext > HAPPY * wNorm0);
+      if (!happy) scale(n, 1 / hNext, next);
+      // previous rotations, then a new one that zeroes H[j+1, j]
+      for (let i = 0; i < j; i++) {
+        const a = H[hc + i], c = H[hc + i + 1];
+        H[hc + i] = cs[i] * a + sn[i] * c;
+        H[hc + i + 1] = -sn[i] * a + cs[i] * c;
+      }
+      const a = H[hc + j], c = H[hc + j + 1];
+      const d = Math.hypot(a, c);
+      if (d === 0) { cs[j] = 1; sn[j] = 0; } else { cs[j] = a / d; sn[j] = c / d; }
+      H[hc + j] = d;
+      H[hc + j + 1] = 0;
+      g[j + 1] = -sn[j] * g[j];
+      g[j] = cs[j] * g[j];
+      iterations++;
+      k = j + 1;
+      estimate = Math.abs(g[j + 1]);
+      rel = relative(estimate, rule.baselineNorm);
+      history.push(rel);
+      cycleVote = combineVotes(residualVote(rule, estimate), monitorVote(opts.onIteration, iterations, rel));
+      if (!Number.isFinite(wNorm0) || !Number.isFinite(d)) cycleVote = 'non-finite';
+      if (isStop(cycleVote) || happy || iterations >= opts.maxIterations) break;
+    }
+
+    if (Hraw && cycle === 0) ritz = ritzValues(Hraw, ldh, k);
+    if (cycleVote === 'non-finite') {
+      // keep x from the cycle start: this cycle's basis holds NaN/Inf
+      trueNorm = trueResidual();
+      return finish('non-finite');
+    }
+    // y ← R⁻¹ g (R = rotated H, upper triangular k×k)
+    let singularAt = -1;
+    for (let i = k - 1; i >= 0; i--) {
+      let s = g[i];
+      for (let l = i + 1; l < k; l++) s -= H[l * ldh + i] * y[l];
+      const rii = H[i * ldh + i];
+      if (!(Math.abs(rii) > 0)) { singularAt = i; break; }
+      y[i] = s / rii;
+    }
+    if (singularAt >= 0) {
+      trueNorm = trueResidual();
+      failure = { message: `${method}: the Hessenberg matrix is singular at step ${iterations - k + singularAt + 1} (operator singular on the Krylov space)` };
+      return finish('breakdown');
+    }
+    // x ← x + (preconditioned) basis · y
+    if (Z) {
+      for (let l = 0; l < k; l++) axpy(n, y[l], zs[l], x);
+    } else if (M && !left) {
+      w.fill(0);
+      for (let l = 0; l < k; l++) axpy(n, y[l], vs[l], w);
+      meter.apply(w, z!);
+      axpy(n, 1, z!, x);
+    } else {
+      for (let l = 0; l < k; l++) axpy(n, y[l], vs[l], x);
+    }
+
+    // true residual beside the recursive estimate; the next cycle starts from it
+    trueNorm = trueResidual();
+    let monitoredNow = trueNorm;
+    const check: ResidualCheck = {
+      iteration: iterations, estimate: rel, trueValue: relative(trueNorm, trueBase),
+    };
+    if (left) {
+      meter.apply(r, vs[0]);
+      monitoredNow = norm2(n, vs[0]);
+      check.monitoredValue = relative(monitoredNow, rule.baselineNorm);
+    } else {
+      vs[0].set(r);
+    }
+    residualChecks.push(check);
+    if (residualsDisagree(rel, relative(monitoredNow, rule.baselineNorm), opts.rtol)) residualMismatch = true;
+
+    if (isStop(cycleVote) && !cycleVote.startsWith('converged')) {
+      if (cycleVote === 'max-iterations') failure = { message: 'stopped by the onIteration monitor' };
+      return finish(Number.isFinite(trueNorm) ? cycleVote : 'non-finite');
+    }
+    // the recomputed residual decides: a recursive "converged" it does not confirm means continue
+    const recomputedVote = residualVote(rule, monitoredNow);
+    if (!Number.isFinite(trueNorm)) return finish('non-finite');
+    if (isStop(recomputedVote)) return finish(recomputedVote);
+    if (iterations >= opts.maxIterations) return finish('max-iterations');
+    beta = monitoredNow;
+    restarts++;
+  }
+}

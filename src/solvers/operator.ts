@@ -1,0 +1,51 @@
+import type { Bsr, Csr } from '../sparse/types.js';
+import { csrSpmvKernel } from '../sparse/csr.js';
+import { bsrSpmvKernel } from '../sparse/bsr.js';
+import type { BufferBytes, LinearOperator } from './types.js';
+
+/** A matrix seen as an operator, with the bytes its arrays hold (for the memory report). */
+export interface MatrixOperator extends LinearOperator {
+  readonly format: 'csr' | 'bsr';
+  /** Bytes by named array: rowPtr, colInd, values. */
+  readonly bytes: BufferBytes;
+}
+
+function checkApply(name: string, n: number, x: Float64Array, y: Float64Array): void {
+  if (x.length !== n) throw new RangeError(`${name}: x has length ${x.length}, expected ${n}`);
+  if (y.length !== n) throw new RangeError(`${name}: y has length ${y.length}, expected ${n}`);
+  if (x === y) throw new RangeError(`${name}: x and y must be different arrays`);
+}
+
+/** y ← A x for a square CSR matrix (checked apply, unchecked kernel). */
+export function csrOperator(a: Csr): MatrixOperator {
+  if (a.nRows !== a.nCols) throw new RangeError(`csrOperator: matrix is ${a.nRows}×${a.nCols}, expected square`);
+  const n = a.nRows;
+  const { rowPtr, colInd, values } = a;
+  return {
+    n,
+    format: 'csr',
+    bytes: { rowPtr: rowPtr.byteLength, colInd: colInd.byteLength, values: values.byteLength },
+    apply(x, y) {
+      checkApply('csrOperator', n, x, y);
+      csrSpmvKernel(n, rowPtr, colInd, values, x, y);
+    },
+  };
+}
+
+/** y ← A x for a square BSR matrix (row-major blocks). */
+export function bsrOperator(a: Bsr): MatrixOperator {
+  if (a.nBlockRows !== a.nBlockCols) {
+    throw new RangeError(`bsrOperator: matrix is ${a.nBlockRows}×${a.nBlockCols} blocks, expected square`);
+  }
+  const { nBlockRows, bs, rowPtr, colInd, values } = a;
+  const n = nBlockRows * bs;
+  return {
+    n,
+    format: 'bsr',
+    bytes: { rowPtr: rowPtr.byteLength, colInd: colInd.byteLength, values: values.byteLength },
+    apply(x, y) {
+      checkApply('bsrOperator', n, x, y);
+      bsrSpmvKernel(nBlockRows, bs, rowPtr, colInd, values, x, y);
+    },
+  };
+}

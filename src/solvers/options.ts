@@ -1,0 +1,86 @@
+import type { Preconditioner } from '../precond/types.js';
+import { UserError } from '../util/errors.js';
+import type { Orthogonalization, PreconditionSide, Recipe } from './recipe.js';
+import type { ResidualBaseline } from './types.js';
+
+/** Options shared by every iterative solver (gmres, bicgstab, stationary). */
+export interface KrylovOptions {
+  /** Preconditioner, already set up (setup() returned ok). Absent = identity. */
+  M?: Preconditioner;
+  /** GMRES/FGMRES basis size per cycle (ignored by BiCGStab and stationary). */
+  restart: number;
+  /** GMRES only: 'right' (monitors the true residual) or 'left' (monitors ‖M⁻¹(b − Ax)‖). */
+  side: PreconditionSide;
+  orthogonalization: Orthogonalization;
+  /** Converged when the monitored ‖r‖ ≤ rtol · baseline norm … */
+  rtol: number;
+  /** … or when ‖r‖ ≤ atol (0 disables). */
+  atol: number;
+  /** Total inner iterations, whatever the restart. */
+  maxIterations: number;
+  /** Diverged when ‖r‖ > divergence · baseline norm. */
+  divergence: number;
+  baseline: ResidualBaseline;
+  /** GMRES: flexible variant (FGMRES, right preconditioning only, stores Z = M⁻¹V). */
+  flexible?: boolean;
+  /** Stationary iteration step factor ω in x ← x + ω M⁻¹(b − A x). Default 1. */
+  omega?: number;
+  /** GMRES: compute Ritz values of the first cycle (default true). */
+  ritz?: boolean;
+  /**
+   * Called at iteration 0 and after every iteration with the monitored relative residual.
+   * Returning true asks the solver to stop: the run ends with reason 'max-iterations' and
+   * failure.message "stopped by the onIteration monitor".
+   */
+  onIteration?(iteration: number, relativeResidual: number): boolean | void;
+}
+
+/** Solver options from a recipe (the preconditioner is passed separately, already set up). */
+export function krylovOptionsFromRecipe(recipe: Recipe, M?: Preconditioner): KrylovOptions {
+  return {
+    M,
+    restart: recipe.restart,
+    side: recipe.side,
+    orthogonalization: recipe.orthogonalization,
+    rtol: recipe.rtol,
+    atol: recipe.atol,
+    maxIterations: recipe.maxIterations,
+    divergence: recipe.divergence,
+    baseline: recipe.baseline,
+    flexible: recipe.krylov === 'fgmres',
+    omega: recipe.omega,
+  };
+}
+
+function bad(method: string, field: string, what: string): UserError {
+  return new UserError(`${method}: option ${field}: ${what}`);
+}
+
+/** Check option values (a programming or recipe error becomes a one-line UserError). */
+export function checkKrylovOptions(method: string, o: KrylovOptions): void {
+  if (!Number.isInteger(o.restart) || o.restart < 1) throw bad(method, 'restart', `expected an integer ≥ 1, got ${o.restart}`);
+  if (o.side !== 'right' && o.side !== 'left') throw bad(method, 'side', `expected right or left, got ${String(o.side)}`);
+  if (o.orthogonalization !== 'mgs' && o.orthogonalization !== 'cgs2') {
+    throw bad(method, 'orthogonalization', `expected mgs or cgs2, got ${String(o.orthogonalization)}`);
+  }
+  if (!(o.rtol >= 0) || !Number.isFinite(o.rtol)) throw bad(method, 'rtol', `expected a finite number ≥ 0, got ${o.rtol}`);
+  if (!(o.atol >= 0) || !Number.isFinite(o.atol)) throw bad(method, 'atol', `expected a finite number ≥ 0, got ${o.atol}`);
+  if (!Number.isInteger(o.maxIterations) || o.maxIterations < 0) {
+    throw bad(method, 'maxIterations', `expected an integer ≥ 0, got ${o.maxIterations}`);
+  }
+  if (!(o.divergence > 1)) throw bad(method, 'divergence', `expected a number > 1, got ${o.divergence}`);
+  if (o.baseline !== 'rhs' && o.baseline !== 'initial-residual') {
+    throw bad(method, 'baseline', `expected rhs or initial-residual, got ${String(o.baseline)}`);
+  }
+  if (o.omega !== undefined && (!(o.omega > 0) || !Number.isFinite(o.omega))) {
+    throw bad(method, 'omega', `expected a finite number > 0, got ${o.omega}`);
+  }
+}
+
+/** Check b and x against the operator size; b and x must be different arrays. */
+export function checkVectors(method: string, n: number, b: Float64Array, x: Float64Array, M?: Preconditioner): void {
+  if (b.length !== n) throw new UserError(`${method}: right-hand side has length ${b.length}, expected ${n}`);
+  if (x.length !== n) throw new UserError(`${method}: x has length ${x.length}, expected ${n}`);
+  if (b === x) throw new UserError(`${method}: b and x must be different arrays`);
+  if (M && M.n !== n) throw new UserError(`${method}: preconditioner ${M.name} has size ${M.n}, expected ${n}`);
+}

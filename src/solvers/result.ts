@@ -1,0 +1,128 @@
+import type { Preconditioner } from '../precond/types.js';
+import type {
+  BufferBytes, MonitoredNorm, ResidualBaseline, ResidualCheck, SolveMemory, SolveResult, StopReason,
+} from './types.js';
+import { isConverged } from './types.js';
+
+/** Peak resident set size of this process so far, in bytes (maxRSS is reported in kilobytes). */
+export function peakRssBytes(): number {
+  return process.resourceUsage().maxRSS * 1024;
+}
+
+export function sumBytes(b: BufferBytes): number {
+  let s = 0;
+  for (const k of Object.keys(b)) s += b[k];
+  return s;
+}
+
+/** Seconds since an earlier performance.now() reading. */
+export function secondsSince(t0: number): number {
+  return (performance.now() - t0) / 1000;
+}
+
+/**
+ * Counts and times preconditioner applications during a solve. The solver calls apply()
+ * instead of M.apply(); timing each call costs two clock reads, small beside any real apply.
+ */
+export interface PreconditionerMeter {
+  applications: number;
+  seconds: number;
+  apply(r: Float64Array, z: Float64Array): void;
+}
+
+export function meterPreconditioner(M: Preconditioner | undefined): PreconditionerMeter {
+  const meter: PreconditionerMeter = {
+    applications: 0,
+    seconds: 0,
+    apply(r, z) {
+      if (!M) { z.set(r); return; }
+      const t0 = performance.now();
+      M.apply(r, z);
+      meter.seconds += (performance.now() - t0) / 1000;
+      meter.applications++;
+    },
+  };
+  return meter;
+}
+
+export function emptyMemory(): SolveMemory {
+  return {
+    matrixBytes: 0, preconditionerBytes: 0, krylovBytes: 0, workBytes: 0, peakBytes: 0,
+    buffers: { matrix: {}, preconditioner: {}, krylov: {}, work: {} },
+  };
+}
+
+/** Everything a solver knows at its end; solveSystem adds matrix/preconditioner bytes and setup time. */
+export interface SolverOutcome {
+  method: string;
+  M?: Preconditioner;
+  reason: StopReason;
+  iterations: number;
+  restarts: number;
+  history: number[];
+  monitored: MonitoredNorm;
+  baseline: ResidualBaseline;
+  baselineNorm: number;
+  trueBaselineNorm: number;
+  /** ‖b − A x‖ for the x returned. */
+  trueResidualNorm: number;
+  residualChecks: ResidualCheck[];
+  residualMismatch: boolean;
+  solveSeconds: number;
+  meter: PreconditionerMeter;
+  krylov: BufferBytes;
+  work: BufferBytes;
+  ritz?: { re: number[]; im: number[] };
+  failure?: { message: string; blockRow?: number };
+}
+
+/** Relative value with 0/0 = 0 (a zero residual against a zero baseline is exact). */
+export function relative(value: number, base: number): number {
+  if (base === 0) return value === 0 ? 0 : Infinity;
+  return value / base;
+}
+
+export function buildResult(o: SolverOutcome): SolveResult {
+  const memory = emptyMemory();
+  memory.buffers.krylov = o.krylov;
+  memory.buffers.work = o.work;
+  memory.krylovBytes = sumBytes(o.krylov);
+  memory.workBytes = sumBytes(o.work);
+  memory.peakBytes = peakRssBytes();
+  const result: SolveResult = {
+    method: o.method,
+    preconditioner: o.M ? o.M.name : 'none',
+    converged: isConverged(o.reason),
+    reason: o.reason,
+    iterations: o.iterations,
+    restarts: o.restarts,
+    history: o.history,
+    monitored: o.monitored,
+    baseline: o.baseline,
+    baselineNorm: o.baselineNorm,
+    trueRelativeResidual: relative(o.trueResidualNorm, o.trueBaselineNorm),
+    trueBaselineNorm: o.trueBaselineNorm,
+    residualChecks: o.residualChecks,
+    residualMismatch: o.residualMismatch,
+    timing: {
+      setupSeconds: 0,
+      solveSeconds: o.solveSeconds,
+      preconditionerApplications: o.meter.applications,
+      secondsPerPreconditionerApply: o.meter.applications > 0 ? o.meter.seconds / o.meter.applications : 0,
+    },
+    memory,
+  };
+  if (o.ritz) result.ritz = o.ritz;
+  if (o.failure) result.failure = o.failure;
+  return result;
+}
+
+/** Bytes of named typed arrays. */
+export function bytesOf(arrays: Record<string, { byteLength: number } | undefined>): BufferBytes {
+  const out: BufferBytes = {};
+  for (const k of Object.keys(arrays)) {
+    const a = arrays[k];
+    if (a) out[k] = a.byteLength;
+  }
+  return out;
+}
