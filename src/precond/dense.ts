@@ -1,0 +1,314 @@
+/**
+ * Small dense kernels on ROW-MAJOR square bs×bs blocks stored inside larger Float64Arrays
+ * (entry (i, j) of the block at offset o is a[o + i*bs + j]). Used by block Jacobi, block
+ * Gauss–Seidel, block ILU(0) and the slab solver.
+ *
+ * Kernels are unchecked free functions (callers validate once, outside the hot loop). Each
+ * kernel that has an unrolled fast path also has a plain `…Naive` twin that the tests compare
+ * against; the naive twins are never used in production code.
+ */
+
+/**
+ * Pivot threshold, relative: a pivot p fails when |p| ≤ PIVOT_RTOL · ‖block‖_max (or p = 0).
+ * 1e-14 ≈ 45 ulp: a pivot this small relative to its block has lost all significant digits
+ * (common practice; the same order as the singularity tests of dense LU codes).
+ */
+export const PIVOT_RTOL = 1e-14;
+
+/** Largest absolute entry of a bs×bs block. */
+export function blockMaxAbs(a: Float64Array, ao: number, bs: number): number {
+  let m = 0;
+  const end = ao + bs * bs;
+  for (let p = ao; p < end; p++) {
+    const v = Math.abs(a[p]);
+    if (v > m) m = v;
+  }
+  return m;
+}
+
+/** Frobenius norm of a bs×bs block. */
+export function blockFrobenius(a: Float64Array, ao: number, bs: number): number {
+  let s = 0;
+  const end = ao + bs * bs;
+  for (let p = ao; p < end; p++) s += a[p] * a[p];
+  return Math.sqrt(s);
+}
+
+/** True when every entry of a[o .. o+len) is finite. */
+export function allFinite(a: Float64Array, o: number, len: number): boolean {
+  const end = o + len;
+  for (let p = o; p < end; p++) {
+    const v = a[p];
+    // v − v is NaN exactly when v is NaN or ±Inf
+    if (v - v !== 0) return false;
+  }
+  return true;
+}
+
+/**
+ * In-place LU with partial pivoting (row interchanges), P·A = L·U, L unit lower (stored below
+ * the diagonal), U upper. piv[po + k] = the row swapped with row k at step k (LAPACK getrf
+ * convention, 0-based). Returns −1 on success, or the column k whose pivot |U_kk| ≤ tiny
+ * (the factorization stops there). Golub & Van Loan, Matrix Computations, Alg. 3.4.1.
+ */
+export function luFactor(
+  a: Float64Array, ao: number, bs: number, piv: Int32Array, po: number, tiny: number,
+): number {
+  for (let k = 0; k < bs; k++) {
+    const rk = ao + k * bs;
+    let p = k;
+    let best = Math.abs(a[rk + k]);
+    for (let i = k + 1; i < bs; i++) {
+      const v = Math.abs(a[ao + i * bs + k]);
+      if (v > best) { best = v; p = i; }
+    }
+    piv[po + k] = p;
+    if (!(best > tiny)) return k; // also catches NaN
+    if (p !== k) {
+      const rp = ao + p * bs;
+      for (let j = 0; j < bs; j++) {
+        const t = a[rk + j]; a[rk + j] = a[rp + j]; a[rp + j] = t;
+      }
+    }
+    const inv = 1 / a[rk + k];
+    for (let i = k + 1; i < bs; i++) {
+      const ri = ao + i * bs;
+      const l = a[ri + k] * inv;
+      a[ri + k] = l;
+      if (l !== 0) {
+        for (let j = k + 1; j < bs; j++) a[ri + j] -= l * a[rk + j];
+      }
+    }
+  }
+  return -1;
+}
+
+/** x ← A⁻¹ x in place, from luFactor output. */
+export function luSolve(
+  lu: Float64Array, lo: number, piv: Int32Array, po: number, bs: number, x: Float64Array, xo: number,
+): void {
+  for (let k = 0; k < bs; k++) {
+    const p = piv[po + k];
+    if (p !== k) { const t = x[xo + k]; x[xo + k] = x[xo + p]; x[xo + p] = t; }
+  }
+  for (let i = 1; i < bs; i++) {
+    const ri = lo + i * bs;
+    let s = x[xo + i];
+    for (let j = 0; j < i; j++) s -= lu[ri + j] * x[xo + j];
+    x[xo + i] = s;
+  }
+  for (let i = bs - 1; i >= 0; i--) {
+    const ri = lo + i * bs;
+    let s = x[xo + i];
+    for (let j = i + 1; j < bs; j++) s -= lu[ri + j] * x[xo + j];
+    x[xo + i] = s / lu[ri + i];
+  }
+}
+
+/**
+ * out ← A⁻¹ (row-major) from luFactor output. Works on whole rows (contiguous inner loops):
+ * out = P·I, then L·Y = out and U·X = Y by row operations. About 4/3·bs³ flops.
+ */
+export function luInverse(
+  lu: Float64Array, lo: number, piv: Int32Array, po: number, bs: number, out: Float64Array, oo: number,
+): void {
+  const bb = bs * bs;
+  for (let p = 0; p < bb; p++) out[oo + p] = 0;
+  for (let i = 0; i < bs; i++) out[oo + i * bs + i] = 1;
+  for (let k = 0; k < bs; k++) {
+    const p = piv[po + k];
+    if (p !== k) {
+      const rk = oo + k * bs, rp = oo + p * bs;
+      for (let j = 0; j < bs; j++) { const t = out[rk + j]; out[rk + j] = out[rp + j]; out[rp + j] = t; }
+    }
+  }
+  for (let i = 1; i < bs; i++) {
+    const ri = oo + i * bs;
+    const li = lo + i * bs;
+    for (let k = 0; k < i; k++) {
+      const l = lu[li + k];
+      if (l === 0) continue;
+      const rk = oo + k * bs;
+      for (let j = 0; j < bs; j++) out[ri + j] -= l * out[rk + j];
+    }
+  }
+  for (let i = bs - 1; i >= 0; i--) {
+    const ri = oo + i * bs;
+    const ui = lo + i * bs;
+    for (let k = i + 1; k < bs; k++) {
+      const u = lu[ui + k];
+      if (u === 0) continue;
+      const rk = oo + k * bs;
+      for (let j = 0; j < bs; j++) out[ri + j] -= u * out[rk + j];
+    }
+    const d = 1 / lu[ui + i];
+    for (let j = 0; j < bs; j++) out[ri + j] *= d;
+  }
+}
+
+/** y[yo..] ← A x[xo..]. Fast paths for bs ≤ 3, generic loop unrolled by 4 otherwise. */
+export function blockMatVec(
+  a: Float64Array, ao: number, bs: number, x: Float64Array, xo: number, y: Float64Array, yo: number,
+): void {
+  if (bs === 1) { y[yo] = a[ao] * x[xo]; return; }
+  if (bs === 2) {
+    const x0 = x[xo], x1 = x[xo + 1];
+    y[yo] = a[ao] * x0 + a[ao + 1] * x1;
+    y[yo + 1] = a[ao + 2] * x0 + a[ao + 3] * x1;
+    return;
+  }
+  if (bs === 3) {
+    const x0 = x[xo], x1 = x[xo + 1], x2 = x[xo + 2];
+    y[yo] = a[ao] * x0 + a[ao + 1] * x1 + a[ao + 2] * x2;
+    y[yo + 1] = a[ao + 3] * x0 + a[ao + 4] * x1 + a[ao + 5] * x2;
+    y[yo + 2] = a[ao + 6] * x0 + a[ao + 7] * x1 + a[ao + 8] * x2;
+    return;
+  }
+  const j4 = bs & ~3;
+  for (let i = 0; i < bs; i++) {
+    const r = ao + i * bs;
+    let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+    let j = 0;
+    for (; j < j4; j += 4) {
+      s0 += a[r + j] * x[xo + j];
+      s1 += a[r + j + 1] * x[xo + j + 1];
+      s2 += a[r + j + 2] * x[xo + j + 2];
+      s3 += a[r + j + 3] * x[xo + j + 3];
+    }
+    for (; j < bs; j++) s0 += a[r + j] * x[xo + j];
+    y[yo + i] = (s0 + s1) + (s2 + s3);
+  }
+}
+
+/** y[yo..] −= A x[xo..]. Same fast paths as blockMatVec. */
+export function blockMatVecSub(
+  a: Float64Array, ao: number, bs: number, x: Float64Array, xo: number, y: Float64Array, yo: number,
+): void {
+  if (bs === 1) { y[yo] -= a[ao] * x[xo]; return; }
+  if (bs === 2) {
+    const x0 = x[xo], x1 = x[xo + 1];
+    y[yo] -= a[ao] * x0 + a[ao + 1] * x1;
+    y[yo + 1] -= a[ao + 2] * x0 + a[ao + 3] * x1;
+    return;
+  }
+  if (bs === 3) {
+    const x0 = x[xo], x1 = x[xo + 1], x2 = x[xo + 2];
+    y[yo] -= a[ao] * x0 + a[ao + 1] * x1 + a[ao + 2] * x2;
+    y[yo + 1] -= a[ao + 3] * x0 + a[ao + 4] * x1 + a[ao + 5] * x2;
+    y[yo + 2] -= a[ao + 6] * x0 + a[ao + 7] * x1 + a[ao + 8] * x2;
+    return;
+  }
+  const j4 = bs & ~3;
+  for (let i = 0; i < bs; i++) {
+    const r = ao + i * bs;
+    let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+    let j = 0;
+    for (; j < j4; j += 4) {
+      s0 += a[r + j] * x[xo + j];
+      s1 += a[r + j + 1] * x[xo + j + 1];
+      s2 += a[r + j + 2] * x[xo + j + 2];
+      s3 += a[r + j + 3] * x[xo + j + 3];
+    }
+    for (; j < bs; j++) s0 += a[r + j] * x[xo + j];
+    y[yo + i] -= (s0 + s1) + (s2 + s3);
+  }
+}
+
+/**
+ * C −= A·B (all bs×bs row-major). i-k-j order so the inner loop streams rows of B and C;
+ * k unrolled by 4 so each pass over a row of C does 4 multiply-adds per load/store of C.
+ * C must not overlap A or B.
+ */
+export function blockGemmSub(
+  c: Float64Array, co: number, a: Float64Array, ao: number, b: Float64Array, bo: number, bs: number,
+): void {
+  if (bs === 1) { c[co] -= a[ao] * b[bo]; return; }
+  const k4 = bs & ~3;
+  for (let i = 0; i < bs; i++) {
+    const ci = co + i * bs;
+    const ai = ao + i * bs;
+    let k = 0;
+    for (; k < k4; k += 4) {
+      const a0 = a[ai + k], a1 = a[ai + k + 1], a2 = a[ai + k + 2], a3 = a[ai + k + 3];
+      const b0 = bo + k * bs, b1 = b0 + bs, b2 = b1 + bs, b3 = b2 + bs;
+      for (let j = 0; j < bs; j++) {
+        c[ci + j] -= a0 * b[b0 + j] + a1 * b[b1 + j] + a2 * b[b2 + j] + a3 * b[b3 + j];
+      }
+    }
+    for (; k < bs; k++) {
+      const aik = a[ai + k];
+      const bk = bo + k * bs;
+      for (let j = 0; j < bs; j++) c[ci + j] -= aik * b[bk + j];
+    }
+  }
+}
+
+/** C ← A·B (all bs×bs row-major; C must not overlap A or B). */
+export function blockGemm(
+  c: Float64Array, co: number, a: Float64Array, ao: number, b: Float64Array, bo: number, bs: number,
+): void {
+  const bb = bs * bs;
+  for (let p = 0; p < bb; p++) c[co + p] = 0;
+  // C = 0 − (−A)·B would need a negated copy; instead accumulate with the sign flipped.
+  const k4 = bs & ~3;
+  for (let i = 0; i < bs; i++) {
+    const ci = co + i * bs;
+    const ai = ao + i * bs;
+    let k = 0;
+    for (; k < k4; k += 4) {
+      const a0 = a[ai + k], a1 = a[ai + k + 1], a2 = a[ai + k + 2], a3 = a[ai + k + 3];
+      const b0 = bo + k * bs, b1 = b0 + bs, b2 = b1 + bs, b3 = b2 + bs;
+      for (let j = 0; j < bs; j++) {
+        c[ci + j] += a0 * b[b0 + j] + a1 * b[b1 + j] + a2 * b[b2 + j] + a3 * b[b3 + j];
+      }
+    }
+    for (; k < bs; k++) {
+      const aik = a[ai + k];
+      const bk = bo + k * bs;
+      for (let j = 0; j < bs; j++) c[ci + j] += aik * b[bk + j];
+    }
+  }
+}
+
+// ---------------------------------------------------------------------------------------------
+// Naive twins (reference implementations for the fast-vs-slow tests; never used in hot paths).
+
+export function blockMatVecNaive(
+  a: Float64Array, ao: number, bs: number, x: Float64Array, xo: number, y: Float64Array, yo: number,
+): void {
+  for (let i = 0; i < bs; i++) {
+    let s = 0;
+    for (let j = 0; j < bs; j++) s += a[ao + i * bs + j] * x[xo + j];
+    y[yo + i] = s;
+  }
+}
+
+export function blockMatVecSubNaive(
+  a: Float64Array, ao: number, bs: number, x: Float64Array, xo: number, y: Float64Array, yo: number,
+): void {
+  for (let i = 0; i < bs; i++) {
+    let s = 0;
+    for (let j = 0; j < bs; j++) s += a[ao + i * bs + j] * x[xo + j];
+    y[yo + i] -= s;
+  }
+}
+
+export function blockGemmSubNaive(
+  c: Float64Array, co: number, a: Float64Array, ao: number, b: Float64Array, bo: number, bs: number,
+): void {
+  for (let i = 0; i < bs; i++) {
+    for (let j = 0; j < bs; j++) {
+      let s = 0;
+      for (let k = 0; k < bs; k++) s += a[ao + i * bs + k] * b[bo + k * bs + j];
+      c[co + i * bs + j] -= s;
+    }
+  }
+}
+
+/** Flop counts used by the benchmark (multiply and add counted separately). */
+export const denseFlops = {
+  lu: (bs: number): number => (2 * bs * bs * bs) / 3,
+  inverse: (bs: number): number => 2 * bs * bs * bs, // LU + inverse from factors
+  gemm: (bs: number): number => 2 * bs * bs * bs,
+  matVec: (bs: number): number => 2 * bs * bs,
+};
