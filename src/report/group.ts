@@ -1,0 +1,39 @@
+import type { MatrixInfo, ResultsDoc, RunRecord } from '../run/results-types.js';
+
+export interface MatrixRuns {
+  matrix: string;
+  info?: MatrixInfo;
+  runs: RunRecord[];
+}
+
+/**
+ * Runs grouped by matrix: matrices in the order of `results.matrices`, then any matrix that
+ * only appears in runs (in order of first appearance). Runs keep their document order.
+ */
+export function runsByMatrix(results: ResultsDoc): MatrixRuns[] {
+  const out: MatrixRuns[] = [];
+  const byName = new Map<string, MatrixRuns>();
+  for (const info of results.matrices) {
+    if (byName.has(info.name)) continue;
+    const g: MatrixRuns = { matrix: info.name, info, runs: [] };
+    byName.set(info.name, g);
+    out.push(g);
+  }
+  for (const run of results.runs) {
+    let g = byName.get(run.matrix);
+    if (!g) {
+      g = { matrix: run.matrix, runs: [] };
+      byName.set(run.matrix, g);
+      out.push(g);
+    }
+    g.runs.push(run);
+  }
+  return out;
+}
+
+/** Recipe names in order of first appearance across the whole document (fixes plot colours). */
+export function recipeOrder(results: ResultsDoc): string[] {
+  const seen = new Set<string>();
+  for (const run of results.runs) seen.add(run.recipe);
+  return [...seen];
+}
