@@ -1,0 +1,69 @@
+import { describe, it, expect } from 'vitest';
+import { mkdtempSync, readFileSync, readdirSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { renderReport, writeReport } from '../../src/report/html.js';
+import { LIMITS_STATEMENT } from '../../src/report/limits.js';
+import { makeHistory, makeResults } from './fixture.js';
+
+describe('renderReport', () => {
+  it('is one self-contained page: no network URLs in src/href, no external scripts or styles', () => {
+    const { html } = renderReport(makeResults(), { history: makeHistory() });
+    expect(html).not.toMatch(/\b(src|href)\s*=\s*["']?\s*(https?:)?\/\//i);
+    expect(html).not.toMatch(/<script/i);
+    expect(html).not.toMatch(/<link\b/i);
+    expect(html).not.toMatch(/@import|url\(\s*["']?https?:/i);
+    expect(html).toContain('<style>');
+    expect(html.startsWith('<!DOCTYPE html>')).toBe(true);
+  });
+
+  it('holds per matrix a table and three inline plots, plus a history plot per matrix', () => {
+    const results = makeResults();
+    const { html, svgs } = renderReport(results, { history: makeHistory() });
+    expect(svgs.map((s) => s.file)).toEqual([
+      'residuals-duct-pulse.svg', 'ritz-duct-pulse.svg', 'pattern-duct-pulse.svg',
+      'residuals-tank-stir.svg', 'ritz-tank-stir.svg', 'pattern-tank-stir.svg',
+      'history-duct-pulse.svg', 'history-tank-stir.svg',
+    ]);
+    expect((html.match(/<svg /g) ?? []).length).toBe(8);
+    for (const s of svgs) expect(html).toContain(s.svg);
+    expect((html.match(/<table class="ranked">/g) ?? []).length).toBe(2);
+    expect((html.match(/<tr class="winner"/g) ?? []).length).toBe(2);
+    // numbers of the table are there
+    expect(html).toContain('<td>120</td>'); // tank-stir gmres-bjacobi iterations
+    expect(html).toContain('2.30e-4');
+    expect(html).toContain(LIMITS_STATEMENT);
+    // ids are unique within the page
+    const ids = [...html.matchAll(/\bid="([^"]+)"/g)].map((m) => m[1]);
+    expect(new Set(ids).size).toBe(ids.length);
+    // user text is escaped
+    expect(html).toContain('&lt;invented scenarios &amp; &quot;quotes&quot;&gt;');
+  });
+
+  it('is deterministic and leaves out the history section without history', () => {
+    const a = renderReport(makeResults());
+    expect(renderReport(makeResults()).html).toBe(a.html);
+    expect(a.svgs).toHaveLength(6);
+    expect(a.html).not.toContain('id="history"');
+  });
+});
+
+describe('writeReport', () => {
+  it('writes report.html and every plot as its own svg file, nothing else', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'slabbench-report-'));
+    try {
+      const out = await writeReport(makeResults(), join(dir, 'nested', 'out'), { history: makeHistory() });
+      const files = readdirSync(join(dir, 'nested', 'out')).sort();
+      expect(files).toEqual([
+        'history-duct-pulse.svg', 'history-tank-stir.svg', 'pattern-duct-pulse.svg', 'pattern-tank-stir.svg',
+        'report.html', 'residuals-duct-pulse.svg', 'residuals-tank-stir.svg', 'ritz-duct-pulse.svg', 'ritz-tank-stir.svg',
+      ]);
+      expect(out.svgPaths).toHaveLength(8);
+      const svg = readFileSync(out.svgPaths[0], 'utf8');
+      expect(svg.startsWith('<?xml version="1.0" encoding="UTF-8"?>\n<svg xmlns="http://www.w3.org/2000/svg"')).toBe(true);
+      expect(readFileSync(out.htmlPath, 'utf8')).toContain('slabbench report');
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+});
