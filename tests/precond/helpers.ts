@@ -1,0 +1,150 @@
+/** Test fixtures for the preconditioner tests: seeded random numbers and small model matrices. */
+import type { Bsr, Csr } from '../../src/sparse/types.js';
+import type { SystemMatrix } from '../../src/precond/types.js';
+import type { Recipe } from '../../src/solvers/recipe.js';
+import { DEFAULT_RECIPE } from '../../src/solvers/recipe.js';
+import { bsrToCsr, csrToBsr } from '../../src/sparse/bsr.js';
+
+/** Mulberry32: small deterministic generator (common practice for seeded tests). */
+export function rng(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+export function randomVector(n: number, seed: number): Float64Array {
+  const r = rng(seed);
+  const v = new Float64Array(n);
+  for (let i = 0; i < n; i++) v[i] = 2 * r() - 1;
+  return v;
+}
+
+export function recipe(over: Partial<Recipe> = {}): Recipe {
+  return { ...DEFAULT_RECIPE, ...over };
+}
+
+export function systemOf(bsr: Bsr, slabOffsets?: Int32Array): SystemMatrix {
+  return { bsr, csr: bsrToCsr(bsr), slabOffsets };
+}
+
+export function systemOfCsr(csr: Csr, bs = 1): SystemMatrix {
+  return { csr, bsr: csrToBsr(csr, bs) };
+}
+
+/** CSR from a dense row-major array (zeros dropped). */
+export function csrFromDense(n: number, dense: ArrayLike<number>): Csr {
+  const rowPtr = new Int32Array(n + 1);
+  const cols: number[] = [], vals: number[] = [];
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      const v = dense[i * n + j];
+      if (v !== 0) { cols.push(j); vals.push(v); }
+    }
+    rowPtr[i + 1] = cols.length;
+  }
+  return { nRows: n, nCols: n, rowPtr, colInd: Int32Array.from(cols), values: Float64Array.from(vals) };
+}
+
+/** CSR from triplets (sorted by the helper; duplicates summed). */
+export function csrFromTriplets(n: number, entries: Array<[number, number, number]>): Csr {
+  const sorted = [...entries].sort((a, b) => a[0] - b[0] || a[1] - b[1]);
+  const rowPtr = new Int32Array(n + 1);
+  const cols: number[] = [], vals: number[] = [];
+  let last = -1, lastRow = -1;
+  for (const [i, j, v] of sorted) {
+    if (i === lastRow && j === last) { vals[vals.length - 1] += v; continue; }
+    cols.push(j); vals.push(v); rowPtr[i + 1]++;
+    last = j; lastRow = i;
+  }
+  for (let i = 0; i < n; i++) rowPtr[i + 1] += rowPtr[i];
+  return { nRows: n, nCols: n, rowPtr, colInd: Int32Array.from(cols), values: Float64Array.from(vals) };
+}
+
+/** tridiag(−1, 2, −1), n × n. */
+export function poisson1d(n: number): Csr {
+  const e: Array<[number, number, number]> = [];
+  for (let i = 0; i < n; i++) {
+    e.push([i, i, 2]);
+    if (i > 0) e.push([i, i - 1, -1]);
+    if (i + 1 < n) e.push([i, i + 1, -1]);
+  }
+  return csrFromTriplets(n, e);
+}
+
+/** 5-point Laplacian on an m×m interior grid, natural (row-by-row) numbering. */
+export function poisson2d(m: number): Csr {
+  const e: Array<[number, number, number]> = [];
+  for (let y = 0; y < m; y++) {
+    for (let x = 0; x < m; x++) {
+      const i = y * m + x;
+      e.push([i, i, 4]);
+      if (x > 0) e.push([i, i - 1, -1]);
+      if (x + 1 < m) e.push([i, i + 1, -1]);
+      if (y > 0) e.push([i, i - m, -1]);
+      if (y + 1 < m) e.push([i, i + m, -1]);
+    }
+  }
+  return csrFromTriplets(m * m, e);
+}
+
+/**
+ * Random BSR with NON-symmetric dense blocks on a given block pattern; diagonal blocks get
+ * `diagBoost`·I added so block factorizations are well conditioned.
+ */
+export function randomBsr(
+  nb: number, bs: number, pattern: Array<[number, number]>, seed: number, diagBoost = 4 * bs,
+): Bsr {
+  const r = rng(seed);
+  const set = new Set<string>();
+  const pairs: Array<[number, number]> = [];
+  for (let i = 0; i < nb; i++) pairs.push([i, i]);
+  for (const p of pattern) pairs.push(p);
+  const uniq = pairs.filter(([i, j]) => { const k = `${i},${j}`; if (set.has(k)) return false; set.add(k); return true; })
+    .sort((a, b) => a[0] - b[0] || a[1] - b[1]);
+  const bb = bs * bs;
+  const rowPtr = new Int32Array(nb + 1);
+  const colInd = new Int32Array(uniq.length);
+  const values = new Float64Array(uniq.length * bb);
+  uniq.forEach(([i, j], k) => {
+    rowPtr[i + 1]++;
+    colInd[k] = j;
+    for (let p = 0; p < bb; p++) values[k * bb + p] = 2 * r() - 1;
+    if (i === j) for (let d = 0; d < bs; d++) values[k * bb + d * bs + d] += diagBoost;
+  });
+  for (let i = 0; i < nb; i++) rowPtr[i + 1] += rowPtr[i];
+  return { nBlockRows: nb, nBlockCols: nb, bs, rowPtr, colInd, values };
+}
+
+/** Dense copy of a BSR matrix (row-major n×n). */
+export function bsrToDense(a: Bsr): Float64Array {
+  const n = a.nBlockRows * a.bs, bs = a.bs, bb = bs * bs;
+  const d = new Float64Array(n * n);
+  for (let I = 0; I < a.nBlockRows; I++) {
+    for (let k = a.rowPtr[I]; k < a.rowPtr[I + 1]; k++) {
+      const J = a.colInd[k];
+      for (let i = 0; i < bs; i++) for (let j = 0; j < bs; j++) d[(I * bs + i) * n + J * bs + j] = a.values[k * bb + i * bs + j];
+    }
+  }
+  return d;
+}
+
+export function maxAbsDiff(a: ArrayLike<number>, b: ArrayLike<number>): number {
+  let m = 0;
+  for (let i = 0; i < a.length; i++) m = Math.max(m, Math.abs(a[i] - b[i]));
+  return m;
+}
+
+export function spmv(a: Csr, x: Float64Array): Float64Array {
+  const y = new Float64Array(a.nRows);
+  for (let i = 0; i < a.nRows; i++) {
+    let s = 0;
+    for (let k = a.rowPtr[i]; k < a.rowPtr[i + 1]; k++) s += a.values[k] * x[a.colInd[k]];
+    y[i] = s;
+  }
+  return y;
+}
