@@ -1,12 +1,135 @@
-import type { Command } from 'commander';
-import { UserError } from '../util/errors.js';
+import { existsSync } from 'node:fs';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { type Command, Option } from 'commander';
+import { EXIT, optionError, UserError } from '../util/errors.js';
+import { readSuite } from '../run/suite.js';
+import { parseShard } from '../run/shard.js';
+import { runSweep, HISTORY_FILE } from '../run/sweep.js';
+import { readHistory } from '../run/history.js';
+import { ProgressBar } from '../run/progress.js';
+import type { HistoryEntry, ResultsDoc } from '../run/results-types.js';
+import { renderRankedTables, shouldUseColor } from '../report/table.js';
+import { rankRuns } from '../report/rank.js';
+import { writeReport } from '../report/html.js';
 
-// PLACEHOLDER: replaced by the owner of this command.
+/** The demo suite shipped with the package (resolved from the installed code, not the working folder). */
+export function demoSuitePath(): string {
+  return fileURLToPath(new URL('../../matrices/suite.json', import.meta.url));
+}
+
+function parseJobs(v: string): number {
+  const n = Number(v);
+  if (!/^\s*\d+\s*$/.test(v) || !Number.isInteger(n) || n < 1 || n > 256) throw optionError('--jobs', `expected an integer from 1 to 256, got "${v}"`);
+  return n;
+}
+
+function collectNames(v: string, prev: string[] | undefined): string[] {
+  const names = v.split(',').map((s) => s.trim()).filter((s) => s !== '');
+  return [...(prev ?? []), ...names];
+}
+
+interface SweepCliOptions {
+  out: string;
+  jobs: number;
+  shard?: string;
+  onlyMatrix?: string[];
+  onlyRecipe?: string[];
+  cache?: string;
+  report: boolean;
+  quiet?: boolean;
+  json?: boolean;
+}
+
+function summary(doc: ResultsDoc, files: Record<string, string | undefined>, interrupted: boolean) {
+  const byMatrix = new Map<string, typeof doc.runs>();
+  for (const r of doc.runs) byMatrix.set(r.matrix, [...(byMatrix.get(r.matrix) ?? []), r]);
+  return {
+    status: interrupted ? 'interrupted' : 'complete',
+    files,
+    runs: doc.runs.length,
+    converged: doc.runs.filter((r) => r.result?.converged).length,
+    notConverged: doc.runs.filter((r) => r.result && !r.result.converged).length,
+    errors: doc.runs.filter((r) => r.error !== undefined).length,
+    winners: [...byMatrix].map(([matrix, runs]) => ({ matrix, recipe: rankRuns(runs).find((x) => x.winner)?.run.recipe ?? null })),
+  };
+}
+
 export function registerSweep(program: Command): void {
   program
     .command('sweep')
-    .description('(not built yet)')
-    .action(() => {
-      throw new UserError('sweep is not built yet');
+    .description('Run every matrix × recipe of a suite file; write results.json, results.csv, history.jsonl and report.html')
+    .argument('[suite]', 'suite file (JSON, schema slabbench-suite/1); default: the demo suite shipped in matrices/suite.json')
+    .option('-o, --out <dir>', 'output folder', 'slabbench-results')
+    .option('-j, --jobs <n>', 'worker threads running pairs side by side (timings are cleanest with 1)', parseJobs, 1)
+    .option('--shard <K/N>', 'run only share K of N (1-based) of the matrix × recipe list; combine with `slabbench merge`')
+    .option('--only-matrix <names>', 'run only these matrices (comma-separated; repeatable)', collectNames)
+    .option('--only-recipe <names>', 'run only these recipes (comma-separated; repeatable)', collectNames)
+    .option('--cache <dir>', 'folder for matrices built from generator entries (default OUT/matrices)')
+    .option('--no-report', 'do not write report.html and the .svg plots')
+    .addOption(new Option('-q, --quiet', 'print nothing but errors').conflicts('json'))
+    .option('--json', 'print a JSON summary on stdout (nothing else goes to stdout)')
+    .addHelpText('after', `
+A run that does not converge is a result, not an error: sweep exits 0 when every pair ran.
+Exit codes: 0 all pairs ran; 2 bad input (suite, option, or a pair that could not start — the
+other pairs still ran and are in the results); 130 interrupted by Ctrl-C (finished runs are kept
+in OUT/results.json with "status": "interrupted").
+
+Examples:
+  slabbench sweep                                   # the demo suite: generate, sweep, rank, report
+  slabbench sweep my-suite.json --out runs/today --jobs 2
+  slabbench sweep my-suite.json --only-matrix duct-pulse --only-recipe gmres-bilu0,fgmres-slab
+  slabbench sweep my-suite.json --shard 2/4 --out shard-2   # then: slabbench merge shard-*/results.json --out all
+  slabbench sweep matrices/ci/suite.json --out .ci-results --quiet
+  slabbench sweep --json | jq '.winners'`)
+    .action(async (suiteArg: string | undefined, opts: SweepCliOptions) => {
+      // Loaded here, not at start-up: the solver stack is only needed when a sweep runs.
+      const realDeps = await import('../run/real-deps.js');
+      const suitePath = suiteArg ?? demoSuitePath();
+      const shard = opts.shard !== undefined ? parseShard(opts.shard) : undefined;
+      const suite = readSuite(suitePath, realDeps);
+      const quiet = opts.quiet === true || opts.json === true;
+      const bar = !opts.quiet && process.stderr.isTTY ? new ProgressBar(process.stderr) : undefined;
+      const ac = new AbortController();
+      const onSigint = (): void => ac.abort();
+      process.once('SIGINT', onSigint);
+      let outcome;
+      try {
+        outcome = await runSweep({
+          suite, outDir: opts.out, jobs: opts.jobs, shard, onlyMatrix: opts.onlyMatrix, onlyRecipe: opts.onlyRecipe,
+          cacheDir: opts.cache, builder: realDeps, signal: ac.signal,
+          onProgress: bar ? (d, t, label) => bar.update(d, t, label) : undefined,
+          log: opts.quiet ? undefined : (line) => { bar?.finish(); process.stderr.write(`${line}\n`); },
+        });
+      } finally {
+        process.off('SIGINT', onSigint);
+        bar?.finish();
+      }
+      const { doc, interrupted, errors, files } = outcome;
+
+      let reportPath: string | undefined;
+      if (opts.report && !interrupted) {
+        let history: HistoryEntry[] = [];
+        const hp = join(opts.out, HISTORY_FILE);
+        if (existsSync(hp)) {
+          try { history = readHistory(hp); } catch (e) {
+            process.stderr.write(`slabbench: report written without the history view: ${(e as Error).message}\n`);
+          }
+        }
+        reportPath = (await writeReport(doc, opts.out, { history })).htmlPath;
+      }
+
+      if (opts.json) {
+        process.stdout.write(`${JSON.stringify(summary(doc, { ...files, report: reportPath }, interrupted), null, 1)}\n`);
+      } else if (!quiet) {
+        process.stdout.write(renderRankedTables(doc, { color: shouldUseColor(process.stdout) }));
+        process.stdout.write(`\nresults: ${files.results} (+ ${files.csv}${reportPath ? `, ${reportPath}` : ''})\n`);
+      }
+      if (interrupted) {
+        throw new UserError(`interrupted: ${doc.runs.length} finished run(s) kept in ${files.results}`, EXIT.interrupted);
+      }
+      if (errors > 0) {
+        throw new UserError(`${errors} of ${doc.runs.length} run(s) could not start (see "error" in ${files.results}); the others ran`, EXIT.badInput);
+      }
     });
 }

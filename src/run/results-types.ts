@@ -29,6 +29,8 @@ export interface MatrixInfo {
   nBlocks: number;
   nSlabs: number;
   pattern?: BlockPattern;
+  /** How the block size was found (loadSystem's blockSizeSource), when known. */
+  blockSizeSource?: string;
 }
 
 export interface RunRecord {
@@ -47,8 +49,27 @@ export interface ResultsDoc {
   node: string;
   cpu: string;
   date: string;
-  suite: { path?: string; description?: string };
-  parameters: { jobs: number; shard?: { index: number; count: number } };
+  suite: {
+    path?: string;
+    description?: string;
+    /** sha256 (hex, first 16 digits) of the suite's matrices and recipes as parsed: merge refuses to mix suites. */
+    fingerprint?: string;
+    /** Matrix and recipe names of the whole sweep after --only-matrix/--only-recipe, in suite order
+     *  (before sharding): the pairs a complete set of shards must cover. */
+    matrixNames?: string[];
+    recipeNames?: string[];
+  };
+  parameters: {
+    jobs: number;
+    shard?: { index: number; count: number };
+    onlyMatrix?: string[];
+    onlyRecipe?: string[];
+    /** Number of shard files combined by `slabbench merge`. */
+    mergedShards?: number;
+  };
+  /** 'partial' while a sweep is running (written after each finished run), 'interrupted' after Ctrl-C.
+   *  Absent in documents written before this field existed: read as 'complete'. */
+  status?: 'complete' | 'partial' | 'interrupted';
   matrices: MatrixInfo[];
   runs: RunRecord[];
 }
@@ -67,5 +88,9 @@ export interface HistoryEntry {
     setupSeconds: number;
     solveSeconds: number;
     peakBytes: number;
+    /** matrix + preconditioner + krylov + work bytes (buffer byte counts, not RSS). */
+    bufferBytes?: number;
   }>;
+  /** Suite description and fingerprint, so the history view can tell suites apart. */
+  suite?: { description?: string; fingerprint?: string };
 }

@@ -1,0 +1,345 @@
+/**
+ * Regression check of a results document against a stored baseline (itself a results document).
+ *
+ * Per matrix × recipe pair: the stop reason must match; iterations may grow by at most the allowed slack
+ * (exact by default); the final true relative residual must stay ≤ max(rtol, baseline · residualFactor);
+ * counted buffer bytes (matrix + preconditioner + Krylov + work, never RSS) within memoryPercent; time only
+ * when asked, as a ratio of setup + solve seconds. Iterations, reasons and byte counts are deterministic for
+ * one code version, so the default check is machine-independent.
+ */
+import { readFileSync } from 'node:fs';
+import pc from 'picocolors';
+import { isConverged, type StopReason } from '../solvers/types.js';
+import { UserError } from '../util/errors.js';
+import type { MatrixInfo, ResultsDoc, RunRecord } from './results-types.js';
+import { bufferBytes } from './results.js';
+
+export interface Tolerance {
+  /** Allowed extra iterations (absolute). */
+  iterationsSlack: number;
+  /** Allowed extra iterations in percent of the baseline; the larger of slack and percent applies. */
+  iterationsPercent: number;
+  /** Allowed growth of counted buffer bytes, percent. */
+  memoryPercent: number;
+  /** The true residual may grow to baseline · residualFactor (and always to rtol). */
+  residualFactor: number;
+  /** When set: fail when (setup + solve seconds) grows by more than this factor. */
+  timeRatio?: number;
+}
+
+export const DEFAULT_TOLERANCE: Readonly<Tolerance> = Object.freeze({
+  iterationsSlack: 0,
+  iterationsPercent: 0,
+  memoryPercent: 10,
+  residualFactor: 10,
+});
+
+/** Default band for --time-ratio given without a value: timing on shared CI machines is noisy. */
+export const DEFAULT_TIME_RATIO = 3;
+/** Runs shorter than this (setup + solve, both sides) are too short to compare times. */
+export const MIN_TIMED_SECONDS = 0.005;
+
+export const TOLERANCES_SCHEMA = 'slabbench-tolerances/1';
+
+export interface ToleranceFile {
+  default?: Partial<Tolerance>;
+  recipes?: Record<string, Partial<Tolerance>>;
+}
+
+const TOLERANCE_KEYS: Record<keyof Tolerance, { min: number; integer: boolean; what: string }> = {
+  iterationsSlack: { min: 0, integer: true, what: 'an integer ≥ 0' },
+  iterationsPercent: { min: 0, integer: false, what: 'a number ≥ 0' },
+  memoryPercent: { min: 0, integer: false, what: 'a number ≥ 0' },
+  residualFactor: { min: 1, integer: false, what: 'a number ≥ 1' },
+  timeRatio: { min: 1, integer: false, what: 'a number ≥ 1' },
+};
+
+function parseToleranceObject(v: unknown, where: string): Partial<Tolerance> {
+  if (typeof v !== 'object' || v === null || Array.isArray(v)) throw new UserError(`${where}: expected an object`);
+  const out: Partial<Tolerance> = {};
+  for (const [k, x] of Object.entries(v)) {
+    const spec = (TOLERANCE_KEYS as Record<string, { min: number; integer: boolean; what: string } | undefined>)[k];
+    if (!spec) throw new UserError(`${where}.${k}: unknown tolerance (expected ${Object.keys(TOLERANCE_KEYS).join(', ')})`);
+    if (typeof x !== 'number' || !Number.isFinite(x) || x < spec.min || (spec.integer && !Number.isInteger(x))) {
+      throw new UserError(`${where}.${k}: expected ${spec.what}, got ${JSON.stringify(x)}`);
+    }
+    (out as Record<string, number>)[k] = x;
+  }
+  return out;
+}
+
+/** Validate a tolerances file: { "schema": "slabbench-tolerances/1", "default": {…}, "recipes": { NAME: {…} } }. */
+export function parseToleranceFile(obj: unknown, file: string): ToleranceFile {
+  if (typeof obj !== 'object' || obj === null || Array.isArray(obj)) throw new UserError(`${file}: expected a JSON object`);
+  const o = obj as Record<string, unknown>;
+  if (o.schema !== TOLERANCES_SCHEMA) throw new UserError(`${file}: schema: expected "${TOLERANCES_SCHEMA}", got ${JSON.stringify(o.schema)}`);
+  for (const k of Object.keys(o)) {
+    if (!['schema', 'default', 'recipes', '$comment'].includes(k)) throw new UserError(`${file}: ${k}: unknown key (expected schema, default, recipes)`);
+  }
+  const out: ToleranceFile = {};
+  if (o.default !== undefined) out.default = parseToleranceObject(o.default, `${file}: default`);
+  if (o.recipes !== undefined) {
+    if (typeof o.recipes !== 'object' || o.recipes === null || Array.isArray(o.recipes)) throw new UserError(`${file}: recipes: expected an object keyed by recipe name`);
+    out.recipes = {};
+    for (const [name, t] of Object.entries(o.recipes)) out.recipes[name] = parseToleranceObject(t, `${file}: recipes.${name}`);
+  }
+  return out;
+}
+
+export function readToleranceFile(path: string): ToleranceFile {
+  let obj: unknown;
+  try {
+    obj = JSON.parse(readFileSync(path, 'utf8'));
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new UserError(`${path}: ${code === 'ENOENT' ? 'no such tolerances file' : code ? `cannot read (${code})` : `not valid JSON (${(e as Error).message})`}`);
+  }
+  return parseToleranceFile(obj, path);
+}
+
+/** Built-in defaults, then the file's "default", then command-line options, then the file's per-recipe entry. */
+export function toleranceFor(recipe: string, cli: Partial<Tolerance>, file?: ToleranceFile): Tolerance {
+  return { ...DEFAULT_TOLERANCE, ...file?.default, ...cli, ...file?.recipes?.[recipe] };
+}
+
+/** Largest iteration count that still passes. */
+export function allowedIterations(base: number, t: Tolerance): number {
+  return base + Math.max(t.iterationsSlack, Math.ceil((base * t.iterationsPercent) / 100 - 1e-9));
+}
+
+export type Verdict = 'pass' | 'improved' | 'regressed' | 'missing' | 'new' | 'error';
+
+export interface RunNumbers {
+  reason: StopReason | 'error';
+  iterations?: number;
+  residual?: number;
+  bytes?: number;
+  seconds?: number;
+}
+
+export interface CheckRow {
+  matrix: string;
+  recipe: string;
+  verdict: Verdict;
+  /** Why it fails (empty when it passes). */
+  problems: string[];
+  /** Worth knowing, not failing: improvements, changed recipe parameters, no baseline. */
+  notes: string[];
+  base?: RunNumbers;
+  now?: RunNumbers;
+  /** (setup + solve) now / baseline, when time was compared. */
+  timeRatio?: number;
+  tolerance: Tolerance;
+}
+
+export interface CheckOutcome {
+  rows: CheckRow[];
+  failures: number;
+  /** Run-level notes: suite changed, different machine. */
+  notes: string[];
+  timeCompared: boolean;
+}
+
+function numbers(r: RunRecord): RunNumbers {
+  const res = r.result;
+  if (!res) return { reason: 'error' };
+  return {
+    reason: res.reason,
+    iterations: res.iterations,
+    residual: res.trueRelativeResidual,
+    bytes: bufferBytes(r),
+    seconds: res.timing.setupSeconds + res.timing.solveSeconds,
+  };
+}
+
+function fmtNum(x: number | undefined): string {
+  if (x === undefined) return '—';
+  if (!Number.isFinite(x)) return String(x);
+  return x === 0 ? '0' : x.toExponential(2);
+}
+
+function fmtBytes(b: number | undefined): string {
+  if (b === undefined) return '—';
+  if (b < 1024) return `${b} B`;
+  if (b < 1024 ** 2) return `${(b / 1024).toFixed(1)} KiB`;
+  if (b < 1024 ** 3) return `${(b / 1024 ** 2).toFixed(1)} MiB`;
+  return `${(b / 1024 ** 3).toFixed(2)} GiB`;
+}
+
+/** Recipe fields that differ, as "field a→b" (nested inner recipe fields as inner.field). */
+function recipeDiff(a: Record<string, unknown>, b: Record<string, unknown>, prefix = ''): string[] {
+  const out: string[] = [];
+  for (const k of new Set([...Object.keys(a), ...Object.keys(b)])) {
+    if (k === 'name') continue;
+    const x = a[k];
+    const y = b[k];
+    if (typeof x === 'object' && x !== null && typeof y === 'object' && y !== null) {
+      out.push(...recipeDiff(x as Record<string, unknown>, y as Record<string, unknown>, `${prefix}${k}.`));
+    } else if (JSON.stringify(x) !== JSON.stringify(y)) {
+      out.push(`${prefix}${k} ${JSON.stringify(x)}→${JSON.stringify(y)}`);
+    }
+  }
+  return out;
+}
+
+function matrixDiff(a: MatrixInfo | undefined, b: MatrixInfo | undefined): string[] {
+  if (!a || !b) return [];
+  const out: string[] = [];
+  for (const k of ['n', 'nnz', 'bs', 'nSlabs'] as const) if (a[k] !== b[k]) out.push(`${k} ${a[k]}→${b[k]}`);
+  return out;
+}
+
+export function compareWithBaseline(
+  current: ResultsDoc, baseline: ResultsDoc, opts: { cli?: Partial<Tolerance>; file?: ToleranceFile } = {},
+): CheckOutcome {
+  const notes: string[] = [];
+  if (current.suite.fingerprint && baseline.suite.fingerprint && current.suite.fingerprint !== baseline.suite.fingerprint) {
+    notes.push('the suite changed since the baseline (matrices or recipes edited); numbers are compared pair by pair');
+  }
+  const baseRuns = new Map(baseline.runs.map((r) => [`${r.matrix}\u0000${r.recipe}`, r]));
+  const nowRuns = new Map(current.runs.map((r) => [`${r.matrix}\u0000${r.recipe}`, r]));
+  const baseInfo = new Map(baseline.matrices.map((m) => [m.name, m]));
+  const nowInfo = new Map(current.matrices.map((m) => [m.name, m]));
+  const rows: CheckRow[] = [];
+  let timeCompared = false;
+
+  // Baseline order first (stable tables across runs), then pairs new in this run.
+  const keys = [...baseRuns.keys(), ...[...nowRuns.keys()].filter((k) => !baseRuns.has(k))];
+  for (const key of keys) {
+    const b = baseRuns.get(key);
+    const c = nowRuns.get(key);
+    const [matrix, recipe] = key.split('\u0000');
+    const tol = toleranceFor(recipe, opts.cli ?? {}, opts.file);
+    const row: CheckRow = { matrix, recipe, verdict: 'pass', problems: [], notes: [], tolerance: tol };
+    rows.push(row);
+    if (b) row.base = numbers(b);
+    if (c) row.now = numbers(c);
+    if (!c) { row.verdict = 'missing'; row.problems.push('in the baseline but not in this run'); continue; }
+    if (!b) { row.verdict = 'new'; row.notes.push('no baseline for this pair (accept it with --update)'); continue; }
+    if (!c.result) {
+      if (!b.result) { row.notes.push(`could not run, as in the baseline: ${c.error}`); continue; }
+      row.verdict = 'error';
+      row.problems.push(`could not run: ${c.error}`);
+      continue;
+    }
+    if (!b.result) { row.verdict = 'improved'; row.notes.push('runs now; the baseline could not run it'); continue; }
+
+    const md = matrixDiff(baseInfo.get(matrix), nowInfo.get(matrix));
+    if (md.length) row.problems.push(`matrix changed (${md.join(', ')}): numbers not comparable, update the baseline`);
+    const rd = recipeDiff(b.recipeParams as unknown as Record<string, unknown>, c.recipeParams as unknown as Record<string, unknown>);
+    if (rd.length) row.notes.push(`recipe changed: ${rd.join(', ')}`);
+
+    const br = b.result;
+    const cr = c.result;
+    let improved = false;
+    if (br.reason !== cr.reason) {
+      if (!isConverged(br.reason) && isConverged(cr.reason)) { improved = true; row.notes.push(`reason ${br.reason} → ${cr.reason}`); }
+      else row.problems.push(`reason ${br.reason} → ${cr.reason}`);
+    }
+    const allowed = allowedIterations(br.iterations, tol);
+    if (cr.iterations > allowed) {
+      row.problems.push(`iterations ${br.iterations} → ${cr.iterations} (allowed ≤ ${allowed})`);
+    } else if (cr.iterations < br.iterations) {
+      improved = true;
+      row.notes.push(`iterations ${br.iterations} → ${cr.iterations}`);
+    }
+    const residualLimit = Math.max(c.recipeParams.rtol, br.trueRelativeResidual * tol.residualFactor);
+    if (!(cr.trueRelativeResidual <= residualLimit)) {
+      row.problems.push(`true residual ${fmtNum(br.trueRelativeResidual)} → ${fmtNum(cr.trueRelativeResidual)} (allowed ≤ ${fmtNum(residualLimit)})`);
+    }
+    const bb = row.base!.bytes!;
+    const cb = row.now!.bytes!;
+    const bytesLimit = bb * (1 + tol.memoryPercent / 100);
+    if (cb > bytesLimit) row.problems.push(`buffer bytes ${fmtBytes(bb)} → ${fmtBytes(cb)} (+${(((cb - bb) / bb) * 100).toFixed(1)}%, allowed +${tol.memoryPercent}%)`);
+    if (tol.timeRatio !== undefined) {
+      timeCompared = true;
+      const bs = row.base!.seconds!;
+      const cs = row.now!.seconds!;
+      if (bs < MIN_TIMED_SECONDS && cs < MIN_TIMED_SECONDS) {
+        row.notes.push('too fast to compare times');
+      } else {
+        row.timeRatio = cs / Math.max(bs, MIN_TIMED_SECONDS);
+        if (row.timeRatio > tol.timeRatio) row.problems.push(`time ×${row.timeRatio.toFixed(2)} (allowed ×${tol.timeRatio})`);
+      }
+    }
+    row.verdict = row.problems.length ? 'regressed' : improved ? 'improved' : 'pass';
+  }
+  const failures = rows.filter((r) => r.problems.length > 0).length;
+  return { rows, failures, notes, timeCompared };
+}
+
+function pad(s: string, w: number, right = false): string {
+  const len = [...s].length;
+  return len >= w ? s : right ? ' '.repeat(w - len) + s : s + ' '.repeat(w - len);
+}
+
+/** The diff table (plain text; colour only when asked, i.e. when stdout is a terminal). */
+export function renderCheckTable(out: CheckOutcome, opts: { color?: boolean } = {}): string {
+  const c = opts.color ? pc : { red: (s: string) => s, green: (s: string) => s, yellow: (s: string) => s, bold: (s: string) => s, dim: (s: string) => s };
+  const header = ['matrix', 'recipe', 'iterations', 'reason', 'true residual', 'buffer bytes', ...(out.timeCompared ? ['time'] : []), 'verdict'];
+  const rows = out.rows.map((r) => {
+    const it = r.base?.iterations === r.now?.iterations ? `${r.now?.iterations ?? '—'}` : `${r.base?.iterations ?? '—'} → ${r.now?.iterations ?? '—'}`;
+    const reason = r.base?.reason === r.now?.reason ? `${r.now?.reason ?? '—'}` : `${r.base?.reason ?? '—'} → ${r.now?.reason ?? '—'}`;
+    const res = `${fmtNum(r.now?.residual)} (${fmtNum(r.base?.residual)})`;
+    const bytes = r.base?.bytes === r.now?.bytes ? fmtBytes(r.now?.bytes) : `${fmtBytes(r.base?.bytes)} → ${fmtBytes(r.now?.bytes)}`;
+    const time = r.timeRatio === undefined ? '—' : `×${r.timeRatio.toFixed(2)}`;
+    return [r.matrix, r.recipe, it, reason, res, bytes, ...(out.timeCompared ? [time] : []), r.verdict];
+  });
+  const widths = header.map((h, i) => Math.max([...h].length, ...rows.map((r) => [...r[i]].length)));
+  const lines: string[] = [];
+  lines.push(c.bold(header.map((h, i) => pad(h, widths[i])).join('  ')));
+  out.rows.forEach((r, k) => {
+    const cells = rows[k].map((s, i) => pad(s, widths[i]));
+    const v = cells.length - 1;
+    cells[v] = r.problems.length ? c.red(cells[v]) : r.verdict === 'improved' || r.verdict === 'new' ? c.yellow(cells[v]) : c.green(cells[v]);
+    lines.push(cells.join('  '));
+  });
+  lines.push('');
+  for (const r of out.rows) {
+    for (const p of r.problems) lines.push(c.red(`FAIL ${r.matrix} × ${r.recipe}: ${p}`));
+    for (const n of r.notes) lines.push(c.dim(`note ${r.matrix} × ${r.recipe}: ${n}`));
+  }
+  for (const n of out.notes) lines.push(c.dim(`note: ${n}`));
+  const nPass = out.rows.length - out.failures;
+  lines.push(out.failures === 0
+    ? c.green(`${nPass} of ${out.rows.length} pairs within tolerance`)
+    : c.red(`${out.failures} of ${out.rows.length} pairs regressed`));
+  return `${lines.join('\n')}\n`;
+}
+
+function xmlEscape(s: string): string {
+  return s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;')
+    // XML 1.0 forbids most control characters even when escaped.
+    // eslint-disable-next-line no-control-regex
+    .replace(/[\u0000-\u0008\u000b\u000c\u000e-\u001f]/g, '');
+}
+
+/** JUnit XML: one testcase per matrix × recipe (classname = matrix, name = recipe), failures with the reasons. */
+export function junitXml(out: CheckOutcome, opts: { suiteName?: string; timestamp?: string } = {}): string {
+  const name = opts.suiteName ?? 'slabbench check';
+  const seconds = (r: CheckRow): string => (r.now?.seconds ?? 0).toFixed(6);
+  const total = out.rows.reduce((s, r) => s + (r.now?.seconds ?? 0), 0);
+  const lines = [
+    '<?xml version="1.0" encoding="UTF-8"?>',
+    `<testsuites name="${xmlEscape(name)}" tests="${out.rows.length}" failures="${out.failures}" errors="0" time="${total.toFixed(6)}">`,
+    `  <testsuite name="${xmlEscape(name)}" tests="${out.rows.length}" failures="${out.failures}" errors="0" skipped="0" time="${total.toFixed(6)}"${opts.timestamp ? ` timestamp="${xmlEscape(opts.timestamp)}"` : ''}>`,
+  ];
+  for (const r of out.rows) {
+    const open = `    <testcase classname="${xmlEscape(r.matrix)}" name="${xmlEscape(r.recipe)}" time="${seconds(r)}"`;
+    const body: string[] = [];
+    if (r.problems.length) {
+      body.push(`      <failure type="${r.verdict}" message="${xmlEscape(r.problems.join('; '))}">${xmlEscape(r.problems.join('\n'))}</failure>`);
+    }
+    const detail = [
+      `iterations: ${r.base?.iterations ?? '-'} -> ${r.now?.iterations ?? '-'}`,
+      `reason: ${r.base?.reason ?? '-'} -> ${r.now?.reason ?? '-'}`,
+      `true relative residual: ${fmtNum(r.base?.residual)} -> ${fmtNum(r.now?.residual)}`,
+      `buffer bytes: ${r.base?.bytes ?? '-'} -> ${r.now?.bytes ?? '-'}`,
+      ...r.notes.map((n) => `note: ${n}`),
+    ];
+    body.push(`      <system-out>${xmlEscape(detail.join('\n'))}</system-out>`);
+    lines.push(`${open}>`, ...body, '    </testcase>');
+  }
+  lines.push('  </testsuite>', '</testsuites>');
+  return `${lines.join('\n')}\n`;
+}

@@ -1,0 +1,45 @@
+/**
+ * What the sweep needs from other areas, as one replaceable module.
+ *
+ * The real implementation is `real-deps.ts` (loader, generator, recipe parser, solver). A worker thread
+ * cannot receive functions, so the worker is told a module URL and imports it; tests point that URL at a
+ * small double. Keep this interface to the few calls the sweep makes.
+ */
+import type { Bsr, Csr } from '../sparse/types.js';
+import type { Recipe } from '../solvers/recipe.js';
+import type { SolveResult } from '../solvers/types.js';
+import type { SystemMatrix } from '../precond/types.js';
+
+/** The part of loadSystem's LoadedSystem the sweep reads. */
+export interface LoadedForRun {
+  csr: Csr;
+  bsr: Bsr;
+  bs: number;
+  blockSizeSource?: string;
+  slabOffsets?: Int32Array;
+}
+
+export interface RunDeps {
+  loadSystem(mtxPath: string, opts?: { blockSize?: number }): Promise<LoadedForRun>;
+  readMatrixMarketVector(path: string): Promise<Float64Array>;
+  solveSystem(system: SystemMatrix, b: Float64Array, recipe: Recipe): { result: SolveResult; x: Float64Array };
+}
+
+export interface SuiteParsers {
+  parseRecipe(obj: unknown, where: string): Recipe;
+  /** Validates generator parameters; the sweep treats the result as opaque JSON. */
+  parseGeneratorParams(obj: unknown, where: string): unknown;
+}
+
+export interface CaseBuilder {
+  writeGeneratedCase(params: unknown, outDir: string, name: string): Promise<{ mtx: string; rhs: string; layout: string }>;
+}
+
+export type SweepDeps = RunDeps & SuiteParsers & CaseBuilder;
+
+/** URL of a sibling module of this file, with this file's extension (.ts under tsx/vitest, .js in dist/). */
+export function siblingModuleUrl(baseName: string): URL {
+  const here = import.meta.url;
+  const ext = here.endsWith('.ts') ? '.ts' : '.js';
+  return new URL(`./${baseName}${ext}`, here);
+}

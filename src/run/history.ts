@@ -1,0 +1,104 @@
+/**
+ * History file: one JSON line per sweep (HistoryEntry), appended, read back by the report's history view.
+ * Reading is tolerant of extra or missing optional fields but skips nothing: a line that is not an
+ * entry is an error naming its line number.
+ */
+import { appendFileSync, existsSync, openSync, readSync, closeSync, fstatSync, readFileSync } from 'node:fs';
+import { fileError, UserError } from '../util/errors.js';
+import type { HistoryEntry, ResultsDoc } from './results-types.js';
+import { bufferBytes } from './results.js';
+
+/** The history line for one results document (runs that could not start carry no numbers and are left out). */
+export function historyEntry(doc: ResultsDoc): HistoryEntry {
+  const runs: HistoryEntry['runs'] = [];
+  for (const run of doc.runs) {
+    const r = run.result;
+    if (!r) continue;
+    runs.push({
+      matrix: run.matrix,
+      recipe: run.recipe,
+      reason: r.reason,
+      iterations: r.iterations,
+      trueRelativeResidual: Number.isFinite(r.trueRelativeResidual) ? r.trueRelativeResidual : Number.MAX_VALUE,
+      setupSeconds: r.timing.setupSeconds,
+      solveSeconds: r.timing.solveSeconds,
+      peakBytes: r.memory.peakBytes,
+      bufferBytes: bufferBytes(run),
+    });
+  }
+  return {
+    date: doc.date,
+    ...(doc.commit ? { commit: doc.commit } : {}),
+    slabbench: doc.slabbench,
+    suite: { description: doc.suite.description, fingerprint: doc.suite.fingerprint },
+    runs,
+  };
+}
+
+function endsWithNewline(path: string): boolean {
+  const fd = openSync(path, 'r');
+  try {
+    const size = fstatSync(fd).size;
+    if (size === 0) return true;
+    const buf = Buffer.alloc(1);
+    readSync(fd, buf, 0, 1, size - 1);
+    return buf[0] === 0x0a;
+  } finally {
+    closeSync(fd);
+  }
+}
+
+/**
+ * Append one entry as one line. A single append of a short line is not torn by a concurrent reader;
+ * if the file's last line was cut short (a crash mid-write), the new entry still starts on its own line
+ * and the cut line is reported by readHistory.
+ */
+export function appendHistory(path: string, entry: HistoryEntry): void {
+  const prefix = existsSync(path) && !endsWithNewline(path) ? '\n' : '';
+  appendFileSync(path, `${prefix}${JSON.stringify(entry)}\n`);
+}
+
+function checkEntry(v: unknown): string | undefined {
+  if (typeof v !== 'object' || v === null || Array.isArray(v)) return 'expected a JSON object';
+  const e = v as Record<string, unknown>;
+  if (typeof e.date !== 'string') return '"date": expected a string';
+  if (typeof e.slabbench !== 'string') return '"slabbench": expected a string';
+  if (e.commit !== undefined && typeof e.commit !== 'string') return '"commit": expected a string';
+  if (!Array.isArray(e.runs)) return '"runs": expected an array';
+  for (let i = 0; i < e.runs.length; i++) {
+    const r = e.runs[i] as Record<string, unknown>;
+    if (typeof r !== 'object' || r === null) return `runs[${i}]: expected an object`;
+    for (const k of ['matrix', 'recipe', 'reason']) if (typeof r[k] !== 'string') return `runs[${i}].${k}: expected a string`;
+    for (const k of ['iterations', 'trueRelativeResidual', 'setupSeconds', 'solveSeconds', 'peakBytes']) {
+      if (typeof r[k] !== 'number') return `runs[${i}].${k}: expected a number`;
+    }
+  }
+  return undefined;
+}
+
+/** Read every entry; blank lines are allowed, anything else that is not an entry is an error. */
+export function readHistory(path: string): HistoryEntry[] {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new UserError(`${path}: ${code === 'ENOENT' ? 'no such history file' : `cannot read (${code ?? String(e)})`}`);
+  }
+  const out: HistoryEntry[] = [];
+  const lines = text.split('\n');
+  for (let i = 0; i < lines.length; i++) {
+    const line = lines[i].trim();
+    if (line === '') continue;
+    let v: unknown;
+    try {
+      v = JSON.parse(line);
+    } catch (e) {
+      throw fileError(path, i + 1, `not a JSON line (${(e as Error).message}); fix or delete this line`);
+    }
+    const problem = checkEntry(v);
+    if (problem) throw fileError(path, i + 1, `not a history entry: ${problem}`);
+    out.push(v as HistoryEntry);
+  }
+  return out;
+}

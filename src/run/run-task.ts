@@ -1,0 +1,105 @@
+/**
+ * One matrix × recipe run, as executed inside a worker thread (or in-process): load the matrix (kept
+ * while consecutive tasks use the same one), build the right-hand side, call solveSystem.
+ * Solver and preconditioner failures are results (a reason); only a run that cannot start is an error.
+ */
+import type { Recipe } from '../solvers/recipe.js';
+import { csrSpmv } from '../sparse/csr.js';
+import { UserError } from '../util/errors.js';
+import type { RunDeps, LoadedForRun } from './deps.js';
+import type { MatrixInfo, RunRecord } from './results-types.js';
+import { matrixInfo } from './results.js';
+
+export interface TaskMatrix {
+  name: string;
+  source: 'file' | 'generated';
+  /** Absolute path of the .mtx file. */
+  mtx: string;
+  /** Absolute path of the right-hand side; absent: b = A·1 (exact solution all ones). */
+  rhs?: string;
+  blockSize?: number;
+  note?: string;
+  /** Path recorded in MatrixInfo (relative to the results folder when possible). */
+  displayPath: string;
+}
+
+export interface RunTask {
+  id: number;
+  matrix: TaskMatrix;
+  recipe: Recipe;
+}
+
+export interface TaskDone {
+  id: number;
+  record: RunRecord;
+  /** Sent when this call loaded the matrix (first use in this thread). */
+  info?: MatrixInfo;
+}
+
+interface Loaded {
+  key: string;
+  system?: LoadedForRun;
+  b?: Float64Array;
+  error?: string;
+  infoSent: boolean;
+}
+
+/** Holds the last matrix a thread loaded; tasks arrive matrix by matrix, so one is enough. */
+export interface TaskCache { last?: Loaded }
+
+function errorText(e: unknown): string {
+  if (e instanceof UserError) return e.message;
+  const err = e as NodeJS.ErrnoException;
+  if (err && typeof err.code === 'string' && typeof err.path === 'string') return `${err.path}: ${err.code}`;
+  return `internal error: ${err?.message ?? String(e)}`;
+}
+
+async function load(m: TaskMatrix, deps: RunDeps): Promise<Loaded> {
+  const key = JSON.stringify([m.mtx, m.rhs ?? null, m.blockSize ?? null]);
+  try {
+    const system = await deps.loadSystem(m.mtx, m.blockSize !== undefined ? { blockSize: m.blockSize } : undefined);
+    const n = system.csr.nRows;
+    if (system.csr.nCols !== n) throw new UserError(`${m.mtx}: matrix is ${n}×${system.csr.nCols}; a solve needs a square matrix`);
+    let b: Float64Array;
+    if (m.rhs !== undefined) {
+      b = await deps.readMatrixMarketVector(m.rhs);
+      if (b.length !== n) throw new UserError(`${m.rhs}: right-hand side has ${b.length} entries; the matrix has ${n} rows`);
+    } else {
+      b = new Float64Array(n);
+      csrSpmv(system.csr, new Float64Array(n).fill(1), b);
+    }
+    return { key, system, b, infoSent: false };
+  } catch (e) {
+    return { key, error: errorText(e), infoSent: false };
+  }
+}
+
+export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache): Promise<TaskDone> {
+  const m = task.matrix;
+  const key = JSON.stringify([m.mtx, m.rhs ?? null, m.blockSize ?? null]);
+  if (!cache.last || cache.last.key !== key) {
+    cache.last = undefined; // let the previous matrix go before loading the next
+    cache.last = await load(m, deps);
+  }
+  const loaded = cache.last;
+  const base = { matrix: m.name, recipe: task.recipe.name, recipeParams: task.recipe };
+  if (loaded.error !== undefined || !loaded.system || !loaded.b) {
+    return { id: task.id, record: { ...base, error: loaded.error ?? 'matrix not loaded' } };
+  }
+  let info: MatrixInfo | undefined;
+  if (!loaded.infoSent) {
+    loaded.infoSent = true;
+    info = matrixInfo({ name: m.name, source: m.source, path: m.displayPath, note: m.note }, loaded.system);
+  }
+  const sys = loaded.system;
+  try {
+    const { result } = deps.solveSystem(
+      { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}) },
+      loaded.b,
+      task.recipe,
+    );
+    return { id: task.id, record: { ...base, result }, info };
+  } catch (e) {
+    return { id: task.id, record: { ...base, error: errorText(e) }, info };
+  }
+}

@@ -1,0 +1,221 @@
+/**
+ * Suite files: which matrices and which solver recipes a sweep runs.
+ *
+ *   { "schema": "slabbench-suite/1", "description": "…",
+ *     "matrices": [ { "name": "duct-pulse", "note": "invented scenario", "generate": { …generator parameters… } },
+ *                   { "name": "mine", "file": "A.mtx", "rhs": "b.mtx", "blockSize": 6 } ],
+ *     "recipes":  [ { "name": "gmres-bilu0", "krylov": "gmres", "preconditioner": "block-ilu0", … } ] }
+ *
+ * Paths are relative to the suite file. Every error is one line naming the file and the field path.
+ */
+import { readFileSync, existsSync } from 'node:fs';
+import { dirname, resolve, isAbsolute } from 'node:path';
+import { createHash } from 'node:crypto';
+import type { Recipe } from '../solvers/recipe.js';
+import { UserError } from '../util/errors.js';
+import { SUITE_SCHEMA } from './results-types.js';
+import type { SuiteParsers } from './deps.js';
+
+/** Names become file names (cache, reports) and CSV cells: keep them plain. */
+export const NAME_PATTERN = /^[A-Za-z0-9][A-Za-z0-9._+-]{0,79}$/;
+
+export interface FileMatrixEntry {
+  kind: 'file';
+  name: string;
+  note?: string;
+  /** As written in the suite (relative to the suite file). */
+  file: string;
+  rhs?: string;
+  /** Absolute paths. */
+  filePath: string;
+  rhsPath?: string;
+  blockSize?: number;
+}
+
+export interface GeneratedMatrixEntry {
+  kind: 'generate';
+  name: string;
+  note?: string;
+  /** Generator parameters as validated by parseGeneratorParams. */
+  generate: unknown;
+  /** The object as written (canonical JSON of it keys the cache). */
+  generateRaw: Record<string, unknown>;
+}
+
+export type SuiteMatrix = FileMatrixEntry | GeneratedMatrixEntry;
+
+export interface Suite {
+  /** Path as given by the user (used in messages). */
+  path: string;
+  /** Absolute folder of the suite file: relative matrix paths start here. */
+  dir: string;
+  description?: string;
+  matrices: SuiteMatrix[];
+  recipes: Recipe[];
+  /** Identity of the parsed content (see ResultsDoc.suite.fingerprint). */
+  fingerprint: string;
+}
+
+const TOP_KEYS = new Set(['schema', 'description', 'matrices', 'recipes', '$comment']);
+const FILE_KEYS = new Set(['name', 'note', 'file', 'rhs', 'blockSize']);
+const GEN_KEYS = new Set(['name', 'note', 'generate']);
+
+function isPlainObject(v: unknown): v is Record<string, unknown> {
+  return typeof v === 'object' && v !== null && !Array.isArray(v);
+}
+
+function describe(v: unknown): string {
+  if (v === null) return 'null';
+  if (Array.isArray(v)) return 'an array';
+  if (typeof v === 'string') return JSON.stringify(v.length > 40 ? `${v.slice(0, 40)}…` : v);
+  if (typeof v === 'object') return 'an object';
+  return String(v);
+}
+
+/** Stable JSON (sorted keys) so the fingerprint and cache keys do not depend on key order. */
+export function canonicalJson(v: unknown): string {
+  if (Array.isArray(v)) return `[${v.map(canonicalJson).join(',')}]`;
+  if (isPlainObject(v)) {
+    return `{${Object.keys(v).sort().filter((k) => v[k] !== undefined)
+      .map((k) => `${JSON.stringify(k)}:${canonicalJson(v[k])}`).join(',')}}`;
+  }
+  return JSON.stringify(v) ?? 'null';
+}
+
+export function shortHash(text: string): string {
+  return createHash('sha256').update(text).digest('hex').slice(0, 16);
+}
+
+/**
+ * Validate a parsed suite object. `file` is the name used in messages, `dir` the folder relative
+ * paths start from. Does not touch the file system (readSuite checks that files exist).
+ */
+export function parseSuite(obj: unknown, file: string, dir: string, parsers: SuiteParsers): Suite {
+  const fail = (field: string, what: string): never => {
+    throw new UserError(`${file}: ${field ? `${field}: ` : ''}${what}`);
+  };
+  if (!isPlainObject(obj)) fail('', `expected a JSON object with "schema": "${SUITE_SCHEMA}", got ${describe(obj)}`);
+  const top = obj as Record<string, unknown>;
+  if (top.schema !== SUITE_SCHEMA) {
+    fail('schema', top.schema === undefined
+      ? `missing; expected "${SUITE_SCHEMA}"`
+      : `expected "${SUITE_SCHEMA}", got ${describe(top.schema)}`);
+  }
+  for (const k of Object.keys(top)) if (!TOP_KEYS.has(k)) fail(k, `unknown key (expected one of ${[...TOP_KEYS].join(', ')})`);
+  if (top.description !== undefined && typeof top.description !== 'string') fail('description', `expected a string, got ${describe(top.description)}`);
+
+  if (!Array.isArray(top.matrices)) fail('matrices', `expected an array, got ${describe(top.matrices)}`);
+  if (!Array.isArray(top.recipes)) fail('recipes', `expected an array, got ${describe(top.recipes)}`);
+  const rawMatrices = top.matrices as unknown[];
+  const rawRecipes = top.recipes as unknown[];
+  if (rawMatrices.length === 0) fail('matrices', 'expected at least one matrix');
+  if (rawRecipes.length === 0) fail('recipes', 'expected at least one recipe');
+
+  const checkName = (v: unknown, field: string, seen: Map<string, number>, kind: string): string => {
+    if (typeof v !== 'string') return fail(field, `expected a string, got ${describe(v)}`);
+    if (!NAME_PATTERN.test(v)) return fail(field, `expected letters, digits, '.', '_', '+' or '-' (up to 80, starting with a letter or digit), got ${describe(v)}`);
+    const prev = seen.get(v);
+    if (prev !== undefined) return fail(field, `duplicate ${kind} name "${v}" (also ${kind === 'matrix' ? 'matrices' : 'recipes'}[${prev}])`);
+    return v;
+  };
+
+  const matrices: SuiteMatrix[] = [];
+  const matrixNames = new Map<string, number>();
+  rawMatrices.forEach((m, i) => {
+    const at = `matrices[${i}]`;
+    if (!isPlainObject(m)) return fail(at, `expected an object, got ${describe(m)}`);
+    const name = checkName(m.name, `${at}.name`, matrixNames, 'matrix');
+    matrixNames.set(name, i);
+    if (m.note !== undefined && typeof m.note !== 'string') fail(`${at}.note`, `expected a string, got ${describe(m.note)}`);
+    const note = m.note as string | undefined;
+    const hasFile = m.file !== undefined;
+    const hasGen = m.generate !== undefined;
+    if (hasFile === hasGen) fail(at, 'expected exactly one of "file" (a Matrix Market file) or "generate" (generator parameters)');
+    if (hasFile) {
+      for (const k of Object.keys(m)) if (!FILE_KEYS.has(k)) fail(`${at}.${k}`, `unknown key for a file matrix (expected ${[...FILE_KEYS].join(', ')})`);
+      if (typeof m.file !== 'string' || m.file === '') fail(`${at}.file`, `expected a path to a .mtx or .mtx.gz file, got ${describe(m.file)}`);
+      const f = m.file as string;
+      if (!/\.mtx(\.gz)?$/i.test(f)) fail(`${at}.file`, `expected a path ending in .mtx or .mtx.gz, got ${describe(f)}`);
+      if (m.rhs !== undefined && (typeof m.rhs !== 'string' || m.rhs === '')) fail(`${at}.rhs`, `expected a path to a Matrix Market vector, got ${describe(m.rhs)}`);
+      if (m.blockSize !== undefined && !(Number.isInteger(m.blockSize) && (m.blockSize as number) >= 1 && (m.blockSize as number) <= 4096)) {
+        fail(`${at}.blockSize`, `expected an integer from 1 to 4096, got ${describe(m.blockSize)}`);
+      }
+      const rhs = m.rhs as string | undefined;
+      matrices.push({
+        kind: 'file', name, note, file: f, rhs,
+        filePath: isAbsolute(f) ? f : resolve(dir, f),
+        rhsPath: rhs === undefined ? undefined : isAbsolute(rhs) ? rhs : resolve(dir, rhs),
+        blockSize: m.blockSize as number | undefined,
+      });
+    } else {
+      for (const k of Object.keys(m)) if (!GEN_KEYS.has(k)) fail(`${at}.${k}`, `unknown key for a generated matrix (expected ${[...GEN_KEYS].join(', ')}; rhs and block size come from the generator)`);
+      if (!isPlainObject(m.generate)) fail(`${at}.generate`, `expected an object of generator parameters, got ${describe(m.generate)}`);
+      const generate = parsers.parseGeneratorParams(m.generate, `${file}: ${at}.generate`);
+      matrices.push({ kind: 'generate', name, note, generate, generateRaw: m.generate as Record<string, unknown> });
+    }
+    return undefined;
+  });
+
+  const recipes: Recipe[] = [];
+  const recipeNames = new Map<string, number>();
+  rawRecipes.forEach((r, i) => {
+    const at = `recipes[${i}]`;
+    if (!isPlainObject(r)) return fail(at, `expected an object, got ${describe(r)}`);
+    if (r.name !== undefined && typeof r.name !== 'string') fail(`${at}.name`, `expected a string, got ${describe(r.name)}`);
+    const recipe = parsers.parseRecipe(r, `${file}: ${at}`);
+    // Without a name the recipe parser's default ("krylov-preconditioner") names it; duplicates are still errors.
+    const name = checkName(r.name ?? recipe.name, `${at}.name`, recipeNames, 'recipe');
+    recipeNames.set(name, i);
+    recipes.push({ ...recipe, name });
+    return undefined;
+  });
+
+  const fingerprint = shortHash(canonicalJson({
+    matrices: matrices.map((m) => m.kind === 'file'
+      ? { name: m.name, file: m.file, rhs: m.rhs, blockSize: m.blockSize }
+      : { name: m.name, generate: m.generateRaw }),
+    recipes,
+  }));
+  return { path: file, dir, description: top.description as string | undefined, matrices, recipes, fingerprint };
+}
+
+/** Read, parse and validate a suite file; also checks that every referenced file exists. */
+export function readSuite(path: string, parsers: SuiteParsers): Suite {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new UserError(`${path}: ${code === 'ENOENT' ? 'no such suite file' : `cannot read suite file (${code ?? String(e)})`}`);
+  }
+  let obj: unknown;
+  try {
+    obj = JSON.parse(text);
+  } catch (e) {
+    throw new UserError(`${path}: not valid JSON (${(e as Error).message})`);
+  }
+  const suite = parseSuite(obj, path, dirname(resolve(path)), parsers);
+  suite.matrices.forEach((m, i) => {
+    if (m.kind !== 'file') return;
+    if (!existsSync(m.filePath)) throw new UserError(`${path}: matrices[${i}].file: no such file "${m.file}" (looked for ${m.filePath})`);
+    if (m.rhsPath !== undefined && !existsSync(m.rhsPath)) throw new UserError(`${path}: matrices[${i}].rhs: no such file "${m.rhs}" (looked for ${m.rhsPath})`);
+  });
+  return suite;
+}
+
+/**
+ * Keep the matrices and recipes named in `onlyMatrix` / `onlyRecipe` (suite order kept).
+ * A name that is not in the suite is an error, so a typo never silently runs nothing.
+ */
+export function selectFromSuite(suite: Suite, onlyMatrix?: string[], onlyRecipe?: string[]): { matrices: SuiteMatrix[]; recipes: Recipe[] } {
+  const pick = <T extends { name: string }>(items: T[], wanted: string[] | undefined, option: string): T[] => {
+    if (!wanted || wanted.length === 0) return items;
+    const names = new Set(items.map((x) => x.name));
+    for (const w of wanted) {
+      if (!names.has(w)) throw new UserError(`option ${option}: "${w}" is not in ${suite.path} (there: ${[...names].join(', ')})`);
+    }
+    const keep = new Set(wanted);
+    return items.filter((x) => keep.has(x.name));
+  };
+  return { matrices: pick(suite.matrices, onlyMatrix, '--only-matrix'), recipes: pick(suite.recipes, onlyRecipe, '--only-recipe') };
+}

@@ -1,0 +1,263 @@
+/**
+ * The sweep runner: every selected matrix × recipe pair, on worker threads (or in this thread),
+ * with results in suite order whatever the number of jobs, written atomically after each finished run.
+ */
+import { Worker } from 'node:worker_threads';
+import { createRequire } from 'node:module';
+import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { join, relative, resolve, isAbsolute, sep } from 'node:path';
+import { pathToFileURL } from 'node:url';
+import { writeFileAtomicSync } from '../util/atomic-write.js';
+import { UserError } from '../util/errors.js';
+import { VERSION } from '../version.js';
+import type { CaseBuilder, RunDeps } from './deps.js';
+import { siblingModuleUrl } from './deps.js';
+import { appendHistory, historyEntry } from './history.js';
+import type { MatrixInfo, ResultsDoc, RunRecord } from './results-types.js';
+import { environment, newResultsDoc, writeResults } from './results.js';
+import { executeTask, type RunTask, type TaskCache, type TaskDone, type TaskMatrix } from './run-task.js';
+import { shardPairs, type ShardSpec } from './shard.js';
+import { canonicalJson, selectFromSuite, shortHash, type GeneratedMatrixEntry, type Suite, type SuiteMatrix } from './suite.js';
+
+export const RESULTS_FILE = 'results.json';
+export const CSV_FILE = 'results.csv';
+export const HISTORY_FILE = 'history.jsonl';
+
+export interface SweepOptions {
+  suite: Suite;
+  outDir: string;
+  /** Worker threads (≥ 1). Ignored when inProcess is given. */
+  jobs: number;
+  shard?: ShardSpec;
+  onlyMatrix?: string[];
+  onlyRecipe?: string[];
+  /** Where generated cases are built (default OUT/matrices). */
+  cacheDir?: string;
+  /** Builds generator cases (real: writeGeneratedCase). */
+  builder: CaseBuilder;
+  /** Module the workers import for loadSystem/readMatrixMarketVector/solveSystem (default: real-deps). */
+  depsModule?: string;
+  /** Run in this thread with these functions instead of workers (library use and tests). */
+  inProcess?: RunDeps;
+  signal?: AbortSignal;
+  onProgress?(done: number, total: number, label: string): void;
+  log?(line: string): void;
+  /** Append to OUT/history.jsonl after a complete sweep (default true). */
+  history?: boolean;
+}
+
+export interface SweepOutcome {
+  doc: ResultsDoc;
+  interrupted: boolean;
+  /** Runs that could not start (unreadable matrix, recipe the matrix cannot serve…). */
+  errors: number;
+  files: { results: string; csv: string; history?: string };
+}
+
+/** Folder of a generated case in the cache: name plus a hash of the parameters and slabbench version. */
+export function caseFolder(cacheDir: string, m: GeneratedMatrixEntry): string {
+  return join(cacheDir, `${m.name}-${shortHash(canonicalJson({ slabbench: VERSION, generate: m.generate }))}`);
+}
+
+const CASE_MARKER = 'case.json';
+
+/** Build (or reuse) a generated case; returns absolute .mtx and rhs paths. */
+export async function ensureGeneratedCase(
+  cacheDir: string, m: GeneratedMatrixEntry, builder: CaseBuilder, log?: (line: string) => void,
+): Promise<{ mtx: string; rhs: string }> {
+  const dir = caseFolder(cacheDir, m);
+  const marker = join(dir, CASE_MARKER);
+  if (existsSync(marker)) {
+    try {
+      const c = JSON.parse(readFileSync(marker, 'utf8')) as { mtx: string; rhs: string };
+      const mtx = resolve(dir, c.mtx);
+      const rhs = resolve(dir, c.rhs);
+      if (existsSync(mtx) && existsSync(rhs)) return { mtx, rhs };
+    } catch { /* rebuild below */ }
+  }
+  log?.(`building matrix ${m.name} into ${dir}`);
+  mkdirSync(dir, { recursive: true });
+  const files = await builder.writeGeneratedCase(m.generate, dir, m.name);
+  const mtx = resolve(dir, files.mtx);
+  const rhs = resolve(dir, files.rhs);
+  // Written last, so a half-built case is never reused.
+  writeFileAtomicSync(marker, `${JSON.stringify({ mtx: relative(dir, mtx), rhs: relative(dir, rhs), layout: relative(dir, resolve(dir, files.layout)) })}\n`);
+  return { mtx, rhs };
+}
+
+function displayPath(outDir: string, p: string): string {
+  const rel = relative(outDir, p);
+  return rel === '' || isAbsolute(rel) ? p : rel.split(sep).join('/');
+}
+
+function tsxLoaderUrl(): string {
+  const req = createRequire(import.meta.url);
+  return pathToFileURL(req.resolve('tsx')).href;
+}
+
+/** Start a worker from worker.js (dist) or worker.ts (source, via the tsx loader). */
+function startWorker(depsModule: string): Worker {
+  const url = siblingModuleUrl('worker');
+  const execArgv = url.pathname.endsWith('.ts') ? ['--import', tsxLoaderUrl()] : [];
+  return new Worker(url, { workerData: { depsModule }, execArgv });
+}
+
+function failedRecord(task: RunTask, error: string): TaskDone {
+  return { id: task.id, record: { matrix: task.matrix.name, recipe: task.recipe.name, recipeParams: task.recipe, error } };
+}
+
+/** Run tasks on up to `jobs` workers; resolves true when interrupted. */
+function runOnWorkers(
+  tasks: RunTask[], jobs: number, depsModule: string, onDone: (d: TaskDone) => void, signal?: AbortSignal,
+): Promise<boolean> {
+  return new Promise<boolean>((resolvePool, rejectPool) => {
+    if (tasks.length === 0) { resolvePool(false); return; }
+    let next = 0;
+    let finished = 0;
+    let stopped = false;
+    const workers = new Set<Worker>();
+
+    const stop = (interrupted: boolean, error?: Error): void => {
+      if (stopped) return;
+      stopped = true;
+      signal?.removeEventListener('abort', onAbort);
+      for (const w of workers) void w.terminate();
+      if (error) rejectPool(error); else resolvePool(interrupted);
+    };
+    const onAbort = (): void => stop(true);
+
+    const launch = (): void => {
+      const w = startWorker(depsModule);
+      workers.add(w);
+      let current: RunTask | undefined;
+      let ready = false;
+      const give = (): void => {
+        if (stopped) return;
+        if (next < tasks.length) {
+          current = tasks[next++];
+          w.postMessage(current);
+        } else {
+          current = undefined;
+          void w.terminate();
+        }
+      };
+      const record = (d: TaskDone): void => {
+        current = undefined;
+        onDone(d);
+        finished++;
+        if (finished === tasks.length) stop(false);
+      };
+      w.on('message', (msg: TaskDone | { ready: true }) => {
+        if (stopped) return;
+        if ('ready' in msg) { ready = true; give(); return; }
+        record(msg);
+        give();
+      });
+      w.on('error', (err: Error) => {
+        if (stopped) return;
+        if (!ready) { stop(false, new Error(`sweep worker failed to start: ${err.message}`)); return; }
+        if (current) record(failedRecord(current, `worker thread failed: ${err.message}`));
+      });
+      w.on('exit', () => {
+        workers.delete(w);
+        if (stopped) return;
+        if (current) record(failedRecord(current, 'worker thread exited during the run (out of memory?)'));
+        if (!stopped && next < tasks.length && workers.size < jobs) launch();
+      });
+    };
+
+    if (signal?.aborted) { stop(true); return; }
+    signal?.addEventListener('abort', onAbort);
+    for (let i = 0; i < Math.min(jobs, tasks.length); i++) launch();
+  });
+}
+
+async function runInProcess(tasks: RunTask[], deps: RunDeps, onDone: (d: TaskDone) => void, signal?: AbortSignal): Promise<boolean> {
+  const cache: TaskCache = {};
+  for (const task of tasks) {
+    // Yield so a pending abort (Ctrl-C) is seen between runs.
+    await new Promise((r) => setImmediate(r));
+    if (signal?.aborted) return true;
+    onDone(await executeTask(task, deps, cache));
+  }
+  return false;
+}
+
+export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
+  const { suite } = opts;
+  const outDir = resolve(opts.outDir);
+  const jobs = opts.jobs;
+  if (!opts.inProcess && !(Number.isInteger(jobs) && jobs >= 1)) throw new UserError(`option --jobs: expected a positive integer, got ${jobs}`);
+  const { matrices, recipes } = selectFromSuite(suite, opts.onlyMatrix, opts.onlyRecipe);
+  const pairs = shardPairs(matrices.length, recipes.length, opts.shard);
+
+  mkdirSync(outDir, { recursive: true });
+  const files = { results: join(outDir, RESULTS_FILE), csv: join(outDir, CSV_FILE) };
+
+  // Build generated cases this shard needs, in suite order, before any run starts.
+  const cacheDir = resolve(opts.cacheDir ?? join(outDir, 'matrices'));
+  const needed = [...new Set(pairs.map((p) => p.matrixIndex))];
+  const taskMatrices = new Map<number, TaskMatrix>();
+  for (const mi of needed) {
+    if (opts.signal?.aborted) break;
+    const m: SuiteMatrix = matrices[mi];
+    if (m.kind === 'file') {
+      taskMatrices.set(mi, {
+        name: m.name, source: 'file', mtx: m.filePath, rhs: m.rhsPath, blockSize: m.blockSize, note: m.note,
+        displayPath: displayPath(outDir, m.filePath),
+      });
+    } else {
+      const built = await ensureGeneratedCase(cacheDir, m, opts.builder, opts.log);
+      taskMatrices.set(mi, { name: m.name, source: 'generated', mtx: built.mtx, rhs: built.rhs, note: m.note, displayPath: displayPath(outDir, built.mtx) });
+    }
+  }
+
+  const tasks: RunTask[] = opts.signal?.aborted ? [] : pairs.map((p, id) => ({
+    id, matrix: taskMatrices.get(p.matrixIndex)!, recipe: recipes[p.recipeIndex],
+  }));
+
+  const env = environment();
+  const records: Array<RunRecord | undefined> = new Array(pairs.length);
+  const infos = new Map<string, MatrixInfo>();
+  const matrixOrder = matrices.map((m) => m.name);
+  const buildDoc = (status: ResultsDoc['status']): ResultsDoc => newResultsDoc({
+    env,
+    suite: {
+      path: suite.path, description: suite.description, fingerprint: suite.fingerprint,
+      matrixNames: matrices.map((m) => m.name), recipeNames: recipes.map((r) => r.name),
+    },
+    parameters: {
+      jobs: opts.inProcess ? 1 : jobs,
+      ...(opts.shard ? { shard: { index: opts.shard.index, count: opts.shard.count } } : {}),
+      ...(opts.onlyMatrix?.length ? { onlyMatrix: opts.onlyMatrix } : {}),
+      ...(opts.onlyRecipe?.length ? { onlyRecipe: opts.onlyRecipe } : {}),
+    },
+    status,
+    matrices: matrixOrder.filter((n) => infos.has(n)).map((n) => infos.get(n)!),
+    runs: records.filter((r): r is RunRecord => r !== undefined),
+  });
+
+  let done = 0;
+  const onDone = (d: TaskDone): void => {
+    records[d.id] = d.record;
+    if (d.info && !infos.has(d.info.name)) infos.set(d.info.name, d.info);
+    done++;
+    writeResults(buildDoc(done === tasks.length ? 'complete' : 'partial'), files.results, files.csv);
+    opts.onProgress?.(done, tasks.length, `${d.record.matrix} × ${d.record.recipe}`);
+  };
+
+  writeResults(buildDoc(tasks.length === 0 && !opts.signal?.aborted ? 'complete' : 'partial'), files.results, files.csv);
+  opts.onProgress?.(0, tasks.length, '');
+  const interrupted = (opts.signal?.aborted ?? false) || (opts.inProcess
+    ? await runInProcess(tasks, opts.inProcess, onDone, opts.signal)
+    : await runOnWorkers(tasks, jobs, opts.depsModule ?? siblingModuleUrl('real-deps').href, onDone, opts.signal));
+
+  const doc = buildDoc(interrupted ? 'interrupted' : 'complete');
+  writeResults(doc, files.results, files.csv);
+  let history: string | undefined;
+  if (!interrupted && opts.history !== false) {
+    history = join(outDir, HISTORY_FILE);
+    appendHistory(history, historyEntry(doc));
+  }
+  return { doc, interrupted, errors: doc.runs.filter((r) => r.error !== undefined).length, files: { ...files, ...(history ? { history } : {}) } };
+}

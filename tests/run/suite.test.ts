@@ -1,0 +1,133 @@
+import { describe, expect, it, afterAll } from 'vitest';
+import { writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { parseSuite, readSuite, selectFromSuite } from '../../src/run/suite.js';
+import * as fake from './fixtures/fake-deps.js';
+import { tempDir, writeTinySuite } from './helpers.js';
+
+const valid = () => ({
+  schema: 'slabbench-suite/1',
+  description: 'd',
+  matrices: [
+    { name: 'm1', file: 'a.mtx', blockSize: 2 },
+    { name: 'm2', generate: { size: 4 } },
+  ],
+  recipes: [
+    { name: 'r1', krylov: 'gmres', restart: 20 },
+    { name: 'r2', krylov: 'bicgstab', preconditioner: 'ilu0' },
+  ],
+});
+
+function errorOf(mutate: (s: ReturnType<typeof valid>) => unknown): string {
+  const s = valid();
+  const obj = mutate(s) ?? s;
+  try {
+    parseSuite(obj, 'suite.json', '/base', fake);
+  } catch (e) {
+    return (e as Error).message;
+  }
+  return 'no error';
+}
+
+describe('parseSuite', () => {
+  it('parses a valid suite, resolving paths against the suite folder and keeping order', () => {
+    const input = valid();
+    const snapshot = JSON.stringify(input);
+    const s = parseSuite(input, 'suite.json', '/base', fake);
+    expect(JSON.stringify(input)).toBe(snapshot); // input not modified
+    expect(s.matrices.map((m) => m.name)).toEqual(['m1', 'm2']);
+    const m1 = s.matrices[0];
+    expect(m1.kind === 'file' && m1.filePath).toBe('/base/a.mtx');
+    expect(m1.kind === 'file' && m1.blockSize).toBe(2);
+    expect(s.matrices[1].kind).toBe('generate');
+    expect(s.recipes.map((r) => [r.name, r.krylov, r.restart])).toEqual([['r1', 'gmres', 20], ['r2', 'bicgstab', 30]]);
+    expect(s.fingerprint).toMatch(/^[0-9a-f]{16}$/);
+  });
+
+  it('fingerprint ignores key order but not content', () => {
+    const a = parseSuite(valid(), 'suite.json', '/x', fake).fingerprint;
+    const reordered = { recipes: valid().recipes, matrices: valid().matrices.map((m) => Object.fromEntries(Object.entries(m).reverse())), schema: 'slabbench-suite/1' };
+    expect(parseSuite(reordered, 'suite.json', '/y', fake).fingerprint).toBe(a);
+    const changed = valid();
+    changed.recipes[0].restart = 21;
+    expect(parseSuite(changed, 'suite.json', '/x', fake).fingerprint).not.toBe(a);
+  });
+
+  const cases: Array<[string, (s: any) => unknown, string]> = [
+    ['not an object', () => [], 'suite.json: expected a JSON object with "schema": "slabbench-suite/1", got an array'],
+    ['missing schema', (s) => { delete s.schema; }, 'suite.json: schema: missing; expected "slabbench-suite/1"'],
+    ['wrong schema', (s) => { s.schema = 'slabbench-suite/9'; }, 'suite.json: schema: expected "slabbench-suite/1", got "slabbench-suite/9"'],
+    ['unknown top key', (s) => { s.matrix = []; }, 'suite.json: matrix: unknown key'],
+    ['description type', (s) => { s.description = 3; }, 'suite.json: description: expected a string, got 3'],
+    ['matrices not array', (s) => { s.matrices = {}; }, 'suite.json: matrices: expected an array, got an object'],
+    ['no matrices', (s) => { s.matrices = []; }, 'suite.json: matrices: expected at least one matrix'],
+    ['no recipes', (s) => { s.recipes = []; }, 'suite.json: recipes: expected at least one recipe'],
+    ['matrix not object', (s) => { s.matrices[1] = 'x.mtx'; }, 'suite.json: matrices[1]: expected an object, got "x.mtx"'],
+    ['matrix name missing', (s) => { delete s.matrices[0].name; }, 'suite.json: matrices[0].name: expected a string, got undefined'],
+    ['matrix name chars', (s) => { s.matrices[0].name = 'a b'; }, 'suite.json: matrices[0].name: expected letters, digits'],
+    ['duplicate matrix', (s) => { s.matrices[1].name = 'm1'; }, 'suite.json: matrices[1].name: duplicate matrix name "m1" (also matrices[0])'],
+    ['both file and generate', (s) => { s.matrices[0].generate = { size: 3 }; }, 'suite.json: matrices[0]: expected exactly one of "file"'],
+    ['neither', (s) => { delete s.matrices[0].file; }, 'suite.json: matrices[0]: expected exactly one of "file"'],
+    ['file type', (s) => { s.matrices[0].file = 7; }, 'suite.json: matrices[0].file: expected a path to a .mtx or .mtx.gz file, got 7'],
+    ['file extension', (s) => { s.matrices[0].file = 'a.txt'; }, 'suite.json: matrices[0].file: expected a path ending in .mtx or .mtx.gz, got "a.txt"'],
+    ['rhs type', (s) => { s.matrices[0].rhs = false; }, 'suite.json: matrices[0].rhs: expected a path to a Matrix Market vector, got false'],
+    ['blockSize zero', (s) => { s.matrices[0].blockSize = 0; }, 'suite.json: matrices[0].blockSize: expected an integer from 1 to 4096, got 0'],
+    ['blockSize fraction', (s) => { s.matrices[0].blockSize = 2.5; }, 'suite.json: matrices[0].blockSize: expected an integer from 1 to 4096, got 2.5'],
+    ['unknown file key', (s) => { s.matrices[0].blocksize = 2; }, 'suite.json: matrices[0].blocksize: unknown key for a file matrix'],
+    ['rhs on generated', (s) => { s.matrices[1].rhs = 'b.mtx'; }, 'suite.json: matrices[1].rhs: unknown key for a generated matrix'],
+    ['generate not object', (s) => { s.matrices[1].generate = 5; }, 'suite.json: matrices[1].generate: expected an object of generator parameters, got 5'],
+    ['generator field (parser)', (s) => { s.matrices[1].generate = { size: 1 }; }, 'suite.json: matrices[1].generate.size: expected an integer ≥ 2'],
+    ['recipe not object', (s) => { s.recipes[0] = 'gmres'; }, 'suite.json: recipes[0]: expected an object, got "gmres"'],
+    ['recipe name type', (s) => { s.recipes[1].name = 12; }, 'suite.json: recipes[1].name: expected a string, got 12'],
+    ['duplicate recipe', (s) => { s.recipes[1].name = 'r1'; }, 'suite.json: recipes[1].name: duplicate recipe name "r1" (also recipes[0])'],
+    ['recipe field (recipe parser)', (s) => { s.recipes[1].restart = 0; }, 'suite.json: recipes[1].restart: '],
+    ['recipe unknown field', (s) => { s.recipes[0].precond = 'ilu0'; }, 'suite.json: recipes[0]: unknown field "precond"'],
+  ];
+  it.each(cases)('%s → one-line error naming the field', (_label, mutate, expected) => {
+    const msg = errorOf(mutate);
+    expect(msg.startsWith(expected), `got: ${msg}`).toBe(true);
+    expect(msg).not.toContain('\n');
+  });
+
+  it('an unnamed recipe takes the default name, and two unnamed alike collide', () => {
+    const s = valid();
+    s.recipes = [{ krylov: 'gmres' } as never, { krylov: 'bicgstab' } as never];
+    expect(parseSuite(s, 'suite.json', '/b', fake).recipes.map((r) => r.name)).toEqual(['gmres-none', 'bicgstab-none']);
+    s.recipes = [{ krylov: 'gmres' } as never, { krylov: 'gmres', restart: 5 } as never];
+    expect(() => parseSuite(s, 'suite.json', '/b', fake)).toThrow('suite.json: recipes[1].name: duplicate recipe name "gmres-none"');
+  });
+});
+
+describe('readSuite', () => {
+  const t = tempDir();
+  afterAll(() => t.cleanup());
+
+  it('reads a suite and checks that matrix and rhs files exist', () => {
+    const p = writeTinySuite(t.dir);
+    const s = readSuite(p, fake);
+    expect(s.matrices).toHaveLength(2);
+    const bad = JSON.parse(JSON.stringify({ schema: 'slabbench-suite/1', matrices: [{ name: 'x', file: 'gone.mtx' }], recipes: [{ name: 'r' }] }));
+    const q = join(t.dir, 'bad.json');
+    writeFileSync(q, JSON.stringify(bad));
+    expect(() => readSuite(q, fake)).toThrow(`${q}: matrices[0].file: no such file "gone.mtx"`);
+    bad.matrices[0] = { name: 'x', file: 'a.mtx', rhs: 'nope.mtx' };
+    writeFileSync(q, JSON.stringify(bad));
+    expect(() => readSuite(q, fake)).toThrow(`${q}: matrices[0].rhs: no such file "nope.mtx"`);
+  });
+
+  it('reports a missing file and invalid JSON in one line', () => {
+    expect(() => readSuite(join(t.dir, 'none.json'), fake)).toThrow(/none\.json: no such suite file$/);
+    const q = join(t.dir, 'broken.json');
+    writeFileSync(q, '{ "schema": ');
+    expect(() => readSuite(q, fake)).toThrow(/broken\.json: not valid JSON/);
+  });
+
+  it('selectFromSuite keeps suite order and rejects unknown names', () => {
+    const s = readSuite(writeTinySuite(t.dir), fake);
+    const sel = selectFromSuite(s, ['beta', 'alpha'], ['rich-slow']);
+    expect(sel.matrices.map((m) => m.name)).toEqual(['alpha', 'beta']);
+    expect(sel.recipes.map((r) => r.name)).toEqual(['rich-slow']);
+    expect(() => selectFromSuite(s, ['gamma'])).toThrow('option --only-matrix: "gamma" is not in');
+    expect(() => selectFromSuite(s, undefined, ['x'])).toThrow('option --only-recipe: "x" is not in');
+  });
+});
