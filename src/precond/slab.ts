@@ -7,6 +7,8 @@
  * A⁻¹; couplings to later slabs, if any, are ignored (block Gauss–Seidel over slabs; counted in
  * stats as blocksAboveSlabDiagonal).
  *
+ * recipe.shift > 0 is handed to the inner recipe when that one has no shift of its own.
+ *
  * Slabs come from system.slabOffsets (the layout file) or, when absent, from the strongly
  * connected components of the block graph in topological order (stats.slabSource says which).
  *
@@ -39,7 +41,9 @@ import { gatherBlocks, scatterBlocks, validSlabOffsets } from './block-tools.js'
 import { createPreconditioner } from './registry.js';
 
 export function createSlab(system: SystemMatrix, recipe: Recipe): Preconditioner {
-  const inner = recipe.inner ?? DEFAULT_INNER_RECIPE;
+  const given = recipe.inner ?? DEFAULT_INNER_RECIPE;
+  // an outer shift reaches the slab factorizations unless the inner recipe sets its own
+  const inner = recipe.shift > 0 && given.shift === 0 ? { ...given, shift: recipe.shift } : given;
   if (inner.preconditioner === 'slab') {
     throw new UserError(`recipe ${recipe.name}: the slab inner recipe cannot itself use preconditioner slab`);
   }
@@ -136,9 +140,10 @@ export class SlabPreconditioner implements Preconditioner {
       if (!out.ok) {
         const local = out.blockRow ?? 0;
         const blockRow = this.originalBlockRow(this.offsets[s] + local);
+        const what = out.reason === 'zero-pivot' ? 'zero or tiny pivot' : out.reason === 'non-finite' ? 'non-finite value' : out.reason;
         return { ok: false, reason: out.reason, blockRow,
-          message: `slab: slab ${s} (block rows ${this.offsets[s]}..${this.offsets[s + 1] - 1}${this.perm ? ' in component order' : ''}): ` +
-            `inner ${this.inner.preconditioner} failed at block row ${blockRow}: ${out.message}` };
+          message: `slab: ${what} in block row ${blockRow} (slab ${s}, its local block row ${local}) in the inner ` +
+            `${this.inner.preconditioner} setup` + (out.reason === 'zero-pivot' ? '; a diagonal shift (recipe shift > 0) avoids it' : '') };
       }
       const mem = M.memory();
       const bytes = totalBytes(mem);
@@ -251,7 +256,7 @@ export class SlabPreconditioner implements Preconditioner {
       largestSlabBlockRows: largest,
       blocksAboveSlabDiagonal: this.aboveDiagonal,
       inner: { name: this.inner.name, krylov: this.inner.krylov, preconditioner: this.inner.preconditioner,
-        rtol: this.inner.rtol, restart: this.inner.restart, maxIterations: this.inner.maxIterations },
+        rtol: this.inner.rtol, restart: this.inner.restart, maxIterations: this.inner.maxIterations, shift: this.inner.shift },
       variable: this.variable,
       applications: this.applications,
       innerIterationsTotal: this.totalIterations,
