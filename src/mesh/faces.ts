@@ -45,6 +45,7 @@ export function buildFaces(inp: FaceInput): FaceArrays {
   while (cap < 2 * nHalf) cap *= 2;
   const mask = cap - 1;
   const table = new Int32Array(cap).fill(-1);
+  const tableHash = new Int32Array(cap); // full 32-bit hash of the stored key: most probes end without rebuilding a key
   const mate = new Int32Array(nHalf).fill(-1);
   const isPeriodic = new Uint8Array(nHalf);
   const keyA = new Int32Array(D);
@@ -71,7 +72,7 @@ export function buildFaces(inp: FaceInput): FaceArrays {
     }
     hsh = Math.imul(hsh, 0x85ebca6b);
     hsh ^= hsh >>> 13;
-    return hsh & mask;
+    return hsh | 0;
   };
   const sameKey = (a: Int32Array, b: Int32Array): boolean => {
     for (let i = 0; i < D; i++) if (a[i] !== b[i]) return false;
@@ -79,9 +80,11 @@ export function buildFaces(inp: FaceInput): FaceArrays {
   };
   /** Half-face in the table whose key equals `key`, or −1. */
   const lookup = (key: Int32Array): number => {
-    for (let slot = hashKey(key); ; slot = (slot + 1) & mask) {
+    const hk = hashKey(key);
+    for (let slot = hk & mask; ; slot = (slot + 1) & mask) {
       const g = table[slot];
       if (g < 0) return -1;
+      if (tableHash[slot] !== hk) continue;
       faceKey(g, keyB);
       if (sameKey(key, keyB)) return g;
     }
@@ -90,12 +93,13 @@ export function buildFaces(inp: FaceInput): FaceArrays {
   // Pass 1: match half-faces with identical vertex sets.
   for (let h = 0; h < nHalf; h++) {
     faceKey(h, keyA);
-    let slot = hashKey(keyA);
+    const hk = hashKey(keyA);
+    let slot = hk & mask;
     for (;;) {
       const g = table[slot];
-      if (g < 0) { table[slot] = h; break; }
-      faceKey(g, keyB);
-      if (sameKey(keyA, keyB)) {
+      if (g < 0) { table[slot] = h; tableHash[slot] = hk; break; }
+      if (tableHash[slot] === hk) faceKey(g, keyB);
+      if (tableHash[slot] === hk && sameKey(keyA, keyB)) {
         if (mate[g] >= 0) throw new Error(`buildFaces: face of half-face ${h} is shared by more than two elements`);
         mate[g] = h;
         mate[h] = g;

@@ -197,3 +197,72 @@ export function faceOutwardNormal(mesh: SpaceTimeMesh, e: number, localFace: num
   if (aff === undefined) { aff = createElementAffine(D); scratch[D] = aff; }
   return faceOutwardNormalFromAffine(elementAffine(mesh, e, aff), localFace, out);
 }
+
+/**
+ * For a shared face f (faceRight[f] ≥ 0): out[i] = local vertex index, in the RIGHT element, of the
+ * vertex that is vertex i of the left element's face (faceLocalVertices(D, faceLeftLocal[f])[i]).
+ * Matched by vertex id, or for periodic faces by coordinates after adding faceShift (nearest vertex;
+ * face vertices are a cell size apart, so round-off cannot confuse them).
+ */
+export function faceVertexMatch(mesh: SpaceTimeMesh, f: number, out: Int32Array): void {
+  const D = mesh.dim + 1;
+  const nv = D + 1;
+  const eR = mesh.faceRight[f];
+  if (!(f >= 0 && f < mesh.nFaces)) throw new RangeError(`faceVertexMatch: face ${f} out of range 0..${mesh.nFaces - 1}`);
+  if (eR < 0) throw new RangeError(`faceVertexMatch: face ${f} is a boundary face`);
+  const eL = mesh.faceLeft[f];
+  const lv = faceLocalVertices(D, mesh.faceLeftLocal[f]);
+  const rv = faceLocalVertices(D, mesh.faceRightLocal[f]);
+  const { coords, elements, faceShift } = mesh;
+  for (let i = 0; i < D; i++) {
+    const vl = elements[eL * nv + lv[i]];
+    let best = -1;
+    let bestDist = Infinity;
+    for (let j = 0; j < D; j++) {
+      const vr = elements[eR * nv + rv[j]];
+      if (vr === vl) { best = rv[j]; break; }
+      let dist = 0;
+      for (let k = 0; k < D; k++) {
+        const diff = coords[vl * D + k] + faceShift[f * D + k] - coords[vr * D + k];
+        dist += diff * diff;
+      }
+      if (dist < bestDist) { bestDist = dist; best = rv[j]; }
+    }
+    out[i] = best;
+  }
+}
+
+const matchScratch = new Int32Array(4);
+
+/**
+ * Maps nPoints points η of the face reference simplex (unit (D−1)-simplex, D−1 coordinates each,
+ * whose vertex i is vertex i of faceLocalVertices(D, faceLeftLocal[f])) to reference coordinates of
+ * the left element (outLeft) and, for a shared face, of the right element (outRight); D per point.
+ * The same η is the same space-time point on both sides (up to faceShift on periodic faces).
+ * Physical face integrals: ∫_F g = measure·(D−1)!·Σ_q w_q g(x_q) with a rule on the unit (D−1)-simplex.
+ */
+export function facePointsToElements(
+  mesh: SpaceTimeMesh, f: number, eta: Float64Array, nPoints: number,
+  outLeft: Float64Array, outRight: Float64Array | null,
+): void {
+  const D = mesh.dim + 1;
+  const lv = faceLocalVertices(D, mesh.faceLeftLocal[f]);
+  const shared = mesh.faceRight[f] >= 0 && outRight !== null;
+  if (shared) faceVertexMatch(mesh, f, matchScratch);
+  for (let q = 0; q < nPoints; q++) {
+    const o = q * D;
+    for (let i = 0; i < D; i++) { outLeft[o + i] = 0; if (shared) outRight![o + i] = 0; }
+    for (let i = 0; i < D; i++) {
+      // barycentric weight of face vertex i: b_0 = 1 − Ση, b_i = η_{i−1}
+      let b: number;
+      if (i === 0) {
+        b = 1;
+        for (let j = 0; j < D - 1; j++) b -= eta[q * (D - 1) + j];
+      } else {
+        b = eta[q * (D - 1) + i - 1];
+      }
+      if (lv[i] > 0) outLeft[o + lv[i] - 1] += b;
+      if (shared && matchScratch[i] > 0) outRight![o + matchScratch[i] - 1] += b;
+    }
+  }
+}
