@@ -1,12 +1,208 @@
 import type { Command } from 'commander';
-import { UserError } from '../util/errors.js';
+import { loadSystem, type LoadedSystem } from '../sparse/load.js';
+import { readMatrixMarketVector } from '../sparse/matrix-market.js';
+import { csrSpmv } from '../sparse/csr.js';
+import {
+  RECIPE_FIELDS, RECIPE_FLAGS, describeRecipeField, recipeFromOptions, type Recipe,
+} from '../solvers/recipe.js';
+import { solveSystem } from '../solvers/run-recipe.js';
+import type { SolveResult } from '../solvers/types.js';
+import { EXIT, fileError, optionError } from '../util/errors.js';
+import { writeFileAtomic } from '../util/atomic-write.js';
 
-// PLACEHOLDER: replaced by the owner of this command.
+/** What each recipe option means (the accepted values come from the recipe validator). */
+const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
+  krylov: 'iterative method; none = stationary iteration x ← x + ω M⁻¹(b − Ax) (default gmres)',
+  restart: 'GMRES/FGMRES basis vectors per cycle (default 30)',
+  side: 'GMRES preconditioning side: right monitors ‖b − Ax‖, left monitors ‖M⁻¹(b − Ax)‖ (default right)',
+  orthogonalization: 'Gram–Schmidt variant: mgs = modified, cgs2 = classical with one reorthogonalization (default mgs)',
+  preconditioner: 'preconditioner (default none)',
+  sweep: 'block Gauss–Seidel sweep direction; symmetric = forward then backward (default forward)',
+  ordering: 'block ordering for block-gs and block-ilu0 (default natural)',
+  omega: 'relaxation: inside block-gs (SOR), else the stationary step factor (default 1)',
+  sweeps: 'block Gauss–Seidel sweeps per application (default 1)',
+  shift: 'diagonal shift added before factorizing; 0 = a zero pivot fails the run (default 0)',
+  blockInverse: 'block-jacobi diagonal blocks: LU with partial pivoting, or explicit inverses (default lu)',
+  rtol: 'stop when the monitored ‖r‖ ≤ rtol · baseline norm (default 1e-8)',
+  atol: 'or when the monitored ‖r‖ ≤ atol; 0 disables (default 0)',
+  maxIterations: 'maximum inner iterations in total, whatever the restart (default 1000)',
+  divergence: 'stop as diverged when ‖r‖ > divergence · baseline norm (default 1e10)',
+  baseline: 'relative to ‖b‖ (rhs) or to the initial residual (default rhs)',
+};
+
+interface SolveCommandOptions {
+  rhs?: string;
+  blockSize?: string;
+  layout?: string;
+  json?: string;
+  [recipeOption: string]: unknown;
+}
+
+/** The `--json` document: the SolveResult fields at the top level, plus what was solved and how. */
+export interface SolveReport extends SolveResult {
+  schema: 'slabbench-solve/1';
+  matrix: { file: string; n: number; nnz: number; bs: number; blockSizeSource: string; nSlabs: number | null };
+  rhs: { source: 'file'; file: string } | { source: 'A·1' };
+  recipe: Recipe;
+  /** Only when b = A·1 (exact solution all ones): max |x_i − 1| and ‖x − 1‖₂/‖1‖₂. */
+  errorVsOnes?: { max: number; relative2: number };
+}
+
+export function solveReportJson(r: SolveReport): string {
+  return JSON.stringify(r, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2);
+}
+
+function bytes(n: number): string {
+  if (n < 1024) return `${n} B`;
+  const units = ['KiB', 'MiB', 'GiB', 'TiB'];
+  let v = n / 1024, u = 0;
+  while (v >= 1024 && u < units.length - 1) { v /= 1024; u++; }
+  return `${v.toFixed(v < 10 ? 2 : 1)} ${units[u]}`;
+}
+
+function num(x: number, digits = 3): string {
+  if (Number.isNaN(x)) return 'NaN';
+  if (!Number.isFinite(x)) return x > 0 ? '∞' : '−∞';
+  if (x === 0) return '0';
+  const a = Math.abs(x);
+  return a >= 1e-3 && a < 1e6 ? String(Number(x.toPrecision(digits))) : x.toExponential(digits - 1);
+}
+
+function recipeText(r: Recipe): string {
+  const method = r.krylov === 'none' ? 'stationary iteration'
+    : r.krylov === 'bicgstab' ? 'bicgstab'
+      : `${r.krylov}(${r.restart}, ${r.krylov === 'fgmres' ? 'right' : r.side}, ${r.orthogonalization})`;
+  let pc = r.preconditioner;
+  if (r.preconditioner === 'block-gs') pc += ` (${r.sweep} ×${r.sweeps}, ω ${r.omega}, ${r.ordering})`;
+  if (r.preconditioner === 'block-ilu0') pc += ` (${r.ordering})`;
+  if (r.preconditioner === 'slab' && r.inner) pc += ` [inner: ${recipeText(r.inner)}, rtol ${num(r.inner.rtol)}]`;
+  if (r.shift !== 0) pc += `, shift ${r.shift}`;
+  return `${method} + ${pc}`;
+}
+
+/** The short human summary. */
+export function formatSolveReport(rep: SolveReport): string {
+  const lines: string[] = [];
+  const row = (label: string, text: string): void => { lines.push(`  ${label.padEnd(15)}${text}`); };
+  const m = rep.matrix;
+  lines.push(`${m.file}: ${m.n} × ${m.n}, ${m.nnz} nonzeros, block size ${m.bs} (${m.blockSizeSource})${m.nSlabs ? `, ${m.nSlabs} slabs` : ''}`);
+  row('recipe', `${recipeText(rep.recipe)}; rtol ${num(rep.recipe.rtol)}${rep.recipe.atol ? `, atol ${num(rep.recipe.atol)}` : ''}, at most ${rep.recipe.maxIterations} iterations`);
+  row('result', `${rep.reason} after ${rep.iterations} iteration${rep.iterations === 1 ? '' : 's'} (${rep.restarts} restart${rep.restarts === 1 ? '' : 's'})`);
+  if (rep.failure) row('failure', `${rep.failure.message}${rep.failure.blockRow !== undefined ? ` [block row ${rep.failure.blockRow}]` : ''}`);
+  const base = rep.baseline === 'rhs' ? '‖b‖' : '‖r₀‖';
+  const monitored = rep.monitored === 'true' ? 'true residual' : 'preconditioned residual ‖M⁻¹r‖';
+  row('residual', `true ‖b − Ax‖/${base} = ${num(rep.trueRelativeResidual)}; monitored: ${monitored}, last ${num(rep.history[rep.history.length - 1])}`);
+  if (rep.residualMismatch) row('warning', 'a recursive residual estimate and the recomputed residual disagreed by more than 10× (see residualChecks)');
+  if (rep.errorVsOnes) row('error', `b = A·1: max |x − 1| = ${num(rep.errorVsOnes.max)}, ‖x − 1‖/‖1‖ = ${num(rep.errorVsOnes.relative2)}`);
+  const t = rep.timing;
+  row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
+    + (t.preconditionerApplications > 0 ? ` (${t.preconditionerApplications} preconditioner applications, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
+  const mem = rep.memory;
+  row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
+  if (rep.ritz && rep.ritz.re.length > 0) {
+    const re = rep.ritz.re;
+    const imMax = Math.max(...rep.ritz.im.map(Math.abs));
+    row('ritz values', `${re.length}, real parts ${num(re[0])} … ${num(re[re.length - 1])}, max |imag| ${num(imMax)}`);
+  }
+  return lines.join('\n');
+}
+
+function parseBlockSize(v: string): number {
+  if (!/^\d+$/.test(v.trim()) || Number(v) < 1) throw optionError('--block-size', `expected a positive integer, got "${v}"`);
+  return Number(v);
+}
+
+/** True when the slab preconditioner's inner solve makes M change between applications. */
+function variableSlab(r: Recipe): boolean {
+  return r.preconditioner === 'slab' && !!r.inner && !(r.inner.krylov === 'none' && r.inner.maxIterations === 1);
+}
+
+export async function runSolve(file: string, opts: SolveCommandOptions): Promise<SolveReport> {
+  const recipe = recipeFromOptions(opts);
+  const blockSize = opts.blockSize === undefined ? undefined : parseBlockSize(opts.blockSize);
+  const sys: LoadedSystem = await loadSystem(file, { blockSize, layoutPath: opts.layout });
+  const n = sys.csr.nRows;
+  if (sys.csr.nCols !== n) throw fileError(file, undefined, `solve needs a square matrix, got ${n}×${sys.csr.nCols}`);
+  let b: Float64Array;
+  if (opts.rhs !== undefined) {
+    b = await readMatrixMarketVector(opts.rhs);
+    if (b.length !== n) throw fileError(opts.rhs, undefined, `right-hand side has length ${b.length}, expected ${n} (the matrix size)`);
+  } else {
+    b = new Float64Array(n);
+    csrSpmv(sys.csr, new Float64Array(n).fill(1), b);
+  }
+  if (variableSlab(recipe) && recipe.krylov !== 'fgmres') {
+    process.stderr.write(`slabbench: note: the slab preconditioner with an iterative inner solve changes between applications; --krylov fgmres is the method made for that\n`);
+  }
+  const progress = process.stderr.isTTY && opts.json !== '-';
+  let last = 0;
+  const onIteration = progress
+    ? (it: number, rel: number): void => {
+      const now = Date.now();
+      if (now - last > 250) { last = now; process.stderr.write(`\r  iteration ${it}, relative residual ${num(rel)}   `); }
+    }
+    : undefined;
+  const { result, x } = solveSystem(sys, b, recipe, { onIteration });
+  if (progress && last > 0) process.stderr.write('\r\x1b[K');
+  const report: SolveReport = {
+    schema: 'slabbench-solve/1',
+    ...result,
+    matrix: {
+      file, n, nnz: sys.csr.rowPtr[n], bs: sys.bs, blockSizeSource: sys.blockSizeSource,
+      nSlabs: sys.slabOffsets ? sys.slabOffsets.length - 1 : null,
+    },
+    rhs: opts.rhs !== undefined ? { source: 'file', file: opts.rhs } : { source: 'A·1' },
+    recipe,
+  };
+  if (opts.rhs === undefined) {
+    let max = 0, sq = 0;
+    for (let i = 0; i < n; i++) { const e = Math.abs(x[i] - 1); if (!(e <= max)) max = e; sq += e * e; }
+    report.errorVsOnes = { max, relative2: n > 0 ? Math.sqrt(sq / n) : 0 };
+  }
+  return report;
+}
+
 export function registerSolve(program: Command): void {
-  program
+  const cmd = program
     .command('solve')
-    .description('(not built yet)')
-    .action(() => {
-      throw new UserError('solve is not built yet');
-    });
+    .description('Solve A x = b with one recipe (Krylov method + preconditioner) and report iterations, residuals, time and memory.')
+    .argument('<file>', 'matrix file (.mtx or .mtx.gz); NAME.layout.json beside it is used when present')
+    .option('--rhs <file>', 'right-hand side (Matrix Market vector or n×1 matrix); default b = A·1, so the exact solution is all ones')
+    .option('--block-size <n>', 'block size when there is no layout (default: detected from the pattern)')
+    .option('--layout <file>', 'layout file to use instead of NAME.layout.json')
+    .option('--json <file>', 'write the full result as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)');
+  for (const field of RECIPE_FIELDS) {
+    cmd.option(`--${RECIPE_FLAGS[field]} <value>`, `${FIELD_HELP[field]}; ${describeRecipeField(field)}`);
+  }
+  for (const field of RECIPE_FIELDS) {
+    cmd.option(`--inner-${RECIPE_FLAGS[field]} <value>`, `slab inner recipe: as --${RECIPE_FLAGS[field]}`);
+  }
+  cmd.addHelpText('after', `
+Inner recipe (--precond slab only): every recipe option has an --inner-… twin that sets how each
+slab is solved; inner defaults: gmres(30) + block-ilu0, rtol 1e-10, at most 500 iterations.
+
+Stopping: converged when ‖b − Ax‖ ≤ rtol·‖b‖ (x₀ = 0) under right preconditioning (the default);
+with --side left the preconditioned residual ‖M⁻¹(b − Ax)‖ ≤ rtol·‖M⁻¹b‖ is monitored instead.
+The true residual is recomputed at every restart and at the end and reported either way.
+
+Examples:
+  $ slabbench solve duct.mtx
+  $ slabbench solve duct.mtx --precond block-ilu0 --order mdf --restart 50 --rtol 1e-10
+  $ slabbench solve tank.mtx --rhs tank-rhs.mtx --krylov bicgstab --precond block-jacobi --block-size 6
+  $ slabbench solve corridor.mtx --krylov none --precond block-gs --sweep symmetric --omega 1.2
+  $ slabbench solve channel.mtx --krylov fgmres --precond slab --inner-krylov gmres --inner-precond block-ilu0 --inner-rtol 1e-6
+  $ slabbench solve room.mtx --precond ilu0 --json - | jq .iterations
+
+Exit codes: 0 converged, 1 not converged (iteration limit, diverged, breakdown, non-finite,
+preconditioner failed), 2 unreadable or malformed input or bad option, 3 internal error.`);
+  cmd.action(async (file: string, opts: SolveCommandOptions) => {
+    const report = await runSolve(file, opts);
+    if (opts.json === '-') {
+      process.stdout.write(`${solveReportJson(report)}\n`);
+    } else {
+      if (opts.json !== undefined) await writeFileAtomic(opts.json, `${solveReportJson(report)}\n`);
+      process.stdout.write(`${formatSolveReport(report)}\n`);
+    }
+    process.exitCode = report.converged ? EXIT.ok : EXIT.failed;
+  });
 }
