@@ -83,6 +83,7 @@ export const MAX_MESH_ELEMENTS = 20_000_000;
 export function normalizeSlabMeshOptions(opts: SlabMeshOptions, where?: string): Required<SlabMeshOptions> {
   const name = (field: string): string => (where === undefined ? `mesh option ${field}` : `${where}.${field}`);
   const fail = (field: string, what: string): never => { throw new UserError(`${name(field)}: ${what}`); };
+  const show = (x: unknown): string => (typeof x === 'number' ? String(x) : JSON.stringify(x) ?? String(x));
   if (typeof opts !== 'object' || opts === null) throw new UserError(`${where ?? 'mesh options'}: expected an object`);
   const dim = opts.dim;
   if (dim !== 1 && dim !== 2 && dim !== 3) fail('dim', `expected 1, 2 or 3, got ${String(dim)}`);
@@ -90,24 +91,24 @@ export function normalizeSlabMeshOptions(opts: SlabMeshOptions, where?: string):
     if (!Array.isArray(v)) fail(field, `expected an array of ${dim} entries, each ${what}`);
     const a = v as unknown[];
     if (a.length !== dim) fail(field, `expected ${dim} entries (one per space axis), got ${a.length}`);
-    a.forEach((x, i) => { if (!check(x)) fail(`${field}[${i}]`, `expected ${what}, got ${JSON.stringify(x)}`); });
+    a.forEach((x, i) => { if (!check(x)) fail(`${field}[${i}]`, `expected ${what}, got ${show(x)}`); });
   };
   const posInt = (x: unknown): boolean => typeof x === 'number' && Number.isInteger(x) && x >= 1;
   const posFinite = (x: unknown): boolean => typeof x === 'number' && Number.isFinite(x) && x > 0;
   arrayOf('cells', opts.cells, posInt, 'a positive integer');
   const extent = opts.extent ?? new Array<number>(dim).fill(1);
   arrayOf('extent', extent, posFinite, 'a positive number');
-  if (!posInt(opts.nSlabs)) fail('nSlabs', `expected a positive integer, got ${JSON.stringify(opts.nSlabs)}`);
-  if (!posInt(opts.layersPerSlab)) fail('layersPerSlab', `expected a positive integer, got ${JSON.stringify(opts.layersPerSlab)}`);
-  if (!posFinite(opts.slabThickness)) fail('slabThickness', `expected a positive number, got ${JSON.stringify(opts.slabThickness)}`);
+  if (!posInt(opts.nSlabs)) fail('nSlabs', `expected a positive integer, got ${show(opts.nSlabs)}`);
+  if (!posInt(opts.layersPerSlab)) fail('layersPerSlab', `expected a positive integer, got ${show(opts.layersPerSlab)}`);
+  if (!posFinite(opts.slabThickness)) fail('slabThickness', `expected a positive number, got ${show(opts.slabThickness)}`);
   arrayOf('periodic', opts.periodic, (x) => typeof x === 'boolean', 'true or false');
   const shear = opts.shear ?? new Array<number>(dim).fill(0);
   arrayOf('shear', shear, (x) => typeof x === 'number' && Number.isFinite(x), 'a finite number');
   const jitter = opts.jitter ?? 0;
-  if (typeof jitter !== 'number' || !(jitter >= 0 && jitter < 0.5)) fail('jitter', `expected a number in [0, 0.5), got ${JSON.stringify(jitter)}`);
+  if (typeof jitter !== 'number' || !(jitter >= 0 && jitter < 0.5)) fail('jitter', `expected a number in [0, 0.5), got ${show(jitter)}`);
   const seed = opts.seed ?? 1;
   if (typeof seed !== 'number' || !Number.isInteger(seed) || seed < 0 || seed > 0xffffffff) {
-    fail('seed', `expected an integer in 0..4294967295, got ${JSON.stringify(seed)}`);
+    fail('seed', `expected an integer in 0..4294967295, got ${show(seed)}`);
   }
   const D = dim + 1;
   let nBoxes = opts.nSlabs * opts.layersPerSlab;

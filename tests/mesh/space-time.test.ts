@@ -299,7 +299,7 @@ describe('buildSlabMesh: option validation', () => {
     [{ nSlabs: 0 }, /^mesh option nSlabs: expected a positive integer, got 0$/],
     [{ layersPerSlab: -2 }, /^mesh option layersPerSlab: expected a positive integer/],
     [{ slabThickness: 0 }, /^mesh option slabThickness: expected a positive number, got 0$/],
-    [{ slabThickness: Number.NaN }, /^mesh option slabThickness: expected a positive number/],
+    [{ slabThickness: Number.NaN }, /^mesh option slabThickness: expected a positive number, got NaN$/],
     [{ periodic: [true] }, /^mesh option periodic: expected 2 entries/],
     [{ shear: [1, 2, 3] }, /^mesh option shear: expected 2 entries/],
     [{ jitter: 0.5 }, /^mesh option jitter: expected a number in \[0, 0.5\), got 0.5$/],
