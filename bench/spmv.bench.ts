@@ -1,0 +1,128 @@
+/**
+ * BSR SpMV effective bandwidth (issue 2 target: ≥ 70% of a plain streaming loop, same run).
+ *
+ *   npx tsx bench/spmv.bench.ts [--quick]
+ *
+ * Main figure: bs = 40 on a block pattern shaped like a 2D+t DG discretisation (invented test
+ * pattern): a periodic 12×12 grid of squares split into two triangles, 9 time layers, each block
+ * row coupled to itself, its 3 face neighbours and the same element one layer earlier (upwind in
+ * time) — 2592 block rows, 12672 blocks, 20.3 million stored values, built in memory.
+ * Bytes moved per product: values + colInd + rowPtr + x + y (each read or written once).
+ * The streaming baseline is the triad of bench/stream.ts, measured in the same tinybench run.
+ * Second table (skipped with --quick): the dispatching kernel against the plain triple loop for
+ * smaller block sizes on the same kind of pattern (~8 million stored values each), to show which
+ * fast paths pay off. Figures only; no assertions.
+ */
+import { Bench } from 'tinybench';
+import { bsrSpmvKernel, bsrSpmvReferenceKernel, bsrBytes } from '../src/sparse/bsr.js';
+import type { Bsr } from '../src/sparse/types.js';
+import { addStreamTask, gbPerSecond, streamArrays } from './stream.js';
+
+/** Seeded generator (mulberry32, common practice). */
+function rng(seed: number): () => number {
+  let s = seed >>> 0;
+  return () => {
+    s = (s + 0x6d2b79f5) >>> 0;
+    let t = s;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/**
+ * Block pattern of upwind-in-time DG on a periodic triangulated nx×ny grid with nLayers time
+ * layers, numbered layer by layer. Lower triangle L(i,j) and upper U(i,j) share the diagonal of
+ * square (i,j); L touches U(i,j−1) below and U(i−1,j) on the left, U touches L(i,j+1) and L(i+1,j).
+ */
+export function dgPattern(nx: number, ny: number, nLayers: number, bs: number, seed = 1): Bsr {
+  const perLayer = 2 * nx * ny;
+  const n = perLayer * nLayers;
+  const id = (i: number, j: number, upper: number): number => 2 * (((j + ny) % ny) * nx + ((i + nx) % nx)) + upper;
+  const rowPtr = new Int32Array(n + 1);
+  const cols: number[] = [];
+  const row: number[] = [];
+  for (let t = 0; t < nLayers; t++) {
+    for (let j = 0; j < ny; j++) {
+      for (let i = 0; i < nx; i++) {
+        for (let upper = 0; upper < 2; upper++) {
+          const e = id(i, j, upper);
+          row.length = 0;
+          row.push(e, id(i, j, 1 - upper));
+          if (upper === 0) row.push(id(i, j - 1, 1), id(i - 1, j, 1));
+          else row.push(id(i, j + 1, 0), id(i + 1, j, 0));
+          const base = t * perLayer;
+          const blockCols = row.map((c) => base + c);
+          if (t > 0) blockCols.push(base - perLayer + e);
+          blockCols.sort((a, b) => a - b);
+          const I = base + e;
+          for (const c of blockCols) cols.push(c);
+          rowPtr[I + 1] = blockCols.length; // counts first (rows come out in element order, not I order)
+        }
+      }
+    }
+  }
+  // rows were appended in (t, j, i, upper) order, which is I order since id() is row-major in (j, i)
+  for (let I = 0; I < n; I++) rowPtr[I + 1] += rowPtr[I];
+  const colInd = Int32Array.from(cols);
+  const values = new Float64Array(colInd.length * bs * bs);
+  const r = rng(seed);
+  for (let k = 0; k < values.length; k++) values[k] = r() * 2 - 1;
+  return { nBlockRows: n, nBlockCols: n, bs, rowPtr, colInd, values };
+}
+
+/** Bytes one product moves: the three BSR arrays plus x read and y written once. */
+function spmvBytes(a: Bsr): number {
+  return bsrBytes(a) + 2 * a.nBlockRows * a.bs * 8;
+}
+
+function fmt(x: number, d = 2): string {
+  return Number.isFinite(x) ? x.toFixed(d) : 'n/a';
+}
+
+async function main(): Promise<void> {
+  const quick = process.argv.includes('--quick');
+  const a = dgPattern(12, 12, 9, 40);
+  const n = a.nBlockRows * a.bs;
+  const x = new Float64Array(n).map((_, i) => Math.sin(i));
+  const y = new Float64Array(n);
+  const stream = streamArrays();
+  const bench = new Bench({ name: 'spmv', time: quick ? 800 : 2000, warmupTime: 300 });
+  addStreamTask(bench, stream);
+  bench.add('bsr spmv bs 40', () => bsrSpmvKernel(a.nBlockRows, a.bs, a.rowPtr, a.colInd, a.values, x, y));
+  bench.add('bsr spmv bs 40, plain triple loop', () => bsrSpmvReferenceKernel(a.nBlockRows, a.bs, a.rowPtr, a.colInd, a.values, x, y));
+  process.stderr.write('running bs 40 …\n');
+  await bench.run();
+  const triad = gbPerSecond(bench.tasks[0], stream.bytes);
+  const fast = gbPerSecond(bench.tasks[1], spmvBytes(a));
+  const plain = gbPerSecond(bench.tasks[2], spmvBytes(a));
+  const nBlocks = a.rowPtr[a.nBlockRows];
+  console.log(`BSR SpMV, bs 40: ${a.nBlockRows} block rows, ${nBlocks} blocks (${fmt(nBlocks / a.nBlockRows)} per row), `
+    + `${a.values.length} stored values, ${fmt(spmvBytes(a) / 1e6, 1)} MB moved per product`);
+  console.log(`  stream triad (plain Float64Array loop)   ${fmt(triad)} GB/s`);
+  console.log(`  bsrSpmv (tiled generic path)             ${fmt(fast)} GB/s   ratio to triad ${fmt(fast / triad)}   (target ≥ 0.70)`);
+  console.log(`  plain triple loop (reference kernel)     ${fmt(plain)} GB/s   ratio to triad ${fmt(plain / triad)}`);
+  if (quick) return;
+
+  const rows: string[] = [];
+  for (const bs of [1, 2, 3, 4, 6, 10, 20]) {
+    // ~8 million stored values: about 4.9 blocks per row on a square periodic grid with 9 layers
+    const side = Math.max(2, Math.round(Math.sqrt(8e6 / (4.9 * bs * bs * 9 * 2))));
+    const m = dgPattern(side, side, 9, bs, bs);
+    const xm = new Float64Array(m.nBlockRows * bs).map((_, i) => Math.cos(i));
+    const ym = new Float64Array(m.nBlockRows * bs);
+    const b2 = new Bench({ name: `spmv bs ${bs}`, time: 700, warmupTime: 150 });
+    b2.add('fast', () => bsrSpmvKernel(m.nBlockRows, bs, m.rowPtr, m.colInd, m.values, xm, ym));
+    b2.add('plain', () => bsrSpmvReferenceKernel(m.nBlockRows, bs, m.rowPtr, m.colInd, m.values, xm, ym));
+    process.stderr.write(`running bs ${bs} …\n`);
+    await b2.run();
+    const gf = gbPerSecond(b2.tasks[0], spmvBytes(m));
+    const gp = gbPerSecond(b2.tasks[1], spmvBytes(m));
+    rows.push(`  ${String(bs).padStart(3)}  ${String(m.values.length).padStart(9)}  ${fmt(gf).padStart(6)}  ${fmt(gp).padStart(6)}  ${fmt(gf / gp).padStart(5)}  ${fmt(gf / triad).padStart(5)}`);
+  }
+  console.log('\nFast path against the plain triple loop (GB/s, same run):');
+  console.log('   bs     values    fast   plain  speedup  fast/triad');
+  for (const r of rows) console.log(r);
+}
+
+await main();

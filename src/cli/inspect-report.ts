@@ -1,0 +1,157 @@
+import type { LoadedSystem, BlockSizeSource } from '../sparse/system.js';
+import { csrMemory } from '../sparse/csr.js';
+import { bsrMemory } from '../sparse/bsr.js';
+import {
+  blockDiagonalDominance, blocksAboveSlabDiagonal, blocksPerRow, detectBlockSize, stronglyConnectedBlocks,
+  symmetryInfo, type BlockDominance, type BlockSizeDetection,
+} from '../sparse/structure.js';
+
+/** Everything `inspect` reports; `--json` prints exactly this (non-finite numbers as null). */
+export interface InspectReport {
+  file: string;
+  format: { object: string; format: string; field: string; symmetry: string };
+  nRows: number;
+  nCols: number;
+  nnz: number;
+  /** Stored entries whose value is exactly 0 (they stay in the pattern). */
+  explicitZeros: number;
+  symmetry: { patternSymmetric: boolean; numericallySymmetric: boolean; maxAsymmetry: number };
+  blockSize: {
+    bs: number;
+    source: BlockSizeSource;
+    layoutFile: string | null;
+    fillRatio: number;
+    /** What pattern detection finds, whatever the source of bs. */
+    detected: BlockSizeDetection;
+  };
+  blocks: { nBlockRows: number; nBlocks: number; perRow: { min: number; mean: number; max: number } };
+  dominance: BlockDominance;
+  /** From the layout's slabOffsets; null without them. */
+  slabs: { nSlabs: number; minBlockRows: number; maxBlockRows: number; blocksAboveSlabDiagonal: number; blockLowerTriangular: boolean } | null;
+  components: { nComponents: number; largestBlockRows: number; givenOrderBlockLowerTriangular: boolean };
+  storage: { csr: Record<string, number>; bsr: Record<string, number>; csrBytes: number; bsrBytes: number };
+}
+
+function sum(r: Record<string, number>): number {
+  return Object.values(r).reduce((a, b) => a + b, 0);
+}
+
+export function buildInspectReport(sys: LoadedSystem): InspectReport {
+  const { csr, bsr, header } = sys;
+  const nnz = csr.rowPtr[csr.nRows];
+  let explicitZeros = 0;
+  for (let k = 0; k < nnz; k++) if (csr.values[k] === 0) explicitZeros++;
+  const sym = symmetryInfo(csr);
+  const comps = stronglyConnectedBlocks(bsr);
+  let slabs: InspectReport['slabs'] = null;
+  if (sys.slabOffsets !== undefined) {
+    const off = sys.slabOffsets;
+    let minRows = Number.POSITIVE_INFINITY, maxRows = 0;
+    for (let s = 0; s + 1 < off.length; s++) {
+      const len = off[s + 1] - off[s];
+      if (len < minRows) minRows = len;
+      if (len > maxRows) maxRows = len;
+    }
+    const above = blocksAboveSlabDiagonal(bsr, off);
+    slabs = { nSlabs: off.length - 1, minBlockRows: minRows, maxBlockRows: maxRows, blocksAboveSlabDiagonal: above, blockLowerTriangular: above === 0 };
+  }
+  const csrBuf = csrMemory(csr);
+  const bsrBuf = bsrMemory(bsr);
+  return {
+    file: sys.path,
+    format: { object: header.object, format: header.format, field: header.field, symmetry: header.symmetry },
+    nRows: csr.nRows,
+    nCols: csr.nCols,
+    nnz,
+    explicitZeros,
+    symmetry: { patternSymmetric: sym.patternSymmetric, numericallySymmetric: sym.maxAsymmetry === 0, maxAsymmetry: sym.maxAsymmetry },
+    blockSize: {
+      bs: sys.bs,
+      source: sys.blockSizeSource,
+      layoutFile: sys.layoutPath ?? null,
+      fillRatio: sys.fillRatio,
+      detected: sys.detection ?? detectBlockSize(csr),
+    },
+    blocks: { nBlockRows: bsr.nBlockRows, nBlocks: bsr.rowPtr[bsr.nBlockRows], perRow: blocksPerRow(bsr) },
+    dominance: blockDiagonalDominance(bsr),
+    slabs,
+    components: {
+      nComponents: comps.nComponents,
+      largestBlockRows: comps.largestComponent,
+      givenOrderBlockLowerTriangular: comps.isBlockLowerTriangular,
+    },
+    storage: { csr: csrBuf, bsr: bsrBuf, csrBytes: sum(csrBuf), bsrBytes: sum(bsrBuf) },
+  };
+}
+
+/** JSON with NaN/±Infinity as null, so the output parses anywhere. */
+export function inspectReportJson(r: InspectReport): string {
+  return JSON.stringify(r, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2);
+}
+
+function bytes(n: number): string {
+  if (n < 1024) return `${n} B`;
+  const units = ['KiB', 'MiB', 'GiB', 'TiB'];
+  let v = n / 1024, u = 0;
+  while (v >= 1024 && u < units.length - 1) { v /= 1024; u++; }
+  return `${v.toFixed(v < 10 ? 2 : 1)} ${units[u]}`;
+}
+
+function num(x: number, digits = 3): string {
+  if (Number.isNaN(x)) return 'n/a';
+  if (!Number.isFinite(x)) return x > 0 ? '∞' : '−∞';
+  if (x === 0) return '0';
+  const a = Math.abs(x);
+  return a >= 1e-3 && a < 1e6 ? String(Number(x.toPrecision(digits))) : x.toExponential(digits - 1);
+}
+
+function plural(n: number, one: string, many = `${one}s`): string {
+  return `${n} ${n === 1 ? one : many}`;
+}
+
+function buffers(total: number, parts: Record<string, number>): string {
+  return `${bytes(total)} (${Object.entries(parts).map(([k, v]) => `${k} ${bytes(v)}`).join(', ')})`;
+}
+
+/** Human-readable report, one fact per line. */
+export function formatInspectReport(r: InspectReport): string {
+  const lines: string[] = [r.file];
+  const row = (label: string, text: string): void => { lines.push(`  ${label.padEnd(18)}${text}`); };
+  row('size', `${r.nRows} × ${r.nCols}, ${r.nnz} nonzeros (${r.explicitZeros} explicit zeros)`);
+  row('stored as', `${r.format.format} ${r.format.field} ${r.format.symmetry}`);
+  const s = r.symmetry;
+  row('symmetry', s.numericallySymmetric
+    ? 'symmetric'
+    : `not symmetric (pattern ${s.patternSymmetric ? 'symmetric' : 'not symmetric'}; max |a_ij − a_ji| / max |a_ij| = ${num(s.maxAsymmetry)})`);
+  const b = r.blockSize;
+  const source = b.source === 'layout' ? `from layout ${b.layoutFile}`
+    : b.source === 'option' ? 'from --block-size'
+      : b.source === 'detected' ? 'detected from the pattern' : 'no blocks found (scalar)';
+  const det = b.detected;
+  const detText = b.source === 'detected' || b.source === 'none' ? ''
+    : `; pattern detection gives ${det.bs}`;
+  const partial = det.bestPartial ? `; best partial fill: bs ${det.bestPartial.bs} at ${num(det.bestPartial.fillRatio, 4)}` : '';
+  row('block size', `${b.bs} ${source}, fill ratio ${num(b.fillRatio, 4)}${detText}${partial}`);
+  const p = r.blocks.perRow;
+  row('blocks', `${plural(r.blocks.nBlockRows, 'block row')}, ${plural(r.blocks.nBlocks, 'block')}; per block row min ${p.min}, mean ${num(p.mean)}, max ${p.max}`);
+  const d = r.dominance;
+  row('block dominance', `ρ_I = ‖A_II⁻¹‖∞·Σ_J≠I ‖A_IJ‖∞: max ${num(d.max)}, mean ${num(d.mean)}; `
+    + `${d.nDominant} of ${r.blocks.nBlockRows} block rows dominant (ρ < 1)`
+    + (d.nSingular > 0 ? `; ${d.nSingular} with a missing or singular diagonal block` : ''));
+  if (r.slabs) {
+    const sl = r.slabs;
+    const sizes = sl.minBlockRows === sl.maxBlockRows ? `${sl.minBlockRows}` : `${sl.minBlockRows}–${sl.maxBlockRows}`;
+    row('slabs (layout)', `${plural(sl.nSlabs, 'slab')} of ${sizes} block rows; `
+      + (sl.blockLowerTriangular ? 'no block above the slab diagonal' : `${plural(sl.blocksAboveSlabDiagonal, 'block')} above the slab diagonal`));
+  } else {
+    row('slabs (layout)', 'none (no layout with slabOffsets)');
+  }
+  const c = r.components;
+  row('components', `${plural(c.nComponents, 'strongly connected component')}, largest ${plural(c.largestBlockRows, 'block row')}; `
+    + `given order ${c.givenOrderBlockLowerTriangular ? 'is' : 'is not'} block lower triangular`);
+  const st = r.storage;
+  row('storage CSR', buffers(st.csrBytes, st.csr));
+  row('storage BSR', `${buffers(st.bsrBytes, st.bsr)}; BSR/CSR ${num(st.bsrBytes / st.csrBytes)}`);
+  return lines.join('\n');
+}
+
