@@ -5,7 +5,7 @@
 import { Worker } from 'node:worker_threads';
 import { createRequire } from 'node:module';
 import { existsSync, mkdirSync, readFileSync } from 'node:fs';
-import { join, relative, resolve, isAbsolute, sep } from 'node:path';
+import { dirname, join, relative, resolve, isAbsolute, sep } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { writeFileAtomicSync } from '../util/atomic-write.js';
 import { UserError } from '../util/errors.js';
@@ -90,16 +90,24 @@ function displayPath(outDir: string, p: string): string {
   return rel === '' || isAbsolute(rel) ? p : rel.split(sep).join('/');
 }
 
-function tsxLoaderUrl(): string {
+/** tsx's programmatic ESM API (only needed when running from the .ts sources). */
+function tsxApiUrl(): string {
   const req = createRequire(import.meta.url);
-  return pathToFileURL(req.resolve('tsx')).href;
+  const pkg = req.resolve('tsx/package.json');
+  return pathToFileURL(join(dirname(pkg), 'dist', 'esm', 'api', 'index.mjs')).href;
 }
 
-/** Start a worker from worker.js (dist) or worker.ts (source, via the tsx loader). */
+/**
+ * Start a worker from worker.js (dist) or worker.ts (source under vitest/tsx). On Node 20 neither
+ * `--import tsx` in the worker's execArgv nor importing the loader first reaches the worker's entry
+ * module, so a tiny bootstrap loads the .ts entry through tsx's tsImport.
+ */
 function startWorker(depsModule: string): Worker {
   const url = siblingModuleUrl('worker');
-  const execArgv = url.pathname.endsWith('.ts') ? ['--import', tsxLoaderUrl()] : [];
-  return new Worker(url, { workerData: { depsModule }, execArgv });
+  if (!url.pathname.endsWith('.ts')) return new Worker(url, { workerData: { depsModule } });
+  const boot = `import(${JSON.stringify(tsxApiUrl())}).then((m) => m.tsImport(${JSON.stringify(url.href)}, ${JSON.stringify(url.href)}))`
+    + '.catch((e) => { setImmediate(() => { throw e; }); });';
+  return new Worker(boot, { eval: true, workerData: { depsModule }, execArgv: [] });
 }
 
 function failedRecord(task: RunTask, error: string): TaskDone {

@@ -1,0 +1,196 @@
+/**
+ * Memory projection for space-time DG Jacobians: bytes of the BSR matrix, each preconditioner's
+ * factors and the Krylov basis, for the all-at-once space-time system and for slab-by-slab
+ * solves (one slab's Jacobian and factors held at a time).
+ *
+ * Sizes:
+ *  - basis functions per element: C(p + D, D) with D = d + 1 (polynomials of total degree p on a
+ *    D-simplex; Proriol/Koornwinder/Dubiner — 3D+t: 15 for p = 2, 35 for p = 3);
+ *    block size bs = equations · C(p + D, D); unknowns n = elements · bs.
+ *  - stored blocks: one diagonal block per element plus one block per (element, neighbour across an
+ *    interior face). A space-time simplex has D + 1 = d + 2 faces, so elements · (d + 3) is an upper
+ *    bound. For the structured Kuhn mesh of `slabbench generate` (cells^d boxes per time layer,
+ *    (d+1)! simplices per box, `layers` layers per slab) the count is exact:
+ *      blocks = E·(d+3) − B_space − d!·c^d·(S + 1),
+ *    where B_space = d!·2d·c^(d−1)·layers·S boundary faces on the space sides (0 when periodic), the
+ *    d!·c^d·(S+1) term removes the initial and final faces and the upper (zero, upwind-in-time)
+ *    block of every slab-interface face. One slab alone: E_s·(d+3) − B_space,s − 2·d!·c^d.
+ *  - BSR bytes: values blocks·bs²·8, column indices blocks·4, row pointers (elements + 1)·4.
+ *  - preconditioner factors (as stored by src/precond):
+ *      jacobi       inverse diagonal, n·8
+ *      block-jacobi LU of each diagonal block, elements·bs²·8, plus pivots elements·bs·4
+ *      block-gs     the same diagonal-block factors (natural ordering; another ordering adds a
+ *                   permuted copy of the matrix)
+ *      ilu0         scalar ILU(0) on the pattern of A: factors nnz·8 and diagonal positions n·4,
+ *                   plus the scalar CSR pattern it runs on (column indices nnz·4, row pointers
+ *                   (n+1)·4), nnz = blocks·bs²
+ *      block-ilu0   factors on the BSR pattern, blocks·bs²·8, plus diagonal positions elements·4
+ *                   (diagonal blocks are kept inverted, so no pivots)
+ *  - Krylov basis: GMRES (m+1)·n·8, FGMRES (2m+1)·n·8 (the preconditioned vectors too), BiCGStab
+ *    8·n·8 (eight work vectors with a preconditioner), m = min(restart, n). The small Hessenberg
+ *    and rotation arrays are left out.
+ */
+
+export type BlockCountSource = 'exact' | 'structured-mesh' | 'upper-bound';
+
+export interface EstimateInput {
+  /** Space dimension d; elements are (d+1)-simplices. */
+  spaceDim: 1 | 2 | 3;
+  /** Polynomial total degree p ≥ 0. */
+  order: number;
+  /** Unknowns per basis function (1 for scalar advection, d+1 or d+2 for acoustics). */
+  equations: number;
+  /** Number of time slabs. */
+  slabs: number;
+  /** GMRES/FGMRES basis vectors per cycle. */
+  restart: number;
+  /** Total space-time elements (give this, or cells). */
+  elements?: number;
+  /** Cells per space direction of the structured Kuhn mesh (give this, or elements). */
+  cells?: number;
+  /** Time layers per slab (with cells; default 1). */
+  layersPerSlab?: number;
+  /** Periodic space boundaries (with cells; default false). */
+  periodic?: boolean;
+  /** Exact number of stored blocks of the whole matrix (overrides the face-count estimate). */
+  blocks?: number;
+}
+
+export const ESTIMATE_PRECONDITIONERS = ['jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0'] as const;
+export type EstimatePreconditioner = (typeof ESTIMATE_PRECONDITIONERS)[number];
+export const ESTIMATE_KRYLOV = ['gmres', 'fgmres', 'bicgstab'] as const;
+export type EstimateKrylov = (typeof ESTIMATE_KRYLOV)[number];
+
+export interface Footprint {
+  elements: number;
+  unknowns: number;
+  blocks: number;
+  jacobian: { values: number; indices: number; total: number };
+  /** Bytes per preconditioner, with the named parts. */
+  preconditioners: Record<EstimatePreconditioner, { total: number; parts: Record<string, number> }>;
+  krylov: Record<EstimateKrylov, number>;
+}
+
+export interface MemoryEstimate {
+  spaceDim: 1 | 2 | 3;
+  order: number;
+  equations: number;
+  nBasis: number;
+  bs: number;
+  slabs: number;
+  restart: number;
+  blockCountSource: BlockCountSource;
+  allAtOnce: Footprint;
+  /** One slab (the largest when elements do not divide evenly). */
+  slab: Footprint;
+}
+
+/** Binomial coefficient for the small arguments used here. */
+export function binomial(n: number, k: number): number {
+  let r = 1;
+  for (let i = 1; i <= k; i++) r = (r * (n - k + i)) / i;
+  return Math.round(r);
+}
+
+function factorial(k: number): number {
+  let r = 1;
+  for (let i = 2; i <= k; i++) r *= i;
+  return r;
+}
+
+/** Basis functions of total degree ≤ p on a D-simplex, D = d + 1: C(p + D, D). */
+export function spaceTimeBasisSize(spaceDim: number, order: number): number {
+  return binomial(order + spaceDim + 1, spaceDim + 1);
+}
+
+/** Elements of the structured Kuhn space-time mesh: cells^d · layers · slabs · (d+1)!. */
+export function kuhnElements(spaceDim: number, cells: number, layersPerSlab: number, slabs: number): number {
+  return cells ** spaceDim * layersPerSlab * slabs * factorial(spaceDim + 1);
+}
+
+function footprint(elements: number, blocks: number, bs: number, restart: number): Footprint {
+  const n = elements * bs;
+  const bb = bs * bs;
+  const nnz = blocks * bb;
+  const values = blocks * bb * 8;
+  const indices = blocks * 4 + (elements + 1) * 4;
+  const diagLu = { factors: elements * bb * 8, pivots: elements * bs * 4 };
+  const sum = (p: Record<string, number>): { total: number; parts: Record<string, number> } =>
+    ({ total: Object.values(p).reduce((a, b) => a + b, 0), parts: p });
+  const m = Math.max(1, Math.min(restart, n));
+  return {
+    elements, unknowns: n, blocks,
+    jacobian: { values, indices, total: values + indices },
+    preconditioners: {
+      jacobi: sum({ 'inverse diagonal': n * 8 }),
+      'block-jacobi': sum({ ...diagLu }),
+      'block-gs': sum({ ...diagLu }),
+      ilu0: sum({ factors: nnz * 8, 'diagonal positions': n * 4, 'scalar CSR pattern': nnz * 4 + (n + 1) * 4 }),
+      'block-ilu0': sum({ factors: values, 'diagonal positions': elements * 4 }),
+    },
+    krylov: { gmres: (m + 1) * n * 8, fgmres: (2 * m + 1) * n * 8, bicgstab: 8 * n * 8 },
+  };
+}
+
+function check(cond: boolean, what: string): void {
+  if (!cond) throw new RangeError(`estimateMemory: ${what}`);
+}
+
+const isPosInt = (v: unknown): v is number => typeof v === 'number' && Number.isSafeInteger(v) && v >= 1;
+
+/** Project the memory of one space-time DG problem (see the file comment for every formula). */
+export function estimateMemory(input: EstimateInput): MemoryEstimate {
+  const { spaceDim: d, order: p, equations, slabs, restart } = input;
+  check(d === 1 || d === 2 || d === 3, `spaceDim must be 1, 2 or 3, got ${d}`);
+  check(Number.isInteger(p) && p >= 0, `order must be an integer ≥ 0, got ${p}`);
+  check(isPosInt(equations), `equations must be an integer ≥ 1, got ${equations}`);
+  check(isPosInt(slabs), `slabs must be an integer ≥ 1, got ${slabs}`);
+  check(isPosInt(restart), `restart must be an integer ≥ 1, got ${restart}`);
+  check((input.elements === undefined) !== (input.cells === undefined), 'give exactly one of elements and cells');
+  const nBasis = spaceTimeBasisSize(d, p);
+  const bs = equations * nBasis;
+  const dFact = factorial(d);
+
+  let elements: number, slabElements: number, blocks: number, slabBlocks: number;
+  let source: BlockCountSource;
+  if (input.cells !== undefined) {
+    const c = input.cells, L = input.layersPerSlab ?? 1;
+    check(isPosInt(c), `cells must be an integer ≥ 1, got ${c}`);
+    check(isPosInt(L), `layersPerSlab must be an integer ≥ 1, got ${L}`);
+    elements = kuhnElements(d, c, L, slabs);
+    slabElements = elements / slabs;
+    const timeFaces = dFact * c ** d; // faces on one t = const plane
+    const spaceSide = input.periodic ? 0 : dFact * 2 * d * c ** (d - 1) * L; // per slab
+    blocks = elements * (d + 3) - spaceSide * slabs - timeFaces * (slabs + 1);
+    slabBlocks = slabElements * (d + 3) - spaceSide - 2 * timeFaces;
+    source = 'structured-mesh';
+  } else {
+    check(isPosInt(input.elements), `elements must be an integer ≥ 1, got ${input.elements}`);
+    elements = input.elements!;
+    check(elements >= slabs, `elements (${elements}) must be at least slabs (${slabs})`);
+    slabElements = Math.ceil(elements / slabs);
+    blocks = elements * (d + 3);
+    slabBlocks = slabElements * (d + 3);
+    source = 'upper-bound';
+  }
+  if (input.blocks !== undefined) {
+    check(isPosInt(input.blocks), `blocks must be an integer ≥ 1, got ${input.blocks}`);
+    check(input.blocks >= elements, `blocks (${input.blocks}) must be at least the number of elements (${elements}): one diagonal block each`);
+    // The split of an exact total over slabs is not known: each slab gets its share (an upper
+    // bound, since the share includes the blocks coupling it to the previous slab).
+    slabBlocks = Math.min(slabBlocks, Math.ceil(input.blocks / slabs));
+    if (source === 'upper-bound') slabBlocks = Math.ceil(input.blocks / slabs);
+    blocks = input.blocks;
+    source = 'exact';
+  }
+  return {
+    spaceDim: d, order: p, equations, nBasis, bs, slabs, restart, blockCountSource: source,
+    allAtOnce: footprint(elements, blocks, bs, restart),
+    slab: footprint(slabElements, slabBlocks, bs, restart),
+  };
+}
+
+/** Jacobian + preconditioner + Krylov basis: what one solve holds at its peak. */
+export function peakBytes(f: Footprint, preconditioner: EstimatePreconditioner, krylov: EstimateKrylov): number {
+  return f.jacobian.total + f.preconditioners[preconditioner].total + f.krylov[krylov];
+}

@@ -1,0 +1,152 @@
+import { describe, expect, it, afterAll } from 'vitest';
+import { execFileSync } from 'node:child_process';
+import { existsSync } from 'node:fs';
+import { join } from 'node:path';
+import { runSweep } from '../../src/run/sweep.js';
+import {
+  allowedIterations, compareWithBaseline, DEFAULT_TOLERANCE, junitXml, parseToleranceFile, renderCheckTable, toleranceFor,
+} from '../../src/run/baseline.js';
+import type { ResultsDoc } from '../../src/run/results-types.js';
+import * as fake from './fixtures/fake-deps.js';
+import { readTinySuite, tempDir, writeTinySuite } from './helpers.js';
+
+/** Minimal XML well-formedness check: balanced tags, quoted attributes, only the five entities. */
+export function wellFormed(xml: string): boolean {
+  const body = xml.replace(/^<\?xml[^?]*\?>\s*/, '');
+  const stack: string[] = [];
+  const re = /<(\/?)([A-Za-z_][\w.-]*)((?:\s+[\w:.-]+="[^"<]*")*)\s*(\/?)>|([^<]+)/gy;
+  let m: RegExpExecArray | null;
+  let pos = 0;
+  while ((m = re.exec(body)) !== null) {
+    pos = re.lastIndex;
+    if (m[5] !== undefined) {
+      if (/&(?!(amp|lt|gt|quot|apos);)/.test(m[5])) return false;
+      continue;
+    }
+    if (m[1]) { if (stack.pop() !== m[2]) return false; } else if (!m[4]) stack.push(m[2]);
+  }
+  return pos === body.length && stack.length === 0;
+}
+
+const hasPython = existsSync('/usr/bin/python3');
+
+describe('baseline check', () => {
+  const t = tempDir();
+  afterAll(() => t.cleanup());
+  let base: ResultsDoc;
+  let same: ResultsDoc;
+  let worse: ResultsDoc;
+
+  it('setup: a baseline sweep, an unchanged rerun and a worsened recipe (smaller relaxation factor)', async () => {
+    const run = async (dir: string, omegaSecond: number) => {
+      const sub = join(t.dir, dir);
+      const { mkdirSync } = await import('node:fs');
+      mkdirSync(sub, { recursive: true });
+      const suite = readTinySuite(writeTinySuite(sub, { omegaSecond }));
+      return (await runSweep({ suite, outDir: join(sub, 'out'), jobs: 1, builder: fake, inProcess: fake })).doc;
+    };
+    base = await run('base', 0.8);
+    same = await run('same', 0.8);
+    worse = await run('worse', 0.6);
+    expect(worse.runs[1].result!.iterations).toBeGreaterThan(base.runs[1].result!.iterations);
+  });
+
+  it('passes on an unchanged run (timings and RSS differ, they are not checked)', () => {
+    same.runs.forEach((r) => { r.result!.timing.solveSeconds *= 50; r.result!.memory.peakBytes *= 3; });
+    const out = compareWithBaseline(same, base);
+    expect(out.failures).toBe(0);
+    expect(out.rows.map((r) => r.verdict)).toEqual(['pass', 'pass', 'pass', 'pass']);
+    expect(renderCheckTable(out)).toContain('4 of 4 pairs within tolerance');
+  });
+
+  it('fails on the worsened recipe, naming iterations, and only on that recipe', () => {
+    const out = compareWithBaseline(worse, base);
+    const failed = out.rows.filter((r) => r.problems.length);
+    expect(failed.map((r) => `${r.matrix}/${r.recipe}`)).toEqual(['alpha/rich-slow', 'beta/rich-slow']);
+    const b = base.runs[1].result!.iterations;
+    const w = worse.runs[1].result!.iterations;
+    expect(failed[0].problems).toEqual([`iterations ${b} → ${w} (allowed ≤ ${b})`]);
+    expect(failed[0].notes).toEqual(['recipe changed: omega 0.8→0.6']);
+    expect(out.failures).toBe(2);
+    expect(renderCheckTable(out)).toContain(`FAIL alpha × rich-slow: iterations ${b} → ${w}`);
+  });
+
+  it('iteration slack and percent, from options or per recipe', () => {
+    const extraA = worse.runs[1].result!.iterations - base.runs[1].result!.iterations;
+    const extraB = worse.runs[3].result!.iterations - base.runs[3].result!.iterations;
+    const out = compareWithBaseline(worse, base, { cli: { iterationsSlack: extraA - 1 } });
+    expect(out.rows[1].problems).toHaveLength(1);
+    expect(compareWithBaseline(worse, base, { cli: { iterationsSlack: Math.max(extraA, extraB) } }).failures).toBe(0);
+    expect(compareWithBaseline(worse, base, { file: { recipes: { 'rich-slow': { iterationsPercent: 100 } } } }).failures).toBe(0);
+    expect(allowedIterations(10, { ...DEFAULT_TOLERANCE, iterationsSlack: 2, iterationsPercent: 50 })).toBe(15);
+    expect(allowedIterations(10, { ...DEFAULT_TOLERANCE, iterationsSlack: 2, iterationsPercent: 10 })).toBe(12);
+    expect(allowedIterations(7, { ...DEFAULT_TOLERANCE, iterationsPercent: 10 })).toBe(8); // ceil(0.7)
+    // Precedence: defaults < file default < options < file per recipe.
+    expect(toleranceFor('r', { memoryPercent: 5 }, { default: { memoryPercent: 1, residualFactor: 2 }, recipes: { r: { memoryPercent: 7 } } }))
+      .toEqual({ ...DEFAULT_TOLERANCE, memoryPercent: 7, residualFactor: 2 });
+  });
+
+  it('reason, true residual, memory and (when asked) time', () => {
+    const cur = structuredClone(same);
+    const r0 = cur.runs[0].result!;
+    r0.reason = 'max-iterations';
+    r0.converged = false;
+    r0.trueRelativeResidual = 1e-3;
+    cur.runs[2].result!.memory.krylovBytes *= 2;
+    let out = compareWithBaseline(cur, base);
+    expect(out.rows[0].problems).toEqual([
+      'reason converged-rtol → max-iterations',
+      // Limit max(rtol, baseline × 10): the baseline residual is just below rtol = 1e-8.
+      expect.stringMatching(/^true residual \S+ → 1\.00e-3 \(allowed ≤ \S+e-8\)$/),
+    ]);
+    expect(out.rows[2].problems).toEqual([expect.stringMatching(/^buffer bytes .* allowed \+10%\)$/)]);
+    // Time: only with a ratio; the fake runs take 3 ms on both sides, so a 50× slower solve fails.
+    expect(compareWithBaseline(same, base).rows[0].timeRatio).toBeUndefined();
+    out = compareWithBaseline(same, base, { cli: { timeRatio: 3 } });
+    expect(out.timeCompared).toBe(true);
+    expect(out.rows[0].problems[0]).toMatch(/^time ×\d+\.\d\d \(allowed ×3\)$/);
+    expect(compareWithBaseline(same, base, { cli: { timeRatio: 1000 } }).failures).toBe(0);
+  });
+
+  it('improvements pass; missing pairs and runs that cannot start fail; new pairs are noted', () => {
+    const better = compareWithBaseline(base, worse);
+    expect(better.failures).toBe(0);
+    expect(better.rows[1].verdict).toBe('improved');
+    const cur = structuredClone(same);
+    cur.runs.splice(3, 1);
+    cur.runs[0] = { ...cur.runs[0], result: undefined, error: 'a.mtx: no such file' };
+    cur.runs.push({ ...cur.runs[1], recipe: 'brand-new' });
+    const out = compareWithBaseline(cur, base);
+    expect(out.rows.map((r) => r.verdict)).toEqual(['error', 'pass', 'pass', 'missing', 'new']);
+    expect(out.failures).toBe(2);
+    const changed = structuredClone(same);
+    changed.matrices[0].nnz += 1;
+    expect(compareWithBaseline(changed, base).rows[0].problems[0]).toMatch(/^matrix changed \(nnz 16→17\)/);
+  });
+
+  it('JUnit XML is well-formed, has one testcase per pair and counts the failures', () => {
+    const out = compareWithBaseline(worse, base);
+    out.rows[0].notes.push('odd <chars> & "quotes"');
+    const xml = junitXml(out, { timestamp: worse.date });
+    expect(wellFormed(xml)).toBe(true);
+    expect(wellFormed('<a><b></a></b>')).toBe(false); // the checker can fail
+    expect(xml.match(/<testcase /g)).toHaveLength(4);
+    expect(xml.match(/<failure /g)).toHaveLength(2);
+    expect(xml).toContain('<testsuites name="slabbench check" tests="4" failures="2"');
+    expect(xml).toContain('classname="alpha" name="rich-slow"');
+  });
+
+  it.runIf(hasPython)('JUnit XML parses with a real XML parser (python3 xml.etree)', () => {
+    const xml = junitXml(compareWithBaseline(worse, base));
+    const py = 'import sys, xml.etree.ElementTree as ET; r = ET.fromstring(sys.stdin.read()); s = r.find("testsuite"); print(s.get("tests"), s.get("failures"), len(s.findall("testcase")), len(s.findall("testcase/failure")))';
+    expect(execFileSync('/usr/bin/python3', ['-c', py], { input: xml, encoding: 'utf8' }).trim()).toBe('4 2 4 2');
+  });
+
+  it('tolerance files are validated field by field', () => {
+    expect(parseToleranceFile({ schema: 'slabbench-tolerances/1', recipes: { a: { iterationsSlack: 2 } } }, 't.json')).toEqual({ recipes: { a: { iterationsSlack: 2 } } });
+    expect(() => parseToleranceFile({}, 't.json')).toThrow('t.json: schema: expected "slabbench-tolerances/1", got undefined');
+    expect(() => parseToleranceFile({ schema: 'slabbench-tolerances/1', default: { iterationsSlack: 1.5 } }, 't.json')).toThrow('t.json: default.iterationsSlack: expected an integer ≥ 0, got 1.5');
+    expect(() => parseToleranceFile({ schema: 'slabbench-tolerances/1', recipes: { a: { slack: 1 } } }, 't.json')).toThrow('t.json: recipes.a.slack: unknown tolerance');
+    expect(() => parseToleranceFile({ schema: 'slabbench-tolerances/1', default: { residualFactor: 0.5 } }, 't.json')).toThrow('t.json: default.residualFactor: expected a number ≥ 1, got 0.5');
+  });
+});
