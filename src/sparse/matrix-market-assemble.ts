@@ -76,27 +76,54 @@ export function expandedCount(rows: Int32Array, cols: Int32Array, nnz: number): 
   return n;
 }
 
-/** Move every triple into its row bucket; rowPtr holds the bucket starts. O(nnz) swaps. */
+/**
+ * Move every triple into its row bucket; rowPtr holds the bucket starts. O(nnz) moves. With many
+ * rows a first pass sorts into at most 1024 groups of consecutive rows (few, hot write fronts),
+ * then each group, now small enough to stay in cache, is sorted into its rows (two-level MSD
+ * radix sort, common practice).
+ */
 function bucketInPlace(nRows: number, rowPtr: Int32Array, rows: Int32Array, cols: Int32Array, vals: Float64Array): void {
-  const next = rowPtr.slice(0, nRows);
-  for (let b = 0; b < nRows; b++) {
-    const end = rowPtr[b + 1];
-    let k = next[b];
+  let shift = 0;
+  while ((nRows >> shift) > 1024) shift++;
+  if (shift === 0) { cycleSort(0, nRows, 0, rowPtr, rows, cols, vals); return; }
+  const nGroups = ((nRows - 1) >> shift) + 1;
+  const groupStart = new Int32Array(nGroups + 1);
+  for (let g = 0; g <= nGroups; g++) groupStart[g] = rowPtr[Math.min(g << shift, nRows)];
+  cycleSort(0, nGroups, shift, groupStart, rows, cols, vals);
+  for (let g = 0; g < nGroups; g++) {
+    const r0 = g << shift, r1 = Math.min((g + 1) << shift, nRows);
+    cycleSort(r0, r1, 0, rowPtr, rows, cols, vals);
+  }
+}
+
+/**
+ * In-place bucket pass: entries in slots start[b0] .. start[b1]-1 have keys (rows >> shift) in
+ * [b0, b1); afterwards bucket b holds slots start[b] .. start[b+1]-1. Follows permutation cycles.
+ */
+function cycleSort(
+  b0: number, b1: number, shift: number, start: Int32Array, rows: Int32Array, cols: Int32Array, vals: Float64Array,
+): void {
+  const next = start.slice(b0, b1);
+  for (let b = b0; b < b1; b++) {
+    const end = start[b + 1];
+    let k = next[b - b0];
     while (k < end) {
       let r = rows[k];
-      if (r === b) { k++; continue; }
+      let key = r >> shift;
+      if (key === b) { k++; continue; }
       // Carry the entry out of slot k along its cycle until an entry of bucket b comes back.
       let c = cols[k], v = vals[k];
-      while (r !== b) {
-        const t = next[r]++;
+      while (key !== b) {
+        const t = next[key - b0]++;
         const r2 = rows[t], c2 = cols[t], v2 = vals[t];
         rows[t] = r; cols[t] = c; vals[t] = v;
         r = r2; c = c2; v = v2;
+        key = r >> shift;
       }
-      rows[k] = b; cols[k] = c; vals[k] = v;
+      rows[k] = r; cols[k] = c; vals[k] = v;
       k++;
     }
-    next[b] = k;
+    next[b - b0] = k;
   }
 }
 

@@ -23,6 +23,7 @@ import { UserError, fileError } from '../util/errors.js';
 import {
   type Banner, type MatrixMarketHeader, parseBanner, parseSizeLine, parseIndexToken, parseValueToken, splitBlanks, clip,
 } from './matrix-market-header.js';
+import { decimalToDouble, DEC } from './decimal-to-double.js';
 import { assembleGeneral, assembleSymmetric, expandedCount } from './matrix-market-assemble.js';
 
 export interface ReadMatrixMarketOptions {
@@ -45,8 +46,6 @@ export interface MatrixMarketFile {
 const LF = 10, CR = 13, SP = 32, TAB = 9, PCT = 37, MINUS = 45, PLUS = 43, DOT = 46, D0 = 48, D9 = 57;
 /** A line longer than this is not Matrix Market (guards binary files without newlines). */
 const MAX_LINE_BYTES = 1 << 20;
-const POW10 = [1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
-  1e17, 1e18, 1e19, 1e20, 1e21, 1e22];
 
 const PHASE_BANNER = 0, PHASE_SIZE = 1, PHASE_DATA = 2, PHASE_DONE = 3;
 
@@ -84,6 +83,7 @@ class MatrixMarketParser {
   private carry: Buffer | null = null;
   private skipLF = false;
   private atStart = true;
+  private warmed = false;
   private banner!: Banner;
   private readonly comments: string[] = [];
   nRows = 0;
@@ -178,6 +178,19 @@ class MatrixMarketParser {
     }
     while (p < e) {
       if (this.phase === PHASE_DATA && this.rows !== null && this.probe === undefined) {
+        if (!this.warmed) {
+          // Run the fast path over a single line first, so its exit code has type feedback
+          // before V8 compiles the hot loop (otherwise the optimized loop deoptimizes at every
+          // region end and the first read of a process runs several times slower).
+          this.warmed = true;
+          let q = p;
+          while (buf[q] !== LF && buf[q] !== CR) q++;
+          q++;
+          if (buf[q - 1] === CR && q < e && buf[q] === LF) q++;
+          p = this.coordinateLines(buf, p, q);
+          if (p >= e) break;
+          if (p === q) continue;
+        }
         p = this.coordinateLines(buf, p, e);
         if (p >= e) break;
       }
@@ -228,12 +241,17 @@ class MatrixMarketParser {
       }
       let v = 1;
       if (!pattern) {
+        const tokStart = p;
         let neg = false;
         if (c === MINUS) { neg = true; c = buf[++p]; } else if (c === PLUS) c = buf[++p];
-        let m = 0, sig = 0, exp = 0, any = false;
+        // mantissa: first 15 significant digits in m, up to 4 more in mB (nB of them); both exact
+        let m = 0, mB = 0, nB = 0, sig = 0, exp = 0, any = false;
         while (c >= D0 && c <= D9) {
           any = true;
-          if (m !== 0 || c !== D0) { m = m * 10 + (c - D0); sig++; }
+          if (m !== 0 || c !== D0) {
+            if (sig < 15) m = m * 10 + (c - D0); else { mB = mB * 10 + (c - D0); nB++; }
+            sig++;
+          }
           c = buf[++p];
         }
         if (c === DOT) {
@@ -241,12 +259,15 @@ class MatrixMarketParser {
           c = buf[++p];
           while (c >= D0 && c <= D9) {
             any = true;
-            if (m !== 0 || c !== D0) { m = m * 10 + (c - D0); sig++; }
+            if (m !== 0 || c !== D0) {
+              if (sig < 15) m = m * 10 + (c - D0); else { mB = mB * 10 + (c - D0); nB++; }
+              sig++;
+            }
             exp--;
             c = buf[++p];
           }
         }
-        if (!any || sig > 15) break;
+        if (!any || (integer && sig > 15)) break;
         if (c === 101 || c === 69) { // e E
           if (integer) break;
           c = buf[++p];
@@ -258,10 +279,16 @@ class MatrixMarketParser {
           exp += eneg ? -x : x;
         }
         if (m === 0) v = 0;
-        else if (exp === 0) v = m;
-        else if (exp > 0 && exp <= 22) v = m * POW10[exp];
-        else if (exp < 0 && exp >= -22) v = m / POW10[-exp];
-        else break;
+        else {
+          // value = (m·10^nB + mB)·10^exp, correctly rounded; false asks for the string fallback
+          DEC[0] = m; DEC[1] = mB;
+          if (sig <= 19 && decimalToDouble(nB, exp)) v = DEC[2];
+          else {
+            // Token grammar already checked byte by byte; Number() rounds like the reference path.
+            v = Number(buf.toString('latin1', neg || buf[tokStart] === PLUS ? tokStart + 1 : tokStart, p));
+            if (v === Infinity) break;
+          }
+        }
         if (neg) v = -v;
       }
       while (c === SP || c === TAB) c = buf[++p];
