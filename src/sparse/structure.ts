@@ -12,11 +12,16 @@ export interface BlockSizeDetection {
   /** Scalar nonzeros / (stored blocks · bs²) at bs; 1 by construction unless the matrix is empty. */
   fillRatio: number;
   /**
-   * Best partially filled larger candidate (highest fill ratio below 1, at least 0.5), e.g. a DG
-   * matrix written by a code that dropped exact zeros. Absent when no larger candidate reaches 0.5.
+   * Best partially filled coarser candidate (a multiple of bs; highest fill ratio below 1, at
+   * least 0.5; ties go to the larger size), e.g. a DG matrix written by a code that dropped exact
+   * zeros shows up as bs 1 with a best partial fill of 0.98 at its element block size. Absent when
+   * no candidate reaches 0.5 (only the 12 smallest candidates are counted).
    */
   bestPartial?: { bs: number; fillRatio: number };
 }
+
+/** Block counts spent on partial fills (each O(nnz)). */
+const PARTIAL_PASSES = 12;
 
 function gcd(a: number, b: number): number {
   while (b !== 0) [a, b] = [b, a % b];
@@ -83,20 +88,23 @@ export function detectBlockSize(a: Csr, opts: { maxBlockSize?: number } = {}): B
   if (nnz === 0 || a.nRows === 0 || a.nCols === 0) return { bs: 1, fillRatio: 1 };
   const candidates = divisorsUpTo(gcd(a.nRows, a.nCols), maxBs);
   const marker = new Int32Array(a.nCols);
+  // Largest first: the first candidate that passes is the answer. The O(nRows) row-length test
+  // rejects most candidates before the O(nnz) block count, which stops as soon as it exceeds
+  // nnz / bs² blocks (then some block is not full).
   let bs = 1;
-  const failed: number[] = [];
-  for (const d of candidates) {
-    // every divisor of a dense block size is one too, so a multiple of a failed candidate fails
-    let ok = !failed.some((e) => d % e === 0) && rowLengthsFit(a, d);
-    if (ok) {
-      const count = countBlocks(a, d, marker, nnz / (d * d));
-      ok = count >= 0 && count * d * d === nnz;
-    }
-    if (ok) bs = d; else failed.push(d);
+  for (let c = candidates.length - 1; c >= 0; c--) {
+    const d = candidates[c];
+    if (!rowLengthsFit(a, d)) continue;
+    const count = countBlocks(a, d, marker, nnz / (d * d));
+    if (count >= 0 && count * d * d === nnz) { bs = d; break; }
   }
+  // Partial fills: coarser multiples of bs only (aligned with the blocks found), smallest first,
+  // at most PARTIAL_PASSES block counts, each abandoned once its fill drops below the best so far.
   let bestPartial: { bs: number; fillRatio: number } | undefined;
+  let passes = 0;
   for (const d of candidates) {
-    if (d <= bs) continue;
+    if (d <= bs || d % bs !== 0) continue;
+    if (++passes > PARTIAL_PASSES) break;
     const floor = Math.max(0.5, bestPartial?.fillRatio ?? 0);
     const count = countBlocks(a, d, marker, Math.floor(nnz / (floor * d * d)));
     if (count <= 0) continue;
