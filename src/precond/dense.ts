@@ -50,8 +50,81 @@ export function allFinite(a: Float64Array, o: number, len: number): boolean {
  * the diagonal), U upper. piv[po + k] = the row swapped with row k at step k (LAPACK getrf
  * convention, 0-based). Returns −1 on success, or the column k whose pivot |U_kk| ≤ tiny
  * (the factorization stops there). Golub & Van Loan, Matrix Computations, Alg. 3.4.1.
+ *
+ * Fast path for bs ≥ 8: right-looking blocked LU with panels of 4 columns (the getrf/getf2
+ * split of LAPACK): the panel is factored column by column, then the 4 pivot rows are finished
+ * by a small triangular solve and the trailing matrix gets one rank-4 update, whose inner loop
+ * does 8 flops per load/store of the updated entry (the same shape as blockGemmSub). Same
+ * pivots as the unblocked version up to rounding.
  */
 export function luFactor(
+  a: Float64Array, ao: number, bs: number, piv: Int32Array, po: number, tiny: number,
+): number {
+  if (bs < 8) return luFactorUnblocked(a, ao, bs, piv, po, tiny);
+  const NB = 4;
+  for (let k0 = 0; k0 < bs; k0 += NB) {
+    const kEnd = Math.min(k0 + NB, bs);
+    // panel: columns k0..kEnd−1, all rows ≥ k
+    for (let k = k0; k < kEnd; k++) {
+      const rk = ao + k * bs;
+      let p = k;
+      let best = Math.abs(a[rk + k]);
+      for (let i = k + 1; i < bs; i++) {
+        const v = Math.abs(a[ao + i * bs + k]);
+        if (v > best) { best = v; p = i; }
+      }
+      piv[po + k] = p;
+      if (!(best > tiny)) return k;
+      if (p !== k) {
+        const rp = ao + p * bs;
+        for (let j = 0; j < bs; j++) { const t = a[rk + j]; a[rk + j] = a[rp + j]; a[rp + j] = t; }
+      }
+      const inv = 1 / a[rk + k];
+      for (let i = k + 1; i < bs; i++) {
+        const ri = ao + i * bs;
+        const l = a[ri + k] * inv;
+        a[ri + k] = l;
+        for (let j = k + 1; j < kEnd; j++) a[ri + j] -= l * a[rk + j];
+      }
+    }
+    if (kEnd === bs) break;
+    // pivot rows k0..kEnd−1, trailing columns: U12 = L11⁻¹ A12
+    for (let k = k0 + 1; k < kEnd; k++) {
+      const rk = ao + k * bs;
+      for (let q = k0; q < k; q++) {
+        const l = a[rk + q];
+        if (l === 0) continue;
+        const rq = ao + q * bs;
+        for (let j = kEnd; j < bs; j++) a[rk + j] -= l * a[rq + j];
+      }
+    }
+    // trailing update A22 −= L21 · U12 (rank 4 when the panel is full)
+    const r0 = ao + k0 * bs;
+    if (kEnd - k0 === 4) {
+      const r1 = r0 + bs, r2 = r1 + bs, r3 = r2 + bs;
+      for (let i = kEnd; i < bs; i++) {
+        const ri = ao + i * bs;
+        const l0 = a[ri + k0], l1 = a[ri + k0 + 1], l2 = a[ri + k0 + 2], l3 = a[ri + k0 + 3];
+        for (let j = kEnd; j < bs; j++) {
+          a[ri + j] -= l0 * a[r0 + j] + l1 * a[r1 + j] + l2 * a[r2 + j] + l3 * a[r3 + j];
+        }
+      }
+    } else {
+      for (let i = kEnd; i < bs; i++) {
+        const ri = ao + i * bs;
+        for (let q = k0; q < kEnd; q++) {
+          const l = a[ri + q];
+          const rq = ao + q * bs;
+          for (let j = kEnd; j < bs; j++) a[ri + j] -= l * a[rq + j];
+        }
+      }
+    }
+  }
+  return -1;
+}
+
+/** Unblocked LU with partial pivoting (right-looking rank-1 updates): the generic path and test twin. */
+export function luFactorUnblocked(
   a: Float64Array, ao: number, bs: number, piv: Int32Array, po: number, tiny: number,
 ): number {
   for (let k = 0; k < bs; k++) {
@@ -107,7 +180,8 @@ export function luSolve(
 
 /**
  * out ← A⁻¹ (row-major) from luFactor output. Works on whole rows (contiguous inner loops):
- * out = P·I, then L·Y = out and U·X = Y by row operations. About 4/3·bs³ flops.
+ * out = P·I, then L·Y = out and U·X = Y by row operations, four source rows per pass over the
+ * target row. About 4/3·bs³ flops.
  */
 export function luInverse(
   lu: Float64Array, lo: number, piv: Int32Array, po: number, bs: number, out: Float64Array, oo: number,
@@ -122,20 +196,32 @@ export function luInverse(
       for (let j = 0; j < bs; j++) { const t = out[rk + j]; out[rk + j] = out[rp + j]; out[rp + j] = t; }
     }
   }
+  // forward: row_i −= Σ_{k<i} L_ik row_k
   for (let i = 1; i < bs; i++) {
-    const ri = oo + i * bs;
-    const li = lo + i * bs;
-    for (let k = 0; k < i; k++) {
+    const ri = oo + i * bs, li = lo + i * bs;
+    let k = 0;
+    for (; k + 3 < i; k += 4) {
+      const l0 = lu[li + k], l1 = lu[li + k + 1], l2 = lu[li + k + 2], l3 = lu[li + k + 3];
+      const r0 = oo + k * bs, r1 = r0 + bs, r2 = r1 + bs, r3 = r2 + bs;
+      for (let j = 0; j < bs; j++) out[ri + j] -= l0 * out[r0 + j] + l1 * out[r1 + j] + l2 * out[r2 + j] + l3 * out[r3 + j];
+    }
+    for (; k < i; k++) {
       const l = lu[li + k];
       if (l === 0) continue;
       const rk = oo + k * bs;
       for (let j = 0; j < bs; j++) out[ri + j] -= l * out[rk + j];
     }
   }
+  // backward: row_i = (row_i − Σ_{k>i} U_ik row_k) / U_ii
   for (let i = bs - 1; i >= 0; i--) {
-    const ri = oo + i * bs;
-    const ui = lo + i * bs;
-    for (let k = i + 1; k < bs; k++) {
+    const ri = oo + i * bs, ui = lo + i * bs;
+    let k = i + 1;
+    for (; k + 3 < bs; k += 4) {
+      const u0 = lu[ui + k], u1 = lu[ui + k + 1], u2 = lu[ui + k + 2], u3 = lu[ui + k + 3];
+      const r0 = oo + k * bs, r1 = r0 + bs, r2 = r1 + bs, r3 = r2 + bs;
+      for (let j = 0; j < bs; j++) out[ri + j] -= u0 * out[r0 + j] + u1 * out[r1 + j] + u2 * out[r2 + j] + u3 * out[r3 + j];
+    }
+    for (; k < bs; k++) {
       const u = lu[ui + k];
       if (u === 0) continue;
       const rk = oo + k * bs;

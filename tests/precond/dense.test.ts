@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { LuDecomposition, Matrix, inverse } from 'ml-matrix';
 import {
   blockGemm, blockGemmSub, blockGemmSubNaive, blockMatVec, blockMatVecNaive, blockMatVecSub,
-  blockMatVecSubNaive, luFactor, luInverse, luSolve, PIVOT_RTOL,
+  blockMatVecSubNaive, luFactor, luFactorUnblocked, luInverse, luSolve, PIVOT_RTOL,
 } from '../../src/precond/dense.js';
 import { maxAbsDiff, rng } from './helpers.js';
 
@@ -69,6 +69,28 @@ describe('dense LU with partial pivoting (reference: ml-matrix LuDecomposition /
   it('a NaN entry is caught as a failed pivot, not propagated silently', () => {
     const a = Float64Array.of(NaN, 1, 1, 1);
     expect(luFactor(a, 0, 2, new Int32Array(2), 0, 0)).toBe(0);
+  });
+});
+
+describe('blocked LU (bs ≥ 8 fast path) against the unblocked LU', () => {
+  for (const bs of [8, 9, 13, 20, 35, 40]) {
+    it(`bs = ${bs}: same pivots, same factors to rounding`, () => {
+      const a = randomBlock(bs, 500 + bs, 0);
+      const f1 = a.slice(), f2 = a.slice();
+      const p1 = new Int32Array(bs), p2 = new Int32Array(bs);
+      expect(luFactor(f1, 0, bs, p1, 0, 0)).toBe(-1);
+      expect(luFactorUnblocked(f2, 0, bs, p2, 0, 0)).toBe(-1);
+      expect(Array.from(p1)).toEqual(Array.from(p2));
+      expect(maxAbsDiff(f1, f2)).toBeLessThan(1e-11);
+    });
+  }
+  it('the blocked path stops at a zero pivot in a later panel and names its column', () => {
+    // rank-deficient 12×12: row 11 = row 0 + row 1, so elimination leaves a zero in the last pivot
+    const bs = 12;
+    const a = randomBlock(bs, 77, 0).subarray(0, bs * bs).slice();
+    for (let j = 0; j < bs; j++) a[11 * bs + j] = a[j] + a[bs + j];
+    const norm = Math.max(...Array.from(a, Math.abs));
+    expect(luFactor(a, 0, bs, new Int32Array(bs), 0, PIVOT_RTOL * norm)).toBe(11);
   });
 });
 
