@@ -1,0 +1,126 @@
+/**
+ * Layout sidecar: `NAME.layout.json` beside `NAME.mtx` (or `NAME.mtx.gz`), e.g.
+ *   { "schema": "slabbench-layout/1", "blockSize": 6, "slabOffsets": [0, 40, 80],
+ *     "provenance": { "generator": "duct-pulse", "order": 2 } }
+ * slabOffsets are BLOCK-row offsets: slab s holds block rows slabOffsets[s] .. slabOffsets[s+1]-1.
+ */
+import { existsSync, readFileSync } from 'node:fs';
+import type { Layout } from './types.js';
+import { MAX_INT32_INDEX } from './types.js';
+import { UserError, fileError } from '../util/errors.js';
+import { writeFileAtomicSync } from '../util/atomic-write.js';
+
+export const LAYOUT_SCHEMA = 'slabbench-layout/1';
+
+/** Sidecar path of a matrix file: strips `.gz`, then `.mtx`, and appends `.layout.json`. */
+export function layoutPathFor(mtxPath: string): string {
+  let base = mtxPath;
+  if (/\.gz$/i.test(base)) base = base.slice(0, -3);
+  if (/\.mtx$/i.test(base)) base = base.slice(0, -4);
+  return `${base}.layout.json`;
+}
+
+function describe(x: unknown): string {
+  if (x === null) return 'null';
+  if (Array.isArray(x)) return 'an array';
+  if (typeof x === 'string') return `"${x.length > 30 ? `${x.slice(0, 27)}...` : x}"`;
+  if (typeof x === 'object') return 'an object';
+  return String(x);
+}
+
+/**
+ * Check a parsed layout object; `where` names the file in messages. Returns it typed.
+ * Unknown extra fields are kept (the format is open), known ones must be well formed.
+ */
+export function validateLayout(obj: unknown, where: string): Layout {
+  if (typeof obj !== 'object' || obj === null || Array.isArray(obj)) {
+    throw fileError(where, undefined, `expected a JSON object with "blockSize", found ${describe(obj)}`);
+  }
+  const o = obj as Record<string, unknown>;
+  if (o.schema !== undefined && o.schema !== LAYOUT_SCHEMA) {
+    throw fileError(where, undefined, `schema: expected "${LAYOUT_SCHEMA}", found ${describe(o.schema)}`);
+  }
+  const bs = o.blockSize;
+  if (bs === undefined) throw fileError(where, undefined, 'blockSize: missing (a positive integer is required)');
+  if (typeof bs !== 'number' || !Number.isInteger(bs) || bs < 1 || bs > 4096) {
+    throw fileError(where, undefined, `blockSize: expected an integer 1..4096, found ${describe(bs)}`);
+  }
+  if (o.slabOffsets !== undefined) {
+    const s = o.slabOffsets;
+    if (!Array.isArray(s)) throw fileError(where, undefined, `slabOffsets: expected an array of block-row offsets, found ${describe(s)}`);
+    if (s.length < 2) throw fileError(where, undefined, `slabOffsets: expected at least 2 entries (0 and the number of block rows), found ${s.length}`);
+    for (let i = 0; i < s.length; i++) {
+      const v = s[i];
+      if (typeof v !== 'number' || !Number.isInteger(v) || v < 0 || v > MAX_INT32_INDEX) {
+        throw fileError(where, undefined, `slabOffsets[${i}]: expected a non-negative integer, found ${describe(v)}`);
+      }
+      if (i === 0 && v !== 0) throw fileError(where, undefined, `slabOffsets[0]: expected 0 (offsets start at the first block row), found ${v}`);
+      if (i > 0 && v <= (s[i - 1] as number)) {
+        throw fileError(where, undefined, `slabOffsets[${i}]: expected more than slabOffsets[${i - 1}] = ${s[i - 1]} (strictly increasing), found ${v}`);
+      }
+    }
+  }
+  if (o.provenance !== undefined && (typeof o.provenance !== 'object' || o.provenance === null || Array.isArray(o.provenance))) {
+    throw fileError(where, undefined, `provenance: expected an object, found ${describe(o.provenance)}`);
+  }
+  return o as Layout;
+}
+
+/** Check a layout against the matrix it describes (square, divisible, last slab offset). */
+export function checkLayoutFits(layout: Layout, nRows: number, nCols: number, where: string): void {
+  const bs = layout.blockSize;
+  if (nRows % bs !== 0 || nCols % bs !== 0) {
+    throw fileError(where, undefined, `blockSize: ${bs} does not divide the matrix size ${nRows}×${nCols}`);
+  }
+  const s = layout.slabOffsets;
+  if (s !== undefined && s[s.length - 1] !== nRows / bs) {
+    throw fileError(where, undefined, `slabOffsets: last entry must be the number of block rows, ${nRows / bs}, found ${s[s.length - 1]}`);
+  }
+}
+
+/** Read and validate a layout file. */
+export function readLayout(path: string): Layout {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    throw fileError(path, undefined, code === 'ENOENT' ? 'no such file' : `cannot read (${code ?? String(e)})`);
+  }
+  let obj: unknown;
+  try {
+    obj = JSON.parse(text);
+  } catch (e) {
+    const msg = (e as Error).message;
+    const m = /position (\d+)/.exec(msg);
+    const line = m ? text.slice(0, Number(m[1])).split('\n').length : undefined;
+    throw fileError(path, line, `not valid JSON (${msg.replace(/ in JSON at position \d+.*$/, '')})`);
+  }
+  return validateLayout(obj, path);
+}
+
+/** The layout sidecar of a matrix file, or undefined when there is none. */
+export function readLayoutFor(mtxPath: string): Layout | undefined {
+  const p = layoutPathFor(mtxPath);
+  return existsSync(p) ? readLayout(p) : undefined;
+}
+
+/** Write a layout file atomically (schema first, offsets on one line). Invalid layouts are refused. */
+export function writeLayout(path: string, layout: Layout): void {
+  try {
+    validateLayout(layout, path);
+  } catch (e) {
+    if (e instanceof UserError) throw new UserError(`refusing to write an invalid layout: ${e.message}`);
+    throw e;
+  }
+  const { schema: _schema, blockSize, slabOffsets, provenance, ...rest } = layout as Layout & { schema?: string };
+  void _schema;
+  const ordered: Record<string, unknown> = { schema: LAYOUT_SCHEMA, blockSize };
+  if (slabOffsets !== undefined) ordered.slabOffsets = Array.from(slabOffsets);
+  Object.assign(ordered, rest);
+  if (provenance !== undefined) ordered.provenance = provenance;
+  let text = JSON.stringify(ordered, null, 2);
+  // Keep arrays of plain numbers on one line: a long slabOffsets list stays readable.
+  text = text.replace(/\[\s*(-?[\d.eE+-]+(?:,\s*-?[\d.eE+-]+)*)\s*\]/g, (_m, body: string) => `[${body.split(/,\s*/).join(', ')}]`);
+  writeFileAtomicSync(path, `${text}\n`);
+}
