@@ -1,12 +1,126 @@
 import type { Command } from 'commander';
-import { UserError } from '../util/errors.js';
+import { optionError, UserError } from '../util/errors.js';
+import {
+  estimateMemory, ESTIMATE_KRYLOV, ESTIMATE_PRECONDITIONERS, peakBytes, type EstimateInput, type MemoryEstimate,
+} from '../run/estimate.js';
+import { formatBytes, formatCount } from '../report/format.js';
 
-// PLACEHOLDER: replaced by the owner of this command.
+function intOption(option: string, min: number, max: number) {
+  return (v: string): number => {
+    const s = v.trim().replace(/_/g, '');
+    // Accept 1e6 style for big counts, but only when it is an integer.
+    const n = /^\d+(\.\d+)?(e\d+)?$/i.test(s) ? Number(s) : NaN;
+    if (!Number.isSafeInteger(n) || n < min || n > max) {
+      throw optionError(option, `expected an integer from ${min} to ${formatCount(max)}, got "${v}"`);
+    }
+    return n;
+  };
+}
+
+interface EstimateCliOptions {
+  dim: number;
+  order: number;
+  equations: number;
+  elements?: number;
+  cells?: number;
+  layers?: number;
+  periodic?: boolean;
+  slabs: number;
+  restart: number;
+  blocks?: number;
+  json?: boolean;
+}
+
+/** The CLI options as an EstimateInput, with the cross-option rules checked. */
+export function estimateInputFromOptions(o: EstimateCliOptions): EstimateInput {
+  if ((o.elements === undefined) === (o.cells === undefined)) {
+    throw new UserError('estimate: give the mesh size as --elements N (total space-time elements) or --cells C (cells per space direction)');
+  }
+  if (o.elements !== undefined && (o.layers !== undefined || o.periodic)) {
+    throw optionError(o.layers !== undefined ? '--layers' : '--periodic', 'describes the structured mesh; use it with --cells, not --elements');
+  }
+  if (o.elements !== undefined && o.elements < o.slabs) throw optionError('--elements', `expected at least one element per slab (${o.slabs} slabs), got ${o.elements}`);
+  const input: EstimateInput = {
+    spaceDim: o.dim as 1 | 2 | 3, order: o.order, equations: o.equations, slabs: o.slabs, restart: o.restart,
+    ...(o.elements !== undefined ? { elements: o.elements } : { cells: o.cells, layersPerSlab: o.layers ?? 1, periodic: o.periodic === true }),
+  };
+  if (o.blocks === undefined) return input;
+  const elements = estimateMemory(input).allAtOnce.elements;
+  if (o.blocks < elements) {
+    throw optionError('--blocks', `expected at least one block per element (${formatCount(elements)}), got ${formatCount(o.blocks)}`);
+  }
+  return { ...input, blocks: o.blocks };
+}
+
+const SOURCE_NOTE: Record<MemoryEstimate['blockCountSource'], string> = {
+  exact: 'exact count from --blocks (one slab: its share)',
+  'structured-mesh': 'counted on the structured Kuhn mesh of `slabbench generate`',
+  'upper-bound': 'upper bound: every face of every element interior; --cells or --blocks give an exact count',
+};
+
+/** Human-readable table: all-at-once beside one slab. */
+export function renderEstimate(e: MemoryEstimate): string {
+  const a = e.allAtOnce, s = e.slab;
+  const rows: Array<[string, string, string] | null> = [];
+  const bytes = (label: string, x: number, y: number): void => { rows.push([label, formatBytes(x), formatBytes(y)]); };
+  rows.push(['elements', formatCount(a.elements), formatCount(s.elements)]);
+  rows.push(['unknowns', formatCount(a.unknowns), formatCount(s.unknowns)]);
+  rows.push(['stored blocks', formatCount(a.blocks), formatCount(s.blocks)]);
+  rows.push(null);
+  bytes('Jacobian (BSR)', a.jacobian.total, s.jacobian.total);
+  bytes('  values', a.jacobian.values, s.jacobian.values);
+  bytes('  indices', a.jacobian.indices, s.jacobian.indices);
+  rows.push(['preconditioner factors', '', '']);
+  for (const p of ESTIMATE_PRECONDITIONERS) bytes(`  ${p}`, a.preconditioners[p].total, s.preconditioners[p].total);
+  rows.push([`Krylov basis (restart ${e.restart})`, '', '']);
+  for (const k of ESTIMATE_KRYLOV) bytes(`  ${k}`, a.krylov[k], s.krylov[k]);
+  rows.push(null);
+  bytes('Jacobian + block-ilu0 + gmres', peakBytes(a, 'block-ilu0', 'gmres'), peakBytes(s, 'block-ilu0', 'gmres'));
+  bytes('Jacobian + block-jacobi + gmres', peakBytes(a, 'block-jacobi', 'gmres'), peakBytes(s, 'block-jacobi', 'gmres'));
+
+  const heads: [string, string, string] = ['', 'all at once', `one slab (of ${e.slabs})`];
+  const w0 = Math.max(...rows.map((r) => (r ? r[0].length : 0)));
+  const w1 = Math.max(heads[1].length, ...rows.map((r) => (r ? r[1].length : 0)));
+  const w2 = Math.max(heads[2].length, ...rows.map((r) => (r ? r[2].length : 0)));
+  const line = (r: [string, string, string]): string => `  ${r[0].padEnd(w0)}  ${r[1].padStart(w1)}  ${r[2].padStart(w2)}`.trimEnd();
+  const out = [
+    `space-time DG memory estimate: ${e.spaceDim}D+t, order p = ${e.order}, ${e.equations} equation${e.equations === 1 ? '' : 's'}`,
+    `  ${e.nBasis} basis functions per element, blocks of ${e.bs}×${e.bs} (${formatBytes(e.bs * e.bs * 8)} each)`,
+    `  block count: ${SOURCE_NOTE[e.blockCountSource]}`,
+    '',
+    line(heads),
+    ...rows.map((r) => (r ? line(r) : '')),
+    '',
+    '  Slab by slab holds one slab\'s Jacobian, factors and basis at a time (plus the solution vectors).',
+  ];
+  return `${out.join('\n')}\n`;
+}
+
 export function registerEstimate(program: Command): void {
   program
     .command('estimate')
-    .description('(not built yet)')
-    .action(() => {
-      throw new UserError('estimate is not built yet');
+    .description('Project the memory of a space-time DG solve: Jacobian, preconditioner factors, Krylov basis; all at once vs slab by slab')
+    .requiredOption('--dim <d>', 'space dimension (1, 2 or 3; elements are (d+1)-simplices)', intOption('--dim', 1, 3))
+    .requiredOption('--order <p>', 'polynomial total degree of the space-time basis', intOption('--order', 0, 20))
+    .option('--equations <m>', 'equations per point (1 scalar advection; d+1 or d+2 acoustics / linearized Euler)', intOption('--equations', 1, 1000), 1)
+    .option('--elements <n>', 'total space-time elements (all slabs)', intOption('--elements', 1, Number.MAX_SAFE_INTEGER))
+    .option('--cells <c>', 'instead of --elements: cells per space direction of the structured Kuhn mesh', intOption('--cells', 1, 1_000_000))
+    .option('--layers <l>', 'with --cells: time layers per slab (default 1)', intOption('--layers', 1, 1_000_000))
+    .option('--periodic', 'with --cells: periodic space boundaries (every space face interior)')
+    .option('--slabs <s>', 'number of time slabs', intOption('--slabs', 1, 100_000_000), 1)
+    .option('--restart <k>', 'GMRES/FGMRES basis vectors per cycle', intOption('--restart', 1, 100_000), 30)
+    .option('--blocks <n>', 'exact stored block count of the whole matrix (e.g. from `slabbench inspect`)', intOption('--blocks', 1, Number.MAX_SAFE_INTEGER))
+    .option('--json', 'print the estimate as JSON (bytes as plain numbers) and nothing else')
+    .addHelpText('after', `
+Formulas (README "Memory projection"): block size = equations × C(p+d+1, d+1); the matrix stores
+one block per element and one per element and face neighbour; bytes are 8 per value, 4 per index.
+
+Examples:
+  slabbench estimate --dim 3 --order 3 --equations 5 --elements 1e6 --slabs 100
+  slabbench estimate --dim 2 --order 2 --cells 64 --layers 2 --slabs 8 --restart 50
+  slabbench estimate --dim 1 --order 2 --equations 2 --elements 3200 --slabs 4 --blocks 13588 --json`)
+    .action((opts: EstimateCliOptions) => {
+      const estimate = estimateMemory(estimateInputFromOptions(opts));
+      process.stdout.write(opts.json ? `${JSON.stringify(estimate, null, 2)}\n` : renderEstimate(estimate));
     });
 }

@@ -11,6 +11,15 @@ import { makeHistory, makeResults } from './fixture.js';
 
 const CHROMIUM = '/usr/bin/chromium';
 
+/** The few DOM members used inside the page (the project compiles without the DOM library). */
+interface PageElement {
+  getAttribute(name: string): string | null;
+  querySelector(sel: string): PageElement | null;
+  querySelectorAll(sel: string): ArrayLike<PageElement>;
+  getBoundingClientRect(): { width: number; height: number };
+  getBBox(): { width: number; height: number };
+}
+
 interface PlotFacts {
   plot: string;
   file: string;
@@ -39,10 +48,10 @@ describe('HTML report in a browser', () => {
       page.on('request', (r) => requests.push(r.url()));
       await page.goto(pathToFileURL(htmlPath).href, { waitUntil: 'load' });
 
-      const facts: PlotFacts[] = await page.$$eval('figure', (figs) => figs.map((f) => {
-        const svg = f.querySelector('svg[data-plot]') as SVGSVGElement;
+      const facts: PlotFacts[] = await page.$$eval('figure', (figs) => (figs as unknown as PageElement[]).map((f) => {
+        const svg = f.querySelector('svg[data-plot]')!;
         const box = svg.getBoundingClientRect();
-        const series = [...svg.querySelectorAll('[data-series]')] as SVGGraphicsElement[];
+        const series = Array.from(svg.querySelectorAll('[data-series]'));
         const panels: Record<string, number> = {};
         for (const el of series) {
           const p = el.getAttribute('data-panel');

@@ -1,0 +1,55 @@
+import { describe, it, expect } from 'vitest';
+import { registerEstimate } from '../../src/cli/estimate.js';
+import { estimateMemory, type MemoryEstimate } from '../../src/run/estimate.js';
+import { runCommand } from '../report/cli-harness.js';
+
+const run = (args: string[]) => runCommand(registerEstimate, ['estimate', ...args]);
+
+describe('slabbench estimate', () => {
+  it('prints all-at-once beside one slab in human units for a production-size 3D+t case', async () => {
+    const r = await run(['--dim', '3', '--order', '3', '--equations', '5', '--elements', '1e6', '--slabs', '100']);
+    expect(r.code).toBe(0);
+    expect(r.stderr).toBe('');
+    expect(r.stdout).toContain('blocks of 175×175');
+    const jac = r.stdout.split('\n').find((l) => l.trim().startsWith('Jacobian (BSR)'))!;
+    // 6·10⁶ blocks · 175² · 8 B ≈ 1.34 TiB at once, a hundredth per slab
+    expect(jac).toMatch(/1\.34 TiB\s+13\.7 GiB$/);
+    expect(r.stdout).toMatch(/gmres\s+40\.4 GiB\s+414 MiB/);
+  });
+
+  it('--json is machine-clean and equals the library result', async () => {
+    const r = await run(['--dim', '2', '--order', '2', '--cells', '16', '--layers', '2', '--slabs', '4', '--restart', '40', '--json']);
+    expect(r.code).toBe(0);
+    const parsed = JSON.parse(r.stdout) as MemoryEstimate;
+    expect(parsed).toEqual(estimateMemory({ spaceDim: 2, order: 2, equations: 1, cells: 16, layersPerSlab: 2, periodic: false, slabs: 4, restart: 40 }));
+    expect(parsed.blockCountSource).toBe('structured-mesh');
+  });
+
+  it('rejects bad options with one line naming the option', async () => {
+    const bad: Array<[string[], RegExp]> = [
+      [['--dim', '4', '--order', '1', '--elements', '10'], /--dim/],
+      [['--dim', '2', '--order', 'x', '--elements', '10'], /--order/],
+      [['--dim', '2', '--order', '1', '--elements', '1.5'], /--elements/],
+      [['--dim', '2', '--order', '1'], /--elements N .* --cells C/],
+      [['--dim', '2', '--order', '1', '--elements', '10', '--cells', '3'], /--elements N .* --cells C/],
+      [['--dim', '2', '--order', '1', '--elements', '10', '--layers', '2'], /--layers/],
+      [['--dim', '2', '--order', '1', '--elements', '10', '--blocks', '5'], /--blocks/],
+      [['--dim', '2', '--order', '1', '--elements', '3', '--slabs', '4'], /--elements/],
+      [['--dim', '2', '--order', '1', '--elements', '10', '--restart', '0'], /--restart/],
+    ];
+    for (const [args, re] of bad) {
+      const r = await run(args);
+      expect(r.code, args.join(' ')).toBe(2);
+      expect(r.stderr.trim().split('\n'), args.join(' ')).toHaveLength(1);
+      expect(r.stderr, args.join(' ')).toMatch(re);
+      expect(r.stdout).toBe('');
+    }
+  });
+
+  it('has help with examples', async () => {
+    const r = await run(['--help']);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toContain('Examples:');
+    expect(r.stdout).toContain('--slabs');
+  });
+});

@@ -1,0 +1,181 @@
+import { describe, it, expect } from 'vitest';
+import {
+  binomial, estimateMemory, ESTIMATE_PRECONDITIONERS, kuhnElements, spaceTimeBasisSize, type EstimateInput,
+} from '../../src/run/estimate.js';
+import { buildSlabMesh } from '../../src/mesh/space-time.js';
+import { buildBlockPattern } from '../../src/dg/block-pattern.js';
+import { bsrBytes, bsrMemory, bsrToCsr } from '../../src/sparse/bsr.js';
+import type { Bsr } from '../../src/sparse/types.js';
+import { createPreconditioner } from '../../src/precond/registry.js';
+import { solveSystem } from '../../src/solvers/run-recipe.js';
+import { DEFAULT_RECIPE, type Recipe } from '../../src/solvers/recipe.js';
+import type { SystemMatrix } from '../../src/precond/types.js';
+
+/** The block structure `slabbench generate` stores for a structured mesh (no values assembled). */
+function generatorPattern(dim: 1 | 2 | 3, cells: number, layersPerSlab: number, nSlabs: number, periodic: boolean, bs: number) {
+  const mesh = buildSlabMesh({
+    dim, cells: Array(dim).fill(cells), nSlabs, layersPerSlab, slabThickness: 0.1, periodic: Array(dim).fill(periodic),
+  });
+  const identity = Int32Array.from({ length: mesh.nElements }, (_, i) => i);
+  const p = buildBlockPattern(mesh, identity, bs);
+  const bsr: Bsr = {
+    nBlockRows: mesh.nElements, nBlockCols: mesh.nElements, bs, rowPtr: p.rowPtr, colInd: p.colInd,
+    values: new Float64Array(p.colInd.length * bs * bs),
+  };
+  return { bsr, slabOffsets: mesh.slabOffsets };
+}
+
+/** Blocks of the slab's own diagonal square (the matrix a slab-by-slab solve factors). */
+function slabBlocks(a: Bsr, offsets: Int32Array, s: number): number {
+  let count = 0;
+  for (let I = offsets[s]; I < offsets[s + 1]; I++) {
+    for (let k = a.rowPtr[I]; k < a.rowPtr[I + 1]; k++) if (a.colInd[k] >= offsets[s] && a.colInd[k] < offsets[s + 1]) count++;
+  }
+  return count;
+}
+
+const base = { equations: 1, restart: 30 };
+
+describe('estimate: sizes', () => {
+  it('basis size is C(p+d+1, d+1); 3D+t gives 15 for p = 2 and 35 for p = 3', () => {
+    // Dimension of degree-p polynomials on a D-simplex is C(p+D, D) (shared/references.md:
+    // Proriol 1957, Koornwinder 1975, Dubiner 1991).
+    expect(spaceTimeBasisSize(3, 2)).toBe(15);
+    expect(spaceTimeBasisSize(3, 3)).toBe(35);
+    expect(spaceTimeBasisSize(1, 0)).toBe(1);
+    expect(spaceTimeBasisSize(1, 2)).toBe(6);
+    expect(spaceTimeBasisSize(2, 1)).toBe(4);
+    expect(binomial(10, 4)).toBe(210);
+    expect(kuhnElements(3, 4, 2, 5)).toBe(64 * 2 * 5 * 24);
+  });
+
+  it('3D+t, p = 2 → 3 multiplies Jacobian storage by (35/15)² ≈ 5.44', () => {
+    // Common practice, no source: block storage grows with the square of the basis size,
+    // C(p+4,4) = 15 → 35. The values part follows exactly; the index arrays do not grow with
+    // p, so the measured total ratio is slightly lower.
+    const input = { ...base, spaceDim: 3 as const, equations: 5, elements: 24_000, slabs: 10 };
+    const p2 = estimateMemory({ ...input, order: 2 });
+    const p3 = estimateMemory({ ...input, order: 3 });
+    const exact = (35 / 15) ** 2;
+    expect(exact).toBeCloseTo(5.444, 3);
+    expect(p3.allAtOnce.jacobian.values / p2.allAtOnce.jacobian.values).toBeCloseTo(exact, 12);
+    const total = p3.allAtOnce.jacobian.total / p2.allAtOnce.jacobian.total;
+    expect(total).toBeLessThan(exact);
+    expect(total).toBeGreaterThan(exact * 0.999);
+    expect(p3.bs).toBe(175);
+  });
+
+  it('the measured BSR bytes of a generator-shaped 3D+t matrix follow the same ratio', () => {
+    const a2 = generatorPattern(3, 2, 1, 2, false, 15).bsr;
+    const a3 = generatorPattern(3, 2, 1, 2, false, 35).bsr;
+    expect(a3.values.byteLength / a2.values.byteLength).toBeCloseTo((35 / 15) ** 2, 12);
+    const ratio = bsrBytes(a3) / bsrBytes(a2);
+    expect(ratio).toBeLessThan((35 / 15) ** 2);
+    expect(ratio).toBeGreaterThan((35 / 15) ** 2 * 0.99);
+  });
+});
+
+describe('estimate: block counts against the generator pattern', () => {
+  const cases: Array<[1 | 2 | 3, number, number, number, boolean]> = [
+    [1, 5, 2, 3, false],
+    [1, 6, 1, 4, true],
+    [2, 3, 1, 2, false],
+    [2, 4, 2, 2, true],
+    [3, 2, 1, 2, false],
+    [3, 3, 1, 1, true],
+  ];
+  for (const [d, c, L, S, periodic] of cases) {
+    it(`${d}D+t, ${c} cells, ${L} layers, ${S} slabs${periodic ? ', periodic' : ''}: exact all-at-once and per-slab counts and bytes`, () => {
+      const order = 1, equations = 2;
+      const bs = equations * spaceTimeBasisSize(d, order);
+      const { bsr, slabOffsets } = generatorPattern(d, c, L, S, periodic, bs);
+      const e = estimateMemory({ ...base, spaceDim: d, order, equations, cells: c, layersPerSlab: L, slabs: S, periodic });
+      expect(e.blockCountSource).toBe('structured-mesh');
+      expect(e.allAtOnce.elements).toBe(bsr.nBlockRows);
+      expect(e.allAtOnce.blocks).toBe(bsr.colInd.length);
+      expect(e.allAtOnce.jacobian.total).toBe(bsrBytes(bsr));
+      const mem = bsrMemory(bsr);
+      expect(e.allAtOnce.jacobian.values).toBe(bsr.values.byteLength);
+      expect(Object.values(mem).reduce((x, y) => x + y, 0)).toBe(e.allAtOnce.jacobian.total);
+      for (let s = 0; s < S; s++) expect(slabBlocks(bsr, slabOffsets, s)).toBe(e.slab.blocks);
+      expect(e.slab.elements * S).toBe(e.allAtOnce.elements);
+      // The element-count form is an upper bound on the same mesh.
+      const ub = estimateMemory({ ...base, spaceDim: d, order, equations, elements: bsr.nBlockRows, slabs: S });
+      expect(ub.blockCountSource).toBe('upper-bound');
+      expect(ub.allAtOnce.blocks).toBeGreaterThanOrEqual(bsr.colInd.length);
+      expect(ub.allAtOnce.blocks).toBe(bsr.nBlockRows * (d + 3));
+      // An exact count replaces the bound.
+      const ex = estimateMemory({ ...base, spaceDim: d, order, equations, elements: bsr.nBlockRows, slabs: S, blocks: bsr.colInd.length });
+      expect(ex.allAtOnce.jacobian.total).toBe(bsrBytes(bsr));
+    });
+  }
+});
+
+/** Non-symmetric blocks with a dominant diagonal so every factorization succeeds. */
+function filled(a: Bsr): Bsr {
+  const values = new Float64Array(a.values.length);
+  const bs = a.bs, bb = bs * bs;
+  let seed = 12345;
+  const rnd = (): number => { seed = (seed * 1103515245 + 12345) % 2147483648; return seed / 2147483648 - 0.5; };
+  for (let I = 0; I < a.nBlockRows; I++) {
+    for (let k = a.rowPtr[I]; k < a.rowPtr[I + 1]; k++) {
+      for (let q = 0; q < bb; q++) values[k * bb + q] = 0.1 * rnd();
+      if (a.colInd[k] === I) for (let i = 0; i < bs; i++) values[k * bb + i * bs + i] += 4 + i;
+    }
+  }
+  return { ...a, values };
+}
+
+describe('estimate: preconditioner factors and Krylov basis against measured buffers', () => {
+  const d = 1, order = 1, equations = 2, c = 4, L = 1, S = 2;
+  const bs = equations * spaceTimeBasisSize(d, order);
+  const { bsr: pattern, slabOffsets } = generatorPattern(d, c, L, S, false, bs);
+  const bsr = filled(pattern);
+  const system: SystemMatrix = { bsr, csr: bsrToCsr(bsr), slabOffsets };
+  const input: EstimateInput = { spaceDim: d, order, equations, cells: c, layersPerSlab: L, slabs: S, restart: 5 };
+  const e = estimateMemory(input);
+  const recipe = (o: Partial<Recipe>): Recipe => ({ ...DEFAULT_RECIPE, ...o });
+  const without = (m: Record<string, number>, key: string): number =>
+    Object.entries(m).filter(([k]) => k !== key).reduce((s, [, v]) => s + v, 0);
+
+  it('factor bytes match what each preconditioner reports (workspace aside)', () => {
+    for (const name of ESTIMATE_PRECONDITIONERS) {
+      const M = createPreconditioner(system, recipe({ preconditioner: name }));
+      expect(M.setup().ok, name).toBe(true);
+      let measured = without(M.memory(), 'workspace');
+      // Point ILU(0) runs on the scalar CSR pattern the system carries beside the BSR.
+      if (name === 'ilu0') measured += system.csr.colInd.byteLength + system.csr.rowPtr.byteLength;
+      expect(measured, name).toBe(e.allAtOnce.preconditioners[name].total);
+    }
+  });
+
+  it('Krylov basis bytes match GMRES, FGMRES and BiCGStab', () => {
+    const b = new Float64Array(system.csr.nRows).fill(1);
+    const run = (o: Partial<Recipe>) => solveSystem(system, b, recipe({ rtol: 1e-30, maxIterations: 3, ...o })).result.memory.buffers.krylov;
+    expect(run({ krylov: 'gmres', restart: 5, preconditioner: 'jacobi' }).basis).toBe(e.allAtOnce.krylov.gmres);
+    const f = run({ krylov: 'fgmres', restart: 5, preconditioner: 'jacobi' });
+    expect(f.basis + f.flexibleBasis).toBe(e.allAtOnce.krylov.fgmres);
+    const bi = run({ krylov: 'bicgstab', preconditioner: 'jacobi' });
+    expect(Object.values(bi).reduce((x, y) => x + y, 0)).toBe(e.allAtOnce.krylov.bicgstab);
+  });
+});
+
+describe('estimate: input checks', () => {
+  it('rejects bad input before computing anything', () => {
+    const ok = { spaceDim: 2 as const, order: 1, equations: 1, elements: 100, slabs: 2, restart: 30 };
+    expect(() => estimateMemory({ ...ok, spaceDim: 4 as unknown as 1 })).toThrow(/spaceDim/);
+    expect(() => estimateMemory({ ...ok, order: -1 })).toThrow(/order/);
+    expect(() => estimateMemory({ ...ok, equations: 0 })).toThrow(/equations/);
+    expect(() => estimateMemory({ ...ok, slabs: 1.5 })).toThrow(/slabs/);
+    expect(() => estimateMemory({ ...ok, elements: undefined })).toThrow(/exactly one/);
+    expect(() => estimateMemory({ ...ok, cells: 4 })).toThrow(/exactly one/);
+    expect(() => estimateMemory({ ...ok, blocks: 50 })).toThrow(/blocks/);
+    expect(() => estimateMemory({ ...ok, elements: 1 })).toThrow(/at least slabs/);
+  });
+  it('does not modify its input', () => {
+    const input = { spaceDim: 3 as const, order: 2, equations: 5, cells: 3, layersPerSlab: 2, slabs: 4, restart: 20, periodic: true };
+    const copy = structuredClone(input);
+    estimateMemory(input);
+    expect(input).toEqual(copy);
+  });
+});
