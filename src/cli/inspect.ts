@@ -25,7 +25,8 @@ Examples:
 
 The block size comes from the layout, else --block-size, else the largest size whose
 pattern is made of dense aligned blocks. Exit codes: 0 report printed, 2 unreadable or
-malformed input or bad option, 3 internal error.`)
+malformed input or bad option, 3 internal error.
+`)
     .action(async (file: string, opts: { json?: boolean; blockSize?: number; layout?: string }) => {
       const sys = await loadSystem(file, { blockSize: opts.blockSize, layoutPath: opts.layout });
       const report = buildInspectReport(sys);

@@ -1,4 +1,10 @@
-import { describe, it, expect } from 'vitest';
+import { describe, it, expect, beforeAll, afterAll, vi } from 'vitest';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { main } from '../../src/cli/main.js';
+import { writeMatrixMarket } from '../../src/sparse/matrix-market.js';
+import { writeLayout } from '../../src/sparse/layout.js';
 import { systemFromMatrix } from '../../src/sparse/system.js';
 import { buildInspectReport, formatInspectReport, inspectReportJson } from '../../src/cli/inspect-report.js';
 import { bsrToCsr } from '../../src/sparse/bsr.js';
@@ -9,7 +15,7 @@ import type { MatrixMarketHeader } from '../../src/sparse/matrix-market-header.j
  * 3 time slabs of 2 block rows, bs 2, block lower bidiagonal: diagonal blocks [[4, 1], [0, 4]]
  * (one explicit zero each), sub-diagonal blocks [[1, 0.5], [−1, 2]].
  */
-export function slabMatrix(): Bsr {
+function slabMatrix(): Bsr {
   const rowPtr = [0], colInd: number[] = [], values: number[] = [];
   for (let I = 0; I < 6; I++) {
     if (I > 0) { colInd.push(I - 1); values.push(1, 0.5, -1, 2); }
@@ -22,7 +28,7 @@ export function slabMatrix(): Bsr {
 const header: MatrixMarketHeader = { object: 'matrix', format: 'coordinate', field: 'real', symmetry: 'general', nRows: 12, nCols: 12, nEntries: 44, comments: [] };
 
 /** The numbers every test of the report checks, derived by hand in the comments. */
-export function expectSlabMatrixNumbers(r: ReturnType<typeof buildInspectReport>): void {
+function expectSlabMatrixNumbers(r: ReturnType<typeof buildInspectReport>): void {
   expect(r.nRows).toBe(12);
   expect(r.nnz).toBe(44); // 11 blocks · 4
   expect(r.explicitZeros).toBe(6); // one per diagonal block
@@ -69,5 +75,77 @@ describe('inspect report', () => {
     const j = JSON.parse(inspectReportJson(r)) as { dominance: { max: null; nSingular: number } };
     expect(j.dominance.max).toBeNull();
     expect(j.dominance.nSingular).toBe(1);
+  });
+});
+
+/** Run the CLI in-process, capturing stdout and stderr. */
+async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
+  let out = '', err = '';
+  const o = vi.spyOn(process.stdout, 'write').mockImplementation((c: string | Uint8Array) => { out += String(c); return true; });
+  const e = vi.spyOn(process.stderr, 'write').mockImplementation((c: string | Uint8Array) => { err += String(c); return true; });
+  try {
+    const code = await main(args);
+    return { code, out, err };
+  } finally {
+    o.mockRestore();
+    e.mockRestore();
+  }
+}
+
+describe('slabbench inspect (command line)', () => {
+  let dir = '';
+  beforeAll(async () => {
+    dir = mkdtempSync(join(tmpdir(), 'slabbench-inspect-'));
+    const csr = bsrToCsr(slabMatrix());
+    await writeMatrixMarket(join(dir, 'slabs.mtx'), csr);
+    writeLayout(join(dir, 'slabs.layout.json'), { blockSize: 2, slabOffsets: [0, 2, 4, 6] });
+    await writeMatrixMarket(join(dir, 'bare.mtx.gz'), csr);
+    writeLayout(join(dir, 'other.layout.json'), { blockSize: 4 });
+    writeFileSync(join(dir, 'junk.mtx'), 'hello\n');
+  });
+  afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+  it('--json: machine-clean, the hand-derived numbers, layout picked up', async () => {
+    const r = await run(['inspect', join(dir, 'slabs.mtx'), '--json']);
+    expect(r.code).toBe(0);
+    expect(r.err).toBe('');
+    const j = JSON.parse(r.out) as ReturnType<typeof buildInspectReport>;
+    expectSlabMatrixNumbers(j);
+    expect(j.blockSize).toMatchObject({ bs: 2, source: 'layout', layoutFile: join(dir, 'slabs.layout.json') });
+    expect(j.slabs).toMatchObject({ nSlabs: 3, blockLowerTriangular: true });
+  });
+  it('gzip file without layout: detected block size; text report', async () => {
+    const r = await run(['inspect', join(dir, 'bare.mtx.gz')]);
+    expect(r.code).toBe(0);
+    expect(r.out).toContain('12 × 12, 44 nonzeros (6 explicit zeros)');
+    expect(r.out).toContain('2 detected from the pattern');
+    const j = JSON.parse((await run(['inspect', join(dir, 'bare.mtx.gz'), '--json', '--block-size', '4'])).out) as ReturnType<typeof buildInspectReport>;
+    expect(j.blockSize).toMatchObject({ bs: 4, source: 'option', fillRatio: 44 / 80 }); // 5 blocks of 4×4 (hand count)
+  });
+  it('--layout FILE replaces the sidecar', async () => {
+    const r = await run(['inspect', join(dir, 'slabs.mtx'), '--json', '--layout', join(dir, 'other.layout.json')]);
+    expect(r.code).toBe(0);
+    expect((JSON.parse(r.out) as { blockSize: { bs: number } }).blockSize.bs).toBe(4);
+  });
+  it('bad input: exit 2 with one line on stderr and nothing on stdout', async () => {
+    const cases: Array<[string[], RegExp]> = [
+      [['inspect', join(dir, 'slabs.mtx'), '--block-size', '3'], /option --block-size 3 disagrees with .*slabs\.layout\.json \(blockSize 2\)/],
+      [['inspect', join(dir, 'bare.mtx.gz'), '--block-size', 'x'], /option --block-size: expected a positive integer, got "x"/],
+      [['inspect', join(dir, 'bare.mtx.gz'), '--block-size', '5'], /bare\.mtx\.gz: block size 5 \(from --block-size\) does not divide the size 12/],
+      [['inspect', join(dir, 'missing.mtx')], /missing\.mtx/],
+      [['inspect', join(dir, 'junk.mtx')], /junk\.mtx/],
+    ];
+    for (const [args, msg] of cases) {
+      const r = await run(args);
+      expect(r.code).toBe(2);
+      expect(r.out).toBe('');
+      expect(r.err).toMatch(msg);
+      expect(r.err.trim().split('\n')).toHaveLength(1);
+    }
+  });
+  it('--help shows examples and exits 0', async () => {
+    const r = await run(['inspect', '--help']);
+    expect(r.code).toBe(0);
+    expect(r.out + r.err).toContain('slabbench inspect duct.mtx.gz --json');
   });
 });

@@ -1,4 +1,10 @@
-import { describe, it, expect } from 'vitest';
+import { describe, it, expect, beforeAll, afterAll } from 'vitest';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { loadSystem } from '../../src/sparse/load.js';
+import { writeMatrixMarket } from '../../src/sparse/matrix-market.js';
+import { writeLayout } from '../../src/sparse/layout.js';
 import { systemFromMatrix } from '../../src/sparse/system.js';
 import { bsrToCsr } from '../../src/sparse/bsr.js';
 import { UserError } from '../../src/util/errors.js';
@@ -80,5 +86,35 @@ describe('systemFromMatrix (the checks behind loadSystem)', () => {
     };
     expect(userError(() => systemFromMatrix('I.mtx', header(n, n), eye, { blockSize: n })))
       .toMatch(/^I\.mtx: block size 65536 \(from --block-size\) needs 4294967296 stored values \(fill ratio 0\.0000153\), more than 2147483647$/);
+  });
+});
+
+describe('loadSystem (files)', () => {
+  let dir = '';
+  const blocked = bsrToCsr(randomBsr(rng(8), 10, 10, 3, 3));
+  beforeAll(async () => {
+    dir = mkdtempSync(join(tmpdir(), 'slabbench-load-'));
+    await writeMatrixMarket(join(dir, 'A.mtx.gz'), blocked);
+    writeLayout(join(dir, 'A.layout.json'), { blockSize: 3, slabOffsets: [0, 5, 10], provenance: { note: 'test' } });
+    await writeMatrixMarket(join(dir, 'B.mtx'), blocked);
+    writeLayout(join(dir, 'wrong.layout.json'), { blockSize: 4 });
+  });
+  afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+  it('picks up the sidecar of a gzipped matrix and reads the same matrix back', async () => {
+    const s = await loadSystem(join(dir, 'A.mtx.gz'));
+    expect(s.blockSizeSource).toBe('layout');
+    expect(s.layoutPath).toBe(join(dir, 'A.layout.json'));
+    expect(Array.from(s.slabOffsets ?? [])).toEqual([0, 5, 10]);
+    expect(s.layout?.provenance).toEqual({ note: 'test' });
+    expect(snapshot(s.csr)).toBe(snapshot(blocked));
+    expect(s.header.symmetry).toBe('general');
+  });
+  it('without a sidecar: option, else detection; --layout overrides', async () => {
+    expect((await loadSystem(join(dir, 'B.mtx'))).blockSizeSource).toBe('detected');
+    expect((await loadSystem(join(dir, 'B.mtx'), { blockSize: 5 })).bs).toBe(5);
+    await expect(loadSystem(join(dir, 'B.mtx'), { layoutPath: join(dir, 'wrong.layout.json') }))
+      .rejects.toThrow(`${join(dir, 'B.mtx')}: block size 4 (from ${join(dir, 'wrong.layout.json')}) does not divide the size 30`);
+    await expect(loadSystem(join(dir, 'B.mtx'), { layoutPath: join(dir, 'none.layout.json') })).rejects.toThrow(/none\.layout\.json: no such file/);
   });
 });
