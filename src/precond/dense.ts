@@ -51,8 +51,8 @@ export function allFinite(a: Float64Array, o: number, len: number): boolean {
  * convention, 0-based). Returns −1 on success, or the column k whose pivot |U_kk| ≤ tiny
  * (the factorization stops there). Golub & Van Loan, Matrix Computations, Alg. 3.4.1.
  *
- * Fast path for bs ≥ 8: right-looking blocked LU with panels of 4 columns (the getrf/getf2
- * split of LAPACK): the panel is factored column by column, then the 4 pivot rows are finished
+ * Fast path for bs ≥ 16 (below that the unblocked loop was as fast in bench/precond.bench.ts):
+ * right-looking blocked LU with panels of 4 columns (the getrf/getf2 split of LAPACK): the panel is factored column by column, then the 4 pivot rows are finished
  * by a small triangular solve and the trailing matrix gets one rank-4 update, whose inner loop
  * does 8 flops per load/store of the updated entry (the same shape as blockGemmSub). Same
  * pivots as the unblocked version up to rounding.
@@ -60,7 +60,7 @@ export function allFinite(a: Float64Array, o: number, len: number): boolean {
 export function luFactor(
   a: Float64Array, ao: number, bs: number, piv: Int32Array, po: number, tiny: number,
 ): number {
-  if (bs < 8) return luFactorUnblocked(a, ao, bs, piv, po, tiny);
+  if (bs < 16) return luFactorUnblocked(a, ao, bs, piv, po, tiny);
   const NB = 4;
   for (let k0 = 0; k0 < bs; k0 += NB) {
     const kEnd = Math.min(k0 + NB, bs);

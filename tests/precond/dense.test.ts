@@ -72,8 +72,8 @@ describe('dense LU with partial pivoting (reference: ml-matrix LuDecomposition /
   });
 });
 
-describe('blocked LU (bs ≥ 8 fast path) against the unblocked LU', () => {
-  for (const bs of [8, 9, 13, 20, 35, 40]) {
+describe('blocked LU (bs ≥ 16 fast path) against the unblocked LU', () => {
+  for (const bs of [16, 17, 19, 20, 35, 40]) {
     it(`bs = ${bs}: same pivots, same factors to rounding`, () => {
       const a = randomBlock(bs, 500 + bs, 0);
       const f1 = a.slice(), f2 = a.slice();
@@ -85,12 +85,12 @@ describe('blocked LU (bs ≥ 8 fast path) against the unblocked LU', () => {
     });
   }
   it('the blocked path stops at a zero pivot in a later panel and names its column', () => {
-    // rank-deficient 12×12: row 11 = row 0 + row 1, so elimination leaves a zero in the last pivot
-    const bs = 12;
+    // rank-deficient 18×18: row 17 = row 0 + row 1, so elimination leaves a zero in the last pivot
+    const bs = 18;
     const a = randomBlock(bs, 77, 0).subarray(0, bs * bs).slice();
-    for (let j = 0; j < bs; j++) a[11 * bs + j] = a[j] + a[bs + j];
+    for (let j = 0; j < bs; j++) a[17 * bs + j] = a[j] + a[bs + j];
     const norm = Math.max(...Array.from(a, Math.abs));
-    expect(luFactor(a, 0, bs, new Int32Array(bs), 0, PIVOT_RTOL * norm)).toBe(11);
+    expect(luFactor(a, 0, bs, new Int32Array(bs), 0, PIVOT_RTOL * norm)).toBe(17);
   });
 });
 
