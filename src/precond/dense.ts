@@ -52,10 +52,11 @@ export function allFinite(a: Float64Array, o: number, len: number): boolean {
  * (the factorization stops there). Golub & Van Loan, Matrix Computations, Alg. 3.4.1.
  *
  * Fast path for bs ≥ 16 (below that the unblocked loop was as fast in bench/precond.bench.ts):
- * right-looking blocked LU with panels of 4 columns (the getrf/getf2 split of LAPACK): the panel is factored column by column, then the 4 pivot rows are finished
- * by a small triangular solve and the trailing matrix gets one rank-4 update, whose inner loop
- * does 8 flops per load/store of the updated entry (the same shape as blockGemmSub). Same
- * pivots as the unblocked version up to rounding.
+ * right-looking blocked LU with panels of 4 columns (the getrf/getf2 split of LAPACK): the
+ * panel is factored column by column, then the 4 pivot rows are finished by a small triangular
+ * solve and the trailing matrix gets one rank-4 update, whose inner loop does 8 flops per
+ * load/store of the updated entry (the same shape as blockGemmSub). Same pivots as the
+ * unblocked version up to rounding.
  */
 export function luFactor(
   a: Float64Array, ao: number, bs: number, piv: Int32Array, po: number, tiny: number,
