@@ -77,3 +77,26 @@ describe('permutations', () => {
     expect(() => permuteCsrBlocks(randomCsr(rng(2), 6, 6, 2), Int32Array.from([0, 1]), 4)).toThrow(/does not divide/);
   });
 });
+
+describe('properties (fast-check)', () => {
+  it('for any block matrix and permutation: permute then un-permute is exact, and the product commutes', async () => {
+    const fc = await import('fast-check');
+    fc.assert(
+      fc.property(fc.integer({ min: 1, max: 12 }), fc.integer({ min: 1, max: 5 }), fc.integer(), (n, bs, seed) => {
+        const r = rng(seed);
+        const a = randomBsr(r, n, n, bs, 3);
+        const p = randomPerm(r, n);
+        const b = permuteBsr(a, p);
+        if (snapshot(permuteBsr(b, inversePermutation(p))) !== snapshot(a)) return false;
+        const x = randomVector(r, n * bs);
+        const px = new Float64Array(n * bs), ax = new Float64Array(n * bs), pax = new Float64Array(n * bs), bpx = new Float64Array(n * bs);
+        permuteVectorBlocks(x, p, bs, px);
+        bsrSpmv(a, x, ax);
+        permuteVectorBlocks(ax, p, bs, pax);
+        bsrSpmv(b, px, bpx);
+        return maxAbsDiff(bpx, pax) < 1e-12;
+      }),
+      { numRuns: 200, seed: 20261201 },
+    );
+  });
+});
