@@ -1,4 +1,4 @@
-import type { Command } from 'commander';
+import { Option, type Command } from 'commander';
 import { loadSystem, type LoadedSystem } from '../sparse/load.js';
 import { readMatrixMarketVector } from '../sparse/matrix-market.js';
 import { csrSpmv } from '../sparse/csr.js';
@@ -22,7 +22,7 @@ const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   omega: 'relaxation: inside block-gs (SOR), else the stationary step factor (default 1)',
   sweeps: 'block Gauss–Seidel sweeps per application (default 1)',
   shift: 'diagonal shift added before factorizing; 0 = a zero pivot fails the run (default 0)',
-  blockInverse: 'block-jacobi diagonal blocks: LU with partial pivoting, or explicit inverses (default lu)',
+  blockInverse: 'diagonal blocks of block-jacobi and block-gs: LU with partial pivoting, or explicit inverses (default lu)',
   rtol: 'stop when the monitored ‖r‖ ≤ rtol · baseline norm (default 1e-8)',
   atol: 'or when the monitored ‖r‖ ≤ atol; 0 disables (default 0)',
   maxIterations: 'maximum inner iterations in total, whatever the restart (default 1000)',
@@ -75,7 +75,7 @@ function recipeText(r: Recipe): string {
   let pc = r.preconditioner;
   if (r.preconditioner === 'block-gs') pc += ` (${r.sweep} ×${r.sweeps}, ω ${r.omega}, ${r.ordering})`;
   if (r.preconditioner === 'block-ilu0') pc += ` (${r.ordering})`;
-  if (r.preconditioner === 'slab' && r.inner) pc += ` [inner: ${recipeText(r.inner)}, rtol ${num(r.inner.rtol)}]`;
+  if (r.preconditioner === 'slab' && r.inner) pc += ` [inner: ${recipeText(r.inner)}, rtol ${r.inner.rtol}]`;
   if (r.shift !== 0) pc += `, shift ${r.shift}`;
   return `${method} + ${pc}`;
 }
@@ -86,7 +86,7 @@ export function formatSolveReport(rep: SolveReport): string {
   const row = (label: string, text: string): void => { lines.push(`  ${label.padEnd(15)}${text}`); };
   const m = rep.matrix;
   lines.push(`${m.file}: ${m.n} × ${m.n}, ${m.nnz} nonzeros, block size ${m.bs} (${m.blockSizeSource})${m.nSlabs ? `, ${m.nSlabs} slabs` : ''}`);
-  row('recipe', `${recipeText(rep.recipe)}; rtol ${num(rep.recipe.rtol)}${rep.recipe.atol ? `, atol ${num(rep.recipe.atol)}` : ''}, at most ${rep.recipe.maxIterations} iterations`);
+  row('recipe', `${recipeText(rep.recipe)}; rtol ${rep.recipe.rtol}${rep.recipe.atol ? `, atol ${rep.recipe.atol}` : ''}, at most ${rep.recipe.maxIterations} iterations`);
   row('result', `${rep.reason} after ${rep.iterations} iteration${rep.iterations === 1 ? '' : 's'} (${rep.restarts} restart${rep.restarts === 1 ? '' : 's'})`);
   if (rep.failure) row('failure', `${rep.failure.message}${rep.failure.blockRow !== undefined ? ` [block row ${rep.failure.blockRow}]` : ''}`);
   const base = rep.baseline === 'rhs' ? '‖b‖' : '‖r₀‖';
@@ -96,7 +96,7 @@ export function formatSolveReport(rep: SolveReport): string {
   if (rep.errorVsOnes) row('error', `b = A·1: max |x − 1| = ${num(rep.errorVsOnes.max)}, ‖x − 1‖/‖1‖ = ${num(rep.errorVsOnes.relative2)}`);
   const t = rep.timing;
   row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
-    + (t.preconditionerApplications > 0 ? ` (${t.preconditionerApplications} preconditioner applications, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
+    + (t.preconditionerApplications > 0 ? ` (${t.preconditionerApplications} preconditioner application${t.preconditionerApplications === 1 ? '' : 's'}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
   const mem = rep.memory;
   row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
   if (rep.ritz && rep.ritz.re.length > 0) {
@@ -175,11 +175,13 @@ export function registerSolve(program: Command): void {
     cmd.option(`--${RECIPE_FLAGS[field]} <value>`, `${FIELD_HELP[field]}; ${describeRecipeField(field)}`);
   }
   for (const field of RECIPE_FIELDS) {
-    cmd.option(`--inner-${RECIPE_FLAGS[field]} <value>`, `slab inner recipe: as --${RECIPE_FLAGS[field]}`);
+    // listed once in the help text below rather than sixteen times
+    cmd.addOption(new Option(`--inner-${RECIPE_FLAGS[field]} <value>`, `slab inner recipe: as --${RECIPE_FLAGS[field]}`).hideHelp());
   }
   cmd.addHelpText('after', `
-Inner recipe (--precond slab only): every recipe option has an --inner-… twin that sets how each
-slab is solved; inner defaults: gmres(30) + block-ilu0, rtol 1e-10, at most 500 iterations.
+Inner recipe (--precond slab only): every recipe option above, from --krylov to --baseline, has an
+--inner-… twin (--inner-krylov, --inner-precond, --inner-rtol, --inner-max-iters, …) that sets how
+each slab is solved; inner defaults: gmres(30) + block-ilu0, rtol 1e-10, at most 500 iterations.
 
 Stopping: converged when ‖b − Ax‖ ≤ rtol·‖b‖ (x₀ = 0) under right preconditioning (the default);
 with --side left the preconditioned residual ‖M⁻¹(b − Ax)‖ ≤ rtol·‖M⁻¹b‖ is monitored instead.
