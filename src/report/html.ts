@@ -48,7 +48,7 @@ const CSS = `
 :root { --ink: #1f2328; --muted: #5f6670; --line: #d8dce1; --accent: #1d3f73; --win: #e7f4ea; --warn: #fbeaea; }
 * { box-sizing: border-box; }
 body { margin: 0; font: 15px/1.5 system-ui, -apple-system, "Segoe UI", Roboto, Helvetica, Arial, sans-serif; color: var(--ink); background: #f6f7f9; }
-main { max-width: 1240px; margin: 0 auto; padding: 24px 28px 64px; }
+main { max-width: 1320px; margin: 0 auto; padding: 24px 20px 64px; }
 h1 { font-size: 26px; margin: 0 0 4px; }
 h2 { font-size: 20px; margin: 0 0 2px; }
 h3 { font-size: 15px; margin: 18px 0 6px; color: var(--muted); text-transform: uppercase; letter-spacing: .04em; }
@@ -69,7 +69,7 @@ table.ranked tr.failed td.reason { color: #a3202f; }
 .plots { display: flex; flex-wrap: wrap; gap: 14px; align-items: flex-start; }
 figure { margin: 0 0 12px; background: #fff; border: 1px solid var(--line); border-radius: 6px; padding: 6px; max-width: 100%; }
 figure svg { display: block; max-width: 100%; height: auto; }
-figcaption { font-size: 12px; color: var(--muted); padding: 4px 4px 0; max-width: 620px; }
+figcaption { font-size: 12px; color: var(--muted); padding: 4px 4px 0; }
 figcaption a { color: var(--accent); }
 footer { color: var(--muted); font-size: 12px; }
 `;
@@ -103,7 +103,10 @@ function tableHtml(runs: RunRecord[]): string {
 }
 
 function figure(svg: ReportSvg, caption: string): string {
-  return `<figure data-file="${esc(svg.file)}">${svg.svg}<figcaption>${esc(caption)} `
+  // The caption wraps to the plot's width instead of widening the figure.
+  const w = /^<svg[^>]*?\swidth="([\d.]+)"/.exec(svg.svg);
+  const style = w ? ` style="width: ${Math.ceil(Number(w[1])) + 14}px"` : '';
+  return `<figure data-file="${esc(svg.file)}"${style}>${svg.svg}<figcaption>${esc(caption)} `
     + `<a href="${esc(svg.file)}">(${esc(svg.file)})</a></figcaption></figure>`;
 }
 
