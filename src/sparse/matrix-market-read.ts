@@ -36,6 +36,8 @@ export interface ReadMatrixMarketOptions {
    * Default: SLABBENCH_READ_LIMIT_MB (MiB) when set, else half of the machine's memory.
    */
   memoryLimitBytes?: number;
+  /** Parse every line with the string-based reference rules (slow; used by tests to check the fast path). */
+  referenceOnly?: boolean;
 }
 
 export interface MatrixMarketFile {
@@ -110,6 +112,7 @@ class MatrixMarketParser {
     private readonly allowNonFinite: boolean,
     private readonly memoryLimit: number,
     private readonly probe?: { row: number; col: number },
+    private readonly referenceOnly = false,
   ) {}
 
   get header(): MatrixMarketHeader {
@@ -177,7 +180,7 @@ class MatrixMarketParser {
       if (buf[p] === LF) p++;
     }
     while (p < e) {
-      if (this.phase === PHASE_DATA && this.rows !== null && this.probe === undefined) {
+      if (this.phase === PHASE_DATA && this.rows !== null && this.probe === undefined && !this.referenceOnly) {
         if (!this.warmed) {
           // Run the fast path over a single line first, so its exit code has type feedback
           // before V8 compiles the hot loop (otherwise the optimized loop deoptimizes at every
@@ -477,13 +480,16 @@ function asUserError(e: unknown, path: string): unknown {
   return e;
 }
 
-async function runParser(path: string, parser: MatrixMarketParser): Promise<void> {
-  const src = await openBytes(path);
+/** Bytes of one input, openable more than once (a rejected duplicate is located by a second pass). */
+export type ByteSource = () => Promise<AsyncIterable<Buffer | Uint8Array>>;
+
+async function runParser(name: string, source: ByteSource, parser: MatrixMarketParser): Promise<void> {
+  const src = await source();
   try {
-    for await (const chunk of src) parser.push(chunk as Buffer);
+    for await (const chunk of src) parser.push(Buffer.isBuffer(chunk) ? chunk : Buffer.from(chunk.buffer, chunk.byteOffset, chunk.byteLength));
   } catch (e) {
-    src.destroy();
-    throw asUserError(e, path);
+    (src as Partial<Readable>).destroy?.();
+    throw asUserError(e, name);
   }
   parser.finish();
 }
@@ -495,11 +501,20 @@ async function runParser(path: string, parser: MatrixMarketParser): Promise<void
  * (every position stored, zeros included). Malformed input → UserError "FILE:LINE: …".
  */
 export async function readMatrixMarket(path: string, opts: ReadMatrixMarketOptions = {}): Promise<MatrixMarketFile> {
+  return readMatrixMarketFrom(path, () => openBytes(path), opts);
+}
+
+/**
+ * The reader over any byte source; `name` stands for the file in messages. Tests feed it
+ * buffers split at arbitrary points to exercise chunk boundaries.
+ */
+export async function readMatrixMarketFrom(name: string, source: ByteSource, opts: ReadMatrixMarketOptions = {}): Promise<MatrixMarketFile> {
+  const path = name;
   const duplicates = opts.duplicates ?? 'sum';
   const allowNonFinite = opts.allowNonFinite ?? false;
   const limit = opts.memoryLimitBytes ?? defaultReadLimitBytes();
-  const parser = new MatrixMarketParser(path, allowNonFinite, limit);
-  await runParser(path, parser);
+  const parser = new MatrixMarketParser(path, allowNonFinite, limit, undefined, opts.referenceOnly ?? false);
+  await runParser(path, source, parser);
   const header = parser.header;
   const { nRows, nCols } = header;
   if (header.format === 'array') {
@@ -534,7 +549,7 @@ export async function readMatrixMarket(path: string, opts: ReadMatrixMarketOptio
     const sr = header.symmetry === 'general' ? row : Math.max(row, col);
     const sc = header.symmetry === 'general' ? col : Math.min(row, col);
     const probe = new MatrixMarketParser(path, allowNonFinite, limit, { row: sr, col: sc });
-    await runParser(path, probe);
+    await runParser(path, source, probe);
     const where = probe.probeLine > 0 ? probe.probeLine : undefined;
     throw fileError(path, where, `entry (${sr + 1}, ${sc + 1}) appears more than once (duplicates are rejected; by default they are summed)`);
   }

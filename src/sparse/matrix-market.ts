@@ -5,7 +5,7 @@
  */
 export type { MatrixMarketHeader } from './matrix-market-header.js';
 export {
-  readMatrixMarket, readMatrixMarketVector, defaultReadLimitBytes,
+  readMatrixMarket, readMatrixMarketVector, readMatrixMarketFrom, defaultReadLimitBytes, type ByteSource,
   type ReadMatrixMarketOptions, type MatrixMarketFile,
 } from './matrix-market-read.js';
 export {
