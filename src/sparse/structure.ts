@@ -1,6 +1,7 @@
 import type { Bsr, Csr } from './types.js';
 import { csrTranspose } from './csr.js';
 import { diagonalBlockIndex } from './blocks.js';
+import { sortInt32Range } from './sort-range.js';
 
 // ---------------------------------------------------------------------------------------------
 // Block size detection
@@ -247,7 +248,7 @@ export function stronglyConnectedBlocks(a: Bsr): BlockComponents {
           componentOf[w] = nComp;
           order[filled + t - top] = w;
         }
-        order.subarray(filled, filled + size).sort();
+        sortInt32Range(order, filled, filled + size);
         filled += size;
         sp = top;
         offsets[++nComp] = filled;
