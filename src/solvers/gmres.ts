@@ -4,7 +4,7 @@ import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
 import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
-import { axpy, dot, isZero, norm2, scale } from './vector.js';
+import { axpy, axpyDot, axpyNorm2, dot, isZero, norm2, scale } from './vector.js';
 import { ritzValues } from './ritz.js';
 
 /**
@@ -159,12 +159,16 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
       else { meter.apply(vj, z!); A.apply(z!, next); }
       const hc = j * ldh;
       const wNorm0 = norm2(n, next);
+      let hNext: number;
       if (opts.orthogonalization === 'mgs') {
-        for (let i = 0; i <= j; i++) {
-          const hij = dot(n, next, vs[i]);
+        // modified Gram–Schmidt; each update is fused with the next dot product (same arithmetic)
+        let hij = dot(n, next, vs[0]);
+        for (let i = 0; i < j; i++) {
           H[hc + i] = hij;
-          axpy(n, -hij, vs[i], next);
+          hij = axpyDot(n, -hij, vs[i], next, vs[i + 1]);
         }
+        H[hc + j] = hij;
+        hNext = axpyNorm2(n, -hij, vs[j], next);
       } else {
         // classical Gram–Schmidt, twice ("twice is enough", Giraud, Langou & Rozložník 2005)
         for (let i = 0; i <= j; i++) H[hc + i] = 0;
@@ -172,8 +176,8 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
           for (let i = 0; i <= j; i++) hTmp[i] = dot(n, next, vs[i]);
           for (let i = 0; i <= j; i++) { axpy(n, -hTmp[i], vs[i], next); H[hc + i] += hTmp[i]; }
         }
+        hNext = norm2(n, next);
       }
-      const hNext = norm2(n, next);
       H[hc + j + 1] = hNext;
       if (Hraw && cycle === 0) for (let i = 0; i <= j + 1; i++) Hraw[hc + i] = H[hc + i];
       const happy = !(hNext > HAPPY * wNorm0);

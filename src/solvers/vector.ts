@@ -32,3 +32,28 @@ export function isZero(n: number, x: Float64Array): boolean {
   for (let i = 0; i < n; i++) if (x[i] !== 0) return false;
   return true;
 }
+
+/**
+ * y ← y + a·x, then return (y, z) with the updated y: one pass instead of two. Fusing the update of
+ * one modified Gram–Schmidt step with the next step's dot product keeps the MGS arithmetic exactly.
+ */
+export function axpyDot(n: number, a: number, x: Float64Array, y: Float64Array, z: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) {
+    const v = y[i] + a * x[i];
+    y[i] = v;
+    s += v * z[i];
+  }
+  return s;
+}
+
+/** y ← y + a·x, then return ‖y‖₂ of the updated y, in one pass. */
+export function axpyNorm2(n: number, a: number, x: Float64Array, y: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < n; i++) {
+    const v = y[i] + a * x[i];
+    y[i] = v;
+    s += v * v;
+  }
+  return Math.sqrt(s);
+}
