@@ -9,6 +9,7 @@ import { runSweep, HISTORY_FILE } from '../run/sweep.js';
 import { readHistory } from '../run/history.js';
 import { ProgressBar } from '../run/progress.js';
 import type { HistoryEntry, ResultsDoc } from '../run/results-types.js';
+import type { CaseBuilder, SuiteParsers } from '../run/deps.js';
 import { renderRankedTables, shouldUseColor } from '../report/table.js';
 import { rankRuns } from '../report/rank.js';
 import { writeReport } from '../report/html.js';
@@ -55,7 +56,20 @@ function summary(doc: ResultsDoc, files: Record<string, string | undefined>, int
   };
 }
 
-export function registerSweep(program: Command): void {
+/** Where the sweep command gets the suite parsers, the case builder and the workers' module from. */
+export interface SweepCommandDeps {
+  load(): Promise<{ parsers: SuiteParsers; builder: CaseBuilder; depsModule?: string }>;
+}
+
+const REAL_DEPS: SweepCommandDeps = {
+  // Loaded on use, not at start-up: the solver stack is only needed when a sweep runs.
+  async load() {
+    const real = await import('../run/real-deps.js');
+    return { parsers: real, builder: real };
+  },
+};
+
+export function registerSweep(program: Command, deps: SweepCommandDeps = REAL_DEPS): void {
   program
     .command('sweep')
     .description('Run every matrix × recipe of a suite file; write results.json, results.csv, history.jsonl and report.html')
@@ -83,11 +97,10 @@ Examples:
   slabbench sweep matrices/ci/suite.json --out .ci-results --quiet
   slabbench sweep --json | jq '.winners'`)
     .action(async (suiteArg: string | undefined, opts: SweepCliOptions) => {
-      // Loaded here, not at start-up: the solver stack is only needed when a sweep runs.
-      const realDeps = await import('../run/real-deps.js');
+      const { parsers, builder, depsModule } = await deps.load();
       const suitePath = suiteArg ?? demoSuitePath();
       const shard = opts.shard !== undefined ? parseShard(opts.shard) : undefined;
-      const suite = readSuite(suitePath, realDeps);
+      const suite = readSuite(suitePath, parsers);
       const quiet = opts.quiet === true || opts.json === true;
       const bar = !opts.quiet && process.stderr.isTTY ? new ProgressBar(process.stderr) : undefined;
       const ac = new AbortController();
@@ -97,7 +110,7 @@ Examples:
       try {
         outcome = await runSweep({
           suite, outDir: opts.out, jobs: opts.jobs, shard, onlyMatrix: opts.onlyMatrix, onlyRecipe: opts.onlyRecipe,
-          cacheDir: opts.cache, builder: realDeps, signal: ac.signal,
+          cacheDir: opts.cache, builder, depsModule, signal: ac.signal,
           onProgress: bar ? (d, t, label) => bar.update(d, t, label) : undefined,
           log: opts.quiet ? undefined : (line) => { bar?.finish(); process.stderr.write(`${line}\n`); },
         });

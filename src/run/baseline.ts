@@ -287,12 +287,12 @@ export function renderCheckTable(out: CheckOutcome, opts: { color?: boolean } = 
   });
   const widths = header.map((h, i) => Math.max([...h].length, ...rows.map((r) => [...r[i]].length)));
   const lines: string[] = [];
-  lines.push(c.bold(header.map((h, i) => pad(h, widths[i])).join('  ')));
+  lines.push(c.bold(header.map((h, i) => pad(h, widths[i])).join('  ').trimEnd()));
   out.rows.forEach((r, k) => {
     const cells = rows[k].map((s, i) => pad(s, widths[i]));
     const v = cells.length - 1;
     cells[v] = r.problems.length ? c.red(cells[v]) : r.verdict === 'improved' || r.verdict === 'new' ? c.yellow(cells[v]) : c.green(cells[v]);
-    lines.push(cells.join('  '));
+    lines.push(cells.join('  ').trimEnd());
   });
   lines.push('');
   for (const r of out.rows) {

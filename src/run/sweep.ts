@@ -35,7 +35,7 @@ export interface SweepOptions {
   cacheDir?: string;
   /** Builds generator cases (real: writeGeneratedCase). */
   builder: CaseBuilder;
-  /** Module the workers import for loadSystem/readMatrixMarketVector/solveSystem (default: real-deps). */
+  /** Module the workers import for loadSystem/readMatrixMarketVector/solveSystem (default: solver-deps). */
   depsModule?: string;
   /** Run in this thread with these functions instead of workers (library use and tests). */
   inProcess?: RunDeps;
@@ -258,7 +258,7 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
   opts.onProgress?.(0, tasks.length, '');
   const interrupted = (opts.signal?.aborted ?? false) || (opts.inProcess
     ? await runInProcess(tasks, opts.inProcess, onDone, opts.signal)
-    : await runOnWorkers(tasks, jobs, opts.depsModule ?? siblingModuleUrl('real-deps').href, onDone, opts.signal));
+    : await runOnWorkers(tasks, jobs, opts.depsModule ?? siblingModuleUrl('solver-deps').href, onDone, opts.signal));
 
   const doc = buildDoc(interrupted ? 'interrupted' : 'complete');
   writeResults(doc, files.results, files.csv);

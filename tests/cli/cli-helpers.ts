@@ -1,0 +1,18 @@
+import { main } from '../../src/cli/main.js';
+
+/** Run the CLI in this process, capturing stdout and stderr. */
+export async function runCli(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
+  let stdout = '';
+  let stderr = '';
+  const out = process.stdout.write.bind(process.stdout);
+  const err = process.stderr.write.bind(process.stderr);
+  process.stdout.write = ((chunk: string | Uint8Array) => { stdout += String(chunk); return true; }) as typeof process.stdout.write;
+  process.stderr.write = ((chunk: string | Uint8Array) => { stderr += String(chunk); return true; }) as typeof process.stderr.write;
+  try {
+    const code = await main(args);
+    return { code, stdout, stderr };
+  } finally {
+    process.stdout.write = out;
+    process.stderr.write = err;
+  }
+}
