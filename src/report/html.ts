@@ -166,7 +166,8 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
 
   for (const g of groups) {
     const sl = slugOf(g.matrix);
-    const withResult = g.runs.filter((r) => r.result);
+    // Plots list recipes in ranking order (colours stay fixed per recipe across the report).
+    const withResult = rankRuns(g.runs).map((r) => r.run).filter((r) => r.result);
     const res: ReportSvg = {
       file: `residuals-${sl}.svg`,
       svg: residualPlot({

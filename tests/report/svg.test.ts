@@ -3,7 +3,7 @@ import { residualPlot } from '../../src/report/svg/residuals.js';
 import { ritzPlot } from '../../src/report/svg/ritz.js';
 import { patternPlot } from '../../src/report/svg/pattern.js';
 import { historyPlot } from '../../src/report/svg/history.js';
-import { esc } from '../../src/report/svg/common.js';
+import { decadeTicks, esc } from '../../src/report/svg/common.js';
 import { blockPattern } from '../../src/report/pattern.js';
 import { slabBsr } from './fixture.js';
 
@@ -101,5 +101,19 @@ describe('history plot', () => {
 describe('esc', () => {
   it('escapes the five XML specials', () => {
     expect(esc(`<a href="x">'&'</a>`)).toBe('&lt;a href=&quot;x&quot;&gt;&#39;&amp;&#39;&lt;/a&gt;');
+  });
+});
+
+describe('decadeTicks', () => {
+  it('covers the data range with at most ~9 decade ticks, ending on ticks', () => {
+    for (const [lo, hi] of [[1e-11, 1], [3e-9, 2.2e4], [0.5, 0.9], [1e-300, 1e10], [1e-10, 1e-10 * 1.0001]]) {
+      const t = decadeTicks(lo, hi);
+      expect(10 ** t[0], `${lo}`).toBeLessThanOrEqual(lo * (1 + 1e-12));
+      expect(10 ** t[t.length - 1], `${hi}`).toBeGreaterThanOrEqual(hi * (1 - 1e-12));
+      expect(t.length).toBeLessThanOrEqual(10);
+      for (let i = 1; i < t.length; i++) expect(t[i]).toBeGreaterThan(t[i - 1]);
+    }
+    // thinned: 11 decades in steps of 2, extended below 1e-11
+    expect(decadeTicks(1.7e-11, 1)).toEqual([-12, -10, -8, -6, -4, -2, 0]);
   });
 });

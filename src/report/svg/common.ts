@@ -133,6 +133,9 @@ export function decadeTicks(lo: number, hi: number): number[] {
   const a = Math.floor(Math.log10(lo) + 1e-9), b = Math.ceil(Math.log10(hi) - 1e-9);
   const step = Math.max(1, Math.ceil((b - a) / 8));
   const out: number[] = [];
-  for (let k = b; k >= a; k -= step) out.push(k);
-  return out.reverse();
+  // Step down from the top until the data's lowest decade is covered (the axis ends on a tick).
+  let k = b;
+  out.push(k);
+  while (k > a) { k -= step; out.push(k); }
+  return out.reverse().map((v) => v + 0); // + 0 turns −0 into 0
 }

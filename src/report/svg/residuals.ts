@@ -77,16 +77,19 @@ export function residualPlot(input: ResidualPlotInput): string {
     .y((p) => y(p[1]))
     .digits(2);
   s += `<g clip-path="url(#${esc(clip)})">`;
-  for (const ser of input.series) {
+  // Earlier series are drawn wider underneath, so identical histories still show both colours.
+  const nSeries = input.series.length;
+  input.series.forEach((ser, i) => {
     const st = seriesStyle(ser.colorIndex);
+    const strokeWidth = nSeries > 1 ? 1.5 + (3.5 * (nSeries - 1 - i)) / (nSeries - 1) : 2;
     const pts = ser.history.map((v, i) => [i, v] as [number, number]);
     // One-point histories (zero iterations) still get a visible dot.
     const d = pts.length === 1 ? '' : (path(pts) ?? '');
     s += `<path${attrs({
       'data-series': ser.name, d: d || `M${num(x(0))},${num(y(Math.max(ser.history[0] > 0 ? ser.history[0] : 1, y.domain()[0])))}h0.01`,
-      fill: 'none', stroke: st.color, 'stroke-width': 2, 'stroke-dasharray': st.dash, 'stroke-linejoin': 'round', 'stroke-linecap': 'round',
+      fill: 'none', stroke: st.color, 'stroke-width': strokeWidth, 'stroke-dasharray': st.dash, 'stroke-linejoin': 'round', 'stroke-linecap': 'round',
     })}/>`;
-  }
+  });
   s += '</g>';
   s += legend(entries, M.left + W + M.right + 8, M.top);
   return `${s}</svg>`;
