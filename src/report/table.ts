@@ -86,8 +86,8 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean 
     const rows = ranked.map(rowCells);
     const widths = COLUMNS.map((col, j) => Math.max([...col.title].length, ...rows.map((r) => [...r[j]].length)));
     const lines: string[] = [];
-    const title = `${g.matrix}${g.info?.note ? ` (${g.info.note})` : ''}`;
-    lines.push(`${c.bold(title)}  ${c.dim(matrixSummary(g.info))}`);
+    lines.push(`${c.bold(g.matrix)}  ${c.dim(matrixSummary(g.info))}`);
+    if (g.info?.note) lines.push(c.dim(`  ${g.info.note}`));
     const header = COLUMNS.map((col, j) => pad(col.title, widths[j], col.align)).join('  ');
     lines.push(c.dim(`  ${header}`));
     lines.push(c.dim(`  ${widths.map((w) => '─'.repeat(w)).join('  ')}`));
