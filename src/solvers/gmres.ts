@@ -7,6 +7,8 @@ import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } fro
 import { axpy, axpyDot, axpyNorm2, dot, isZero, norm2, scale } from './vector.js';
 import { ritzValues } from './ritz.js';
 
+export type { KrylovOptions } from './options.js';
+
 /**
  * Happy breakdown: h_{j+1,j} ≤ HAPPY·‖A z_j‖ means the Krylov space is (numerically) invariant and
  * the cycle's least-squares solution is exact (Saad 2003, Prop. 6.10). Common practice threshold.

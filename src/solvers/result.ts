@@ -27,9 +27,16 @@ export function secondsSince(t0: number): number {
 export interface PreconditionerMeter {
   applications: number;
   seconds: number;
+  /** Set when M.apply threw: the run then ends as 'preconditioner-failed' with this message. */
+  failure?: string;
   apply(r: Float64Array, z: Float64Array): void;
 }
 
+/**
+ * An apply() that throws (an inner solve gone wrong, say) must not escape to the user as a stack
+ * trace: the meter records the message and fills z with NaN, so the solver stops at once as
+ * non-finite, and buildResult reports 'preconditioner-failed' with the message.
+ */
 export function meterPreconditioner(M: Preconditioner | undefined): PreconditionerMeter {
   const meter: PreconditionerMeter = {
     applications: 0,
@@ -37,7 +44,12 @@ export function meterPreconditioner(M: Preconditioner | undefined): Precondition
     apply(r, z) {
       if (!M) { z.set(r); return; }
       const t0 = performance.now();
-      M.apply(r, z);
+      try {
+        M.apply(r, z);
+      } catch (e) {
+        meter.failure ??= `${M.name}.apply: ${(e as Error)?.message ?? String(e)}`;
+        z.fill(NaN);
+      }
       meter.seconds += (performance.now() - t0) / 1000;
       meter.applications++;
     },
@@ -83,6 +95,9 @@ export function relative(value: number, base: number): number {
 }
 
 export function buildResult(o: SolverOutcome): SolveResult {
+  if (o.meter.failure !== undefined) {
+    o = { ...o, reason: 'preconditioner-failed', failure: { message: o.meter.failure } };
+  }
   const memory = emptyMemory();
   memory.buffers.krylov = o.krylov;
   memory.buffers.work = o.work;

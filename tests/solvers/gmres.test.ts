@@ -221,3 +221,18 @@ describe('gmres: properties', () => {
     expect(() => gmres(op, b, new Float64Array(n), opts({ flexible: true, side: 'left' }))).toThrow(/right only/);
   });
 });
+
+describe('gmres: a preconditioner that throws', () => {
+  it('ends the run as preconditioner-failed with the message; nothing throws', () => {
+    const A = tridiag(10, -1, 2, -1);
+    let calls = 0;
+    const M: Preconditioner = {
+      name: 'fragile', n: 10, variable: false, setup: () => ({ ok: true }), memory: () => ({}),
+      apply(r, z) { if (++calls === 3) throw new Error('inner solve exploded'); z.set(r); },
+    };
+    const r = gmres(csrOperator(A), new Float64Array(10).fill(1), new Float64Array(10), opts({ M }));
+    expect(r.reason).toBe('preconditioner-failed');
+    expect(r.failure?.message).toBe('fragile.apply: inner solve exploded');
+    expect(r.converged).toBe(false);
+  });
+});
