@@ -1,3 +1,6 @@
+import { writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { main } from '../../src/cli/main.js';
 
 /** Run the CLI in this process, capturing stdout and stderr. */
@@ -15,4 +18,18 @@ export async function runCli(args: string[]): Promise<{ code: number; stdout: st
     process.stdout.write = out;
     process.stderr.write = err;
   }
+}
+
+const CI_DIR = fileURLToPath(new URL('../../matrices/ci/', import.meta.url));
+
+/** A suite over the committed CI matrices (absolute paths), with the given recipes. */
+export function ciSuite(dir: string, name: string, recipes: object[], matrices = ['ci-duct', 'ci-corridor']): string {
+  const p = join(dir, name);
+  writeFileSync(p, JSON.stringify({
+    schema: 'slabbench-suite/1',
+    description: 'test suite over the committed CI matrices',
+    matrices: matrices.map((m) => ({ name: m, file: join(CI_DIR, `${m}.mtx.gz`), rhs: join(CI_DIR, `${m}.rhs.mtx`) })),
+    recipes,
+  }));
+  return p;
 }

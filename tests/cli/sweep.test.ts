@@ -8,21 +8,9 @@ import { readResults } from '../../src/run/results.js';
 import { readHistory } from '../../src/run/history.js';
 import { demoSuitePath } from '../../src/cli/sweep.js';
 import { tempDir, writeTinySuite } from '../run/helpers.js';
-import { runCli } from './cli-helpers.js';
+import { ciSuite, runCli } from './cli-helpers.js';
 
 const CI_DIR = fileURLToPath(new URL('../../matrices/ci/', import.meta.url));
-
-/** A suite over the committed CI matrices (absolute paths), with the given recipes. */
-export function ciSuite(dir: string, name: string, recipes: object[], matrices = ['ci-duct', 'ci-corridor']): string {
-  const p = join(dir, name);
-  writeFileSync(p, JSON.stringify({
-    schema: 'slabbench-suite/1',
-    description: 'test suite over the committed CI matrices',
-    matrices: matrices.map((m) => ({ name: m, file: join(CI_DIR, `${m}.mtx.gz`), rhs: join(CI_DIR, `${m}.rhs.mtx`) })),
-    recipes,
-  }));
-  return p;
-}
 
 describe('slabbench sweep (CLI, real solver stack)', () => {
   const t = tempDir('slabbench-cli-sweep-');
