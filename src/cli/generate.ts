@@ -1,12 +1,104 @@
 import type { Command } from 'commander';
-import { UserError } from '../util/errors.js';
+import { resolve, join, dirname } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { UserError, optionError } from '../util/errors.js';
+import { writeGeneratedCase, type GeneratorParams } from '../dg/generate.js';
+import { readSuiteCases } from '../dg/suite-cases.js';
+import { addGeneratorOptions, generatorParamsFromOptions, progressPrinter, rejectGeneratorOptions } from './generator-options.js';
+import { readFileSync } from 'node:fs';
 
-// PLACEHOLDER: replaced by the owner of this command.
+/** The demo suite shipped with the package (matrices/suite.json). */
+export function defaultSuitePath(): string {
+  const here = dirname(fileURLToPath(import.meta.url));
+  // src/cli or dist/cli → package root.
+  return resolve(here, '..', '..', 'matrices', 'suite.json');
+}
+
+interface CaseSummary {
+  name: string;
+  files: { mtx: string; rhs: string; layout: string };
+  physics: string;
+  dim: number;
+  order: number;
+  nElements: number;
+  blockSize: number;
+  nSlabs: number;
+  n: number;
+  seconds: number;
+}
+
+async function buildCase(params: GeneratorParams, outDir: string, name: string): Promise<CaseSummary> {
+  const t0 = performance.now();
+  const files = await writeGeneratedCase(params, outDir, name, progressPrinter(`generating ${name}`));
+  const layout = JSON.parse(readFileSync(files.layout, 'utf8')) as { blockSize: number; slabOffsets: number[]; provenance: Record<string, unknown> };
+  const nElements = layout.provenance.nElements as number;
+  return {
+    name, files, physics: params.physics, dim: params.dim, order: params.order, nElements,
+    blockSize: layout.blockSize, nSlabs: layout.slabOffsets.length - 1, n: nElements * layout.blockSize,
+    seconds: (performance.now() - t0) / 1000,
+  };
+}
+
 export function registerGenerate(program: Command): void {
-  program
+  const cmd = program
     .command('generate')
-    .description('(not built yet)')
-    .action(() => {
-      throw new UserError('generate is not built yet');
+    .description('Generate a space-time DG Jacobian (NAME.mtx), its right-hand side (NAME.rhs.mtx) and layout (NAME.layout.json)');
+  addGeneratorOptions(cmd);
+  cmd
+    .option('--name <NAME>', 'base name of the output files (default <physics>-<d>d-p<order>)')
+    .option('--out <dir>', 'output folder (default .)', '.')
+    .option('--case <NAME>', 'build the generator case NAME of the suite file')
+    .option('--suite <FILE>', 'suite file for --case / --all-cases (default: the demo suite matrices/suite.json)')
+    .option('--all-cases', 'build every generator case of the suite into --out')
+    .option('--json', 'print a machine-readable summary on stdout')
+    .addHelpText('after', `
+Examples:
+  slabbench generate --physics advection --dim 2 --order 2 --cells 16 --slabs 4 --ordering downstream
+  slabbench generate --physics advection --dim 2 --velocity "-2*pi*(y-0.5)" --velocity "2*pi*(x-0.5)" \\
+      --initial "exp(-((x-0.7)^2+(y-0.5)^2)/0.01)" --name tank --out cases
+  slabbench generate --physics acoustics --dim 1 --order 3 --cells 64 --periodic x --mean-flow 0.3
+  slabbench generate --physics burgers --dim 1 --order 2 --cells 100 --initial "0.6-0.4*tanh((x-0.3)/0.05)"
+  slabbench generate --case duct-pulse --out /tmp/demo
+  slabbench generate --all-cases --out matrices/demo
+
+The layout file records the block size, the slab offsets (in block rows) and every parameter
+needed to rebuild the case (with defaults filled in). Elements are numbered slab by slab; the
+matrix is block lower triangular by slabs.`)
+    .action(async (opts: Record<string, unknown>) => {
+      const outDir = String(opts.out ?? '.');
+      const json = opts.json === true;
+      const jobs: { params: GeneratorParams; name: string }[] = [];
+      if (opts.case !== undefined && opts.allCases) throw optionError('--case', 'cannot be combined with --all-cases');
+      if (opts.case !== undefined || opts.allCases) {
+        rejectGeneratorOptions(opts, opts.allCases ? '--all-cases' : '--case');
+        const suitePath = opts.suite !== undefined ? String(opts.suite) : defaultSuitePath();
+        const cases = readSuiteCases(suitePath);
+        if (opts.allCases) {
+          if (opts.name !== undefined) throw optionError('--name', 'cannot be combined with --all-cases (each case keeps its name)');
+          if (cases.length === 0) throw new UserError(`${suitePath}: no generator cases (matrices with a "generate" object)`);
+          for (const c of cases) jobs.push({ params: c.params, name: c.name });
+        } else {
+          const c = cases.find((x) => x.name === opts.case);
+          if (!c) {
+            throw optionError('--case', `no generator case '${String(opts.case)}' in ${suitePath} (cases: ${cases.map((x) => x.name).join(', ') || 'none'})`);
+          }
+          jobs.push({ params: c.params, name: opts.name !== undefined ? String(opts.name) : c.name });
+        }
+      } else {
+        if (opts.suite !== undefined) throw optionError('--suite', 'only used with --case or --all-cases');
+        const params = generatorParamsFromOptions(opts);
+        const name = opts.name !== undefined ? String(opts.name) : `${params.physics}-${params.dim}d-p${params.order}`;
+        jobs.push({ params, name });
+      }
+      const summaries: CaseSummary[] = [];
+      for (const job of jobs) {
+        const s = await buildCase(job.params, outDir, job.name);
+        summaries.push(s);
+        if (!json) {
+          process.stdout.write(`${s.name}: ${s.physics} ${s.dim}D+t, order ${s.order}, ${s.nElements} elements in ${s.nSlabs} slabs, `
+            + `block size ${s.blockSize}, n = ${s.n} (${s.seconds.toFixed(2)} s)\n  wrote ${s.files.mtx}, ${s.files.rhs}, ${s.files.layout}\n`);
+        }
+      }
+      if (json) process.stdout.write(`${JSON.stringify({ schema: 'slabbench-generate/1', outDir: join(outDir), cases: summaries }, null, 2)}\n`);
     });
 }

@@ -1,0 +1,275 @@
+import { mkdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { buildSlabMesh, normalizeSlabMeshOptions, type SpaceTimeMesh, type SlabMeshOptions } from '../mesh/space-time.js';
+import type { Bsr, Layout } from '../sparse/types.js';
+import { MAX_INT32_INDEX } from '../sparse/types.js';
+import { UserError } from '../util/errors.js';
+import { VERSION } from '../version.js';
+import { basisDimension } from './basis.js';
+import { PHYSICS, PHYSICS_NAMES } from './physics/registry.js';
+import type { Physics, PhysicsContext, PhysicsDefinition, PhysicsName } from './physics/types.js';
+import { show } from './physics/fields.js';
+import { ELEMENT_ORDERINGS, orderElements, type ElementOrdering } from './ordering.js';
+import { assembleDg, prepareDiscretization, type Discretization, type ProgressSink } from './assemble.js';
+import { projectFunction } from './projection.js';
+import { writeCaseFiles } from './write-case.js';
+
+/**
+ * Parameters of a generated space-time DG system (JSON: suite files `generate` objects and the
+ * layout provenance). After parseGeneratorParams every field is present, defaults filled in.
+ */
+export interface GeneratorParams {
+  physics: PhysicsName;
+  /** Space dimension d (elements are (d+1)-simplices). */
+  dim: 1 | 2 | 3;
+  /** Polynomial total degree p: 0–4 (0–3 for 3D+t). */
+  order: number;
+  cells: number[];
+  extent: number[];
+  slabs: number;
+  layersPerSlab: number;
+  /** thickness = cfl · h / (max wave speed), h = min_k extent_k / cells_k; null when slabThickness is given. */
+  cfl: number | null;
+  slabThickness: number | null;
+  periodic: boolean[];
+  /** Mesh shear x → x + s t, or 'align' = the constant transport velocity (advection) / mean flow (acoustics). */
+  shear: number[] | 'align';
+  jitter: number;
+  seed: number;
+  ordering: ElementOrdering;
+  /** Physics-specific fields (velocity, diffusivity, soundSpeed, meanFlow, travelling, direction, initial, state, inflow). */
+  [field: string]: unknown;
+}
+
+export const MAX_ORDER = 4;
+export const MAX_ORDER_3D = 3;
+const COMMON_FIELDS = [
+  'physics', 'dim', 'order', 'cells', 'extent', 'slabs', 'layersPerSlab', 'cfl', 'slabThickness',
+  'periodic', 'shear', 'jitter', 'seed', 'ordering',
+];
+/** Largest generated value array (entries), checked before anything is allocated. */
+export const MAX_GENERATED_VALUES = 1.5e9;
+
+export type FieldLabel = (field: string) => string;
+
+/**
+ * Validate a raw parameter object. `where` prefixes messages ("suite.json: matrices[2].generate");
+ * `label` may map a field to another name (the CLI names its options). Everything is checked here —
+ * sizes, limits, expressions sampled over the space-time box — so no work starts on bad input.
+ */
+export function parseGeneratorParams(obj: unknown, where: string, label?: FieldLabel): GeneratorParams {
+  const name: FieldLabel = label ?? ((f) => `${where}.${f}`);
+  const fail = (field: string, what: string): never => { throw new UserError(`${name(field)}: ${what}`); };
+  if (typeof obj !== 'object' || obj === null || Array.isArray(obj)) throw new UserError(`${where}: expected an object of generator parameters`);
+  const raw = obj as Record<string, unknown>;
+  const physicsName = raw.physics;
+  if (typeof physicsName !== 'string' || !PHYSICS.has(physicsName as PhysicsName)) {
+    fail('physics', `expected one of ${PHYSICS_NAMES.join(', ')}, got ${show(physicsName)}`);
+  }
+  const def = PHYSICS.get(physicsName as PhysicsName) as PhysicsDefinition;
+  for (const key of Object.keys(raw)) {
+    if (COMMON_FIELDS.includes(key) || def.fields.includes(key)) continue;
+    const owner = [...PHYSICS.values()].find((p) => p.fields.includes(key));
+    if (owner) fail(key, `does not apply to physics ${def.name} (it belongs to ${owner.name})`);
+    fail(key, `unknown field (expected one of ${[...COMMON_FIELDS, ...def.fields].join(', ')})`);
+  }
+  const dim = raw.dim ?? 2;
+  if (dim !== 1 && dim !== 2 && dim !== 3) fail('dim', `expected 1, 2 or 3, got ${show(dim)}`);
+  const d = dim as 1 | 2 | 3;
+  const maxOrder = d === 3 ? MAX_ORDER_3D : MAX_ORDER;
+  const order = raw.order ?? 1;
+  if (typeof order !== 'number' || !Number.isInteger(order) || order < 0 || order > maxOrder) {
+    fail('order', `expected an integer 0..${maxOrder} for ${d}D+t, got ${show(order)}`);
+  }
+  const perAxis = <T>(field: string, dflt: T, check: (v: unknown) => boolean, what: string): T[] => {
+    let v = raw[field];
+    if (v === undefined) v = dflt;
+    if (!Array.isArray(v)) v = new Array(d).fill(v);
+    if ((v as unknown[]).length === 1 && d > 1) v = new Array(d).fill((v as unknown[])[0]);
+    const a = v as unknown[];
+    if (a.length !== d) fail(field, `expected ${d} entr${d > 1 ? 'ies' : 'y'} (one per space axis) or one value for all, got ${show(a)}`);
+    a.forEach((x, i) => { if (!check(x)) fail(field, `expected ${what}${d > 1 ? ` (entry ${i})` : ''}, got ${show(x)}`); });
+    return a as T[];
+  };
+  const posInt = (x: unknown): boolean => typeof x === 'number' && Number.isInteger(x) && x >= 1;
+  const posNum = (x: unknown): boolean => typeof x === 'number' && Number.isFinite(x) && x > 0;
+  const cells = perAxis<number>('cells', 8, posInt, 'a positive integer number of cells');
+  const extent = perAxis<number>('extent', 1, posNum, 'a positive length');
+  const periodic = perAxis<boolean>('periodic', false, (x) => typeof x === 'boolean', 'true or false');
+  const slabs = raw.slabs ?? 4;
+  if (!posInt(slabs)) fail('slabs', `expected a positive integer, got ${show(slabs)}`);
+  const layersPerSlab = raw.layersPerSlab ?? 1;
+  if (!posInt(layersPerSlab)) fail('layersPerSlab', `expected a positive integer, got ${show(layersPerSlab)}`);
+  let cfl: number | null = null;
+  let slabThickness: number | null = null;
+  if (raw.cfl !== undefined && raw.cfl !== null && raw.slabThickness !== undefined && raw.slabThickness !== null) {
+    fail('cfl', 'give either a CFL number or a slab thickness, not both');
+  }
+  if (raw.slabThickness !== undefined && raw.slabThickness !== null) {
+    if (!posNum(raw.slabThickness)) fail('slabThickness', `expected a positive number, got ${show(raw.slabThickness)}`);
+    slabThickness = raw.slabThickness as number;
+  } else {
+    const c = raw.cfl ?? 0.5;
+    if (!posNum(c)) fail('cfl', `expected a number > 0, got ${show(c)}`);
+    cfl = c as number;
+  }
+  let shear: number[] | 'align';
+  if (raw.shear === 'align') shear = 'align';
+  else shear = perAxis<number>('shear', 0, (x) => typeof x === 'number' && Number.isFinite(x), "a finite number (or 'align' for all axes)");
+  const jitter = raw.jitter ?? 0;
+  if (typeof jitter !== 'number' || !(jitter >= 0 && jitter < 0.5)) fail('jitter', `expected a number in [0, 0.5), got ${show(jitter)}`);
+  const seed = raw.seed ?? 1;
+  if (typeof seed !== 'number' || !Number.isInteger(seed) || seed < 0 || seed > 0xffffffff) fail('seed', `expected an integer 0..4294967295, got ${show(seed)}`);
+  const ordering = raw.ordering ?? 'natural';
+  if (typeof ordering !== 'string' || !ELEMENT_ORDERINGS.includes(ordering as ElementOrdering)) {
+    fail('ordering', `expected one of ${ELEMENT_ORDERINGS.join(', ')}, got ${show(ordering)}`);
+  }
+  const ctx: PhysicsContext = { dim: d, extent, periodic, label: name };
+  const physicsFields = def.normalize(raw, ctx);
+  const params: GeneratorParams = {
+    physics: def.name, dim: d, order: order as number, cells, extent, slabs: slabs as number,
+    layersPerSlab: layersPerSlab as number, cfl, slabThickness, periodic, shear, jitter: jitter as number,
+    seed: seed as number, ordering: ordering as ElementOrdering, ...physicsFields,
+  };
+  // Everything that depends on the physics: slab thickness, shear, sizes, expressions over [0, T].
+  resolveGenerator(params, name);
+  return params;
+}
+
+/** What a parameter set turns into before the mesh is built. */
+export interface ResolvedGenerator {
+  readonly definition: PhysicsDefinition;
+  readonly physics: Physics;
+  readonly meshOptions: SlabMeshOptions;
+  readonly slabThickness: number;
+  readonly finalTime: number;
+  readonly nElements: number;
+  readonly nBasis: number;
+  readonly blockSize: number;
+}
+
+export function resolveGenerator(params: GeneratorParams, label?: FieldLabel): ResolvedGenerator {
+  const name: FieldLabel = label ?? ((f) => `generator parameter ${f}`);
+  const d = params.dim;
+  const def = PHYSICS.get(params.physics) as PhysicsDefinition;
+  const ctx: PhysicsContext = { dim: d, extent: params.extent, periodic: params.periodic, label: name };
+  const physics = def.create(params, ctx);
+  let slabThickness: number;
+  if (params.slabThickness !== null) {
+    slabThickness = params.slabThickness;
+  } else {
+    let h = Infinity;
+    for (let k = 0; k < d; k++) h = Math.min(h, params.extent[k] / params.cells[k]);
+    if (!(physics.maxWaveSpeed > 0)) {
+      throw new UserError(`${name('cfl')}: the largest wave speed is 0, so a CFL number sets no slab thickness; give the slab thickness instead`);
+    }
+    slabThickness = ((params.cfl as number) * h) / physics.maxWaveSpeed;
+  }
+  let shear: number[];
+  if (params.shear === 'align') {
+    if (!physics.alignVelocity) {
+      throw new UserError(`${name('shear')}: 'align' needs a constant transport velocity (advection with constant velocity, or acoustics' mean flow)`);
+    }
+    shear = physics.alignVelocity.slice(0, d);
+  } else {
+    shear = params.shear;
+  }
+  const finalTime = slabThickness * params.slabs;
+  const meshOptions: SlabMeshOptions = {
+    dim: d, cells: params.cells, extent: params.extent, nSlabs: params.slabs, layersPerSlab: params.layersPerSlab,
+    slabThickness, periodic: params.periodic, shear, jitter: params.jitter, seed: params.seed,
+  };
+  normalizeSlabMeshOptions(meshOptions, 'mesh');
+  let nElements = params.slabs * params.layersPerSlab;
+  for (let k = 0; k < d; k++) nElements *= params.cells[k];
+  for (let k = 2; k <= d + 1; k++) nElements *= k;
+  const nBasis = basisDimension(d + 1, params.order);
+  const blockSize = nBasis * physics.nEquations;
+  // Upper bound of the blocks: the diagonal plus one per face (d + 2 faces per element).
+  const maxValues = nElements * (d + 3) * blockSize * blockSize;
+  if (maxValues > MAX_GENERATED_VALUES || nElements * blockSize > MAX_INT32_INDEX) {
+    throw new UserError(`${name('cells')}: ${nElements} elements with ${blockSize}×${blockSize} blocks would need about ${(maxValues * 8 / 2 ** 30).toFixed(1)} GiB of matrix values (limit ${(MAX_GENERATED_VALUES * 8 / 2 ** 30).toFixed(0)} GiB); reduce cells, slabs or order`);
+  }
+  def.check(params, ctx, finalTime);
+  return { definition: def, physics, meshOptions, slabThickness, finalTime, nElements, nBasis, blockSize };
+}
+
+/** The discretization of a parameter set: mesh, physics, element order, tables and BSR pattern. */
+export function buildDiscretization(params: GeneratorParams): { resolved: ResolvedGenerator; disc: Discretization } {
+  const resolved = resolveGenerator(params);
+  const mesh: SpaceTimeMesh = buildSlabMesh(resolved.meshOptions, 'mesh');
+  const ordering = orderElements(mesh, params.ordering, params.seed, (X, xo, out) => resolved.physics.transportVelocity(X, xo, out));
+  const disc = prepareDiscretization(mesh, resolved.physics, params.order, ordering);
+  return { resolved, disc };
+}
+
+export interface GeneratedSystem {
+  bsr: Bsr;
+  rhs: Float64Array;
+  layout: Layout;
+  /** Coefficients of the L² projection of the exact solution (block-row order), when one is known. */
+  exactSolution?: Float64Array;
+}
+
+/**
+ * Build the mesh, assemble the Jacobian and right-hand side. Linear physics: the matrix is the DG
+ * operator and the right-hand side its data terms (solve for the DG solution). Burgers: the
+ * Jacobian at the projected state and −residual (solve for the Newton update).
+ */
+export function generateSystem(params: GeneratorParams, onProgress?: ProgressSink): GeneratedSystem {
+  return generateWithDiscretization(params, onProgress).system;
+}
+
+/** generateSystem, also returning the discretization (mesh, element order) for error measurement. */
+export function generateWithDiscretization(
+  params: GeneratorParams, onProgress?: ProgressSink,
+): { system: GeneratedSystem; disc: Discretization } {
+  const { resolved, disc } = buildDiscretization(params);
+  const { mesh, physics, tables, ordering } = disc;
+  let state: Float64Array | null = null;
+  if (physics.state) state = projectFunction(mesh, params.order, physics.nEquations, ordering.inv, physics.state);
+  const { bsr, residual } = assembleDg(disc, state, { onProgress });
+  for (let i = 0; i < residual.length; i++) residual[i] = -residual[i];
+  const slabOffsets: number[] = Array.from(mesh.slabOffsets);
+  const layout: Layout = {
+    blockSize: disc.bs,
+    slabOffsets,
+    provenance: {
+      generator: 'slabbench generate',
+      slabbenchVersion: VERSION,
+      physics: params.physics,
+      dim: params.dim,
+      order: params.order,
+      nElements: mesh.nElements,
+      nSlabs: mesh.nSlabs,
+      nEquations: physics.nEquations,
+      nBasis: tables.nb,
+      unknowns: 'element block: unknown (equation i, basis function b) at i*nBasis + b; basis orthonormal (PKD) on the reference simplex',
+      elementOrdering: params.ordering,
+      downstreamCyclesCut: ordering.cyclesCut,
+      slabThickness: resolved.slabThickness,
+      finalTime: resolved.finalTime,
+      quadratureDegree: tables.volume.nq > 0 ? 2 * params.order + physics.extraQuadratureDegree(params.order) : 0,
+      system: physics.state ? 'Newton step: Jacobian at the projected state, rhs = -residual' : 'linear: DG operator, rhs = data terms',
+      physicsSummary: physics.summary,
+      params: { ...params },
+    },
+  };
+  const out: GeneratedSystem = { bsr: bsr as Bsr, rhs: residual, layout };
+  if (physics.exact) out.exactSolution = projectFunction(mesh, params.order, physics.nEquations, ordering.inv, physics.exact);
+  return { system: out, disc };
+}
+
+/** Generate and write NAME.mtx, NAME.rhs.mtx and NAME.layout.json into outDir. */
+export async function writeGeneratedCase(
+  params: GeneratorParams, outDir: string, name: string, onProgress?: ProgressSink,
+): Promise<{ mtx: string; rhs: string; layout: string }> {
+  if (!/^[A-Za-z0-9][A-Za-z0-9._-]*$/.test(name)) {
+    throw new UserError(`case name '${name}': use letters, digits, '.', '_' and '-' (it becomes a file name)`);
+  }
+  const system = generateSystem(params, onProgress);
+  mkdirSync(outDir, { recursive: true });
+  const paths = { mtx: join(outDir, `${name}.mtx`), rhs: join(outDir, `${name}.rhs.mtx`), layout: join(outDir, `${name}.layout.json`) };
+  await writeCaseFiles(paths, system, name);
+  return paths;
+}

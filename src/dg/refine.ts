@@ -1,0 +1,99 @@
+import { UserError } from '../util/errors.js';
+import { generateWithDiscretization, resolveGenerator, type GeneratorParams } from './generate.js';
+import { spaceTimeL2Error } from './projection.js';
+import { solveBySlabs } from './slab-solve.js';
+
+/**
+ * Refinement study for a linear case with an exact solution: for each mesh size, generate, solve
+ * (slab-by-slab direct solve, or tight GMRES for large slabs), and measure the space-time L²
+ * error ‖u_h − u‖ over Ω×(0, T). The final time T is held fixed: the slab thickness follows the
+ * case's CFL number (or scales with h when a thickness was given) and is rounded so an integer
+ * number of slabs fills (0, T). Observed order between successive sizes:
+ * log(e_{i−1}/e_i) / log(h_{i−1}/h_i).
+ */
+export interface RefinementRow {
+  /** Cells per space axis. */
+  cells: number[];
+  /** Smallest cell size h = min_k L_k / cells_k. */
+  h: number;
+  slabs: number;
+  slabThickness: number;
+  nElements: number;
+  nUnknowns: number;
+  error: number;
+  /** Observed order against the previous row (null on the first). */
+  observedOrder: number | null;
+  solver: string;
+  iterations?: number;
+  seconds: number;
+}
+
+export interface RefinementStudy {
+  physics: string;
+  dim: number;
+  order: number;
+  finalTime: number;
+  rows: RefinementRow[];
+}
+
+/** Parameters of size `size` (cells along axis 0; other axes keep the base aspect ratio). */
+export function refinedParams(base: GeneratorParams, size: number, finalTime: number): GeneratorParams {
+  const cells = base.cells.map((c) => Math.max(1, Math.round((size * c) / base.cells[0])));
+  const baseResolved = resolveGenerator(base);
+  let hBase = Infinity, h = Infinity;
+  for (let k = 0; k < base.dim; k++) {
+    hBase = Math.min(hBase, base.extent[k] / base.cells[k]);
+    h = Math.min(h, base.extent[k] / cells[k]);
+  }
+  const target = baseResolved.slabThickness * (h / hBase);
+  const slabs = Math.max(1, Math.ceil(finalTime / target - 1e-9));
+  return { ...base, cells, slabs, cfl: null, slabThickness: finalTime / slabs };
+}
+
+export function runRefinementStudy(
+  base: GeneratorParams, sizes: number[],
+  opts: { finalTime?: number; onRow?: (row: RefinementRow) => void } = {},
+): RefinementStudy {
+  if (sizes.length < 2) throw new UserError('refinement study: give at least two mesh sizes');
+  for (let i = 1; i < sizes.length; i++) {
+    if (!(sizes[i] > sizes[i - 1])) throw new UserError(`refinement study: mesh sizes must increase, got ${sizes.join(', ')}`);
+  }
+  const baseResolved = resolveGenerator(base);
+  if (base.physics === 'burgers') throw new UserError('refinement study: burgers is nonlinear (the generator writes one Newton step); choose a linear physics');
+  if (!baseResolved.physics.exact) {
+    throw new UserError(`refinement study: no exact solution is known for this ${base.physics} case (use the default initial condition, a constant velocity, or a 1D acoustic profile)`);
+  }
+  const finalTime = opts.finalTime ?? baseResolved.finalTime;
+  if (!(finalTime > 0)) throw new UserError(`refinement study: final time must be > 0, got ${finalTime}`);
+  const rows: RefinementRow[] = [];
+  for (const size of sizes) {
+    const t0 = performance.now();
+    const params = refinedParams(base, size, finalTime);
+    const { system, disc } = generateWithDiscretization(params);
+    const solved = solveBySlabs(system.bsr, system.rhs, system.layout.slabOffsets as number[]);
+    if (solved.converged === false) {
+      throw new UserError(`refinement study: the iterative solve did not converge for ${params.cells.join('×')} cells (relative residual ${solved.relativeResidual?.toExponential(2)})`);
+    }
+    const exact = disc.physics.exact!;
+    const error = spaceTimeL2Error(disc.mesh, params.order, disc.physics.nEquations, disc.ordering.inv, solved.x, exact);
+    let h = Infinity;
+    for (let k = 0; k < params.dim; k++) h = Math.min(h, params.extent[k] / params.cells[k]);
+    const prev = rows[rows.length - 1];
+    const row: RefinementRow = {
+      cells: params.cells,
+      h,
+      slabs: params.slabs,
+      slabThickness: params.slabThickness as number,
+      nElements: disc.mesh.nElements,
+      nUnknowns: system.rhs.length,
+      error,
+      observedOrder: prev ? Math.log(prev.error / error) / Math.log(prev.h / h) : null,
+      solver: solved.method,
+      seconds: (performance.now() - t0) / 1000,
+    };
+    if (solved.iterations !== undefined) row.iterations = solved.iterations;
+    rows.push(row);
+    opts.onRow?.(row);
+  }
+  return { physics: base.physics, dim: base.dim, order: base.order, finalTime, rows };
+}
