@@ -94,7 +94,9 @@ export function readLayout(path: string): Layout {
     const msg = (e as Error).message;
     const m = /position (\d+)/.exec(msg);
     const line = m ? text.slice(0, Number(m[1])).split('\n').length : undefined;
-    throw fileError(path, line, `not valid JSON (${msg.replace(/ in JSON at position \d+.*$/, '')})`);
+    // V8 messages sometimes quote the text around the error (with its newlines): keep the first clause.
+    const what = msg.replace(/ in JSON at position \d+.*$/s, '').replace(/, \.\.\.".*$/s, '').replace(/, ".*$/s, '').replace(/\s+/g, ' ');
+    throw fileError(path, line, `not valid JSON (${what})`);
   }
   return validateLayout(obj, path);
 }

@@ -1,0 +1,100 @@
+import { describe, it, expect } from 'vitest';
+import { readFileSync, readdirSync, writeFileSync, existsSync } from 'node:fs';
+import { join } from 'node:path';
+import { UserError } from '../../src/util/errors.js';
+import {
+  layoutPathFor, readLayout, readLayoutFor, writeLayout, validateLayout, checkLayoutFits, LAYOUT_SCHEMA,
+} from '../../src/sparse/layout.js';
+import { tempDir, escapeRe } from './matrix-market-helpers.js';
+
+const dir = tempDir('slabbench-layout-');
+let n = 0;
+function layoutFile(content: string): string {
+  const p = join(dir, `l${n++}.layout.json`);
+  writeFileSync(p, content);
+  return p;
+}
+
+describe('layoutPathFor', () => {
+  it.each([
+    ['duct.mtx', 'duct.layout.json'],
+    ['a/b/tank.mtx.gz', 'a/b/tank.layout.json'],
+    ['ROOM.MTX', 'ROOM.layout.json'],
+    ['plain', 'plain.layout.json'],
+    ['x.mm.gz', 'x.mm.layout.json'],
+  ])('%s → %s', (mtx, want) => {
+    expect(layoutPathFor(mtx)).toBe(want);
+  });
+});
+
+describe('readLayout / writeLayout', () => {
+  it('writes schema first, offsets on one line, and reads back the same layout', () => {
+    const p = join(dir, 'duct.layout.json');
+    const layout = { blockSize: 6, slabOffsets: [0, 40, 80], provenance: { generator: 'duct-pulse', order: 2, note: 'invented scenario' }, mesh: [4, 4] };
+    writeLayout(p, layout);
+    const text = readFileSync(p, 'utf8');
+    expect(text.startsWith(`{\n  "schema": "${LAYOUT_SCHEMA}",\n  "blockSize": 6,\n  "slabOffsets": [0, 40, 80],`)).toBe(true);
+    expect(readLayout(p)).toEqual({ schema: LAYOUT_SCHEMA, ...layout });
+    expect(readdirSync(dir).filter((f) => f.endsWith('.tmp'))).toEqual([]);
+  });
+
+  it('finds the sidecar of a matrix, or reports none', () => {
+    writeLayout(join(dir, 'tank.layout.json'), { blockSize: 4 });
+    expect(readLayoutFor(join(dir, 'tank.mtx.gz'))?.blockSize).toBe(4);
+    expect(readLayoutFor(join(dir, 'nothing-here.mtx'))).toBeUndefined();
+  });
+
+  it('accepts a hand-written layout without schema and with only a block size', () => {
+    expect(readLayout(layoutFile('{ "blockSize": 10 }')).blockSize).toBe(10);
+  });
+
+  it.each([
+    ['not JSON', '{ "blockSize": 6, }', 'json', /not valid JSON \(/],
+    ['JSON error on a later line', '{\n  "blockSize": 6,\n  "slabOffsets": [0, 1,]\n}', 'json', /not valid JSON \(Unexpected token/],
+    ['not an object', '[1, 2]', undefined, /expected a JSON object with "blockSize", found an array/],
+    ['wrong schema', '{ "schema": "slabbench-layout/9", "blockSize": 2 }', undefined, /schema: expected "slabbench-layout\/1", found "slabbench-layout\/9"/],
+    ['missing blockSize', '{ "slabOffsets": [0, 2] }', undefined, /blockSize: missing/],
+    ['blockSize 0', '{ "blockSize": 0 }', undefined, /blockSize: expected an integer 1..4096, found 0/],
+    ['blockSize not an integer', '{ "blockSize": 2.5 }', undefined, /blockSize: expected an integer 1..4096, found 2.5/],
+    ['blockSize as a string', '{ "blockSize": "6" }', undefined, /blockSize: expected an integer 1..4096, found "6"/],
+    ['slabOffsets not an array', '{ "blockSize": 2, "slabOffsets": 4 }', undefined, /slabOffsets: expected an array of block-row offsets, found 4/],
+    ['slabOffsets too short', '{ "blockSize": 2, "slabOffsets": [0] }', undefined, /slabOffsets: expected at least 2 entries/],
+    ['slabOffsets not starting at 0', '{ "blockSize": 2, "slabOffsets": [1, 4] }', undefined, /slabOffsets\[0\]: expected 0/],
+    ['slabOffsets not increasing', '{ "blockSize": 2, "slabOffsets": [0, 4, 4] }', undefined, /slabOffsets\[2\]: expected more than slabOffsets\[1\] = 4/],
+    ['slabOffsets with a non-integer', '{ "blockSize": 2, "slabOffsets": [0, 1.5] }', undefined, /slabOffsets\[1\]: expected a non-negative integer, found 1.5/],
+    ['provenance not an object', '{ "blockSize": 2, "provenance": "me" }', undefined, /provenance: expected an object, found "me"/],
+  ])('%s → one-line error naming file and field', (_name, content, line, pattern) => {
+    const p = layoutFile(content);
+    let err: unknown;
+    try { readLayout(p); } catch (e) { err = e; }
+    expect(err).toBeInstanceOf(UserError);
+    const msg = (err as Error).message;
+    expect(msg).not.toContain('\n');
+    // JSON.parse reports a position for some errors only; when it does, the line is named
+    expect(msg).toMatch(new RegExp(`^${escapeRe(p)}${line === undefined ? '' : line === 'json' ? '(:[13])?' : `:${line}`}: `));
+    expect(msg).toMatch(pattern);
+  });
+
+  it('names a missing file', () => {
+    expect(() => readLayout(join(dir, 'absent.layout.json'))).toThrow(/absent\.layout\.json: no such file/);
+  });
+
+  it('refuses to write an invalid layout and leaves no file', () => {
+    const p = join(dir, 'bad.layout.json');
+    expect(() => writeLayout(p, { blockSize: 3, slabOffsets: [0, 2, 1] })).toThrow(/refusing to write an invalid layout: .*slabOffsets\[2\]/);
+    expect(existsSync(p)).toBe(false);
+  });
+
+  it('checks a layout against its matrix: block size divides, last offset = block rows', () => {
+    const l = validateLayout({ blockSize: 3, slabOffsets: [0, 2, 4] }, 'x.layout.json');
+    expect(() => checkLayoutFits(l, 12, 12, 'x.layout.json')).not.toThrow();
+    expect(() => checkLayoutFits(l, 13, 13, 'x.layout.json')).toThrow(/^x\.layout\.json: blockSize: 3 does not divide the matrix size 13×13$/);
+    expect(() => checkLayoutFits(l, 15, 15, 'x.layout.json')).toThrow(/slabOffsets: last entry must be the number of block rows, 5, found 4/);
+  });
+
+  it('does not modify the layout object it writes', () => {
+    const layout = Object.freeze({ blockSize: 2, slabOffsets: Object.freeze([0, 1, 3]) });
+    writeLayout(join(dir, 'frozen.layout.json'), layout);
+    expect(layout).toEqual({ blockSize: 2, slabOffsets: [0, 1, 3] });
+  });
+});
