@@ -17,12 +17,17 @@ function intOption(option: string, min: number, max: number) {
   };
 }
 
+function cellsOption(v: string): number[] {
+  const parse = intOption('--cells', 1, 1_000_000);
+  return v.split(',').map((part) => parse(part));
+}
+
 interface EstimateCliOptions {
   dim: number;
   order: number;
   equations: number;
   elements?: number;
-  cells?: number;
+  cells?: number[];
   layers?: number;
   periodic?: boolean;
   slabs: number;
@@ -40,9 +45,12 @@ export function estimateInputFromOptions(o: EstimateCliOptions): EstimateInput {
     throw optionError(o.layers !== undefined ? '--layers' : '--periodic', 'describes the structured mesh; use it with --cells, not --elements');
   }
   if (o.elements !== undefined && o.elements < o.slabs) throw optionError('--elements', `expected at least one element per slab (${o.slabs} slabs), got ${o.elements}`);
+  if (o.cells !== undefined && o.cells.length !== 1 && o.cells.length !== o.dim) {
+    throw optionError('--cells', `expected one count or ${o.dim} comma-separated counts (one per space axis), got ${o.cells.length}`);
+  }
   const input: EstimateInput = {
     spaceDim: o.dim as 1 | 2 | 3, order: o.order, equations: o.equations, slabs: o.slabs, restart: o.restart,
-    ...(o.elements !== undefined ? { elements: o.elements } : { cells: o.cells, layersPerSlab: o.layers ?? 1, periodic: o.periodic === true }),
+    ...(o.elements !== undefined ? { elements: o.elements } : { cells: o.cells!.length === 1 ? o.cells![0] : o.cells!, layersPerSlab: o.layers ?? 1, periodic: o.periodic === true }),
   };
   if (o.blocks === undefined) return input;
   const elements = estimateMemory(input).allAtOnce.elements;
@@ -104,7 +112,7 @@ export function registerEstimate(program: Command): void {
     .requiredOption('--order <p>', 'polynomial total degree of the space-time basis', intOption('--order', 0, 20))
     .option('--equations <m>', 'equations per point (1 scalar advection; d+1 or d+2 acoustics / linearized Euler)', intOption('--equations', 1, 1000), 1)
     .option('--elements <n>', 'total space-time elements (all slabs)', intOption('--elements', 1, Number.MAX_SAFE_INTEGER))
-    .option('--cells <c>', 'instead of --elements: cells per space direction of the structured Kuhn mesh', intOption('--cells', 1, 1_000_000))
+    .option('--cells <c>', 'instead of --elements: cells per space direction of the structured Kuhn mesh (one count, or one per axis: 12,3)', cellsOption)
     .option('--layers <l>', 'with --cells: time layers per slab (default 1)', intOption('--layers', 1, 1_000_000))
     .option('--periodic', 'with --cells: periodic space boundaries (every space face interior)')
     .option('--slabs <s>', 'number of time slabs', intOption('--slabs', 1, 100_000_000), 1)

@@ -12,9 +12,10 @@
  *    bound. For the structured Kuhn mesh of `slabbench generate` (cells^d boxes per time layer,
  *    (d+1)! simplices per box, `layers` layers per slab) the count is exact:
  *      blocks = E·(d+3) − B_space − d!·c^d·(S + 1),
- *    where B_space = d!·2d·c^(d−1)·layers·S boundary faces on the space sides (0 when periodic), the
- *    d!·c^d·(S+1) term removes the initial and final faces and the upper (zero, upwind-in-time)
- *    block of every slab-interface face. One slab alone: E_s·(d+3) − B_space,s − 2·d!·c^d.
+ *    where c^d stands for Π_k c_k (cells may differ per axis), B_space = Σ_k d!·2·(c^d / c_k)·layers·S
+ *    counts the boundary faces on the space sides of the non-periodic axes k, and the d!·c^d·(S+1)
+ *    term removes the initial and final faces and the upper (zero, upwind-in-time) block of every
+ *    slab-interface face. One slab alone: E_s·(d+3) − B_space,s − 2·d!·c^d.
  *  - BSR bytes: values blocks·bs²·8, column indices blocks·4, row pointers (elements + 1)·4.
  *  - preconditioner factors (as stored by src/precond):
  *      jacobi       inverse diagonal, n·8
@@ -46,12 +47,12 @@ export interface EstimateInput {
   restart: number;
   /** Total space-time elements (give this, or cells). */
   elements?: number;
-  /** Cells per space direction of the structured Kuhn mesh (give this, or elements). */
-  cells?: number;
+  /** Cells per space direction of the structured Kuhn mesh: one count for every axis, or one per axis (give this, or elements). */
+  cells?: number | number[];
   /** Time layers per slab (with cells; default 1). */
   layersPerSlab?: number;
-  /** Periodic space boundaries (with cells; default false). */
-  periodic?: boolean;
+  /** Periodic space boundaries (with cells; default false): all axes, or one flag per axis. */
+  periodic?: boolean | boolean[];
   /** Exact number of stored blocks of the whole matrix (overrides the face-count estimate). */
   blocks?: number;
 }
@@ -103,9 +104,14 @@ export function spaceTimeBasisSize(spaceDim: number, order: number): number {
   return binomial(order + spaceDim + 1, spaceDim + 1);
 }
 
-/** Elements of the structured Kuhn space-time mesh: cells^d · layers · slabs · (d+1)!. */
-export function kuhnElements(spaceDim: number, cells: number, layersPerSlab: number, slabs: number): number {
-  return cells ** spaceDim * layersPerSlab * slabs * factorial(spaceDim + 1);
+/** Elements of the structured Kuhn space-time mesh: Π cells_k · layers · slabs · (d+1)!. */
+export function kuhnElements(spaceDim: number, cells: number | number[], layersPerSlab: number, slabs: number): number {
+  const c = perAxis(cells, spaceDim);
+  return c.reduce((a, b) => a * b, 1) * layersPerSlab * slabs * factorial(spaceDim + 1);
+}
+
+function perAxis<T>(v: T | T[], d: number): T[] {
+  return Array.isArray(v) ? v : Array<T>(d).fill(v);
 }
 
 function footprint(elements: number, blocks: number, bs: number, restart: number): Footprint {
@@ -154,13 +160,18 @@ export function estimateMemory(input: EstimateInput): MemoryEstimate {
   let elements: number, slabElements: number, blocks: number, slabBlocks: number;
   let source: BlockCountSource;
   if (input.cells !== undefined) {
-    const c = input.cells, L = input.layersPerSlab ?? 1;
-    check(isPosInt(c), `cells must be an integer ≥ 1, got ${c}`);
+    const c = perAxis(input.cells, d), L = input.layersPerSlab ?? 1;
+    const periodic = perAxis(input.periodic ?? false, d);
+    check(c.length === d && c.every(isPosInt), `cells must be ${d} integer${d === 1 ? '' : 's'} ≥ 1, got ${JSON.stringify(input.cells)}`);
+    check(periodic.length === d, `periodic must be one flag or ${d} flags, got ${JSON.stringify(input.periodic)}`);
     check(isPosInt(L), `layersPerSlab must be an integer ≥ 1, got ${L}`);
     elements = kuhnElements(d, c, L, slabs);
     slabElements = elements / slabs;
-    const timeFaces = dFact * c ** d; // faces on one t = const plane
-    const spaceSide = input.periodic ? 0 : dFact * 2 * d * c ** (d - 1) * L; // per slab
+    const cellsPerLayer = c.reduce((a, b) => a * b, 1);
+    const timeFaces = dFact * cellsPerLayer; // faces on one t = const plane
+    // Per slab: each non-periodic axis k has two sides of (cells/c_k)·L boxes, d! faces per box side.
+    let spaceSide = 0;
+    for (let k = 0; k < d; k++) if (!periodic[k]) spaceSide += dFact * 2 * (cellsPerLayer / c[k]) * L;
     blocks = elements * (d + 3) - spaceSide * slabs - timeFaces * (slabs + 1);
     slabBlocks = slabElements * (d + 3) - spaceSide - 2 * timeFaces;
     source = 'structured-mesh';

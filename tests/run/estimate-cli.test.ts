@@ -25,6 +25,16 @@ describe('slabbench estimate', () => {
     expect(parsed.blockCountSource).toBe('structured-mesh');
   });
 
+  it('takes one cell count per axis', async () => {
+    const r = await run(['--dim', '2', '--order', '1', '--equations', '1', '--cells', '12,3', '--slabs', '3', '--json']);
+    expect(r.code).toBe(0);
+    const e = JSON.parse(r.stdout) as MemoryEstimate;
+    expect(e.allAtOnce.elements).toBe(12 * 3 * 3 * 6);
+    const bad = await run(['--dim', '2', '--order', '1', '--cells', '4,4,4']);
+    expect(bad.code).toBe(2);
+    expect(bad.stderr).toMatch(/--cells/);
+  });
+
   it('rejects bad options with one line naming the option', async () => {
     const bad: Array<[string[], RegExp]> = [
       [['--dim', '4', '--order', '1', '--elements', '10'], /--dim/],

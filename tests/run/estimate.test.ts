@@ -1,4 +1,8 @@
 import { describe, it, expect } from 'vitest';
+import { existsSync, readdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { loadSystem } from '../../src/sparse/load.js';
 import {
   binomial, estimateMemory, ESTIMATE_PRECONDITIONERS, kuhnElements, spaceTimeBasisSize, type EstimateInput,
 } from '../../src/run/estimate.js';
@@ -12,9 +16,10 @@ import { DEFAULT_RECIPE, type Recipe } from '../../src/solvers/recipe.js';
 import type { SystemMatrix } from '../../src/precond/types.js';
 
 /** The block structure `slabbench generate` stores for a structured mesh (no values assembled). */
-function generatorPattern(dim: 1 | 2 | 3, cells: number, layersPerSlab: number, nSlabs: number, periodic: boolean, bs: number) {
+function generatorPattern(dim: 1 | 2 | 3, cells: number | number[], layersPerSlab: number, nSlabs: number, periodic: boolean | boolean[], bs: number) {
   const mesh = buildSlabMesh({
-    dim, cells: Array(dim).fill(cells), nSlabs, layersPerSlab, slabThickness: 0.1, periodic: Array(dim).fill(periodic),
+    dim, cells: Array.isArray(cells) ? cells : Array(dim).fill(cells), nSlabs, layersPerSlab, slabThickness: 0.1,
+    periodic: Array.isArray(periodic) ? periodic : Array(dim).fill(periodic),
   });
   const identity = Int32Array.from({ length: mesh.nElements }, (_, i) => i);
   const p = buildBlockPattern(mesh, identity, bs);
@@ -76,16 +81,18 @@ describe('estimate: sizes', () => {
 });
 
 describe('estimate: block counts against the generator pattern', () => {
-  const cases: Array<[1 | 2 | 3, number, number, number, boolean]> = [
+  const cases: Array<[1 | 2 | 3, number | number[], number, number, boolean | boolean[]]> = [
     [1, 5, 2, 3, false],
     [1, 6, 1, 4, true],
     [2, 3, 1, 2, false],
     [2, 4, 2, 2, true],
+    [2, [5, 3], 1, 3, [true, false]],
     [3, 2, 1, 2, false],
+    [3, [3, 2, 2], 2, 1, false],
     [3, 3, 1, 1, true],
   ];
   for (const [d, c, L, S, periodic] of cases) {
-    it(`${d}D+t, ${c} cells, ${L} layers, ${S} slabs${periodic ? ', periodic' : ''}: exact all-at-once and per-slab counts and bytes`, () => {
+    it(`${d}D+t, cells ${c}, ${L} layers, ${S} slabs, periodic ${periodic}: exact all-at-once and per-slab counts and bytes`, () => {
       const order = 1, equations = 2;
       const bs = equations * spaceTimeBasisSize(d, order);
       const { bsr, slabOffsets } = generatorPattern(d, c, L, S, periodic, bs);
@@ -178,4 +185,29 @@ describe('estimate: input checks', () => {
     estimateMemory(input);
     expect(input).toEqual(copy);
   });
+});
+
+describe('estimate: committed generated matrices (matrices/ci, written by `slabbench generate`)', () => {
+  const dir = fileURLToPath(new URL('../../matrices/ci/', import.meta.url));
+  const names = readdirSync(dir).filter((f) => f.endsWith('.layout.json')).map((f) => f.slice(0, -'.layout.json'.length));
+  it('finds the committed cases', () => {
+    expect(names.length).toBeGreaterThanOrEqual(3);
+  });
+  for (const name of names) {
+    it(`${name}: the structured-mesh estimate equals the stored blocks and BSR bytes`, async () => {
+      const mtx = existsSync(join(dir, `${name}.mtx.gz`)) ? join(dir, `${name}.mtx.gz`) : join(dir, `${name}.mtx`);
+      const sys = await loadSystem(mtx);
+      const prov = sys.layout!.provenance as { nEquations: number; params: { dim: 1 | 2 | 3; order: number; cells: number[]; slabs: number; layersPerSlab: number; periodic: boolean[] } };
+      const p = prov.params;
+      const e = estimateMemory({
+        spaceDim: p.dim, order: p.order, equations: prov.nEquations, cells: p.cells, layersPerSlab: p.layersPerSlab,
+        slabs: p.slabs, periodic: p.periodic, restart: 30,
+      });
+      expect(e.bs).toBe(sys.bs);
+      expect(e.allAtOnce.elements).toBe(sys.bsr.nBlockRows);
+      expect(e.allAtOnce.blocks).toBe(sys.bsr.colInd.length);
+      expect(e.allAtOnce.jacobian.total).toBe(bsrBytes(sys.bsr));
+      for (let s = 0; s < p.slabs; s++) expect(slabBlocks(sys.bsr, sys.slabOffsets!, s)).toBe(e.slab.blocks);
+    });
+  }
 });
