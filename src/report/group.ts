@@ -8,7 +8,8 @@ export interface MatrixRuns {
 
 /**
  * Runs grouped by matrix: matrices in the order of `results.matrices`, then any matrix that
- * only appears in runs (in order of first appearance). Runs keep their document order.
+ * only appears in runs (in order of first appearance). Runs keep their document order. Matrices
+ * without runs (e.g. listed in a shard's document but run on another shard) are left out.
  */
 export function runsByMatrix(results: ResultsDoc): MatrixRuns[] {
   const out: MatrixRuns[] = [];
@@ -28,7 +29,7 @@ export function runsByMatrix(results: ResultsDoc): MatrixRuns[] {
     }
     g.runs.push(run);
   }
-  return out;
+  return out.filter((g) => g.runs.length > 0);
 }
 
 /** Recipe names in order of first appearance across the whole document (fixes plot colours). */

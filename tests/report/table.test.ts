@@ -91,3 +91,17 @@ describe('format', () => {
     expect(formatCount(1234567)).toBe('1 234 567');
   });
 });
+
+describe('renderRankedTables edge cases', () => {
+  it('leaves out matrices without runs and shows runs that could not start', () => {
+    const results = makeResults();
+    results.runs = [{ matrix: 'lonely', recipe: 'r', recipeParams: results.runs[0].recipeParams, error: 'could not read lonely.mtx' }];
+    const out = renderRankedTables(results);
+    expect(out).not.toContain('duct-pulse');
+    expect(out).toContain('lonely');
+    expect(out).toContain('not run');
+    expect(out).toContain('r: could not read lonely.mtx');
+    results.runs = [];
+    expect(renderRankedTables(results)).toBe('no runs in the results\n');
+  });
+});
