@@ -63,7 +63,7 @@ export function estimateInputFromOptions(o: EstimateCliOptions): EstimateInput {
 const SOURCE_NOTE: Record<MemoryEstimate['blockCountSource'], string> = {
   exact: 'exact count from --blocks (one slab: its share)',
   'structured-mesh': 'counted on the structured Kuhn mesh of `slabbench generate`',
-  'upper-bound': 'upper bound: every face of every element interior; --cells or --blocks give an exact count',
+  'upper-bound': 'an upper bound (every face of every element counted as interior); --cells or --blocks give an exact count',
 };
 
 /** Human-readable table: all-at-once beside one slab. */

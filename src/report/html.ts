@@ -241,7 +241,7 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
     + (results.suite?.description ? `<p>${esc(results.suite.description)}</p>` : '')
     + `<p class="limits"><strong>Limits.</strong> ${esc(LIMITS_STATEMENT)}</p>`
     + `<nav>${nav}</nav>`
-    + sections.join('')
+    + (sections.length ? sections.join('') : '<p>No runs in the results.</p>')
     + historySection
     + `<footer>Ranking: converged runs first by setup + solve time (ties: fewer iterations), then the rest by final true relative residual. ${esc(WINNER_MARK)} marks the winner.</footer>`
     + '</main></body></html>\n';

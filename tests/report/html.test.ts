@@ -45,6 +45,11 @@ describe('renderReport', () => {
     expect(renderReport(makeResults()).html).toBe(a.html);
     expect(a.svgs).toHaveLength(6);
     expect(a.html).not.toContain('id="history"');
+    const none = makeResults();
+    none.runs = [];
+    const empty = renderReport(none);
+    expect(empty.svgs).toEqual([]);
+    expect(empty.html).toContain('No runs in the results.');
   });
 });
 
