@@ -179,7 +179,6 @@ export function resolveGenerator(params: GeneratorParams, label?: FieldLabel): R
     dim: d, cells: params.cells, extent: params.extent, nSlabs: params.slabs, layersPerSlab: params.layersPerSlab,
     slabThickness, periodic: params.periodic, shear, jitter: params.jitter, seed: params.seed,
   };
-  normalizeSlabMeshOptions(meshOptions, 'mesh');
   let nElements = params.slabs * params.layersPerSlab;
   for (let k = 0; k < d; k++) nElements *= params.cells[k];
   for (let k = 2; k <= d + 1; k++) nElements *= k;
@@ -190,6 +189,7 @@ export function resolveGenerator(params: GeneratorParams, label?: FieldLabel): R
   if (maxValues > MAX_GENERATED_VALUES || nElements * blockSize > MAX_INT32_INDEX) {
     throw new UserError(`${name('cells')}: ${nElements} elements with ${blockSize}×${blockSize} blocks would need about ${(maxValues * 8 / 2 ** 30).toFixed(1)} GiB of matrix values (limit ${(MAX_GENERATED_VALUES * 8 / 2 ** 30).toFixed(0)} GiB); reduce cells, slabs or order`);
   }
+  normalizeSlabMeshOptions(meshOptions, 'mesh');
   def.check(params, ctx, finalTime);
   return { definition: def, physics, meshOptions, slabThickness, finalTime, nElements, nBasis, blockSize };
 }
