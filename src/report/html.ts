@@ -65,6 +65,7 @@ table.ranked td { text-align: right; border-bottom: 1px solid var(--line); paddi
 table.ranked th.text, table.ranked td.text { text-align: left; }
 table.ranked tr.winner td { background: var(--win); font-weight: 600; }
 table.ranked tr.failed td.reason { color: #a3202f; }
+.table-wrap { overflow-x: auto; }
 .notes { font-size: 12px; color: var(--muted); margin: 0 0 8px; padding-left: 18px; }
 .plots { display: flex; flex-wrap: wrap; gap: 14px; align-items: flex-start; }
 figure { margin: 0 0 12px; background: #fff; border: 1px solid var(--line); border-radius: 6px; padding: 6px; max-width: 100%; }
@@ -78,7 +79,7 @@ function tableHtml(runs: RunRecord[]): string {
   const ranked = rankRuns(runs);
   const heads = ['rank', 'recipe', 'iterations', 'restarts', 'stop reason', 'true rel. residual', 'setup s', 'solve s', 'memory'];
   const textCols = new Set([1, 4]);
-  let s = '<table class="ranked"><thead><tr>';
+  let s = '<div class="table-wrap"><table class="ranked"><thead><tr>';
   heads.forEach((h, j) => { s += `<th${textCols.has(j) ? ' class="text"' : ''}>${esc(h)}</th>`; });
   s += '</tr></thead><tbody>';
   for (const r of ranked) {
@@ -90,7 +91,7 @@ function tableHtml(runs: RunRecord[]): string {
     });
     s += '</tr>';
   }
-  s += '</tbody></table>';
+  s += '</tbody></table></div>';
   const notes: string[] = ['memory = preconditioner + Krylov basis bytes (the matrix itself is not included)'];
   const winner = ranked.find((r) => r.winner);
   notes.unshift(winner ? `${WINNER_MARK} winner: ${winner.run.recipe} — converged with the least setup + solve time` : 'no recipe converged on this matrix');
