@@ -37,6 +37,7 @@ interface SweepCliOptions {
   onlyMatrix?: string[];
   onlyRecipe?: string[];
   cache?: string;
+  warmup?: boolean;
   report: boolean;
   quiet?: boolean;
   json?: boolean;
@@ -79,6 +80,7 @@ export function registerSweep(program: Command, deps: SweepCommandDeps = REAL_DE
     .option('--shard <K/N>', 'run only share K of N (1-based) of the matrix × recipe list; combine with `slabbench merge`')
     .option('--only-matrix <names>', 'run only these matrices (comma-separated; repeatable)', collectNames)
     .option('--only-recipe <names>', 'run only these recipes (comma-separated; repeatable)', collectNames)
+    .option('--warmup', 'solve each pair once untimed before the measured solve, so JIT compilation stays out of the timings (doubles the work)')
     .option('--cache <dir>', 'folder for matrices built from generator entries (default OUT/matrices)')
     .option('--no-report', 'do not write report.html and the .svg plots')
     .addOption(new Option('-q, --quiet', 'print nothing but errors').conflicts('json'))
@@ -110,7 +112,7 @@ Examples:
       try {
         outcome = await runSweep({
           suite, outDir: opts.out, jobs: opts.jobs, shard, onlyMatrix: opts.onlyMatrix, onlyRecipe: opts.onlyRecipe,
-          cacheDir: opts.cache, builder, depsModule, signal: ac.signal,
+          cacheDir: opts.cache, builder, depsModule, signal: ac.signal, warmup: opts.warmup === true,
           onProgress: bar ? (d, t, label) => bar.update(d, t, label) : undefined,
           log: opts.quiet ? undefined : (line) => { bar?.finish(); process.stderr.write(`${line}\n`); },
         });

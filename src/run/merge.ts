@@ -111,6 +111,7 @@ export function mergeResults(files: ShardFile[]): ResultsDoc {
       jobs: Math.max(...files.map((f) => f.doc.parameters.jobs)),
       ...(fd.parameters.onlyMatrix ? { onlyMatrix: fd.parameters.onlyMatrix } : {}),
       ...(fd.parameters.onlyRecipe ? { onlyRecipe: fd.parameters.onlyRecipe } : {}),
+      ...(fd.parameters.warmup ? { warmup: true } : {}),
       mergedShards: files.length,
     },
     status: 'complete',

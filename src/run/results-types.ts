@@ -66,6 +66,8 @@ export interface ResultsDoc {
     onlyRecipe?: string[];
     /** Number of shard files combined by `slabbench merge`. */
     mergedShards?: number;
+    /** Each pair was solved once untimed before the measured solve (`sweep --warmup`). */
+    warmup?: boolean;
   };
   /** 'partial' while a sweep is running (written after each finished run), 'interrupted' after Ctrl-C.
    *  Absent in documents written before this field existed: read as 'complete'. */

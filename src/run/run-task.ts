@@ -27,6 +27,8 @@ export interface RunTask {
   id: number;
   matrix: TaskMatrix;
   recipe: Recipe;
+  /** Solve once untimed before the measured solve, so JIT compilation does not land in the timings. */
+  warmup?: boolean;
 }
 
 export interface TaskDone {
@@ -92,12 +94,10 @@ export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache
     info = matrixInfo({ name: m.name, source: m.source, path: m.displayPath, note: m.note }, loaded.system);
   }
   const sys = loaded.system;
+  const system = { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}) };
   try {
-    const { result } = deps.solveSystem(
-      { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}) },
-      loaded.b,
-      task.recipe,
-    );
+    if (task.warmup) deps.solveSystem(system, loaded.b, task.recipe);
+    const { result } = deps.solveSystem(system, loaded.b, task.recipe);
     return { id: task.id, record: { ...base, result }, info };
   } catch (e) {
     return { id: task.id, record: { ...base, error: errorText(e) }, info };

@@ -44,6 +44,8 @@ export interface SweepOptions {
   log?(line: string): void;
   /** Append to OUT/history.jsonl after a complete sweep (default true). */
   history?: boolean;
+  /** Solve each pair once untimed before the measured solve (JIT warm-up; doubles the work). */
+  warmup?: boolean;
 }
 
 export interface SweepOutcome {
@@ -221,7 +223,7 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
   }
 
   const tasks: RunTask[] = opts.signal?.aborted ? [] : pairs.map((p, id) => ({
-    id, matrix: taskMatrices.get(p.matrixIndex)!, recipe: recipes[p.recipeIndex],
+    id, matrix: taskMatrices.get(p.matrixIndex)!, recipe: recipes[p.recipeIndex], ...(opts.warmup ? { warmup: true } : {}),
   }));
 
   const env = environment();
@@ -239,6 +241,7 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
       ...(opts.shard ? { shard: { index: opts.shard.index, count: opts.shard.count } } : {}),
       ...(opts.onlyMatrix?.length ? { onlyMatrix: opts.onlyMatrix } : {}),
       ...(opts.onlyRecipe?.length ? { onlyRecipe: opts.onlyRecipe } : {}),
+      ...(opts.warmup ? { warmup: true } : {}),
     },
     status,
     matrices: matrixOrder.filter((n) => infos.has(n)).map((n) => infos.get(n)!),

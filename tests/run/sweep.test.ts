@@ -123,4 +123,13 @@ describe('runSweep', () => {
     expect(o.doc.suite.recipeNames).toEqual(['rich-1', 'rich-slow']);
     expect(o.doc.matrices.map((m) => m.name)).toEqual(['alpha']);
   });
+
+  it('--warmup solves each pair once untimed before the measured solve, and says so in the parameters', async () => {
+    let calls = 0;
+    const counting = { ...fake, solveSystem: (...a: Parameters<typeof fake.solveSystem>) => { calls++; return fake.solveSystem(...a); } };
+    const o = await runSweep({ suite, outDir: join(t.dir, 'warm'), jobs: 1, builder: fake, inProcess: counting, warmup: true, onlyMatrix: ['alpha'] });
+    expect(calls).toBe(4);
+    expect(o.doc.runs).toHaveLength(2);
+    expect(o.doc.parameters.warmup).toBe(true);
+  });
 });
