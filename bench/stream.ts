@@ -1,8 +1,9 @@
 /**
  * Streaming-bandwidth baseline for benches: the triad y[i] = a[i] + s·b[i] on plain Float64Arrays
- * (the "triad" of McCalpin's STREAM benchmark, IEEE TCCA Newsletter 1995 — from memory — counted the same way: 24 bytes per entry,
- * two loads and one store, write-allocate traffic not counted). A kernel's effective GB/s divided
- * by this figure, measured in the same run, says how close to memory-bound it is.
+ * (the "triad" of McCalpin's STREAM benchmark, IEEE TCCA Newsletter 1995 — from memory — counted
+ * the same way: 24 bytes per entry, two loads and one store, write-allocate traffic not counted).
+ * A kernel's effective GB/s divided by this figure, measured in the same run, says how close to
+ * memory-bound it is.
  */
 import { Bench, type Task } from 'tinybench';
 
