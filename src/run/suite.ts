@@ -219,3 +219,9 @@ export function selectFromSuite(suite: Suite, onlyMatrix?: string[], onlyRecipe?
   };
   return { matrices: pick(suite.matrices, onlyMatrix, '--only-matrix'), recipes: pick(suite.recipes, onlyRecipe, '--only-recipe') };
 }
+
+/** readSuite with the real recipe and generator-parameter parsers (library convenience). */
+export async function loadSuite(path: string): Promise<Suite> {
+  const real = await import('./real-deps.js');
+  return readSuite(path, real);
+}

@@ -33,8 +33,8 @@ export interface SweepOptions {
   onlyRecipe?: string[];
   /** Where generated cases are built (default OUT/matrices). */
   cacheDir?: string;
-  /** Builds generator cases (real: writeGeneratedCase). */
-  builder: CaseBuilder;
+  /** Builds generator cases (default: the real writeGeneratedCase, loaded when a generated matrix is needed). */
+  builder?: CaseBuilder;
   /** Module the workers import for loadSystem/readMatrixMarketVector/solveSystem (default: solver-deps). */
   depsModule?: string;
   /** Run in this thread with these functions instead of workers (library use and tests). */
@@ -217,7 +217,8 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
         displayPath: displayPath(outDir, m.filePath),
       });
     } else {
-      const built = await ensureGeneratedCase(cacheDir, m, opts.builder, opts.log);
+      const builder = opts.builder ?? (await import('./real-deps.js'));
+      const built = await ensureGeneratedCase(cacheDir, m, builder, opts.log);
       taskMatrices.set(mi, { name: m.name, source: 'generated', mtx: built.mtx, rhs: built.rhs, note: m.note, displayPath: displayPath(outDir, built.mtx) });
     }
   }
