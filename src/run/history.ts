@@ -19,6 +19,8 @@ export function historyEntry(doc: ResultsDoc): HistoryEntry {
       recipe: run.recipe,
       reason: r.reason,
       iterations: r.iterations,
+      // JSON has no NaN/Infinity and the field is a number: a non-finite residual (diverged run) is stored
+      // as the largest double, which plots as "off the top" and keeps the line valid.
       trueRelativeResidual: Number.isFinite(r.trueRelativeResidual) ? r.trueRelativeResidual : Number.MAX_VALUE,
       setupSeconds: r.timing.setupSeconds,
       solveSeconds: r.timing.solveSeconds,
