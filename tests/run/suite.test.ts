@@ -1,7 +1,8 @@
 import { describe, expect, it, afterAll } from 'vitest';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { parseSuite, readSuite, selectFromSuite } from '../../src/run/suite.js';
+import { loadSuite, parseSuite, readSuite, selectFromSuite } from '../../src/run/suite.js';
+import { fileURLToPath } from 'node:url';
 import * as fake from './fixtures/fake-deps.js';
 import { tempDir, writeTinySuite } from './helpers.js';
 
@@ -129,5 +130,17 @@ describe('readSuite', () => {
     expect(sel.recipes.map((r) => r.name)).toEqual(['rich-slow']);
     expect(() => selectFromSuite(s, ['gamma'])).toThrow('option --only-matrix: "gamma" is not in');
     expect(() => selectFromSuite(s, undefined, ['x'])).toThrow('option --only-recipe: "x" is not in');
+  });
+});
+
+describe('committed suites', () => {
+  it('the demo suite and the CI suite are valid with the real recipe and generator parsers', async () => {
+    const demo = await loadSuite(fileURLToPath(new URL('../../matrices/suite.json', import.meta.url)));
+    expect(demo.matrices.length).toBeGreaterThanOrEqual(3);
+    expect(demo.recipes.length).toBeGreaterThanOrEqual(5);
+    expect(demo.matrices.every((m) => m.note?.includes('invented'))).toBe(true);
+    const ci = await loadSuite(fileURLToPath(new URL('../../matrices/ci/suite.json', import.meta.url)));
+    expect(ci.matrices.map((m) => m.kind)).toEqual(['file', 'file', 'file']);
+    expect(ci.recipes.map((r) => r.name)).toEqual(['gmres-bjacobi', 'gmres-bgs-sym', 'gmres-bilu0-down', 'fgmres-slab-loose']);
   });
 });
