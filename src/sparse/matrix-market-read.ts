@@ -85,7 +85,6 @@ class MatrixMarketParser {
   private carry: Buffer | null = null;
   private skipLF = false;
   private atStart = true;
-  private warmed = false;
   private banner!: Banner;
   private readonly comments: string[] = [];
   nRows = 0;
@@ -181,20 +180,7 @@ class MatrixMarketParser {
     }
     while (p < e) {
       if (this.phase === PHASE_DATA && this.rows !== null && this.probe === undefined && !this.referenceOnly) {
-        if (!this.warmed) {
-          // Run the fast path over a single line first, so its exit code has type feedback
-          // before V8 compiles the hot loop (otherwise the optimized loop deoptimizes at every
-          // region end and the first read of a process runs several times slower).
-          this.warmed = true;
-          let q = p;
-          while (buf[q] !== LF && buf[q] !== CR) q++;
-          q++;
-          if (buf[q - 1] === CR && q < e && buf[q] === LF) q++;
-          p = this.coordinateLines(buf, p, q);
-          if (p >= e) break;
-          if (p === q) continue;
-        }
-        p = this.coordinateLines(buf, p, e);
+        p = this.fast(buf, p, e);
         if (p >= e) break;
       }
       let q = p;
@@ -208,111 +194,18 @@ class MatrixMarketParser {
     }
   }
 
-  /**
-   * Fast path over coordinate data lines. Returns the position of the first line it does not
-   * handle (left to line1) or e. Every line in [p, e) ends with a terminator, so no bounds checks.
-   */
-  private coordinateLines(buf: Buffer, p: number, e: number): number {
-    const rows = this.rows!, cols = this.cols!, vals = this.vals!;
-    const nRows = this.nRows, nCols = this.nCols, nEntries = this.nEntries;
-    const b = this.banner;
-    const pattern = b.field === 'pattern', integer = b.field === 'integer';
-    const lowerOnly = b.symmetry !== 'general';
-    const skew = b.symmetry === 'skew-symmetric';
-    const vector = b.object === 'vector';
-    let k = this.k, line = this.line, lastRow = this.lastRow, rowsSorted = this.rowsSorted;
-    let lineStart = p;
-    out: while (p < e) {
-      lineStart = p;
-      let c = buf[p];
-      while (c === SP || c === TAB) c = buf[++p];
-      if (c === LF || c === CR || c === PCT || k === nEntries) break;
-      // row index
-      let i = 0, nd = 0;
-      while (c >= D0 && c <= D9) { i = i * 10 + (c - D0); nd++; c = buf[++p]; }
-      if (nd === 0 || nd > 10 || (c !== SP && c !== TAB)) break;
-      while (c === SP || c === TAB) c = buf[++p];
-      let j = 1;
-      if (!vector) {
-        j = 0; nd = 0;
-        while (c >= D0 && c <= D9) { j = j * 10 + (c - D0); nd++; c = buf[++p]; }
-        if (nd === 0 || nd > 10) break;
-        if (!pattern) {
-          if (c !== SP && c !== TAB) break;
-          while (c === SP || c === TAB) c = buf[++p];
-        }
-      }
-      let v = 1;
-      if (!pattern) {
-        const tokStart = p;
-        let neg = false;
-        if (c === MINUS) { neg = true; c = buf[++p]; } else if (c === PLUS) c = buf[++p];
-        // mantissa: first 15 significant digits in m, up to 4 more in mB (nB of them); both exact
-        let m = 0, mB = 0, nB = 0, sig = 0, exp = 0, any = false;
-        while (c >= D0 && c <= D9) {
-          any = true;
-          if (m !== 0 || c !== D0) {
-            if (sig < 15) m = m * 10 + (c - D0); else { mB = mB * 10 + (c - D0); nB++; }
-            sig++;
-          }
-          c = buf[++p];
-        }
-        if (c === DOT) {
-          if (integer) break;
-          c = buf[++p];
-          while (c >= D0 && c <= D9) {
-            any = true;
-            if (m !== 0 || c !== D0) {
-              if (sig < 15) m = m * 10 + (c - D0); else { mB = mB * 10 + (c - D0); nB++; }
-              sig++;
-            }
-            exp--;
-            c = buf[++p];
-          }
-        }
-        if (!any || (integer && sig > 15)) break;
-        if (c === 101 || c === 69) { // e E
-          if (integer) break;
-          c = buf[++p];
-          let eneg = false;
-          if (c === MINUS) { eneg = true; c = buf[++p]; } else if (c === PLUS) c = buf[++p];
-          let x = 0, ed = 0;
-          while (c >= D0 && c <= D9) { x = x * 10 + (c - D0); ed++; c = buf[++p]; }
-          if (ed === 0 || ed > 4) break;
-          exp += eneg ? -x : x;
-        }
-        if (m === 0) v = 0;
-        else {
-          // value = (m·10^nB + mB)·10^exp, correctly rounded; false asks for the string fallback
-          DEC[0] = m; DEC[1] = mB;
-          if (sig <= 19 && decimalToDouble(nB, exp)) v = DEC[2];
-          else {
-            // Token grammar already checked byte by byte; Number() rounds like the reference path.
-            v = Number(buf.toString('latin1', neg || buf[tokStart] === PLUS ? tokStart + 1 : tokStart, p));
-            if (v === Infinity) break;
-          }
-        }
-        if (neg) v = -v;
-      }
-      while (c === SP || c === TAB) c = buf[++p];
-      if (c !== LF && c !== CR) break;
-      if (i < 1 || i > nRows || j < 1 || j > nCols) break;
-      if (lowerOnly && (j > i || (skew && i === j))) break;
-      // accept
-      i--; j--;
-      rows[k] = i; cols[k] = j; vals[k] = v; k++;
-      if (i < lastRow) rowsSorted = false;
-      lastRow = i;
-      p++;
-      if (c === CR) {
-        if (p < e) { if (buf[p] === LF) p++; } else { this.skipLF = true; }
-      }
-      line++;
-      continue out;
-    }
-    this.k = k; this.line = line; this.lastRow = lastRow; this.rowsSorted = rowsSorted;
-    if (k === nEntries) this.phase = PHASE_DONE;
-    return p >= e ? e : lineStart;
+  private readonly st = new Float64Array(5);
+
+  private fast(buf: Buffer, p: number, e: number): number {
+    const st = this.st, b = this.banner;
+    st[ST_K] = this.k; st[ST_LINE] = this.line; st[ST_LASTROW] = this.lastRow; st[ST_SORTED] = this.rowsSorted ? 1 : 0; st[ST_SKIPLF] = 0;
+    const flags = (b.field === 'pattern' ? F_PATTERN : 0) | (b.field === 'integer' ? F_INTEGER : 0)
+      | (b.symmetry !== 'general' ? F_LOWER : 0) | (b.symmetry === 'skew-symmetric' ? F_SKEW : 0) | (b.object === 'vector' ? F_VECTOR : 0);
+    const r = coordinateLines(buf, p, e, this.rows!, this.cols!, this.vals!, st, this.nRows, this.nCols, this.nEntries, flags);
+    this.k = st[ST_K]; this.line = st[ST_LINE]; this.lastRow = st[ST_LASTROW]; this.rowsSorted = st[ST_SORTED] === 1;
+    if (st[ST_SKIPLF] === 1) this.skipLF = true;
+    if (this.k === this.nEntries) this.phase = PHASE_DONE;
+    return r;
   }
 
   /** One line buf[s, q) through the reference rules (banner, comments, size line, any data line). */
@@ -438,6 +331,117 @@ class MatrixMarketParser {
     if (this.aj === nc || (sym !== 'general' && this.ai >= n)) this.phase = PHASE_DONE;
   }
 }
+
+const F_PATTERN = 1, F_INTEGER = 2, F_LOWER = 4, F_SKEW = 8, F_VECTOR = 16;
+const ST_K = 0, ST_LINE = 1, ST_LASTROW = 2, ST_SORTED = 3, ST_SKIPLF = 4;
+
+/**
+ * Fast path over coordinate data lines (a free function on typed arrays: state goes in and out
+ * through `st`, so V8's optimized loop never depends on the parser object's shape). Returns the
+ * position of the first line it does not handle (left to line1) or e. Every line in [p, e) ends with a terminator, so no bounds checks.
+ */
+function coordinateLines(
+  buf: Buffer, p: number, e: number, rows: Int32Array, cols: Int32Array, vals: Float64Array, st: Float64Array,
+  nRows: number, nCols: number, nEntries: number, flags: number,
+): number {
+  const pattern = (flags & F_PATTERN) !== 0, integer = (flags & F_INTEGER) !== 0;
+  const lowerOnly = (flags & F_LOWER) !== 0, skew = (flags & F_SKEW) !== 0, vector = (flags & F_VECTOR) !== 0;
+  let k = st[ST_K] | 0, line = st[ST_LINE], lastRow = st[ST_LASTROW] | 0, rowsSorted = st[ST_SORTED] | 0;
+  let lineStart = p;
+  while (p < e) {
+    let c = buf[p];
+    while (c === SP || c === TAB) c = buf[++p];
+    if (c === LF || c === CR || c === PCT || k === nEntries) break;
+    // row index
+    let i = 0, nd = 0;
+    while (c >= D0 && c <= D9) { i = i * 10 + (c - D0); nd++; c = buf[++p]; }
+    if (nd === 0 || nd > 10 || (c !== SP && c !== TAB)) break;
+    while (c === SP || c === TAB) c = buf[++p];
+    let j = 1;
+    if (!vector) {
+      j = 0; nd = 0;
+      while (c >= D0 && c <= D9) { j = j * 10 + (c - D0); nd++; c = buf[++p]; }
+      if (nd === 0 || nd > 10) break;
+      if (!pattern) {
+        if (c !== SP && c !== TAB) break;
+        while (c === SP || c === TAB) c = buf[++p];
+      }
+    }
+    let v = 1;
+    if (!pattern) {
+      const tokStart = p;
+      let neg = false;
+      if (c === MINUS) { neg = true; c = buf[++p]; } else if (c === PLUS) c = buf[++p];
+      // mantissa: first 15 significant digits in m, up to 4 more in mB (nB of them); both exact
+      let m = 0, mB = 0, nB = 0, sig = 0, exp = 0, any = false;
+      while (c >= D0 && c <= D9) {
+        any = true;
+        if (m !== 0 || c !== D0) {
+          if (sig < 15) m = m * 10 + (c - D0); else { mB = mB * 10 + (c - D0); nB++; }
+          sig++;
+        }
+        c = buf[++p];
+      }
+      if (c === DOT) {
+        if (integer) break;
+        c = buf[++p];
+        while (c >= D0 && c <= D9) {
+          any = true;
+          if (m !== 0 || c !== D0) {
+            if (sig < 15) m = m * 10 + (c - D0); else { mB = mB * 10 + (c - D0); nB++; }
+            sig++;
+          }
+          exp--;
+          c = buf[++p];
+        }
+      }
+      if (!any || (integer && sig > 15)) break;
+      if (c === 101 || c === 69) { // e E
+        if (integer) break;
+        c = buf[++p];
+        let eneg = false;
+        if (c === MINUS) { eneg = true; c = buf[++p]; } else if (c === PLUS) c = buf[++p];
+        let x = 0, ed = 0;
+        while (c >= D0 && c <= D9) { x = x * 10 + (c - D0); ed++; c = buf[++p]; }
+        if (ed === 0 || ed > 4) break;
+        exp += eneg ? -x : x;
+      }
+      if (m === 0) v = 0;
+      else {
+        // value = (m·10^nB + mB)·10^exp, correctly rounded; false asks for the string fallback
+        DEC[0] = m; DEC[1] = mB;
+        if (sig <= 19 && decimalToDouble(nB, exp)) v = DEC[2];
+        else {
+          // Token grammar already checked byte by byte; Number() rounds like the reference path.
+          v = Number(buf.toString('latin1', neg || buf[tokStart] === PLUS ? tokStart + 1 : tokStart, p));
+          if (v === Infinity) break;
+        }
+      }
+      if (neg) v = -v;
+    }
+    while (c === SP || c === TAB) c = buf[++p];
+    if (c !== LF && c !== CR) break;
+    if (i < 1 || i > nRows || j < 1 || j > nCols) break;
+    if (lowerOnly && (j > i || (skew && i === j))) break;
+    // accept
+    i--; j--;
+    rows[k] = i; cols[k] = j; vals[k] = v; k++;
+    if (i < lastRow) rowsSorted = 0;
+    lastRow = i;
+    p++;
+    if (c === CR) {
+      if (p < e) { if (buf[p] === LF) p++; } else { st[ST_SKIPLF] = 1; }
+    }
+    line++;
+    // State is published after every line, inside the loop: code after the loop runs once per
+    // region, too rarely for V8 to keep type feedback on it, and any operation there made the
+    // optimized loop deoptimize at each region end.
+    st[ST_K] = k; st[ST_LINE] = line; st[ST_LASTROW] = lastRow; st[ST_SORTED] = rowsSorted;
+    lineStart = p;
+  }
+  return lineStart;
+}
+
 
 /** Open a file as a byte stream, gunzipping when named .gz or when it starts with 1f 8b. */
 async function openBytes(path: string): Promise<Readable> {
