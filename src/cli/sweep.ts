@@ -99,9 +99,9 @@ Examples:
   slabbench sweep matrices/ci/suite.json --out .ci-results --quiet
   slabbench sweep --json | jq '.winners'`)
     .action(async (suiteArg: string | undefined, opts: SweepCliOptions) => {
+      const shard = opts.shard !== undefined ? parseShard(opts.shard) : undefined;
       const { parsers, builder, depsModule } = await deps.load();
       const suitePath = suiteArg ?? demoSuitePath();
-      const shard = opts.shard !== undefined ? parseShard(opts.shard) : undefined;
       const suite = readSuite(suitePath, parsers);
       const quiet = opts.quiet === true || opts.json === true;
       const bar = !opts.quiet && process.stderr.isTTY ? new ProgressBar(process.stderr) : undefined;
