@@ -36,6 +36,17 @@ export function assembleGeneral(
 }
 
 /**
+ * Entries that arrived in row order: `counts[i+1]` holds the entries of row i and becomes the
+ * row pointer in place; cols/vals are already grouped by row.
+ */
+export function assembleRowOrdered(
+  nRows: number, counts: Int32Array, cols: Int32Array, vals: Float64Array, nnz: number, duplicates: 'sum' | 'reject',
+): AssembledCsr {
+  for (let i = 0; i < nRows; i++) counts[i + 1] += counts[i];
+  return finishRows(nRows, counts, cols, vals, nnz, duplicates);
+}
+
+/**
  * Symmetric / skew-symmetric triples (lower triangle, 0-based) to the full CSR: every
  * off-diagonal (i, j, v) also gives (j, i, sign·v) with sign −1 for skew-symmetric.
  */

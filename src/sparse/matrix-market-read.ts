@@ -24,7 +24,7 @@ import {
   type Banner, type MatrixMarketHeader, parseBanner, parseSizeLine, parseIndexToken, parseValueToken, splitBlanks, clip,
 } from './matrix-market-header.js';
 import { decimalToDouble, DEC } from './decimal-to-double.js';
-import { assembleGeneral, assembleSymmetric, expandedCount } from './matrix-market-assemble.js';
+import { assembleGeneral, assembleRowOrdered, assembleSymmetric, expandedCount } from './matrix-market-assemble.js';
 
 export interface ReadMatrixMarketOptions {
   /** 'sum' (default): entries given twice are added. 'reject': the second one is an error naming its line. */
@@ -93,6 +93,12 @@ class MatrixMarketParser {
   private sizeLine = 0;
   // coordinate storage
   rows: Int32Array | null = null;
+  /**
+   * General coordinate files start in counting mode: while rows arrive in nondecreasing order
+   * (as most writers emit them) only per-row counts are kept, so the triples cost exactly the
+   * CSR's bytes; the first out-of-order row rebuilds `rows` from the counts.
+   */
+  rowCount: Int32Array | null = null;
   cols: Int32Array | null = null;
   vals: Float64Array | null = null;
   k = 0;
@@ -179,7 +185,7 @@ class MatrixMarketParser {
       if (buf[p] === LF) p++;
     }
     while (p < e) {
-      if (this.phase === PHASE_DATA && this.rows !== null && this.probe === undefined && !this.referenceOnly) {
+      if (this.phase === PHASE_DATA && this.cols !== null && this.probe === undefined && !this.referenceOnly) {
         p = this.fast(buf, p, e);
         if (p >= e) break;
       }
@@ -201,7 +207,9 @@ class MatrixMarketParser {
     st[ST_K] = this.k; st[ST_LINE] = this.line; st[ST_LASTROW] = this.lastRow; st[ST_SORTED] = this.rowsSorted ? 1 : 0; st[ST_SKIPLF] = 0;
     const flags = (b.field === 'pattern' ? F_PATTERN : 0) | (b.field === 'integer' ? F_INTEGER : 0)
       | (b.symmetry !== 'general' ? F_LOWER : 0) | (b.symmetry === 'skew-symmetric' ? F_SKEW : 0) | (b.object === 'vector' ? F_VECTOR : 0);
-    const r = coordinateLines(buf, p, e, this.rows!, this.cols!, this.vals!, st, this.nRows, this.nCols, this.nEntries, flags);
+    const counting = this.rowCount !== null;
+    const r = coordinateLines(buf, p, e, counting ? this.rowCount! : this.rows!, this.cols!, this.vals!, st,
+      this.nRows, this.nCols, this.nEntries, flags | (counting ? F_COUNT : 0));
     this.k = st[ST_K]; this.line = st[ST_LINE]; this.lastRow = st[ST_LASTROW]; this.rowsSorted = st[ST_SORTED] === 1;
     if (st[ST_SKIPLF] === 1) this.skipLF = true;
     if (this.k === this.nEntries) this.phase = PHASE_DONE;
@@ -251,7 +259,8 @@ class MatrixMarketParser {
     this.phase = nEntries === 0 ? PHASE_DONE : PHASE_DATA;
     if (this.probe !== undefined) return;
     if (b.format === 'coordinate') {
-      this.rows = new Int32Array(nEntries);
+      if (b.symmetry === 'general') this.rowCount = new Int32Array(nRows + 1);
+      else this.rows = new Int32Array(nEntries);
       this.cols = new Int32Array(nEntries);
       this.vals = new Float64Array(nEntries);
     } else {
@@ -301,10 +310,23 @@ class MatrixMarketParser {
       return;
     }
     const k = this.k++;
-    this.rows![k] = row; this.cols![k] = col; this.vals![k] = v;
+    if (this.rowCount !== null && row < this.lastRow) this.leaveCountingMode();
+    if (this.rowCount !== null) this.rowCount[row + 1]++;
+    else this.rows![k] = row;
+    this.cols![k] = col; this.vals![k] = v;
     if (row < this.lastRow) this.rowsSorted = false;
     this.lastRow = row;
     if (this.k === this.nEntries) this.phase = PHASE_DONE;
+  }
+
+  /** Rebuild the row of every entry so far from the counts (they arrived in row order). */
+  private leaveCountingMode(): void {
+    const counts = this.rowCount!;
+    const rows = new Int32Array(this.nEntries);
+    let t = 0;
+    for (let r = 0; r < this.nRows; r++) for (let c = counts[r + 1]; c > 0; c--) rows[t++] = r;
+    this.rows = rows;
+    this.rowCount = null;
   }
 
   private arrayLine(text: string): void {
@@ -332,7 +354,7 @@ class MatrixMarketParser {
   }
 }
 
-const F_PATTERN = 1, F_INTEGER = 2, F_LOWER = 4, F_SKEW = 8, F_VECTOR = 16;
+const F_PATTERN = 1, F_INTEGER = 2, F_LOWER = 4, F_SKEW = 8, F_VECTOR = 16, F_COUNT = 32;
 const ST_K = 0, ST_LINE = 1, ST_LASTROW = 2, ST_SORTED = 3, ST_SKIPLF = 4;
 
 /**
@@ -346,6 +368,8 @@ function coordinateLines(
 ): number {
   const pattern = (flags & F_PATTERN) !== 0, integer = (flags & F_INTEGER) !== 0;
   const lowerOnly = (flags & F_LOWER) !== 0, skew = (flags & F_SKEW) !== 0, vector = (flags & F_VECTOR) !== 0;
+  // counting mode: `rows` holds per-row counts (index row+1) instead of one row per entry
+  const counting = (flags & F_COUNT) !== 0;
   let k = st[ST_K] | 0, line = st[ST_LINE], lastRow = st[ST_LASTROW] | 0, rowsSorted = st[ST_SORTED] | 0;
   let lineStart = p;
   while (p < e) {
@@ -425,7 +449,11 @@ function coordinateLines(
     if (lowerOnly && (j > i || (skew && i === j))) break;
     // accept
     i--; j--;
-    rows[k] = i; cols[k] = j; vals[k] = v; k++;
+    if (counting) {
+      if (i < lastRow) break; // leave counting mode on the reference path
+      rows[i + 1]++;
+    } else rows[k] = i;
+    cols[k] = j; vals[k] = v; k++;
     if (i < lastRow) rowsSorted = 0;
     lastRow = i;
     p++;
@@ -532,14 +560,17 @@ export async function readMatrixMarketFrom(name: string, source: ByteSource, opt
     return { header, csr: { nRows, nCols, rowPtr, colInd, values: dense } };
   }
   const nnz = parser.k;
+  const rowCount = parser.rowCount;
   const rows = parser.rows ?? new Int32Array(0);
   const cols = parser.cols ?? new Int32Array(0);
   const vals = parser.vals ?? new Float64Array(0);
-  parser.rows = parser.cols = null;
+  parser.rows = parser.cols = parser.rowCount = null;
   parser.vals = null;
   let asm;
   if (header.symmetry === 'general') {
-    asm = assembleGeneral(nRows, rows, cols, vals, nnz, parser.rowsSorted, duplicates);
+    asm = rowCount !== null
+      ? assembleRowOrdered(nRows, rowCount, cols, vals, nnz, duplicates)
+      : assembleGeneral(nRows, rows, cols, vals, nnz, parser.rowsSorted, duplicates);
   } else {
     const total = expandedCount(rows, cols, nnz);
     if (total > MAX_INT32_INDEX) {

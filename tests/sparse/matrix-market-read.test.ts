@@ -172,6 +172,19 @@ describe('readMatrixMarket: valid edge cases (shared/references.md list)', () =>
     expect(Array.from(csr.values.subarray(1))).toEqual([-Infinity, Infinity, Infinity]);
   });
 
+  it('switches from row-ordered counting to full triples when a row goes back, on both paths', async () => {
+    const lines: string[] = [];
+    for (let i = 1; i <= 300; i++) lines.push(`${i} ${(i * 7) % 50 + 1} ${i / 8}`);
+    lines.push('2 50 -1', '300 1 0.5', '1 1 -0'); // out of order late in the file
+    const text = `%%MatrixMarket matrix coordinate real general\n300 50 ${lines.length}\n${lines.join('\n')}\n`;
+    const fast = (await readText(text)).csr;
+    const ref = (await readText(text, { referenceOnly: true })).csr;
+    expectValidCsr(fast);
+    expect(triples(fast)).toEqual(triples(ref));
+    expect(triples(fast).slice(0, 3)).toEqual([[1, 1, -0], [1, 8, 1 / 8], [2, 15, 2 / 8]]);
+    expect(triples(fast).filter(([i]) => i === 2)).toEqual([[2, 15, 0.25], [2, 50, -1]]);
+  });
+
   it('crosses 1 MiB stream chunks with CRLF lines and values of every length', async () => {
     // ~2.4 MB so the file stream delivers several chunks; compare against the LF version
     const lines: string[] = [];
