@@ -132,4 +132,20 @@ describe('runSweep', () => {
     expect(o.doc.runs).toHaveLength(2);
     expect(o.doc.parameters.warmup).toBe(true);
   });
+
+  it('a worker thread that dies mid-run becomes an error on that run; a fresh worker runs the rest', async () => {
+    const dir = tempDir();
+    try {
+      const p = writeTinySuite(dir.dir, { extraRecipes: [{ name: 'crash', krylov: 'none', preconditioner: 'jacobi' }] });
+      const o = await runSweep({ suite: readTinySuite(p), outDir: join(dir.dir, 'o'), jobs: 1, builder: fake, depsModule: FAKE_DEPS_URL });
+      const died = 'worker thread exited during the run (out of memory?)';
+      expect(o.doc.runs.map((r) => [r.matrix, r.recipe, r.error ?? r.result?.reason])).toEqual([
+        ['alpha', 'rich-1', 'converged-rtol'], ['alpha', 'rich-slow', 'converged-rtol'], ['alpha', 'crash', died],
+        ['beta', 'rich-1', 'converged-rtol'], ['beta', 'rich-slow', 'converged-rtol'], ['beta', 'crash', died]]);
+      expect(o.errors).toBe(2);
+      expect(o.doc.matrices.map((m) => m.name)).toEqual(['alpha', 'beta']);
+    } finally {
+      dir.cleanup();
+    }
+  });
 });
