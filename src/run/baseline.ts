@@ -196,6 +196,10 @@ export function compareWithBaseline(
   if (current.suite.fingerprint && baseline.suite.fingerprint && current.suite.fingerprint !== baseline.suite.fingerprint) {
     notes.push('the suite changed since the baseline (matrices or recipes edited); numbers are compared pair by pair');
   }
+  if (current.parameters.shard) {
+    const { index, count } = current.parameters.shard;
+    notes.push(`these results are shard ${index}/${count} only: pairs of other shards show as missing (merge the shards first)`);
+  }
   const baseRuns = new Map(baseline.runs.map((r) => [`${r.matrix}\u0000${r.recipe}`, r]));
   const nowRuns = new Map(current.runs.map((r) => [`${r.matrix}\u0000${r.recipe}`, r]));
   const baseInfo = new Map(baseline.matrices.map((m) => [m.name, m]));

@@ -102,6 +102,12 @@ describe('baseline check', () => {
     const out = compareWithBaseline(cur, base);
     expect(out.rows.map((r) => r.verdict)).toEqual(['error', 'pass', 'pass', 'missing', 'new']);
     expect(out.failures).toBe(2);
+    const shard = structuredClone(same);
+    shard.parameters.shard = { index: 1, count: 2 };
+    shard.runs.splice(2, 2);
+    const sh = compareWithBaseline(shard, base);
+    expect(sh.failures).toBe(2);
+    expect(sh.notes[0]).toContain('shard 1/2 only');
     const changed = structuredClone(same);
     changed.matrices[0].nnz += 1;
     expect(compareWithBaseline(changed, base).rows[0].problems[0]).toMatch(/^matrix changed \(nnz 16→17\)/);
