@@ -280,7 +280,7 @@ function pad(s: string, w: number, right = false): string {
 /** The diff table (plain text; colour only when asked, i.e. when stdout is a terminal). */
 export function renderCheckTable(out: CheckOutcome, opts: { color?: boolean } = {}): string {
   const c = opts.color ? pc : { red: (s: string) => s, green: (s: string) => s, yellow: (s: string) => s, bold: (s: string) => s, dim: (s: string) => s };
-  const header = ['matrix', 'recipe', 'iterations', 'reason', 'true residual', 'buffer bytes', ...(out.timeCompared ? ['time'] : []), 'verdict'];
+  const header = ['matrix', 'recipe', 'iterations', 'reason', 'true residual (baseline)', 'buffer bytes', ...(out.timeCompared ? ['time'] : []), 'verdict'];
   const rows = out.rows.map((r) => {
     const it = r.base?.iterations === r.now?.iterations ? `${r.now?.iterations ?? '—'}` : `${r.base?.iterations ?? '—'} → ${r.now?.iterations ?? '—'}`;
     const reason = r.base?.reason === r.now?.reason ? `${r.now?.reason ?? '—'}` : `${r.base?.reason ?? '—'} → ${r.now?.reason ?? '—'}`;
