@@ -17,7 +17,7 @@ const pipeline = promisify(pipelineCb) as (...streams: NodeJS.ReadableStream[] |
 export interface WriteMatrixMarketOptions {
   /** Write `symmetric`, lower triangle only. The matrix must be exactly symmetric (checked). */
   symmetric?: boolean;
-  /** Comment lines written after the banner (a `%` is prepended; embedded newlines split lines). */
+  /** Comment lines written after the banner as `% text` (embedded newlines split lines). */
   comments?: string[];
 }
 
@@ -41,7 +41,9 @@ export function formatValue(x: number): string {
 function commentLines(comments: string[] | undefined): string {
   if (comments === undefined) return '';
   let s = '';
-  for (const c of comments) for (const l of c.split(/\r\n|\r|\n/)) s += `%${l}\n`;
+  // "% text" for readability; a comment that already starts with a blank (as the reader returns
+  // them) or is empty is kept verbatim, so read → write keeps comment lines unchanged.
+  for (const c of comments) for (const l of c.split(/\r\n|\r|\n/)) s += l === '' || l[0] === ' ' || l[0] === '\t' ? `%${l}\n` : `% ${l}\n`;
   return s;
 }
 

@@ -36,11 +36,14 @@ describe('writeMatrixMarket', () => {
     const p = join(dir, 'spec.mtx');
     await writeMatrixMarket(p, SPEC, { comments: [' the NIST example', 'two\nlines'] });
     expect(readFileSync(p, 'utf8')).toBe(
-      '%%MatrixMarket matrix coordinate real general\n% the NIST example\n%two\n%lines\n5 5 8\n'
+      '%%MatrixMarket matrix coordinate real general\n% the NIST example\n% two\n% lines\n5 5 8\n'
       + '1 1 1\n1 4 6\n2 2 10.5\n3 3 0.015\n4 2 250.5\n4 4 -280\n4 5 33.32\n5 5 12\n');
     const back = await readMatrixMarket(p);
     sameCsr(back.csr, SPEC);
-    expect(back.header.comments).toEqual([' the NIST example', 'two', 'lines']);
+    expect(back.header.comments).toEqual([' the NIST example', ' two', ' lines']);
+    // comments read back are written back unchanged
+    await writeMatrixMarket(join(dir, 'spec2.mtx'), back.csr, { comments: back.header.comments });
+    expect(readFileSync(join(dir, 'spec2.mtx'), 'utf8')).toBe(readFileSync(p, 'utf8'));
   });
 
   it('round-trips awkward values bit for bit (shortest repr, signed zero, subnormals, extremes)', async () => {
