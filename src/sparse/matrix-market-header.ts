@@ -142,7 +142,7 @@ export function parseIndexToken(tok: string, what: 'row' | 'column', n: number):
  */
 export function parseValueToken(tok: string, field: 'real' | 'integer', allowNonFinite: boolean): Checked<number> {
   if (NONFINITE_RE.test(tok)) {
-    if (!allowNonFinite) return fail(`non-finite value "${tok}" (accepted only with --allow-non-finite)`);
+    if (!allowNonFinite) return fail(`non-finite value "${tok}" (rejected unless non-finite values are allowed: convert --allow-non-finite, or allowNonFinite in the API)`);
     if (field === 'integer') return fail(`expected an integer value, found "${tok}"`);
     return { ok: true, value: Number(tok.replace(/inf(inity)?$/i, 'Infinity').replace(/nan$/i, 'NaN')) };
   }
@@ -157,7 +157,7 @@ export function parseValueToken(tok: string, field: 'real' | 'integer', allowNon
   if (!REAL_RE.test(tok)) return fail(`expected a real number, found "${clip(tok)}"`);
   const x = Number(tok);
   if (!Number.isFinite(x) && !allowNonFinite) {
-    return fail(`value ${clip(tok)} overflows float64 (accepted as infinity only with --allow-non-finite)`);
+    return fail(`value ${clip(tok)} overflows float64 (read as infinity only when non-finite values are allowed: convert --allow-non-finite)`);
   }
   return { ok: true, value: x };
 }

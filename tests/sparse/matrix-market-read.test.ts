@@ -251,7 +251,7 @@ describe('readMatrixMarket: malformed input gives one line FILE:LINE: what was e
     ['too many fields', `${H}2 2 1\n1 1 1 1\n`, 3, /found 4/],
     ['trailing comment on a data line', `${H}2 2 1\n1 1 1 % note\n`, 3, /comments must be on their own line/],
     ['pattern line with a value', '%%MatrixMarket matrix coordinate pattern general\n2 2 1\n1 1 1\n', 3, /expected 2 fields \(row column\)/],
-    ['nan rejected', `${H}2 2 1\n1 1 nan\n`, 3, /non-finite value "nan" \(accepted only with --allow-non-finite\)/],
+    ['nan rejected', `${H}2 2 1\n1 1 nan\n`, 3, /non-finite value "nan" \(rejected unless non-finite values are allowed: convert --allow-non-finite/],
     ['inf rejected', `${H}2 2 1\n1 1 -Inf\n`, 3, /non-finite value "-Inf"/],
     ['overflow rejected', `${H}2 2 1\n1 1 1e400\n`, 3, /overflows float64/],
     ['integer field with a fraction', '%%MatrixMarket matrix coordinate integer general\n2 2 1\n1 1 1.5\n', 3, /expected an integer value, found "1.5"/],
