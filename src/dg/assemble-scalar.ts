@@ -191,6 +191,39 @@ export function assembleScalar(
     const sigma = diffusive
       ? nu * penaltyConstant * Math.max(surfaceRatio![L], twoSided ? surfaceRatio![R] : 0)
       : 0;
+    if (constantDG && nu === 0 && !state) {
+      // Linear flux with a constant velocity: β is constant on the flat face, so every block is a
+      // multiple of a cached reference face mass matrix; only boundary data needs point values.
+      physics.numericalFlux(X, 0, 1, 0, normal, flux);
+      const bp = flux[1] * wscale, bm = flux[2] * wscale;
+      if (values) {
+        addScaled(values, bLL, bp, tables.faceMass(tabL, tabL));
+        if (twoSided) {
+          addScaled(values, bRL, -bp, tables.faceMass(tabR, tabL));
+          if (kind === FaceKind.slabInterface) {
+            if (bm !== 0) throw new Error(`face ${f}: numerical flux depends on the later slab across a slab interface`);
+          } else {
+            addScaled(values, bLR, bm, tables.faceMass(tabL, tabR));
+            addScaled(values, bRR, -bm, tables.faceMass(tabR, tabR));
+          }
+        }
+      }
+      if (!twoSided && bm !== 0 && (kind === FaceKind.initial || kind === FaceKind.spaceBoundary)) {
+        for (let q = 0; q < tabL.nq; q++) {
+          for (let i = 0; i < D; i++) {
+            let s = aff.origin[i];
+            for (let j = 0; j < D; j++) s += aff.jacobian[i * D + j] * tabL.points[q * D + j];
+            X[i] = s;
+          }
+          if (kind === FaceKind.initial) physics.initialData(X, 0, data);
+          else physics.boundaryData(X, 0, data);
+          const c = tabL.weights[q] * bm * data[0];
+          for (let a = 0; a < nb; a++) residual[IL + a] += c * tabL.phi[q * nb + a];
+        }
+      }
+      if ((f & 4095) === 4095) progress(nElements + f + 1, total);
+      continue;
+    }
     for (let q = 0; q < tabL.nq; q++) {
       for (let i = 0; i < D; i++) {
         let s = aff.origin[i];
@@ -286,6 +319,12 @@ export function assembleScalar(
     }
     if ((f & 4095) === 4095) progress(nElements + f + 1, total);
   }
+}
+
+/** values[o + q] += c · M[q], q < nb². */
+function addScaled(values: Float64Array, o: number, c: number, M: Float64Array): void {
+  if (c === 0) return;
+  for (let q = 0; q < M.length; q++) values[o + q] += c * M[q];
 }
 
 /** values[o + a·nb + b] += c · x[xo + a] · y[yo + b]. */

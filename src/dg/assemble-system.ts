@@ -61,7 +61,6 @@ export function assembleSystem(
   const aPlus = new Float64Array(m * m);
   const aMinus = new Float64Array(m * m);
   const rightOrder = new Int32Array(D);
-  const MLL = new Float64Array(nb2), MLR = new Float64Array(nb2), MRL = new Float64Array(nb2), MRR = new Float64Array(nb2);
   const X = new Float64Array(D);
   const data = new Float64Array(m);
   const flux = new Float64Array(m);
@@ -85,26 +84,19 @@ export function assembleSystem(
       rightFaceOrder(mesh, f, rightOrder);
       const tabR = tables.face(rightOrder);
       if (values) {
-        faceMass(tabL.phi, tabL.phi, tabL.weights, tabL.nq, nb, wscale, MLL);
-        faceMass(tabR.phi, tabL.phi, tabL.weights, tabL.nq, nb, wscale, MRL);
-        kron(values, faceBlocks[4 * f] * bb, bs, nb, m, aPlus, 1, MLL);
-        kron(values, faceBlocks[4 * f + 2] * bb, bs, nb, m, aPlus, -1, MRL);
+        kron(values, faceBlocks[4 * f] * bb, bs, nb, m, aPlus, wscale, tables.faceMass(tabL, tabL));
+        kron(values, faceBlocks[4 * f + 2] * bb, bs, nb, m, aPlus, -wscale, tables.faceMass(tabR, tabL));
         if (kind === FaceKind.slabInterface) {
           for (let q = 0; q < m * m; q++) {
             if (aMinus[q] !== 0) throw new Error(`face ${f}: upwind split gives inflow from the later slab across a slab interface`);
           }
         } else {
-          faceMass(tabL.phi, tabR.phi, tabL.weights, tabL.nq, nb, wscale, MLR);
-          faceMass(tabR.phi, tabR.phi, tabL.weights, tabL.nq, nb, wscale, MRR);
-          kron(values, faceBlocks[4 * f + 1] * bb, bs, nb, m, aMinus, 1, MLR);
-          kron(values, faceBlocks[4 * f + 3] * bb, bs, nb, m, aMinus, -1, MRR);
+          kron(values, faceBlocks[4 * f + 1] * bb, bs, nb, m, aMinus, wscale, tables.faceMass(tabL, tabR));
+          kron(values, faceBlocks[4 * f + 3] * bb, bs, nb, m, aMinus, -wscale, tables.faceMass(tabR, tabR));
         }
       }
     } else {
-      if (values) {
-        faceMass(tabL.phi, tabL.phi, tabL.weights, tabL.nq, nb, wscale, MLL);
-        kron(values, faceBlocks[4 * f] * bb, bs, nb, m, aPlus, 1, MLL);
-      }
+      if (values) kron(values, faceBlocks[4 * f] * bb, bs, nb, m, aPlus, wscale, tables.faceMass(tabL, tabL));
       if (kind !== FaceKind.final) {
         // Exterior data: initial condition on t = 0, inflow data on space boundaries.
         const IL = inv[L] * bs;
@@ -135,25 +127,11 @@ export function assembleSystem(
   }
 }
 
-/** M[a][b] = scale Σ_q w_q x_a(q) y_b(q). */
-function faceMass(x: Float64Array, y: Float64Array, w: Float64Array, nq: number, nb: number, scale: number, M: Float64Array): void {
-  M.fill(0);
-  for (let q = 0; q < nq; q++) {
-    const wq = w[q] * scale;
-    const po = q * nb;
-    for (let a = 0; a < nb; a++) {
-      const s = wq * x[po + a];
-      const ro = a * nb;
-      for (let b = 0; b < nb; b++) M[ro + b] += s * y[po + b];
-    }
-  }
-}
-
-/** Block at values[o] (bs×bs row-major) += sign · A ⊗ M, entry (i·nb + a, j·nb + b) = A[i][j]·M[a][b]. */
-function kron(values: Float64Array, o: number, bs: number, nb: number, m: number, A: Float64Array, sign: number, M: Float64Array): void {
+/** Block at values[o] (bs×bs row-major) += scale · A ⊗ M, entry (i·nb + a, j·nb + b) = scale·A[i][j]·M[a][b]. */
+function kron(values: Float64Array, o: number, bs: number, nb: number, m: number, A: Float64Array, scale: number, M: Float64Array): void {
   for (let i = 0; i < m; i++) {
     for (let j = 0; j < m; j++) {
-      const c = sign * A[i * m + j];
+      const c = scale * A[i * m + j];
       if (c === 0) continue;
       for (let a = 0; a < nb; a++) {
         const ro = o + (i * nb + a) * bs + j * nb;

@@ -207,7 +207,7 @@ export interface GeneratedSystem {
   bsr: Bsr;
   rhs: Float64Array;
   layout: Layout;
-  /** Coefficients of the L² projection of the exact solution (block-row order), when one is known. */
+  /** Coefficients of the L² projection of the exact solution (block-row order), when one is known (computed on first access). */
   exactSolution?: Float64Array;
 }
 
@@ -256,7 +256,16 @@ export function generateWithDiscretization(
     },
   };
   const out: GeneratedSystem = { bsr: bsr as Bsr, rhs: residual, layout };
-  if (physics.exact) out.exactSolution = projectFunction(mesh, params.order, physics.nEquations, ordering.inv, physics.exact);
+  const exact = physics.exact;
+  if (exact) {
+    // Projected on first access: it costs a high-order quadrature with an expression evaluation
+    // per point, which writing a case never needs.
+    let cached: Float64Array | undefined;
+    Object.defineProperty(out, 'exactSolution', {
+      enumerable: true,
+      get: () => (cached ??= projectFunction(mesh, params.order, physics.nEquations, ordering.inv, exact)),
+    });
+  }
   return { system: out, disc };
 }
 

@@ -45,6 +45,11 @@ export interface ReferenceTables {
    * local vertices `localVertices` (D entries, distinct, in 0..D).
    */
   face(localVertices: ArrayLike<number>): FaceTable;
+  /**
+   * Reference face mass matrix M[a][b] = Σ_q w_q x_a(q) y_b(q) between the bases of two face tables
+   * of the same face rule (cached per pair; shared, read-only). Physical: multiply by (D−1)!·|F|.
+   */
+  faceMass(x: FaceTable, y: FaceTable): Float64Array;
 }
 
 export function buildReferenceTables(D: 2 | 3 | 4, order: number, volumeDegree: number, faceDegree: number): ReferenceTables {
@@ -94,5 +99,24 @@ export function buildReferenceTables(D: 2 | 3 | 4, order: number, volumeDegree: 
     }
     return table;
   };
-  return { D, order, nb, basis, volume, faceFactorial, face };
+  const masses = new Map<FaceTable, Map<FaceTable, Float64Array>>();
+  const faceMass = (x: FaceTable, y: FaceTable): Float64Array => {
+    let row = masses.get(x);
+    if (row === undefined) { row = new Map(); masses.set(x, row); }
+    let M = row.get(y);
+    if (M === undefined) {
+      M = new Float64Array(nb * nb);
+      for (let q = 0; q < x.nq; q++) {
+        const w = x.weights[q];
+        const po = q * nb;
+        for (let a = 0; a < nb; a++) {
+          const s = w * x.phi[po + a];
+          for (let b = 0; b < nb; b++) M[a * nb + b] += s * y.phi[po + b];
+        }
+      }
+      row.set(y, M);
+    }
+    return M;
+  };
+  return { D, order, nb, basis, volume, faceFactorial, face, faceMass };
 }
