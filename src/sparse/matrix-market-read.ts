@@ -133,10 +133,7 @@ class MatrixMarketParser {
   /** Feed one chunk. Complete lines are parsed; the incomplete tail is kept for the next chunk. */
   push(chunk: Buffer): void {
     let start = 0;
-    if (this.atStart) {
-      this.atStart = false;
-      if (chunk.length >= 3 && chunk[0] === 0xef && chunk[1] === 0xbb && chunk[2] === 0xbf) start = 3; // UTF-8 BOM
-    }
+    if (chunk.length > 0) this.atStart = false;
     if (this.carry !== null) {
       let t = start;
       while (t < chunk.length && chunk[t] !== LF && chunk[t] !== CR) t++;
@@ -218,6 +215,9 @@ class MatrixMarketParser {
 
   /** One line buf[s, q) through the reference rules (banner, comments, size line, any data line). */
   private line1(buf: Buffer, s: number, q: number): void {
+    // UTF-8 byte order mark at the very start of the file (checked here, on the whole first
+    // line, so a chunk boundary inside the mark does not matter)
+    if (this.line === 1 && q - s >= 3 && buf[s] === 0xef && buf[s + 1] === 0xbb && buf[s + 2] === 0xbf) s += 3;
     // blank or comment lines are allowed anywhere after the banner (and blank ones before it)
     let f = s;
     while (f < q && (buf[f] === SP || buf[f] === TAB)) f++;

@@ -151,7 +151,8 @@ const validFileArb = fc.record({
   n: fc.integer({ min: 1, max: 6 }),
   vals: fc.array(fc.double({ noNaN: true, noDefaultInfinity: true, min: -1e6, max: 1e6 }), { minLength: 40, maxLength: 40 }),
   eol: fc.constantFrom('\n', '\r\n', '\r'),
-}).map(({ kind, n, vals, eol }) => {
+  bom: fc.boolean(),
+}).map(({ kind, n, vals, eol, bom }) => {
   const lines: string[] = [];
   let v = 0;
   const val = () => String(vals[v++ % vals.length]);
@@ -171,7 +172,7 @@ const validFileArb = fc.record({
     }
     lines.push(`%%MatrixMarket matrix coordinate ${field} ${sym}`, '% comment', `${n} ${n} ${ents.length}`, ...ents);
   }
-  return lines.join(eol) + eol;
+  return (bom ? '\u00ef\u00bb\u00bf' : '') + lines.join(eol) + eol; // BOM bytes, as latin1 text
 });
 
 const mutationArb = fc.array(fc.oneof(
