@@ -249,7 +249,7 @@ export function generateWithDiscretization(
       downstreamCyclesCut: ordering.cyclesCut,
       slabThickness: resolved.slabThickness,
       finalTime: resolved.finalTime,
-      quadratureDegree: tables.volume.nq > 0 ? 2 * params.order + physics.extraQuadratureDegree(params.order) : 0,
+      quadratureDegree: 2 * params.order + physics.extraQuadratureDegree(params.order),
       system: physics.state ? 'Newton step: Jacobian at the projected state, rhs = -residual' : 'linear: DG operator, rhs = data terms',
       physicsSummary: physics.summary,
       params: { ...params },
