@@ -46,7 +46,7 @@ export function registerGenerate(program: Command): void {
   addGeneratorOptions(cmd);
   cmd
     .option('--name <NAME>', 'base name of the output files (default <physics>-<d>d-p<order>)')
-    .option('--out <dir>', 'output folder (default .)', '.')
+    .option('--out <dir>', 'output folder (default .)')
     .option('--case <NAME>', 'build the generator case NAME of the suite file')
     .option('--suite <FILE>', 'suite file for --case / --all-cases (default: the demo suite matrices/suite.json)')
     .option('--all-cases', 'build every generator case of the suite into --out')
