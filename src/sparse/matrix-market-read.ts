@@ -471,8 +471,27 @@ function coordinateLines(
 }
 
 
-/** Open a file as a byte stream, gunzipping when named .gz or when it starts with 1f 8b. */
-async function openBytes(path: string): Promise<Readable> {
+/**
+ * Plain file in 1 MiB pieces read into ONE reused buffer: the parser consumes each piece before
+ * the next read, and a stream's fresh buffer per chunk would sit as garbage (tens of MB of
+ * external memory) until a GC happens to run.
+ */
+async function* readPlain(path: string): AsyncGenerator<Buffer> {
+  const fh = await fsp.open(path, 'r');
+  try {
+    const buf = Buffer.allocUnsafe(1 << 20);
+    for (;;) {
+      const { bytesRead } = await fh.read(buf, 0, buf.length, null);
+      if (bytesRead === 0) return;
+      yield buf.subarray(0, bytesRead);
+    }
+  } finally {
+    await fh.close();
+  }
+}
+
+/** Open a file as bytes, gunzipping when named .gz or when it starts with 1f 8b. */
+async function openBytes(path: string): Promise<AsyncIterable<Buffer>> {
   let head: Buffer;
   try {
     const fh = await fsp.open(path, 'r');
@@ -492,8 +511,8 @@ async function openBytes(path: string): Promise<Readable> {
   if (path.toLowerCase().endsWith('.gz') && !gzMagic && head.length > 0) {
     throw fileError(path, undefined, 'name ends with .gz but the content is not gzip data (no 1f 8b magic bytes)');
   }
+  if (!gzMagic) return readPlain(path);
   const file = createReadStream(path, { highWaterMark: 1 << 20 });
-  if (!gzMagic) return file;
   return pipeline(file, createGunzip({ chunkSize: 1 << 18 }), () => undefined);
 }
 
