@@ -1,16 +1,15 @@
 /**
  * Streaming Matrix Market reader (NISTIR 5935, Boisvert, Pozo & Remington 1996).
  *
- * The file is read as a byte stream (gunzipped when named *.gz or starting with the gzip magic
- * 1f 8b) and scanned chunk by chunk; it never exists as one string. Lines end at LF, CRLF or a
- * bare CR. Data lines of coordinate files go through a byte-level fast path (integer indices,
- * decimal numbers with ≤ 15 significant digits and |exponent| ≤ 22, which are converted
- * exactly: Clinger, "How to read floating point numbers accurately", PLDI 1990); any line the
- * fast path does not recognise is decoded and handed to the string-based reference rules in
+ * The file is read in 1 MiB pieces (gunzipped when named *.gz or starting with the gzip magic
+ * 1f 8b) and scanned piece by piece; it never exists as one string. Lines end at LF, CRLF or a
+ * bare CR. Data lines of coordinate files go through a byte-level fast path (integer indices;
+ * decimals converted exactly without strings, see decimal-to-double.ts); any line the fast path
+ * does not recognise is decoded and handed to the string-based reference rules in
  * matrix-market-header.ts, which either parse it or explain what is wrong with file and line.
  *
- * Entries go straight into preallocated typed arrays sized from the declared count; the CSR is
- * built from them by a counting sort (matrix-market-assemble.ts).
+ * Entries go straight into typed arrays preallocated from the declared count (after a memory
+ * check); the CSR is built from them by a counting sort (matrix-market-assemble.ts).
  */
 import { createReadStream, promises as fsp } from 'node:fs';
 import { createGunzip } from 'node:zlib';
