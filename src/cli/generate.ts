@@ -95,7 +95,7 @@ matrix is block lower triangular by slabs.`)
         const s = await buildCase(job.params, outDir, job.name);
         summaries.push(s);
         if (!json) {
-          process.stdout.write(`${s.name}: ${s.physics} ${s.dim}D+t, order ${s.order}, ${s.nElements} elements in ${s.nSlabs} slab${s.nSlabs === 1 ? "" : "s"}, `
+          process.stdout.write(`${s.name}: ${s.physics} ${s.dim}D+t, order ${s.order}, ${s.nElements} elements in ${s.nSlabs} slab${s.nSlabs === 1 ? '' : 's'}, `
             + `block size ${s.blockSize}, n = ${s.n} (${s.seconds.toFixed(2)} s)\n  wrote ${s.files.mtx}, ${s.files.rhs}, ${s.files.layout}\n`);
         }
       }
