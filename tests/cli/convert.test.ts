@@ -138,6 +138,19 @@ describe('slabbench convert', () => {
     for (let s = 0; s < 3; s++) expect(diag.slice(4 * s, 4 * s + 4).sort((x, y) => x - y)).toEqual([1, 2, 3, 4].map((x) => x + 4 * s));
   });
 
+  it('--layout takes a layout from elsewhere; a gzipped input finds NAME.layout.json beside NAME.mtx.gz', async () => {
+    writeFileSync(p('k.mtx'), A_TEXT);
+    writeFileSync(p('elsewhere.json'), JSON.stringify({ blockSize: 2, slabOffsets: [0, 3] }));
+    const r = await run('convert', p('k.mtx'), p('k-rev.mtx.gz'), '--layout', p('elsewhere.json'), '--reverse-blocks');
+    expect(r.code).toBe(0);
+    expect(readLayout(p('k-rev.layout.json')).slabOffsets).toEqual([0, 3]);
+    // the sidecar of k-rev.mtx.gz is k-rev.layout.json: converting back reverses again
+    const back = await run('convert', p('k-rev.mtx.gz'), p('k-back.mtx'), '--reverse-blocks');
+    expect(back.code).toBe(0);
+    expect(dense((await readMatrixMarket(p('k-back.mtx'))).csr)).toEqual(dense((await readMatrixMarket(p('k.mtx'))).csr));
+    expect((readLayout(p('k-back.layout.json')).provenance as { conversions: unknown[] }).conversions).toHaveLength(2);
+  });
+
   it('--json prints only a JSON summary', async () => {
     writeFileSync(p('j.mtx'), A_TEXT);
     const r = await run('convert', p('j.mtx'), p('j2.mtx'), '--json', '--block-size', '2', '--reverse-blocks');
