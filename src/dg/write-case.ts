@@ -1,6 +1,6 @@
 import { bsrToCsr } from '../sparse/bsr.js';
 import { writeMatrixMarket, writeMatrixMarketVector } from '../sparse/matrix-market.js';
-import { writeFileAtomic } from '../util/atomic-write.js';
+import { writeLayout } from '../sparse/layout.js';
 import type { Bsr, Layout } from '../sparse/types.js';
 
 /**
@@ -16,5 +16,5 @@ export async function writeCaseFiles(
   const comment = `slabbench generate: ${name} (${String(p.physics)}, ${String(p.dim)}D+t, order ${String(p.order)}, ${String(p.nElements)} elements, block size ${system.layout.blockSize}); parameters in ${name}.layout.json`;
   await writeMatrixMarket(paths.mtx, bsrToCsr(system.bsr), { comments: [comment] });
   await writeMatrixMarketVector(paths.rhs, system.rhs, { comments: [`right-hand side of ${name}`] });
-  await writeFileAtomic(paths.layout, `${JSON.stringify(system.layout, null, 2)}\n`);
+  writeLayout(paths.layout, system.layout);
 }
