@@ -66,6 +66,7 @@ describe('observed space-time L2 order ≥ p + 1/2 for smooth solutions (Johnson
     ['advection 2D+t p=2', { physics: 'advection', dim: 2, order: 2, ordering: 'downstream' }, [3, 6]],
     ['acoustics 1D+t p=1', { physics: 'acoustics', dim: 1, order: 1, meanFlow: [0.2] }, [8, 16, 32]],
     ['acoustics 1D+t p=2 at rest', { physics: 'acoustics', dim: 1, order: 2, travelling: false, periodic: true }, [4, 8, 16]],
+    ['acoustics 2D+t p=1 plane wave with mean flow', { physics: 'acoustics', dim: 2, order: 1, meanFlow: [0.3, 0.2], jitter: 0.1 }, [2, 4]],
   ];
   for (const [label, o, sizes] of cases) {
     it(label, () => {
