@@ -46,7 +46,9 @@ export function mergeResults(files: ShardFile[]): ResultsDoc {
     if (!same(d.suite.matrixNames, matrixNames) || !same(d.suite.recipeNames, recipeNames)) {
       throw new UserError(`${f.path}: selects different matrices or recipes than ${first.path} (--only-matrix/--only-recipe must be the same for every shard)`);
     }
-    if (d.slabbench !== fd.slabbench || d.commit !== fd.commit) {
+    // A shard run outside a git checkout has no commit; then only the version can be compared.
+    const commitsDiffer = d.commit !== undefined && fd.commit !== undefined && d.commit !== fd.commit;
+    if (d.slabbench !== fd.slabbench || commitsDiffer) {
       throw new UserError(`${f.path}: ran slabbench ${d.slabbench}${d.commit ? ` at ${d.commit.slice(0, 12)}` : ''}, but ${first.path} ran ${fd.slabbench}${fd.commit ? ` at ${fd.commit.slice(0, 12)}` : ''}; merge shards of one version only`);
     }
   }
@@ -97,11 +99,12 @@ export function mergeResults(files: ShardFile[]): ResultsDoc {
   const infos = new Map<string, MatrixInfo>();
   for (const f of files) for (const mi of f.doc.matrices) if (!infos.has(mi.name)) infos.set(mi.name, mi);
   const dates = files.map((f) => f.doc.date).sort();
+  const commit = files.find((f) => f.doc.commit !== undefined)?.doc.commit;
 
   return newResultsDoc({
     env: {
       slabbench: fd.slabbench,
-      ...(fd.commit ? { commit: fd.commit } : {}),
+      ...(commit ? { commit } : {}),
       node: joinDistinct(files.map((f) => f.doc.node)),
       cpu: joinDistinct(files.map((f) => f.doc.cpu)),
       date: dates[dates.length - 1],

@@ -57,6 +57,12 @@ describe('mergeResults', () => {
     const ver = structuredClone(shards[1]);
     ver.doc.slabbench = '9.9.9';
     expect(() => mergeResults([shards[0], ver])).toThrow(/ran slabbench 9\.9\.9/);
+    const otherCommit = structuredClone(shards[1]);
+    otherCommit.doc.commit = 'f'.repeat(40);
+    if (shards[0].doc.commit !== undefined) expect(() => mergeResults([shards[0], otherCommit])).toThrow(/ran slabbench .* at ffffffffffff/);
+    const noGit = structuredClone(shards).map((s) => ({ ...s, doc: { ...s.doc, commit: undefined } }));
+    noGit[0].doc.commit = shards[0].doc.commit;
+    expect(mergeResults(noGit).commit).toBe(shards[0].doc.commit); // a shard without git does not block the merge
     const cut = structuredClone(shards[1]);
     cut.doc.status = 'interrupted';
     expect(() => mergeResults([shards[0], cut])).toThrow('s2/results.json: this sweep (shard 2/4) did not finish (status interrupted); run it again before merging');
