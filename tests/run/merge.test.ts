@@ -60,7 +60,7 @@ describe('mergeResults', () => {
     const otherCommit = structuredClone(shards[1]);
     otherCommit.doc.commit = 'f'.repeat(40);
     if (shards[0].doc.commit !== undefined) expect(() => mergeResults([shards[0], otherCommit])).toThrow(/ran slabbench .* at ffffffffffff/);
-    const noGit = structuredClone(shards).map((s) => ({ ...s, doc: { ...s.doc, commit: undefined } }));
+    const noGit: ShardFile[] = structuredClone(shards).map((s) => ({ ...s, doc: { ...s.doc, commit: undefined } }));
     noGit[0].doc.commit = shards[0].doc.commit;
     expect(mergeResults(noGit).commit).toBe(shards[0].doc.commit); // a shard without git does not block the merge
     const cut = structuredClone(shards[1]);
