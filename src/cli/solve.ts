@@ -114,7 +114,8 @@ function parseBlockSize(v: string): number {
 
 /** True when the slab preconditioner's inner solve makes M change between applications. */
 function variableSlab(r: Recipe): boolean {
-  return r.preconditioner === 'slab' && !!r.inner && !(r.inner.krylov === 'none' && r.inner.maxIterations === 1);
+  // Without an inner recipe the slab solver uses DEFAULT_INNER_RECIPE, which is iterative.
+  return r.preconditioner === 'slab' && !(r.inner && r.inner.krylov === 'none' && r.inner.maxIterations === 1);
 }
 
 export async function runSolve(file: string, opts: SolveCommandOptions): Promise<SolveReport> {

@@ -2,6 +2,7 @@
  * The results document of a sweep (results.json) and its CSV twin (results.csv).
  * Types live in results-types.ts; this file builds, validates, and writes them.
  */
+import { blockPattern } from '../report/pattern.js';
 import { execFileSync } from 'node:child_process';
 import { realpathSync, readFileSync } from 'node:fs';
 import { cpus } from 'node:os';
@@ -53,23 +54,6 @@ export function environment(): Environment {
   };
 }
 
-/** Coarse block pattern for the report's sparsity picture: at most maxCells × maxCells cells. */
-export function blockPattern(a: Bsr, slabOffsets: ArrayLike<number> | undefined, maxCells = 64): BlockPattern {
-  const nBlockRows = a.nBlockRows;
-  const blockRowsPerCell = Math.max(1, Math.ceil(nBlockRows / maxCells));
-  const cells = Math.max(1, Math.ceil(nBlockRows / blockRowsPerCell));
-  const counts = new Array<number>(cells * cells).fill(0);
-  for (let i = 0; i < nBlockRows; i++) {
-    const ci = Math.floor(i / blockRowsPerCell);
-    for (let k = a.rowPtr[i]; k < a.rowPtr[i + 1]; k++) {
-      const cj = Math.min(cells - 1, Math.floor(a.colInd[k] / blockRowsPerCell));
-      counts[ci * cells + cj]++;
-    }
-  }
-  const slabs = slabOffsets && slabOffsets.length >= 2 ? Array.from(slabOffsets) : [0, nBlockRows];
-  return { cells, counts, blockRowsPerCell, slabOffsets: slabs, nBlockRows };
-}
-
 export function matrixInfo(
   base: { name: string; source: 'file' | 'generated'; path: string; note?: string },
   loaded: { csr: { nRows: number; values: Float64Array }; bsr: Bsr; bs: number; blockSizeSource?: string; slabOffsets?: Int32Array },
@@ -86,7 +70,8 @@ export function matrixInfo(
     nBlockRows: bsr.nBlockRows,
     nBlocks: bsr.colInd.length,
     nSlabs: loaded.slabOffsets && loaded.slabOffsets.length >= 2 ? loaded.slabOffsets.length - 1 : 1,
-    pattern: blockPattern(bsr, loaded.slabOffsets),
+    // 64 cells keep results.json small; the report draws whatever grid it is given.
+    pattern: blockPattern(bsr, loaded.slabOffsets, 64),
     ...(loaded.blockSizeSource !== undefined ? { blockSizeSource: loaded.blockSizeSource } : {}),
   };
 }

@@ -40,6 +40,12 @@ export interface GeneratedMatrixEntry {
   generate: unknown;
   /** The object as written (canonical JSON of it keys the cache). */
   generateRaw: Record<string, unknown>;
+  /**
+   * Optional committed copy of this case (`NAME.mtx` with `NAME.rhs.mtx` and `NAME.layout.json`
+   * beside it), used instead of generating when its layout records the same generator parameters.
+   */
+  prebuilt?: string;
+  prebuiltPath?: string;
 }
 
 export type SuiteMatrix = FileMatrixEntry | GeneratedMatrixEntry;
@@ -58,7 +64,7 @@ export interface Suite {
 
 const TOP_KEYS = new Set(['schema', 'description', 'matrices', 'recipes', '$comment']);
 const FILE_KEYS = new Set(['name', 'note', 'file', 'rhs', 'blockSize']);
-const GEN_KEYS = new Set(['name', 'note', 'generate']);
+const GEN_KEYS = new Set(['name', 'note', 'generate', 'prebuilt']);
 
 function isPlainObject(v: unknown): v is Record<string, unknown> {
   return typeof v === 'object' && v !== null && !Array.isArray(v);
@@ -151,7 +157,14 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
       for (const k of Object.keys(m)) if (!GEN_KEYS.has(k)) fail(`${at}.${k}`, `unknown key for a generated matrix (expected ${[...GEN_KEYS].join(', ')}; rhs and block size come from the generator)`);
       if (!isPlainObject(m.generate)) fail(`${at}.generate`, `expected an object of generator parameters, got ${describe(m.generate)}`);
       const generate = parsers.parseGeneratorParams(m.generate, `${file}: ${at}.generate`);
-      matrices.push({ kind: 'generate', name, note, generate, generateRaw: m.generate as Record<string, unknown> });
+      if (m.prebuilt !== undefined && (typeof m.prebuilt !== 'string' || !/\.mtx(\.gz)?$/i.test(m.prebuilt))) {
+        fail(`${at}.prebuilt`, `expected a path ending in .mtx or .mtx.gz (a committed copy of the case), got ${describe(m.prebuilt)}`);
+      }
+      const prebuilt = m.prebuilt as string | undefined;
+      matrices.push({
+        kind: 'generate', name, note, generate, generateRaw: m.generate as Record<string, unknown>,
+        prebuilt, prebuiltPath: prebuilt === undefined ? undefined : isAbsolute(prebuilt) ? prebuilt : resolve(dir, prebuilt),
+      });
     }
     return undefined;
   });

@@ -63,10 +63,33 @@ export function caseFolder(cacheDir: string, m: GeneratedMatrixEntry): string {
 
 const CASE_MARKER = 'case.json';
 
+/**
+ * The committed copy of a generated case (suite field `prebuilt`), when its three files exist and
+ * its layout records exactly the generator parameters of the suite entry; otherwise undefined and
+ * the case is built as usual. Keeps the quick start free of generation on a fresh clone.
+ */
+export function prebuiltCase(m: GeneratedMatrixEntry): { mtx: string; rhs: string } | undefined {
+  if (!m.prebuiltPath) return undefined;
+  const mtx = m.prebuiltPath;
+  const base = mtx.replace(/\.mtx(\.gz)?$/i, '');
+  const rhs = `${base}.rhs.mtx`;
+  const layoutPath = `${base}.layout.json`;
+  if (!existsSync(mtx) || !existsSync(rhs) || !existsSync(layoutPath)) return undefined;
+  try {
+    const layout = JSON.parse(readFileSync(layoutPath, 'utf8')) as { provenance?: { params?: unknown } };
+    if (canonicalJson(layout.provenance?.params) !== canonicalJson(m.generate)) return undefined;
+  } catch {
+    return undefined;
+  }
+  return { mtx, rhs };
+}
+
 /** Build (or reuse) a generated case; returns absolute .mtx and rhs paths. */
 export async function ensureGeneratedCase(
   cacheDir: string, m: GeneratedMatrixEntry, builder: CaseBuilder, log?: (line: string) => void,
 ): Promise<{ mtx: string; rhs: string }> {
+  const committed = prebuiltCase(m);
+  if (committed) return committed;
   const dir = caseFolder(cacheDir, m);
   const marker = join(dir, CASE_MARKER);
   if (existsSync(marker)) {

@@ -1,7 +1,8 @@
 import { describe, expect, it, afterAll } from 'vitest';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { loadSuite, parseSuite, readSuite, selectFromSuite } from '../../src/run/suite.js';
+import { loadSuite, parseSuite, readSuite, selectFromSuite, type GeneratedMatrixEntry } from '../../src/run/suite.js';
+import { prebuiltCase } from '../../src/run/sweep.js';
 import { fileURLToPath } from 'node:url';
 import * as fake from './fixtures/fake-deps.js';
 import { tempDir, writeTinySuite } from './helpers.js';
@@ -57,6 +58,7 @@ describe('parseSuite', () => {
   const cases: Array<[string, (s: any) => unknown, string]> = [
     ['not an object', () => [], 'suite.json: expected a JSON object with "schema": "slabbench-suite/1", got an array'],
     ['missing schema', (s) => { delete s.schema; }, 'suite.json: schema: missing; expected "slabbench-suite/1"'],
+    ['prebuilt not a .mtx path', (s) => { s.matrices[1].prebuilt = 'demo/m2.txt'; }, 'suite.json: matrices[1].prebuilt: expected a path ending in .mtx or .mtx.gz (a committed copy of the case), got "demo/m2.txt"'],
     ['wrong schema', (s) => { s.schema = 'slabbench-suite/9'; }, 'suite.json: schema: expected "slabbench-suite/1", got "slabbench-suite/9"'],
     ['unknown top key', (s) => { s.matrix = []; }, 'suite.json: matrix: unknown key'],
     ['description type', (s) => { s.description = 3; }, 'suite.json: description: expected a string, got 3'],
@@ -142,5 +144,19 @@ describe('committed suites', () => {
     const ci = await loadSuite(fileURLToPath(new URL('../../matrices/ci/suite.json', import.meta.url)));
     expect(ci.matrices.map((m) => m.kind)).toEqual(['file', 'file', 'file']);
     expect(ci.recipes.map((r) => r.name)).toEqual(['gmres-bjacobi', 'gmres-bgs-sym', 'gmres-bilu0-down', 'fgmres-slab-loose']);
+  });
+
+  it('every demo case has a committed copy built from exactly its suite parameters', async () => {
+    const demo = await loadSuite(fileURLToPath(new URL('../../matrices/suite.json', import.meta.url)));
+    const generated = demo.matrices.filter((m): m is GeneratedMatrixEntry => m.kind === 'generate');
+    expect(generated.length).toBe(demo.matrices.length);
+    for (const m of generated) {
+      const c = prebuiltCase(m);
+      expect(c?.mtx, m.name).toMatch(new RegExp(`matrices/demo/${m.name}\\.mtx$`));
+      expect(c?.rhs).toMatch(new RegExp(`matrices/demo/${m.name}\\.rhs\\.mtx$`));
+      // A changed parameter makes the committed copy stale: the sweep must then generate.
+      const changed = { ...m, generate: { ...(m.generate as Record<string, unknown>), seed: 12345 } };
+      expect(prebuiltCase(changed)).toBeUndefined();
+    }
   });
 });
