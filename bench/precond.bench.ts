@@ -23,19 +23,11 @@ import {
   luInverse,
 } from '../src/precond/dense.js';
 import { measureStreamBandwidth } from './stream.js';
+import { mulberry32 } from '../src/util/random.js';
 
 const quick = process.argv.includes('--quick');
 
-function rng(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const rng = mulberry32;
 
 /**
  * Median seconds per call of fn over `reps` batches each lasting at least minMs: wall clock and

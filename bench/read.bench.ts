@@ -22,6 +22,7 @@ import { once } from 'node:events';
 import { Bench } from 'tinybench';
 import { readMatrixMarket } from '../src/sparse/matrix-market.js';
 import { csrBytes } from '../src/sparse/csr.js';
+import { mulberry32 } from '../src/util/random.js';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const self = fileURLToPath(import.meta.url);
@@ -31,17 +32,7 @@ function arg(name: string, dflt: string): string {
   return i >= 0 && i + 1 < process.argv.length ? process.argv[i + 1] : dflt;
 }
 
-/** Small deterministic generator (mulberry32, common practice) so the file is the same every time. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const rng = mulberry32;
 
 async function generate(path: string, targetBytes: number, byRows: boolean): Promise<void> {
   const perCol = 24; // entries per column (per row when byRows)

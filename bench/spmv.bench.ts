@@ -18,18 +18,9 @@ import { Bench } from 'tinybench';
 import { bsrSpmvKernel, bsrSpmvReferenceKernel, bsrBytes } from '../src/sparse/bsr.js';
 import type { Bsr } from '../src/sparse/types.js';
 import { addStreamTask, gbPerSecond, streamArrays } from './stream.js';
+import { mulberry32 } from '../src/util/random.js';
 
-/** Seeded generator (mulberry32, common practice). */
-function rng(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const rng = mulberry32;
 
 /**
  * Block pattern of upwind-in-time DG on a periodic triangulated nx×ny grid with nLayers time

@@ -6,6 +6,7 @@
 import { readFileSync } from 'node:fs';
 import { fileError, optionError } from '../util/errors.js';
 import { permutationProblem } from '../sparse/permute.js';
+import { mulberry32 } from '../util/random.js';
 
 /**
  * Permutation file: one 0-based OLD block-row index per line, line i (not counting blank lines
@@ -45,17 +46,7 @@ export function reversePermutation(n: number): Int32Array {
   return p;
 }
 
-/** mulberry32 (common practice): small, seedable, good enough for shuffling. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const rng = mulberry32;
 
 /**
  * Random block order from a seed (Fisher–Yates). With slab offsets, block rows are shuffled

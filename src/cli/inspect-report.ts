@@ -5,6 +5,7 @@ import {
   blockDiagonalDominance, blocksAboveSlabDiagonal, blocksPerRow, detectBlockSize, stronglyConnectedBlocks,
   symmetryInfo, type BlockDominance, type BlockSizeDetection,
 } from '../sparse/structure.js';
+import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
 
 /** Everything `inspect` reports; `--json` prints exactly this (non-finite numbers as null). */
 export interface InspectReport {
@@ -86,24 +87,12 @@ export function buildInspectReport(sys: LoadedSystem): InspectReport {
 
 /** JSON with NaN/±Infinity as null, so the output parses anywhere. */
 export function inspectReportJson(r: InspectReport): string {
-  return JSON.stringify(r, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2);
+  return jsonNonFiniteAsNull(r);
 }
 
-function bytes(n: number): string {
-  if (n < 1024) return `${n} B`;
-  const units = ['KiB', 'MiB', 'GiB', 'TiB'];
-  let v = n / 1024, u = 0;
-  while (v >= 1024 && u < units.length - 1) { v /= 1024; u++; }
-  return `${v.toFixed(v < 10 ? 2 : 1)} ${units[u]}`;
-}
+const bytes = formatBytesDetailed;
 
-function num(x: number, digits = 3): string {
-  if (Number.isNaN(x)) return 'n/a';
-  if (!Number.isFinite(x)) return x > 0 ? '∞' : '−∞';
-  if (x === 0) return '0';
-  const a = Math.abs(x);
-  return a >= 1e-3 && a < 1e6 ? String(Number(x.toPrecision(digits))) : x.toExponential(digits - 1);
-}
+const num = (x: number, digits = 3): string => formatNumber(x, digits, 'n/a');
 
 function plural(n: number, one: string, many = `${one}s`): string {
   return `${n} ${n === 1 ? one : many}`;

@@ -9,6 +9,7 @@ import { solveSystem } from '../solvers/run-recipe.js';
 import type { SolveResult } from '../solvers/types.js';
 import { EXIT, fileError, optionError } from '../util/errors.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
+import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
 
 /** What each recipe option means (the accepted values come from the recipe validator). */
 const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
@@ -49,24 +50,12 @@ export interface SolveReport extends SolveResult {
 }
 
 export function solveReportJson(r: SolveReport): string {
-  return JSON.stringify(r, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2);
+  return jsonNonFiniteAsNull(r);
 }
 
-function bytes(n: number): string {
-  if (n < 1024) return `${n} B`;
-  const units = ['KiB', 'MiB', 'GiB', 'TiB'];
-  let v = n / 1024, u = 0;
-  while (v >= 1024 && u < units.length - 1) { v /= 1024; u++; }
-  return `${v.toFixed(v < 10 ? 2 : 1)} ${units[u]}`;
-}
+const bytes = formatBytesDetailed;
 
-function num(x: number, digits = 3): string {
-  if (Number.isNaN(x)) return 'NaN';
-  if (!Number.isFinite(x)) return x > 0 ? '∞' : '−∞';
-  if (x === 0) return '0';
-  const a = Math.abs(x);
-  return a >= 1e-3 && a < 1e6 ? String(Number(x.toPrecision(digits))) : x.toExponential(digits - 1);
-}
+const num = formatNumber;
 
 function recipeText(r: Recipe): string {
   const method = r.krylov === 'none' ? 'stationary iteration'

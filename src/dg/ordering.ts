@@ -1,5 +1,6 @@
 import { FaceKind, type SpaceTimeMesh } from '../mesh/space-time.js';
 import { createElementAffine, elementAffine, faceOutwardNormalFromAffine, faceLocalVertices } from '../mesh/geometry.js';
+import { mulberry32 } from '../util/random.js';
 
 /** Element order within each time slab (slabs always stay in time order). */
 export type ElementOrdering = 'natural' | 'downstream' | 'random';
@@ -118,14 +119,3 @@ function downstream(mesh: SpaceTimeMesh, velocity: (X: Float64Array, xo: number,
   return cuts;
 }
 
-/** mulberry32: small seeded PRNG (common practice), uniform in [0, 1). */
-export function mulberry32(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}

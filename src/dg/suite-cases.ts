@@ -1,6 +1,6 @@
-import { readFileSync } from 'node:fs';
 import { UserError } from '../util/errors.js';
 import { parseGeneratorParams, type GeneratorParams } from './generate.js';
+import { readJsonFile } from '../util/json-file.js';
 
 /** A generator case of a suite file (`matrices[i].generate`), validated. */
 export interface SuiteCase {
@@ -16,19 +16,7 @@ export interface SuiteCase {
  * every case is validated before any is built.
  */
 export function readSuiteCases(path: string): SuiteCase[] {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (e) {
-    const code = (e as NodeJS.ErrnoException).code;
-    throw new UserError(`${path}: ${code === 'ENOENT' ? 'no such suite file' : `cannot read suite file (${code ?? String(e)})`}`);
-  }
-  let obj: unknown;
-  try {
-    obj = JSON.parse(text);
-  } catch (e) {
-    throw new UserError(`${path}: not valid JSON (${(e as Error).message})`);
-  }
+  const obj = readJsonFile(path, 'suite file');
   if (typeof obj !== 'object' || obj === null || Array.isArray(obj)) throw new UserError(`${path}: expected a JSON object`);
   const top = obj as Record<string, unknown>;
   if (top.schema !== 'slabbench-suite/1') throw new UserError(`${path}: schema: expected "slabbench-suite/1", got ${JSON.stringify(top.schema)}`);

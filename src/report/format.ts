@@ -42,3 +42,26 @@ export function formatCount(n: number): string {
   const grouped = s.replace(/\B(?=(\d{3})+(?!\d))/g, ' ');
   return n < 0 ? `-${grouped}` : grouped;
 }
+
+/** Bytes with one more digit for detailed listings (`inspect`, `solve`): 191.3 KiB, 2.25 KiB. */
+export function formatBytesDetailed(n: number): string {
+  if (n < 1024) return `${n} B`;
+  const units = ['KiB', 'MiB', 'GiB', 'TiB'];
+  let v = n / 1024, u = 0;
+  while (v >= 1024 && u < units.length - 1) { v /= 1024; u++; }
+  return `${v.toFixed(v < 10 ? 2 : 1)} ${units[u]}`;
+}
+
+/** A number with `digits` significant digits, plain in [1e-3, 1e6) and exponent form outside. */
+export function formatNumber(x: number, digits = 3, nanText = 'NaN'): string {
+  if (Number.isNaN(x)) return nanText;
+  if (!Number.isFinite(x)) return x > 0 ? '∞' : '−∞';
+  if (x === 0) return '0';
+  const a = Math.abs(x);
+  return a >= 1e-3 && a < 1e6 ? String(Number(x.toPrecision(digits))) : x.toExponential(digits - 1);
+}
+
+/** Pretty JSON with NaN and ±Infinity written as null, so the output parses anywhere. */
+export function jsonNonFiniteAsNull(value: unknown): string {
+  return JSON.stringify(value, (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v), 2);
+}

@@ -11,7 +11,7 @@ import type { Bsr } from '../sparse/types.js';
 import { writeFileAtomicSync } from '../util/atomic-write.js';
 import { UserError } from '../util/errors.js';
 import { VERSION } from '../version.js';
-import { RESULTS_SCHEMA, type BlockPattern, type MatrixInfo, type ResultsDoc, type RunRecord } from './results-types.js';
+import { RESULTS_SCHEMA, type MatrixInfo, type ResultsDoc, type RunRecord } from './results-types.js';
 
 /** Folder holding slabbench's package.json (src/run and dist/run are both two levels down). */
 function packageRoot(): string {

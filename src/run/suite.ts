@@ -8,13 +8,14 @@
  *
  * Paths are relative to the suite file. Every error is one line naming the file and the field path.
  */
-import { readFileSync, existsSync } from 'node:fs';
+import { existsSync } from 'node:fs';
 import { dirname, resolve, isAbsolute } from 'node:path';
 import { createHash } from 'node:crypto';
 import type { Recipe } from '../solvers/recipe.js';
 import { UserError } from '../util/errors.js';
 import { SUITE_SCHEMA } from './results-types.js';
 import type { SuiteParsers } from './deps.js';
+import { readJsonFile } from '../util/json-file.js';
 
 /** Names become file names (cache, reports) and CSV cells: keep them plain. */
 export const NAME_PATTERN = /^[A-Za-z0-9][A-Za-z0-9._+-]{0,79}$/;
@@ -194,19 +195,7 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
 
 /** Read, parse and validate a suite file; also checks that every referenced file exists. */
 export function readSuite(path: string, parsers: SuiteParsers): Suite {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (e) {
-    const code = (e as NodeJS.ErrnoException).code;
-    throw new UserError(`${path}: ${code === 'ENOENT' ? 'no such suite file' : `cannot read suite file (${code ?? String(e)})`}`);
-  }
-  let obj: unknown;
-  try {
-    obj = JSON.parse(text);
-  } catch (e) {
-    throw new UserError(`${path}: not valid JSON (${(e as Error).message})`);
-  }
+  const obj = readJsonFile(path, 'suite file');
   const suite = parseSuite(obj, path, dirname(resolve(path)), parsers);
   suite.matrices.forEach((m, i) => {
     if (m.kind !== 'file') return;

@@ -2,20 +2,14 @@ import { describe, it, expect } from 'vitest';
 import { orthonormalBasis, basisDimension, MAX_BASIS_ORDER } from '../../src/dg/basis.js';
 import { simplexQuadrature } from '../../src/dg/quadrature.js';
 import { jacobiP } from '../../src/dg/jacobi-polynomials.js';
+import { mulberry32 } from '../../src/util/random.js';
 
 const fact = (n: number): number => { let f = 1; for (let k = 2; k <= n; k++) f *= k; return f; };
 const dims = [1, 2, 3, 4] as const;
 
 /** Seeded points inside the unit simplex (mulberry32, common practice). */
 function randomSimplexPoints(dim: number, n: number, seed: number): Float64Array {
-  let a = seed >>> 0;
-  const rnd = (): number => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  const rnd = mulberry32(seed);
   const pts = new Float64Array(n * dim);
   for (let p = 0; p < n; p++) {
     // sorted uniforms give a uniform point in the simplex (spacings); shrink slightly off the boundary

@@ -4,18 +4,9 @@ import type { SystemMatrix } from '../../src/precond/types.js';
 import type { Recipe } from '../../src/solvers/recipe.js';
 import { DEFAULT_RECIPE } from '../../src/solvers/recipe.js';
 import { bsrToCsr, csrToBsr } from '../../src/sparse/bsr.js';
+import { mulberry32 } from '../../src/util/random.js';
 
-/** Mulberry32: small deterministic generator (common practice for seeded tests). */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+export const rng = mulberry32;
 
 export function randomVector(n: number, seed: number): Float64Array {
   const r = rng(seed);

@@ -10,6 +10,7 @@ import { spawnSync } from 'node:child_process';
 import type { Csr } from '../../src/sparse/types.js';
 import { readMatrixMarket, readMatrixMarketVector, writeMatrixMarket, writeMatrixMarketVector } from '../../src/sparse/matrix-market.js';
 import { tempDir, expectValidCsr } from './matrix-market-helpers.js';
+import { mulberry32 } from '../../src/util/random.js';
 
 const here = dirname(fileURLToPath(import.meta.url));
 const fixtures = join(here, '..', 'fixtures', 'mm');
@@ -80,14 +81,7 @@ describe('Matrix Market against scipy.io fixtures (committed)', () => {
 
 /** Seeded random CSR with values spread over many magnitudes, negative zeros and explicit zeros. */
 function randomCsr(nRows: number, nCols: number, density: number, seed: number, symmetric = false): Csr {
-  let a = seed >>> 0;
-  const r = () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
+  const r = mulberry32(seed);
   const d = Array.from({ length: nRows }, () => new Array<number | undefined>(nCols).fill(undefined));
   for (let i = 0; i < nRows; i++) {
     for (let j = 0; j < (symmetric ? i + 1 : nCols); j++) {

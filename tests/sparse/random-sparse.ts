@@ -1,18 +1,9 @@
 // Seeded random sparse matrices for the sparse-core tests (not a test file itself).
 import { Matrix } from 'ml-matrix';
 import type { Bsr, Csr } from '../../src/sparse/types.js';
+import { mulberry32 } from '../../src/util/random.js';
 
-/** mulberry32: small seeded generator (common practice for reproducible tests). */
-export function rng(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+export const rng = mulberry32;
 
 /**
  * Random BSR with sorted unique block columns, about `perRow` blocks per block row (diagonal
