@@ -1,6 +1,6 @@
 import { FaceKind } from '../mesh/space-time.js';
-import { createElementAffine, elementAffine, faceOutwardNormalFromAffine, faceLocalVertices } from '../mesh/geometry.js';
-import { rightFaceOrder } from './face-coupling.js';
+import { createElementAffine, elementAffine, faceOutwardNormalFromAffine, faceLocalVertices, referenceToPhysical } from '../mesh/geometry.js';
+import { isTimeFace, leftFaceFrame, rightFaceOrder } from './face-coupling.js';
 import type { ScalarPhysics } from './physics/types.js';
 import type { Discretization, ProgressSink } from './assemble.js';
 
@@ -101,11 +101,7 @@ export function assembleScalar(
       }
     } else {
       for (let q = 0; q < vol.nq; q++) {
-        for (let i = 0; i < D; i++) {
-          let s = aff.origin[i];
-          for (let j = 0; j < D; j++) s += aff.jacobian[i * D + j] * vol.points[q * D + j];
-          X[i] = s;
-        }
+        referenceToPhysical(aff, vol.points, q * D, X);
         const po = q * nb;
         let u = 0;
         if (state) for (let b = 0; b < nb; b++) u += vol.phi[po + b] * state[uo + b];
@@ -165,13 +161,8 @@ export function assembleScalar(
     const kind = faceKind[f];
     const L = faceLeft[f];
     const R = faceRight[f];
-    elementAffine(mesh, L, aff);
-    const area = faceOutwardNormalFromAffine(aff, faceLeftLocal[f], normal);
-    const timeFace = kind === FaceKind.slabInterface || kind === FaceKind.initial || kind === FaceKind.final;
-    if (timeFace) {
-      for (let k = 0; k < d; k++) normal[k] = 0;
-      normal[d] = normal[d] > 0 ? 1 : -1;
-    }
+    const area = leftFaceFrame(mesh, f, aff, normal);
+    const timeFace = isTimeFace(kind);
     const twoSided = R >= 0;
     const tabL = tables.face(faceLocalVertices(D, faceLeftLocal[f]));
     let tabR = tabL;
@@ -210,11 +201,7 @@ export function assembleScalar(
       }
       if (!twoSided && bm !== 0 && (kind === FaceKind.initial || kind === FaceKind.spaceBoundary)) {
         for (let q = 0; q < tabL.nq; q++) {
-          for (let i = 0; i < D; i++) {
-            let s = aff.origin[i];
-            for (let j = 0; j < D; j++) s += aff.jacobian[i * D + j] * tabL.points[q * D + j];
-            X[i] = s;
-          }
+          referenceToPhysical(aff, tabL.points, q * D, X);
           if (kind === FaceKind.initial) physics.initialData(X, 0, data);
           else physics.boundaryData(X, 0, data);
           const c = tabL.weights[q] * bm * data[0];
@@ -225,11 +212,7 @@ export function assembleScalar(
       continue;
     }
     for (let q = 0; q < tabL.nq; q++) {
-      for (let i = 0; i < D; i++) {
-        let s = aff.origin[i];
-        for (let j = 0; j < D; j++) s += aff.jacobian[i * D + j] * tabL.points[q * D + j];
-        X[i] = s;
-      }
+      referenceToPhysical(aff, tabL.points, q * D, X);
       const po = q * nb;
       let uL = 0;
       if (state) for (let b = 0; b < nb; b++) uL += tabL.phi[po + b] * state[IL + b];

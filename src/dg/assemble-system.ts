@@ -1,6 +1,6 @@
 import { FaceKind } from '../mesh/space-time.js';
-import { createElementAffine, elementAffine, faceOutwardNormalFromAffine, faceLocalVertices } from '../mesh/geometry.js';
-import { rightFaceOrder } from './face-coupling.js';
+import { createElementAffine, elementAffine, faceLocalVertices, referenceToPhysical } from '../mesh/geometry.js';
+import { leftFaceFrame, rightFaceOrder } from './face-coupling.js';
 import type { LinearSystemPhysics } from './physics/types.js';
 import type { Discretization, ProgressSink } from './assemble.js';
 
@@ -20,8 +20,7 @@ export function assembleSystem(
 ): void {
   const { mesh, tables, ordering, pattern } = disc;
   const { inv } = ordering;
-  const d = mesh.dim;
-  const D = d + 1;
+  const D = mesh.dim + 1;
   const nb = tables.nb;
   const m = physics.nEquations;
   const bs = m * nb;
@@ -70,12 +69,7 @@ export function assembleSystem(
     const kind = faceKind[f];
     const L = faceLeft[f];
     const R = faceRight[f];
-    elementAffine(mesh, L, aff);
-    const area = faceOutwardNormalFromAffine(aff, faceLeftLocal[f], normal);
-    if (kind === FaceKind.slabInterface || kind === FaceKind.initial || kind === FaceKind.final) {
-      for (let k = 0; k < d; k++) normal[k] = 0;
-      normal[d] = normal[d] > 0 ? 1 : -1;
-    }
+    const area = leftFaceFrame(mesh, f, aff, normal);
     physics.upwindSplit(normal, aPlus, aMinus);
     const tabL = tables.face(faceLocalVertices(D, faceLeftLocal[f]));
     const wscale = area * tables.faceFactorial;
@@ -101,11 +95,7 @@ export function assembleSystem(
         // Exterior data: initial condition on t = 0, inflow data on space boundaries.
         const IL = inv[L] * bs;
         for (let q = 0; q < tabL.nq; q++) {
-          for (let i = 0; i < D; i++) {
-            let s = aff.origin[i];
-            for (let j = 0; j < D; j++) s += aff.jacobian[i * D + j] * tabL.points[q * D + j];
-            X[i] = s;
-          }
+          referenceToPhysical(aff, tabL.points, q * D, X);
           if (kind === FaceKind.initial) physics.initialData(X, 0, data);
           else physics.boundaryData(X, 0, data);
           for (let i = 0; i < m; i++) {

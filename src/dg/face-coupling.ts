@@ -1,5 +1,26 @@
 import { FaceKind, type SpaceTimeMesh } from '../mesh/space-time.js';
-import { faceLocalVertices } from '../mesh/geometry.js';
+import { elementAffine, faceLocalVertices, faceOutwardNormalFromAffine, type ElementAffine } from '../mesh/geometry.js';
+
+/** Slab interfaces and the t = 0, T faces: faces whose space-time normal is purely in time. */
+export function isTimeFace(kind: number): boolean {
+  return kind === FaceKind.slabInterface || kind === FaceKind.initial || kind === FaceKind.final;
+}
+
+/**
+ * Face f seen from its left element: fills `aff` with that element's affine map and `normal` with
+ * the unit outward space-time normal, snapped to (0, …, 0, ±1) on time faces (there n_x is zero
+ * in exact arithmetic); returns the face measure.
+ */
+export function leftFaceFrame(mesh: SpaceTimeMesh, f: number, aff: ElementAffine, normal: Float64Array): number {
+  elementAffine(mesh, mesh.faceLeft[f], aff);
+  const area = faceOutwardNormalFromAffine(aff, mesh.faceLeftLocal[f], normal);
+  if (isTimeFace(mesh.faceKind[f])) {
+    const d = mesh.dim;
+    for (let k = 0; k < d; k++) normal[k] = 0;
+    normal[d] = normal[d] > 0 ? 1 : -1;
+  }
+  return area;
+}
 
 /**
  * Faces carry a canonical vertex order: the left element's face vertices as faceLocalVertices lists
