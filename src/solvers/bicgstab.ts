@@ -1,6 +1,7 @@
 import type { LinearOperator, ResidualCheck, SolveResult, StopReason } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
+import { residualInto } from './operator.js';
 import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy, dot, norm2 } from './vector.js';
@@ -49,11 +50,6 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
     baselineNorm: rule.baselineNorm, trueBaselineNorm: rule.baselineNorm, trueResidualNorm: trueNorm,
     residualChecks, residualMismatch, solveSeconds: secondsSince(t0), meter, krylov, work, failure,
   });
-  const trueResidual = (): number => {
-    A.apply(x, r);
-    for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
-    return norm2(n, r);
-  };
   const stopMonitor = (): SolveResult => {
     failure = { message: 'stopped by the onIteration monitor' };
     return finish('max-iterations');
@@ -62,7 +58,7 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
   const bNorm = norm2(n, b);
   if (!Number.isFinite(bNorm)) { trueNorm = NaN; history.push(NaN); return finish('non-finite'); }
   if (bNorm === 0) { x.fill(0); history.push(0); return finish('converged-rtol'); }
-  trueNorm = trueResidual();
+  trueNorm = residualInto(A, b, x, r);
   rule.baselineNorm = opts.baseline === 'rhs' ? bNorm : trueNorm;
   let rel = relative(trueNorm, rule.baselineNorm);
   history.push(rel);
@@ -128,7 +124,7 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
       if (omega === 0) { vote = 'breakdown'; failure = { message: 'bicgstab: ω = 0 (stagnation)' }; break; }
     }
     const estimate = relative(rNorm, rule.baselineNorm);
-    trueNorm = trueResidual();
+    trueNorm = residualInto(A, b, x, r);
     const trueRel = relative(trueNorm, rule.baselineNorm);
     residualChecks.push({ iteration: iterations, estimate, trueValue: trueRel });
     if (residualsDisagree(estimate, trueRel, opts.rtol)) residualMismatch = true;

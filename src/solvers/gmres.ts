@@ -2,6 +2,7 @@ import { UserError } from '../util/errors.js';
 import type { LinearOperator, ResidualCheck, SolveResult, StopReason } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
+import { residualInto } from './operator.js';
 import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy, axpyDot, axpyNorm2, dot, isZero, norm2, scale } from './vector.js';
@@ -91,12 +92,6 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     krylov, work, ritz, failure,
   });
 
-  // r ← b − A x, returns ‖r‖
-  const trueResidual = (): number => {
-    A.apply(x, r);
-    for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
-    return norm2(n, r);
-  };
 
   // ---- iteration 0 ----
   const bNorm = norm2(n, b);
@@ -112,7 +107,7 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     return finish('converged-rtol');
   }
   const x0Zero = isZero(n, x);
-  trueNorm = trueResidual();
+  trueNorm = residualInto(A, b, x, r);
   trueBase = opts.baseline === 'rhs' ? bNorm : trueNorm;
   // beta: the monitored residual norm; the cycle's first basis vector is built in vs[0].
   let beta: number;
@@ -215,7 +210,7 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     }
     if (cycleVote === 'non-finite') {
       // keep x from the cycle start: this cycle's basis holds NaN/Inf
-      trueNorm = trueResidual();
+      trueNorm = residualInto(A, b, x, r);
       return finish('non-finite');
     }
     // y ← R⁻¹ g (R = rotated H, upper triangular k×k)
@@ -228,7 +223,7 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
       y[i] = s / rii;
     }
     if (singularAt >= 0) {
-      trueNorm = trueResidual();
+      trueNorm = residualInto(A, b, x, r);
       failure = { message: `${method}: the Hessenberg matrix is singular at step ${iterations - k + singularAt + 1} (operator singular on the Krylov space)` };
       return finish('breakdown');
     }
@@ -245,7 +240,7 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     }
 
     // true residual beside the recursive estimate; the next cycle starts from it
-    trueNorm = trueResidual();
+    trueNorm = residualInto(A, b, x, r);
     let monitoredNow = trueNorm;
     const check: ResidualCheck = {
       iteration: iterations, estimate: rel, trueValue: relative(trueNorm, trueBase),

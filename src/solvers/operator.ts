@@ -2,6 +2,7 @@ import type { Bsr, Csr } from '../sparse/types.js';
 import { csrSpmvKernel } from '../sparse/csr.js';
 import { bsrSpmvKernel } from '../sparse/bsr.js';
 import type { BufferBytes, LinearOperator } from './types.js';
+import { norm2 } from './vector.js';
 
 /** A matrix seen as an operator, with the bytes its arrays hold (for the memory report). */
 export interface MatrixOperator extends LinearOperator {
@@ -48,4 +49,12 @@ export function bsrOperator(a: Bsr): MatrixOperator {
       bsrSpmvKernel(nBlockRows, bs, rowPtr, colInd, values, x, y);
     },
   };
+}
+
+/** r ← b − A x; returns ‖r‖₂ (the true residual every solver checks its estimate against). */
+export function residualInto(A: LinearOperator, b: Float64Array, x: Float64Array, r: Float64Array): number {
+  const n = A.n;
+  A.apply(x, r);
+  for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
+  return norm2(n, r);
 }

@@ -4,7 +4,7 @@ import { UserError } from '../util/errors.js';
 import type { Recipe } from './recipe.js';
 import type { SolveResult } from './types.js';
 import type { KrylovOptions } from './options.js';
-import { bsrOperator, csrOperator, type MatrixOperator } from './operator.js';
+import { bsrOperator, csrOperator, residualInto, type MatrixOperator } from './operator.js';
 import { krylovSolve } from './krylov.js';
 import { buildResult, meterPreconditioner, peakRssBytes, relative, secondsSince, sumBytes } from './result.js';
 import { norm2 } from './vector.js';
@@ -79,9 +79,7 @@ function setupFailure(
 ): SolveResult {
   const n = A.n;
   const r = new Float64Array(n);
-  A.apply(x, r);
-  for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
-  const rNorm = norm2(n, r);
+  const rNorm = residualInto(A, b, x, r);
   const base = recipe.baseline === 'rhs' ? norm2(n, b) : rNorm;
   const failure: { message: string; blockRow?: number } = { message: outcome.message };
   if (outcome.blockRow !== undefined) failure.blockRow = outcome.blockRow;

@@ -1,6 +1,7 @@
 import type { LinearOperator, SolveResult, StopReason } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
+import { residualInto } from './operator.js';
 import { combineVotes, isStop, monitorVote, residualVote, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy, norm2 } from './vector.js';
@@ -38,16 +39,11 @@ export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, 
     residualChecks: [{ iteration: iterations, estimate: history[history.length - 1], trueValue: relative(trueNorm, rule.baselineNorm) }],
     residualMismatch: false, solveSeconds: secondsSince(t0), meter, krylov, work, failure,
   });
-  const trueResidual = (): number => {
-    A.apply(x, r);
-    for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
-    return norm2(n, r);
-  };
 
   const bNorm = norm2(n, b);
   if (!Number.isFinite(bNorm)) { trueNorm = NaN; history.push(NaN); return finish('non-finite'); }
   if (bNorm === 0) { x.fill(0); history.push(0); return finish('converged-rtol'); }
-  trueNorm = trueResidual();
+  trueNorm = residualInto(A, b, x, r);
   rule.baselineNorm = opts.baseline === 'rhs' ? bNorm : trueNorm;
   let rel = relative(trueNorm, rule.baselineNorm);
   history.push(rel);
@@ -55,7 +51,7 @@ export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, 
   while (!isStop(vote) && iterations < opts.maxIterations) {
     meter.apply(r, z);
     axpy(n, omega, z, x);
-    trueNorm = trueResidual();
+    trueNorm = residualInto(A, b, x, r);
     iterations++;
     rel = relative(trueNorm, rule.baselineNorm);
     history.push(rel);
