@@ -1,30 +1,17 @@
-import { describe, it, expect, vi, afterEach } from 'vitest';
+import { describe, it, expect } from 'vitest';
 import { readFileSync, writeFileSync, existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
-import { main } from '../../src/cli/main.js';
 import { readMatrixMarket, readMatrixMarketVector } from '../../src/sparse/matrix-market.js';
 import { readLayout } from '../../src/sparse/layout.js';
 import type { Csr } from '../../src/sparse/types.js';
 import { tempDir } from '../sparse/matrix-market-helpers.js';
+import { runCliShort } from './cli-helpers.js';
 
 const dir = tempDir('slabbench-convert-');
 const p = (name: string) => join(dir, name);
 
-async function run(...args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '', err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((s: string | Uint8Array) => { out += String(s); return true; });
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((s: string | Uint8Array) => { err += String(s); return true; });
-  try {
-    const code = await main(args);
-    return { code, out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
-
-afterEach(() => { process.exitCode = undefined; });
+const run = (...args: string[]) => runCliShort(args);
 
 function dense(a: Csr): number[][] {
   const d = Array.from({ length: a.nRows }, () => new Array<number>(a.nCols).fill(0));

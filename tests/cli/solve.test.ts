@@ -2,26 +2,9 @@ import { describe, it, expect, beforeAll, afterAll } from 'vitest';
 import { mkdtempSync, rmSync, writeFileSync, readFileSync, existsSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { main } from '../../src/cli/main.js';
+import { runCliShort } from './cli-helpers.js';
 
-/** Run the CLI in-process; returns exit code and what went to stdout/stderr. */
-async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '', err = '';
-  const ow = process.stdout.write.bind(process.stdout);
-  const ew = process.stderr.write.bind(process.stderr);
-  process.stdout.write = ((s: string | Uint8Array) => { out += String(s); return true; }) as typeof process.stdout.write;
-  process.stderr.write = ((s: string | Uint8Array) => { err += String(s); return true; }) as typeof process.stderr.write;
-  const saved = process.exitCode;
-  process.exitCode = undefined;
-  try {
-    const code = await main(args);
-    return { code, out, err };
-  } finally {
-    process.stdout.write = ow;
-    process.stderr.write = ew;
-    process.exitCode = saved;
-  }
-}
+const run = runCliShort;
 
 let dir: string;
 let tri: string;

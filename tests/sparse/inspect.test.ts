@@ -1,8 +1,8 @@
-import { describe, it, expect, beforeAll, afterAll, vi } from 'vitest';
+import { describe, it, expect, beforeAll, afterAll } from 'vitest';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { main } from '../../src/cli/main.js';
+import { runCliShort } from '../cli/cli-helpers.js';
 import { writeMatrixMarket } from '../../src/sparse/matrix-market.js';
 import { writeLayout } from '../../src/sparse/layout.js';
 import { systemFromMatrix } from '../../src/sparse/system.js';
@@ -78,19 +78,7 @@ describe('inspect report', () => {
   });
 });
 
-/** Run the CLI in-process, capturing stdout and stderr. */
-async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '', err = '';
-  const o = vi.spyOn(process.stdout, 'write').mockImplementation((c: string | Uint8Array) => { out += String(c); return true; });
-  const e = vi.spyOn(process.stderr, 'write').mockImplementation((c: string | Uint8Array) => { err += String(c); return true; });
-  try {
-    const code = await main(args);
-    return { code, out, err };
-  } finally {
-    o.mockRestore();
-    e.mockRestore();
-  }
-}
+const run = runCliShort;
 
 describe('slabbench inspect (command line)', () => {
   let dir = '';
