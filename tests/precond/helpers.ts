@@ -6,6 +6,9 @@ import { DEFAULT_RECIPE } from '../../src/solvers/recipe.js';
 import { bsrToCsr, csrToBsr } from '../../src/sparse/bsr.js';
 import { mulberry32 } from '../../src/util/random.js';
 
+export { csrFromTriplets, csrMatVec, poisson1d, poisson2d } from '../sparse/model-matrices.js';
+export { maxAbsDiff } from '../sparse/random-sparse.js';
+
 export const rng = mulberry32;
 
 export function randomVector(n: number, seed: number): Float64Array {
@@ -39,48 +42,6 @@ export function csrFromDense(n: number, dense: ArrayLike<number>): Csr {
     rowPtr[i + 1] = cols.length;
   }
   return { nRows: n, nCols: n, rowPtr, colInd: Int32Array.from(cols), values: Float64Array.from(vals) };
-}
-
-/** CSR from triplets (sorted by the helper; duplicates summed). */
-export function csrFromTriplets(n: number, entries: Array<[number, number, number]>): Csr {
-  const sorted = [...entries].sort((a, b) => a[0] - b[0] || a[1] - b[1]);
-  const rowPtr = new Int32Array(n + 1);
-  const cols: number[] = [], vals: number[] = [];
-  let last = -1, lastRow = -1;
-  for (const [i, j, v] of sorted) {
-    if (i === lastRow && j === last) { vals[vals.length - 1] += v; continue; }
-    cols.push(j); vals.push(v); rowPtr[i + 1]++;
-    last = j; lastRow = i;
-  }
-  for (let i = 0; i < n; i++) rowPtr[i + 1] += rowPtr[i];
-  return { nRows: n, nCols: n, rowPtr, colInd: Int32Array.from(cols), values: Float64Array.from(vals) };
-}
-
-/** tridiag(−1, 2, −1), n × n. */
-export function poisson1d(n: number): Csr {
-  const e: Array<[number, number, number]> = [];
-  for (let i = 0; i < n; i++) {
-    e.push([i, i, 2]);
-    if (i > 0) e.push([i, i - 1, -1]);
-    if (i + 1 < n) e.push([i, i + 1, -1]);
-  }
-  return csrFromTriplets(n, e);
-}
-
-/** 5-point Laplacian on an m×m interior grid, natural (row-by-row) numbering. */
-export function poisson2d(m: number): Csr {
-  const e: Array<[number, number, number]> = [];
-  for (let y = 0; y < m; y++) {
-    for (let x = 0; x < m; x++) {
-      const i = y * m + x;
-      e.push([i, i, 4]);
-      if (x > 0) e.push([i, i - 1, -1]);
-      if (x + 1 < m) e.push([i, i + 1, -1]);
-      if (y > 0) e.push([i, i - m, -1]);
-      if (y + 1 < m) e.push([i, i + m, -1]);
-    }
-  }
-  return csrFromTriplets(m * m, e);
 }
 
 /**
@@ -122,20 +83,4 @@ export function bsrToDense(a: Bsr): Float64Array {
     }
   }
   return d;
-}
-
-export function maxAbsDiff(a: ArrayLike<number>, b: ArrayLike<number>): number {
-  let m = 0;
-  for (let i = 0; i < a.length; i++) m = Math.max(m, Math.abs(a[i] - b[i]));
-  return m;
-}
-
-export function spmv(a: Csr, x: Float64Array): Float64Array {
-  const y = new Float64Array(a.nRows);
-  for (let i = 0; i < a.nRows; i++) {
-    let s = 0;
-    for (let k = a.rowPtr[i]; k < a.rowPtr[i + 1]; k++) s += a.values[k] * x[a.colInd[k]];
-    y[i] = s;
-  }
-  return y;
 }

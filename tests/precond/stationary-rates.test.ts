@@ -7,7 +7,7 @@ import { describe, expect, it } from 'vitest';
 import type { Csr } from '../../src/sparse/types.js';
 import type { Preconditioner } from '../../src/precond/types.js';
 import { createPreconditioner } from '../../src/precond/registry.js';
-import { poisson1d, poisson2d, randomVector, recipe, spmv, systemOfCsr } from './helpers.js';
+import { poisson1d, poisson2d, randomVector, recipe, csrMatVec, systemOfCsr } from './helpers.js';
 import type { Recipe } from '../../src/solvers/recipe.js';
 
 function measuredRate(A: Csr, M: Preconditioner, steps: number): number {
@@ -17,7 +17,7 @@ function measuredRate(A: Csr, M: Preconditioner, steps: number): number {
   let rate = 0;
   for (let k = 0; k < steps; k++) {
     const before = Math.hypot(...x);
-    const r = spmv(A, x);
+    const r = csrMatVec(A, x);
     for (let i = 0; i < n; i++) r[i] = -r[i];
     M.apply(r, z);
     for (let i = 0; i < n; i++) x[i] += z[i];

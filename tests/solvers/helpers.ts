@@ -4,68 +4,13 @@ import type { Csr } from '../../src/sparse/types.js';
 import type { Preconditioner } from '../../src/precond/types.js';
 import type { KrylovOptions } from '../../src/solvers/options.js';
 
-/** CSR from (row, col, value) triplets, rows sorted, duplicate-free input assumed. */
-export function csrFromTriplets(n: number, t: Array<[number, number, number]>): Csr {
-  const sorted = [...t].sort((a, b) => a[0] - b[0] || a[1] - b[1]);
-  const rowPtr = new Int32Array(n + 1);
-  for (const [i] of sorted) rowPtr[i + 1]++;
-  for (let i = 0; i < n; i++) rowPtr[i + 1] += rowPtr[i];
-  return {
-    nRows: n, nCols: n, rowPtr,
-    colInd: Int32Array.from(sorted.map((e) => e[1])),
-    values: Float64Array.from(sorted.map((e) => e[2])),
-  };
-}
-
-/** tridiag(lower, diag, upper) of size n. */
-export function tridiag(n: number, lower: number, diag: number, upper: number): Csr {
-  const t: Array<[number, number, number]> = [];
-  for (let i = 0; i < n; i++) {
-    if (i > 0) t.push([i, i - 1, lower]);
-    t.push([i, i, diag]);
-    if (i < n - 1) t.push([i, i + 1, upper]);
-  }
-  return csrFromTriplets(n, t);
-}
-
-/**
- * Convection–diffusion 5-point matrix on an m×m grid (Matrix Market NEP collection, "MVMMCD"):
- * A = blocktridiag(−(1+β)I, T, (β−1)I), T = tridiag(−(1+γ), 4−σ, γ−1). Non-symmetric for β, γ ≠ 0.
- */
-export function convectionDiffusion(m: number, beta: number, gamma: number, sigma: number): Csr {
-  const t: Array<[number, number, number]> = [];
-  for (let i = 0; i < m; i++) {
-    for (let j = 0; j < m; j++) {
-      const p = i * m + j;
-      if (i > 0) t.push([p, p - m, -(1 + beta)]);
-      if (j > 0) t.push([p, p - 1, -(1 + gamma)]);
-      t.push([p, p, 4 - sigma]);
-      if (j < m - 1) t.push([p, p + 1, gamma - 1]);
-      if (i < m - 1) t.push([p, p + m, beta - 1]);
-    }
-  }
-  return csrFromTriplets(m * m, t);
-}
-
-/** 2D 5-point Laplacian on an m×m interior grid: A = I⊗T_m + T_m⊗I. */
-export function poisson2d(m: number): Csr {
-  return convectionDiffusion(m, 0, 0, 0);
-}
+export { convectionDiffusion, csrFromTriplets, csrMatVec, poisson2d, tridiag } from '../sparse/model-matrices.js';
+export { maxAbsDiff } from '../sparse/random-sparse.js';
 
 export function toDense(a: Csr): Matrix {
   const d = Matrix.zeros(a.nRows, a.nCols);
   for (let i = 0; i < a.nRows; i++) for (let k = a.rowPtr[i]; k < a.rowPtr[i + 1]; k++) d.set(i, a.colInd[k], a.values[k]);
   return d;
-}
-
-export function matVec(a: Csr, x: Float64Array): Float64Array {
-  const y = new Float64Array(a.nRows);
-  for (let i = 0; i < a.nRows; i++) {
-    let s = 0;
-    for (let k = a.rowPtr[i]; k < a.rowPtr[i + 1]; k++) s += a.values[k] * x[a.colInd[k]];
-    y[i] = s;
-  }
-  return y;
 }
 
 /** A test double: M⁻¹ = A⁻¹ exactly (dense inverse), so preconditioned GMRES needs one iteration. */
@@ -163,11 +108,4 @@ export function opts(o: Partial<KrylovOptions> = {}): KrylovOptions {
     restart: 30, side: 'right', orthogonalization: 'mgs', rtol: 1e-10, atol: 0, maxIterations: 1000,
     divergence: 1e10, baseline: 'rhs', ...o,
   };
-}
-
-/** max |x_i − y_i|. */
-export function maxDiff(x: ArrayLike<number>, y: ArrayLike<number>): number {
-  let m = 0;
-  for (let i = 0; i < x.length; i++) m = Math.max(m, Math.abs(x[i] - y[i]));
-  return m;
 }

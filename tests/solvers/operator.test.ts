@@ -4,7 +4,7 @@ import { bsrOperator, csrOperator } from '../../src/solvers/operator.js';
 import { gmres } from '../../src/solvers/gmres.js';
 import { bsrToCsr } from '../../src/sparse/bsr.js';
 import type { Bsr } from '../../src/sparse/types.js';
-import { csrFromTriplets, maxDiff, opts, toDense } from './helpers.js';
+import { csrFromTriplets, maxAbsDiff, opts, toDense } from './helpers.js';
 
 function rng(seed: number): () => number {
   let s = seed >>> 0;
@@ -33,10 +33,10 @@ describe('matrix operators', () => {
       const y1 = new Float64Array(n), y2 = new Float64Array(n);
       bsrOperator(a).apply(x, y1);
       csrOperator(bsrToCsr(a)).apply(x, y2);
-      expect(maxDiff(y1, y2)).toBeLessThan(1e-13);
+      expect(maxAbsDiff(y1, y2)).toBeLessThan(1e-13);
       // against a dense product (slow reference)
       const d = toDense(bsrToCsr(a)).mmul(Matrix.columnVector(Array.from(x))).to1DArray();
-      expect(maxDiff(y1, d)).toBeLessThan(1e-13);
+      expect(maxAbsDiff(y1, d)).toBeLessThan(1e-13);
     }
   });
 
@@ -73,7 +73,7 @@ describe('gmres against a slow reference', () => {
         const x = new Float64Array(n);
         const res = gmres(csrOperator(A), b, x, opts({ restart: 10, maxIterations: k, rtol: 0, orthogonalization }));
         expect(res.iterations).toBe(k);
-        expect(maxDiff(x, xRef)).toBeLessThan(1e-9);
+        expect(maxAbsDiff(x, xRef)).toBeLessThan(1e-9);
       }
     }
   });

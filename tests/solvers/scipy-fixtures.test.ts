@@ -6,7 +6,7 @@ import { join, dirname } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { gmres } from '../../src/solvers/gmres.js';
 import { csrOperator } from '../../src/solvers/operator.js';
-import { csrFromTriplets, maxDiff, opts } from './helpers.js';
+import { csrFromTriplets, maxAbsDiff, opts } from './helpers.js';
 
 /**
  * Cross-check against scipy (fixtures from tests/fixtures/make_solver_fixtures.py, committed):
@@ -61,7 +61,7 @@ describe('scipy fixtures', () => {
       const x = new Float64Array(fx.n);
       const r = gmres(csrOperator(A), b, x, opts({ restart: fx.gmres.restart, rtol: 1e-12, maxIterations: 5000 }));
       expect(r.converged).toBe(true);
-      expect(maxDiff(x, fx.spsolve) / scale).toBeLessThan(1e-8);
+      expect(maxAbsDiff(x, fx.spsolve) / scale).toBeLessThan(1e-8);
     });
   }
 
@@ -72,7 +72,7 @@ describe('scipy fixtures', () => {
       const live = load(out);
       expect(live.map((f) => f.name)).toEqual(fixtures.map((f) => f.name));
       for (let i = 0; i < live.length; i++) {
-        expect(maxDiff(live[i].spsolve, fixtures[i].spsolve)).toBeLessThan(1e-12);
+        expect(maxAbsDiff(live[i].spsolve, fixtures[i].spsolve)).toBeLessThan(1e-12);
         expect(Math.abs(live[i].gmres.innerIterations - fixtures[i].gmres.innerIterations)).toBeLessThanOrEqual(1);
       }
     } finally {
