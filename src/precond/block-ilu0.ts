@@ -29,7 +29,6 @@ export class BlockIlu0Preconditioner implements Preconditioner {
   private factors: Float64Array = new Float64Array(0);
   private diag: Int32Array = new Int32Array(0);
   private yp: Float64Array = new Float64Array(0);
-  private xp: Float64Array = new Float64Array(0);
   private t: Float64Array = new Float64Array(0);
   private ready = false;
   private setupFlops = 0;
@@ -60,7 +59,6 @@ export class BlockIlu0Preconditioner implements Preconditioner {
     const work = new Float64Array(2 * bb);
     const piv = new Int32Array(bs);
     this.yp = new Float64Array(ord.perm ? this.n : 0);
-    this.xp = new Float64Array(0);
     this.t = new Float64Array(bs);
     // numeric
     let flops = 0;
@@ -127,7 +125,7 @@ export class BlockIlu0Preconditioner implements Preconditioner {
       m.permutation = this.perm.byteLength;
       m['permuted pattern'] = this.a.rowPtr.byteLength + this.a.colInd.byteLength;
     }
-    m.workspace = this.yp.byteLength + this.xp.byteLength + this.t.byteLength;
+    m.workspace = this.yp.byteLength + this.t.byteLength;
     return m;
   }
 
