@@ -1,20 +1,34 @@
 /**
  * Dense vector kernels used by the solvers. Plain loops on Float64Array; no allocation.
  * Lengths are explicit so that views into a larger basis buffer need no subarray objects.
+ * Reductions keep four independent partial sums (unrolled by 4) so consecutive multiply-adds do
+ * not wait on one another; the result differs from a single running sum only by summation order.
  */
 
 /** Σ x[i]·y[i] for i < n. */
 export function dot(n: number, x: Float64Array, y: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < n; i++) s += x[i] * y[i];
-  return s;
+  let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+  let i = 0;
+  for (; i + 3 < n; i += 4) {
+    s0 += x[i] * y[i];
+    s1 += x[i + 1] * y[i + 1];
+    s2 += x[i + 2] * y[i + 2];
+    s3 += x[i + 3] * y[i + 3];
+  }
+  for (; i < n; i++) s0 += x[i] * y[i];
+  return (s0 + s1) + (s2 + s3);
 }
 
 /** Euclidean norm of x[0..n). NaN or Inf in x gives a non-finite result. */
 export function norm2(n: number, x: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < n; i++) s += x[i] * x[i];
-  return Math.sqrt(s);
+  let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+  let i = 0;
+  for (; i + 3 < n; i += 4) {
+    const a = x[i], b = x[i + 1], c = x[i + 2], d = x[i + 3];
+    s0 += a * a; s1 += b * b; s2 += c * c; s3 += d * d;
+  }
+  for (; i < n; i++) s0 += x[i] * x[i];
+  return Math.sqrt((s0 + s1) + (s2 + s3));
 }
 
 /** y ← y + a·x. */
@@ -38,22 +52,36 @@ export function isZero(n: number, x: Float64Array): boolean {
  * one modified Gram–Schmidt step with the next step's dot product keeps the MGS arithmetic exactly.
  */
 export function axpyDot(n: number, a: number, x: Float64Array, y: Float64Array, z: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < n; i++) {
+  let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+  let i = 0;
+  for (; i + 3 < n; i += 4) {
+    const v0 = y[i] + a * x[i], v1 = y[i + 1] + a * x[i + 1];
+    const v2 = y[i + 2] + a * x[i + 2], v3 = y[i + 3] + a * x[i + 3];
+    y[i] = v0; y[i + 1] = v1; y[i + 2] = v2; y[i + 3] = v3;
+    s0 += v0 * z[i]; s1 += v1 * z[i + 1]; s2 += v2 * z[i + 2]; s3 += v3 * z[i + 3];
+  }
+  for (; i < n; i++) {
     const v = y[i] + a * x[i];
     y[i] = v;
-    s += v * z[i];
+    s0 += v * z[i];
   }
-  return s;
+  return (s0 + s1) + (s2 + s3);
 }
 
 /** y ← y + a·x, then return ‖y‖₂ of the updated y, in one pass. */
 export function axpyNorm2(n: number, a: number, x: Float64Array, y: Float64Array): number {
-  let s = 0;
-  for (let i = 0; i < n; i++) {
+  let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+  let i = 0;
+  for (; i + 3 < n; i += 4) {
+    const v0 = y[i] + a * x[i], v1 = y[i + 1] + a * x[i + 1];
+    const v2 = y[i + 2] + a * x[i + 2], v3 = y[i + 3] + a * x[i + 3];
+    y[i] = v0; y[i + 1] = v1; y[i + 2] = v2; y[i + 3] = v3;
+    s0 += v0 * v0; s1 += v1 * v1; s2 += v2 * v2; s3 += v3 * v3;
+  }
+  for (; i < n; i++) {
     const v = y[i] + a * x[i];
     y[i] = v;
-    s += v * v;
+    s0 += v * v;
   }
-  return Math.sqrt(s);
+  return Math.sqrt((s0 + s1) + (s2 + s3));
 }

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { LuDecomposition, Matrix, inverse } from 'ml-matrix';
 import {
   blockGemm, blockGemmSub, blockGemmSubNaive, blockMatVec, blockMatVecNaive, blockMatVecSub,
-  blockMatVecSubNaive, luFactor, luFactorUnblocked, luInverse, luSolve, PIVOT_RTOL,
+  blockMatVecSubNaive, luFactor, luFactorUnblocked, luInverse, luSolve, luSolveNaive, PIVOT_RTOL,
 } from '../../src/precond/dense.js';
 import { maxAbsDiff, rng } from './helpers.js';
 
@@ -92,6 +92,28 @@ describe('blocked LU (bs ≥ 16 fast path) against the unblocked LU', () => {
     const norm = Math.max(...Array.from(a, Math.abs));
     expect(luFactor(a, 0, bs, new Int32Array(bs), 0, PIVOT_RTOL * norm)).toBe(17);
   });
+});
+
+describe('luSolve (two rows per pass) against luSolveNaive (one running sum per row)', () => {
+  for (const bs of [1, 2, 3, 4, 5, 6, 7, 8, 13, 20, 29, 30, 31, 40]) {
+    it(`bs = ${bs}: same solution up to rounding, entries outside the vector untouched`, () => {
+      const o = 3;
+      const lu = randomBlock(bs, 300 + bs, o);
+      const piv = new Int32Array(bs + 1);
+      expect(luFactor(lu, o, bs, piv, 1, 1e-300)).toBe(-1);
+      const r = rng(500 + bs);
+      const x0 = Float64Array.from({ length: bs + 6 }, () => 2 * r() - 1);
+      const x1 = x0.slice(), x2 = x0.slice();
+      luSolve(lu, o, piv, 1, bs, x1, 2);
+      luSolveNaive(lu, o, piv, 1, bs, x2, 2);
+      let scale = 0;
+      for (let i = 0; i < bs; i++) scale = Math.max(scale, Math.abs(x2[2 + i]));
+      expect(maxAbsDiff(x1, x2)).toBeLessThan(1e-12 * bs * (1 + scale));
+      expect(x1[0]).toBe(x0[0]);
+      expect(x1[1]).toBe(x0[1]);
+      for (let p = bs + 2; p < x0.length; p++) expect(x1[p]).toBe(x0[p]);
+    });
+  }
 });
 
 describe('block kernels: fast paths against the naive twins (random non-symmetric blocks)', () => {
