@@ -1,7 +1,7 @@
 import type { LinearOperator, ResidualCheck, SolveResult, StopReason } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
-import { residualInto } from './operator.js';
+import { residualInto, startResidual } from './operator.js';
 import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy, dot, norm2 } from './vector.js';
@@ -55,11 +55,10 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
     return finish('max-iterations');
   };
 
-  const bNorm = norm2(n, b);
-  if (!Number.isFinite(bNorm)) { trueNorm = NaN; history.push(NaN); return finish('non-finite'); }
-  if (bNorm === 0) { x.fill(0); history.push(0); return finish('converged-rtol'); }
-  trueNorm = residualInto(A, b, x, r);
-  rule.baselineNorm = opts.baseline === 'rhs' ? bNorm : trueNorm;
+  const start = startResidual(A, b, x, r, opts.baseline);
+  trueNorm = start.trueNorm;
+  if (start.stop) { history.push(trueNorm); return finish(start.stop); }
+  rule.baselineNorm = start.trueBase;
   let rel = relative(trueNorm, rule.baselineNorm);
   history.push(rel);
   let vote: Vote = combineVotes(residualVote(rule, trueNorm), monitorVote(opts.onIteration, 0, rel));

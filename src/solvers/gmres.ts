@@ -2,7 +2,7 @@ import { UserError } from '../util/errors.js';
 import type { LinearOperator, ResidualCheck, SolveResult, StopReason } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
-import { residualInto } from './operator.js';
+import { residualInto, startResidual } from './operator.js';
 import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy, axpyDot, axpyNorm2, dot, isZero, norm2, scale } from './vector.js';
@@ -94,21 +94,11 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
 
 
   // ---- iteration 0 ----
-  const bNorm = norm2(n, b);
-  if (!Number.isFinite(bNorm)) {
-    trueNorm = NaN;
-    history.push(NaN);
-    return finish('non-finite');
-  }
-  if (bNorm === 0) {
-    // b = 0: the solution of a nonsingular system is x = 0, reached without iterating.
-    x.fill(0);
-    history.push(0);
-    return finish('converged-rtol');
-  }
   const x0Zero = isZero(n, x);
-  trueNorm = residualInto(A, b, x, r);
-  trueBase = opts.baseline === 'rhs' ? bNorm : trueNorm;
+  const start = startResidual(A, b, x, r, opts.baseline);
+  trueNorm = start.trueNorm;
+  if (start.stop) { history.push(trueNorm); return finish(start.stop); }
+  trueBase = start.trueBase;
   // beta: the monitored residual norm; the cycle's first basis vector is built in vs[0].
   let beta: number;
   if (left) {

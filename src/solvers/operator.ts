@@ -58,3 +58,22 @@ export function residualInto(A: LinearOperator, b: Float64Array, x: Float64Array
   for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
   return norm2(n, r);
 }
+
+/**
+ * Iteration 0, the same for every method. A non-finite b stops as 'non-finite' (trueNorm NaN);
+ * b = 0 sets x = 0 and stops as 'converged-rtol' (trueNorm 0: the solution of a nonsingular
+ * system, 0/0 taken as 0). Otherwise r ← b − A x, and trueBase is the unpreconditioned norm the
+ * relative residuals divide by (‖b‖ or ‖r₀‖).
+ */
+export function startResidual(
+  A: LinearOperator, b: Float64Array, x: Float64Array, r: Float64Array, baseline: 'rhs' | 'initial-residual',
+): { stop: 'non-finite' | 'converged-rtol'; trueNorm: number } | { stop: undefined; trueNorm: number; trueBase: number } {
+  const bNorm = norm2(A.n, b);
+  if (!Number.isFinite(bNorm)) return { stop: 'non-finite', trueNorm: NaN };
+  if (bNorm === 0) {
+    x.fill(0);
+    return { stop: 'converged-rtol', trueNorm: 0 };
+  }
+  const trueNorm = residualInto(A, b, x, r);
+  return { stop: undefined, trueNorm, trueBase: baseline === 'rhs' ? bNorm : trueNorm };
+}

@@ -1,10 +1,10 @@
 import type { LinearOperator, SolveResult, StopReason } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
-import { residualInto } from './operator.js';
+import { residualInto, startResidual } from './operator.js';
 import { combineVotes, isStop, monitorVote, residualVote, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
-import { axpy, norm2 } from './vector.js';
+import { axpy } from './vector.js';
 
 /**
  * Stationary (preconditioned Richardson) iteration x ← x + ω M⁻¹(b − A x) (Young 1971; Saad 2003,
@@ -40,11 +40,10 @@ export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, 
     residualMismatch: false, solveSeconds: secondsSince(t0), meter, krylov, work, failure,
   });
 
-  const bNorm = norm2(n, b);
-  if (!Number.isFinite(bNorm)) { trueNorm = NaN; history.push(NaN); return finish('non-finite'); }
-  if (bNorm === 0) { x.fill(0); history.push(0); return finish('converged-rtol'); }
-  trueNorm = residualInto(A, b, x, r);
-  rule.baselineNorm = opts.baseline === 'rhs' ? bNorm : trueNorm;
+  const start = startResidual(A, b, x, r, opts.baseline);
+  trueNorm = start.trueNorm;
+  if (start.stop) { history.push(trueNorm); return finish(start.stop); }
+  rule.baselineNorm = start.trueBase;
   let rel = relative(trueNorm, rule.baselineNorm);
   history.push(rel);
   let vote: Vote = combineVotes(residualVote(rule, trueNorm), monitorVote(opts.onIteration, 0, rel));
