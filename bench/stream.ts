@@ -5,6 +5,8 @@
  * A kernel's effective GB/s divided by this figure, measured in the same run, says how close to
  * memory-bound it is.
  */
+import v8 from 'node:v8';
+import vm from 'node:vm';
 import { Bench, type Task } from 'tinybench';
 
 /** y = a + s·b (unchecked). */
@@ -50,4 +52,17 @@ export async function measureStreamBandwidth(opts: { length?: number; timeMs?: n
   addStreamTask(bench, arrays);
   await bench.run();
   return gbPerSecond(bench.tasks[0], arrays.bytes);
+}
+
+/**
+ * Let the process settle before timing: a full garbage collection (exposed at run time through
+ * V8's flag, common practice for benches) and a short pause. Without it, the first kernels timed
+ * after generating a large matrix ran up to 1.5× slower while the freed memory was still being
+ * reclaimed in the background (observed on the 2-core bench machine, not a property of the kernels).
+ */
+export async function settle(pauseMs = 500): Promise<void> {
+  v8.setFlagsFromString('--expose-gc');
+  const gc = vm.runInNewContext('gc') as (() => void) | undefined;
+  if (typeof gc === 'function') gc();
+  await new Promise((resolve) => setTimeout(resolve, pauseMs));
 }
