@@ -9,29 +9,34 @@
  *
  * Bytes counted per iteration (compulsory traffic, common practice for memory-bound kernels):
  *  - matrix: values + colInd + rowPtr of the BSR operator (one SpMV);
- *  - preconditioner, per application: block-ilu0 its factors + the block pattern; block-jacobi its
- *    diagonal-block factors + pivots; block-gs the off-diagonal blocks of A + its diagonal-block
- *    factors + pivots (a forward sweep reads every block once);
+ *  - preconditioner, per application, what apply() reads: block-ilu0 its factors and their block
+ *    pattern; block-jacobi its diagonal-block factors (+ pivots with LU); block-gs one forward
+ *    sweep from z = 0, which reads only the strictly lower blocks of A (the blocks above the
+ *    diagonal multiply zeros and are skipped), colInd and rowPtr, and the diagonal-block factors;
  *  - basis: modified Gram–Schmidt at step j as implemented (each update fused with the next dot
  *    product): one dot pass (2 vectors), j fused passes (read v_i, v_{i+1}, read+write w: 4 vectors)
  *    and a fused update+norm pass (3 vectors) = 4j + 5 vectors, averaged over a cycle of 30
  *    (j = 0..29), plus 5 vectors for the operator/preconditioner input and output and ‖A z‖.
  * Time per iteration: solve seconds of one full GMRES(30) cycle (maxIterations 30, rtol 0, so the
  * cycle-end update and true-residual check are included, 1/30 of an extra SpMV + apply), median of
- * repeats. Ratio = time / (bytes / stream bandwidth); target ≤ 1.5. "of which M" is the median time of
- * one preconditioner application inside the solve, and "M ratio" its own bytes-time ratio, so a slow
- * iteration can be attributed. Figures only; no assertions.
+ * repeats after one warm-up cycle; before each row the process settles (bench/stream.ts settle)
+ * and the streaming triad is measured again, so each row is compared with the bandwidth of its
+ * own moment (the triad swung between 7 and 12 GB/s within minutes on the shared bench machine).
+ * Ratio = time / (bytes / stream bandwidth); target ≤ 1.5. "of which M" is the median time of one
+ * preconditioner application inside the solve, and "M ratio" its own bytes-time ratio, so a slow
+ * iteration can be attributed. Rows marked * use the default recipe (blockInverse 'inverse'); the
+ * others the alternative. Figures only; no assertions.
  */
 import { parseGeneratorParams, generateSystem } from '../src/dg/generate.js';
 import { bsrToCsr } from '../src/sparse/bsr.js';
 import type { SystemMatrix } from '../src/precond/types.js';
 import { createPreconditioner } from '../src/precond/registry.js';
-import { parseRecipe } from '../src/solvers/recipe.js';
+import { DEFAULT_RECIPE, parseRecipe, type Recipe } from '../src/solvers/recipe.js';
 import { bsrOperator } from '../src/solvers/operator.js';
 import { gmres } from '../src/solvers/gmres.js';
 import { krylovOptionsFromRecipe } from '../src/solvers/options.js';
 import { sumBytes } from '../src/solvers/result.js';
-import { measureStreamBandwidth } from './stream.js';
+import { measureStreamBandwidth, settle } from './stream.js';
 
 const quick = process.argv.includes('--quick');
 const cells = quick ? [6, 6] : [12, 12];
@@ -49,12 +54,9 @@ const system: SystemMatrix = { bsr, csr: bsrToCsr(bsr), slabOffsets: Int32Array.
 console.log(`matrix: generated 2D+t acoustics p=2, cells ${cells.join('×')}, 2 slabs: n = ${n}, bs = ${bs}, ` +
   `${nb} block rows, ${nBlocks} blocks, ${(nnz / 1e6).toFixed(2)} M nonzeros (generated in ${((performance.now() - tGen) / 1000).toFixed(1)} s)`);
 
-const bandwidth = await measureStreamBandwidth({ timeMs: quick ? 300 : 1500 });
-console.log(`stream triad bandwidth: ${bandwidth.toFixed(2)} GB/s`);
 
 const A = bsrOperator(bsr);
 const matrixBytes = sumBytes(A.bytes);
-const diagValueBytes = nb * bs * bs * 8;
 const restart = 30;
 let basisVectors = 5;
 for (let j = 0; j < restart; j++) basisVectors += (4 * j + 5) / restart;
@@ -65,17 +67,32 @@ function median(xs: number[]): number {
   return s[s.length >> 1];
 }
 
-console.log('\nprecond        s/iteration  of which M   matrix MB   precond MB   basis MB   total MB   bytes-time s   ratio  M ratio');
-for (const name of ['block-ilu0', 'block-jacobi', 'block-gs'] as const) {
-  const recipe = parseRecipe({ preconditioner: name, restart, rtol: 0, maxIterations: restart }, 'bench');
+// strictly lower blocks of A (what a forward block Gauss–Seidel sweep from zero reads)
+let lowerBlocks = 0;
+for (let I = 0; I < nb; I++) for (let k = bsr.rowPtr[I]; k < bsr.rowPtr[I + 1]; k++) if (bsr.colInd[k] < I) lowerBlocks++;
+
+const variants: Array<{ label: string; over: Partial<Recipe> }> = [
+  { label: 'block-ilu0 *', over: { preconditioner: 'block-ilu0' } },
+  { label: `block-jacobi${DEFAULT_RECIPE.blockInverse === 'inverse' ? ' *' : ' inverse'}`, over: { preconditioner: 'block-jacobi', blockInverse: 'inverse' } },
+  { label: `block-jacobi${DEFAULT_RECIPE.blockInverse === 'lu' ? ' *' : ' lu'}`, over: { preconditioner: 'block-jacobi', blockInverse: 'lu' } },
+  { label: `block-gs${DEFAULT_RECIPE.blockInverse === 'inverse' ? ' *' : ' inverse'}`, over: { preconditioner: 'block-gs', blockInverse: 'inverse' } },
+  { label: `block-gs${DEFAULT_RECIPE.blockInverse === 'lu' ? ' *' : ' lu'}`, over: { preconditioner: 'block-gs', blockInverse: 'lu' } },
+];
+
+console.log('\nprecond            s/iteration  of which M   matrix MB   precond MB   basis MB   total MB   bytes-time s   ratio  M ratio');
+for (const { label, over } of variants) {
+  const recipe = parseRecipe({ ...over, restart, rtol: 0, maxIterations: restart }, 'bench');
   const M = createPreconditioner(system, recipe);
   const outcome = M.setup();
-  if (!outcome.ok) { console.log(`${name}: setup failed: ${outcome.message}`); continue; }
+  if (!outcome.ok) { console.log(`${label}: setup failed: ${outcome.message}`); continue; }
   const mem = M.memory();
   const factorBytes = sumBytes(mem) - (mem.workspace ?? 0);
-  const precondBytes = name === 'block-ilu0' ? factorBytes + bsr.rowPtr.byteLength + bsr.colInd.byteLength
-    : name === 'block-jacobi' ? factorBytes
-      : factorBytes + (bsr.values.byteLength - diagValueBytes) + bsr.colInd.byteLength + bsr.rowPtr.byteLength;
+  const precondBytes = recipe.preconditioner === 'block-gs'
+    ? factorBytes + lowerBlocks * bs * bs * 8 + bsr.colInd.byteLength + bsr.rowPtr.byteLength
+    : factorBytes;
+  await settle();
+  // the triad right before each row, so a row's ratio compares like with like on a shared machine
+  const bandwidth = await measureStreamBandwidth({ timeMs: quick ? 200 : 600 });
   const samples: number[] = [];
   const applySamples: number[] = [];
   for (let rep = 0; rep < (quick ? 2 : 4); rep++) {
@@ -91,6 +108,6 @@ for (const name of ['block-ilu0', 'block-jacobi', 'block-gs'] as const) {
   const bytes = matrixBytes + precondBytes + basisBytes;
   const bytesTime = bytes / (bandwidth * 1e9);
   const mb = (b: number) => (b / 1e6).toFixed(1).padStart(9);
-  console.log(`${name.padEnd(13)}${perIt.toExponential(3).padStart(12)}${perApply.toExponential(3).padStart(12)}  ${mb(matrixBytes)}   ${mb(precondBytes)}  ${mb(basisBytes)}  ${mb(bytes)}  ` +
-    `${bytesTime.toExponential(3).padStart(13)}   ${(perIt / bytesTime).toFixed(2)}   ${(perApply / (precondBytes / (bandwidth * 1e9))).toFixed(2)}`);
+  console.log(`${label.padEnd(21)}${perIt.toExponential(3).padStart(12)}${perApply.toExponential(3).padStart(12)}  ${mb(matrixBytes)}   ${mb(precondBytes)}  ${mb(basisBytes)}  ${mb(bytes)}  ` +
+    `${bandwidth.toFixed(2).padStart(10)}  ${bytesTime.toExponential(3).padStart(13)}   ${(perIt / bytesTime).toFixed(2)}   ${(perApply / (precondBytes / (bandwidth * 1e9))).toFixed(2)}`);
 }

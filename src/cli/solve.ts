@@ -23,7 +23,7 @@ const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   omega: 'relaxation: inside block-gs (SOR), else the stationary step factor (default 1)',
   sweeps: 'block Gauss–Seidel sweeps per application (default 1)',
   shift: 'diagonal shift added before factorizing; 0 = a zero pivot fails the run (default 0)',
-  blockInverse: 'diagonal blocks of block-jacobi and block-gs: LU with partial pivoting, or explicit inverses (default lu)',
+  blockInverse: 'diagonal blocks of block-jacobi and block-gs: inverse (explicit inverses, one block mat-vec per apply) or lu (LU factors with partial pivoting, two triangular solves per apply); default inverse',
   rtol: 'stop when the monitored ‖r‖ ≤ rtol · baseline norm (default 1e-8)',
   atol: 'or when the monitored ‖r‖ ≤ atol; 0 disables (default 0)',
   maxIterations: 'maximum inner iterations in total, whatever the restart (default 1000)',

@@ -19,14 +19,16 @@
  *  - BSR bytes: values blocks·bs²·8, column indices blocks·4, row pointers (elements + 1)·4.
  *  - preconditioner factors (as stored by src/precond):
  *      jacobi       inverse diagonal, n·8
- *      block-jacobi LU of each diagonal block, elements·bs²·8, plus pivots elements·bs·4
- *      block-gs     the same diagonal-block factors (natural ordering; another ordering adds a
+ *      block-jacobi the inverse of each diagonal block, elements·bs²·8 (the default
+ *                   blockInverse; 'lu' keeps LU factors of the same size plus pivots elements·bs·4)
+ *      block-gs     the same diagonal-block inverses (natural ordering; another ordering adds a
  *                   permuted copy of the matrix)
  *      ilu0         scalar ILU(0) on the pattern of A: factors nnz·8 and diagonal positions n·4,
  *                   plus the scalar CSR pattern it runs on (column indices nnz·4, row pointers
  *                   (n+1)·4), nnz = blocks·bs²
- *      block-ilu0   factors on the BSR pattern, blocks·bs²·8, plus diagonal positions elements·4
- *                   (diagonal blocks are kept inverted, so no pivots)
+ *      block-ilu0   one factor block per stored block, blocks·bs²·8 (diagonal blocks kept
+ *                   inverted, so no pivots), plus the factor pattern in sweep order: a block
+ *                   column index per block, blocks·4, and two row-pointer arrays, 2·(elements+1)·4
  *  - Krylov basis: GMRES (m+1)·n·8, FGMRES (2m+1)·n·8 (the preconditioned vectors too), BiCGStab
  *    8·n·8 (eight work vectors with a preconditioner), m = min(restart, n). The small Hessenberg
  *    and rotation arrays are left out.
@@ -120,7 +122,7 @@ function footprint(elements: number, blocks: number, bs: number, restart: number
   const nnz = blocks * bb;
   const values = blocks * bb * 8;
   const indices = blocks * 4 + (elements + 1) * 4;
-  const diagLu = { factors: elements * bb * 8, pivots: elements * bs * 4 };
+  const diagInverse = { 'inverse blocks': elements * bb * 8 };
   const sum = (p: Record<string, number>): { total: number; parts: Record<string, number> } =>
     ({ total: Object.values(p).reduce((a, b) => a + b, 0), parts: p });
   const m = Math.max(1, Math.min(restart, n));
@@ -129,10 +131,10 @@ function footprint(elements: number, blocks: number, bs: number, restart: number
     jacobian: { values, indices, total: values + indices },
     preconditioners: {
       jacobi: sum({ 'inverse diagonal': n * 8 }),
-      'block-jacobi': sum({ ...diagLu }),
-      'block-gs': sum({ ...diagLu }),
+      'block-jacobi': sum({ ...diagInverse }),
+      'block-gs': sum({ ...diagInverse }),
       ilu0: sum({ factors: nnz * 8, 'diagonal positions': n * 4, 'scalar CSR pattern': nnz * 4 + (n + 1) * 4 }),
-      'block-ilu0': sum({ factors: values, 'diagonal positions': elements * 4 }),
+      'block-ilu0': sum({ factors: values, 'factor pattern': blocks * 4 + 2 * (elements + 1) * 4 }),
     },
     krylov: { gmres: (m + 1) * n * 8, fgmres: (2 * m + 1) * n * 8, bicgstab: 8 * n * 8 },
   };

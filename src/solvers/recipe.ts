@@ -65,7 +65,7 @@ export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
   omega: 1,
   sweeps: 1,
   shift: 0,
-  blockInverse: 'lu',
+  blockInverse: 'inverse',
   rtol: 1e-8,
   atol: 0,
   maxIterations: 1000,
