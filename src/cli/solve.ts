@@ -62,7 +62,9 @@ function recipeText(r: Recipe): string {
     : r.krylov === 'bicgstab' ? 'bicgstab'
       : `${r.krylov}(${r.restart}, ${r.krylov === 'fgmres' ? 'right' : r.side}, ${r.orthogonalization})`;
   let pc = r.preconditioner;
-  if (r.preconditioner === 'block-gs') pc += ` (${r.sweep} ×${r.sweeps}, ω ${r.omega}, ${r.ordering})`;
+  const diagonal = r.blockInverse === 'inverse' ? 'inverse blocks' : 'LU blocks';
+  if (r.preconditioner === 'block-jacobi') pc += ` (${diagonal})`;
+  if (r.preconditioner === 'block-gs') pc += ` (${r.sweep} ×${r.sweeps}, ω ${r.omega}, ${r.ordering}, ${diagonal})`;
   if (r.preconditioner === 'block-ilu0') pc += ` (${r.ordering})`;
   if (r.preconditioner === 'slab' && r.inner) pc += ` [inner: ${recipeText(r.inner)}, rtol ${r.inner.rtol}]`;
   if (r.shift !== 0) pc += `, shift ${r.shift}`;

@@ -41,6 +41,15 @@ describe('slabbench solve', () => {
     expect(r.out).toMatch(/memory +matrix/);
   });
 
+  it('the summary names how the diagonal blocks are applied (inverse blocks by default, LU blocks on request)', async () => {
+    const inv = await run(['solve', tri, '--precond', 'block-jacobi', '--block-size', '2']);
+    expect(inv.code).toBe(0);
+    expect(inv.out).toMatch(/\+ block-jacobi \(inverse blocks\)/);
+    const lu = await run(['solve', tri, '--precond', 'block-gs', '--block-size', '2', '--block-inverse', 'lu']);
+    expect(lu.code).toBe(0);
+    expect(lu.out).toMatch(/\+ block-gs \(forward ×1, ω 1, natural, LU blocks\)/);
+  });
+
   it('--json - prints only JSON with the documented fields', async () => {
     const r = await run(['solve', tri, '--precond', 'ilu0', '--json', '-']);
     expect(r.code).toBe(0);
