@@ -79,7 +79,7 @@ const variants: Array<{ label: string; over: Partial<Recipe> }> = [
   { label: `block-gs${DEFAULT_RECIPE.blockInverse === 'lu' ? ' *' : ' lu'}`, over: { preconditioner: 'block-gs', blockInverse: 'lu' } },
 ];
 
-console.log('\nprecond            s/iteration  of which M   matrix MB   precond MB   basis MB   total MB   bytes-time s   ratio  M ratio');
+console.log(`\n${'precond'.padEnd(21) + 's/iteration'.padStart(12) + 'of which M'.padStart(12) + '  ' + 'matrix MB'.padStart(9) + '   ' + 'precond MB'.padStart(9) + '  ' + 'basis MB'.padStart(9) + '  ' + 'total MB'.padStart(9) + '  ' + 'triad GB/s'.padStart(10) + '  ' + 'bytes-time s'.padStart(13) + '   ratio  M ratio'}`);
 for (const { label, over } of variants) {
   const recipe = parseRecipe({ ...over, restart, rtol: 0, maxIterations: restart }, 'bench');
   const M = createPreconditioner(system, recipe);

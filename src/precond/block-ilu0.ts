@@ -12,18 +12,20 @@
  * Reading the L blocks where they sit on the pattern (skipping the D and U blocks between rows)
  * made the forward sweep 1.8–2× slower than the same sweep over a contiguous copy
  * (bench/precond.bench.ts measures both layouts). Setup eliminates one block row at a time in a
- * row buffer, reading the finished rows K < I from upper, so no pattern-ordered copy of the
- * factors is ever held: peak = lower + upper + one row.
+ * row buffer, reading the finished rows K < I from upper; a reordered row is gathered from A on
+ * the fly. So neither a pattern-ordered nor a permuted copy of the matrix is ever held: peak =
+ * A (the caller's) + lower + upper + one row.
  * With bs = 1 this is point ILU(0). Pivot rule as in dense.ts (PIVOT_RTOL, per diagonal block).
  *
- * The ordering (recipe.ordering) permutes the matrix once in setup; apply() permutes vectors.
+ * The ordering (recipe.ordering) renumbers the block rows and columns in setup (row I of the
+ * factors is block row perm[I] of A); apply() permutes vectors.
  */
 import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { OrderingName, Recipe } from '../solvers/recipe.js';
 import type { BufferBytes } from '../solvers/types.js';
 import { checkApplyArgs, checkReady, factorBlock, nonFinite } from './common.js';
 import { allFinite, blockGemm, blockGemmSub, blockMatVec, blockMatVecSub, denseFlops, luInverse } from './dense.js';
-import { diagonalIndex, gatherBlocks, orderedMatrix, scatterBlocks } from './block-tools.js';
+import { gatherBlocks, invertPermutation, orderingPermutation, scatterBlocks } from './block-tools.js';
 
 export function createBlockIlu0(system: SystemMatrix, recipe: Recipe): Preconditioner {
   return new BlockIlu0Preconditioner(system, recipe.ordering, recipe.shift);
@@ -40,7 +42,7 @@ export class BlockIlu0Preconditioner implements Preconditioner {
   private lower: Float64Array = new Float64Array(0);
   private lowerPtr: Int32Array = new Int32Array(0);
   private lowerCol: Int32Array = new Int32Array(0);
-  /** U blocks then D_I⁻¹, block rows descending; row I at upperPtr[I] .. upperPtr[I+1]−1, D_I⁻¹ last. */
+  /** U blocks then D_I⁻¹, block rows descending: row I at upperPtr[nb−1−I] .. upperPtr[nb−I], D_I⁻¹ last. */
   private upper: Float64Array = new Float64Array(0);
   private upperPtr: Int32Array = new Int32Array(0);
   private upperCol: Int32Array = new Int32Array(0);
@@ -55,52 +57,68 @@ export class BlockIlu0Preconditioner implements Preconditioner {
     this.n = this.nb * this.bs;
   }
 
-  private blockRowName(I: number): number { return this.perm ? this.perm[I] : I; }
-
   setup(): SetupOutcome {
-    // symbolic: ordering, diagonal positions, the sweep-ordered layout, workspace
-    const ord = orderedMatrix(this.system.bsr, this.ordering, this.system.slabOffsets);
-    const a = ord.a;
-    this.perm = ord.perm;
-    const { nBlockRows: nb, bs, rowPtr, colInd, values } = a;
+    const { nBlockRows: nb, bs, rowPtr, colInd, values } = this.system.bsr;
+    const perm = orderingPermutation(this.system.bsr, this.ordering, this.system.slabOffsets);
+    this.perm = perm;
+    const inv = perm ? invertPermutation(perm) : null;
     const bb = bs * bs;
-    const diag = diagonalIndex(a);
+    // symbolic: per (renumbered) block row I, read from block row R = perm[I] of A: blocks left of,
+    // on and right of the diagonal; the sweep-ordered layout; workspace
+    const lowerPtr = new Int32Array(nb + 1);
+    const upperPtr = new Int32Array(nb + 1); // storage order: step s holds block row nb−1−s
     let maxRow = 0;
     for (let I = 0; I < nb; I++) {
-      if (diag[I] < 0) {
-        return { ok: false, reason: 'zero-pivot', blockRow: this.blockRowName(I),
-          message: `block-ilu0: diagonal block of block row ${this.blockRowName(I)} is absent from the pattern; a diagonal shift (recipe shift > 0) avoids it only when the block is stored` };
+      const R = perm ? perm[I] : I;
+      let below = 0, onDiagonal = false;
+      for (let k = rowPtr[R]; k < rowPtr[R + 1]; k++) {
+        const J = inv ? inv[colInd[k]] : colInd[k];
+        if (J < I) below++; else if (J === I) onDiagonal = true;
       }
-      maxRow = Math.max(maxRow, rowPtr[I + 1] - rowPtr[I]);
+      if (!onDiagonal) {
+        return { ok: false, reason: 'zero-pivot', blockRow: R,
+          message: `block-ilu0: diagonal block of block row ${R} is absent from the pattern; a diagonal shift (recipe shift > 0) avoids it only when the block is stored` };
+      }
+      lowerPtr[I + 1] = lowerPtr[I] + below;
+      maxRow = Math.max(maxRow, rowPtr[R + 1] - rowPtr[R]);
     }
-    const lowerPtr = new Int32Array(nb + 1);
-    for (let I = 0; I < nb; I++) lowerPtr[I + 1] = lowerPtr[I] + (diag[I] - rowPtr[I]);
-    const upperPtr = new Int32Array(nb + 1); // upperPtr[I] = start of row I; rows are stored nb−1 first
-    let at = 0;
-    for (let I = nb - 1; I >= 0; I--) { upperPtr[I] = at; at += rowPtr[I + 1] - diag[I]; }
-    upperPtr[nb] = at; // total (not a row end: row I ends at upperPtr[I] + its count)
-    const nLower = lowerPtr[nb];
+    for (let s = 0; s < nb; s++) {
+      const I = nb - 1 - s, R = perm ? perm[I] : I;
+      upperPtr[s + 1] = upperPtr[s] + (rowPtr[R + 1] - rowPtr[R]) - (lowerPtr[I + 1] - lowerPtr[I]);
+    }
+    const nLower = lowerPtr[nb], nUpper = upperPtr[nb];
     const lower = new Float64Array(nLower * bb);
     const lowerCol = new Int32Array(nLower);
-    const upper = new Float64Array(at * bb);
-    const upperCol = new Int32Array(at);
+    const upper = new Float64Array(nUpper * bb);
+    const upperCol = new Int32Array(nUpper);
     const row = new Float64Array(maxRow * bb);
+    const cols = new Int32Array(maxRow), src = new Int32Array(maxRow);
     const iw = new Int32Array(nb).fill(-1);
     const work = new Float64Array(bb);
     const piv = new Int32Array(bs);
-    this.yp = new Float64Array(ord.perm ? this.n : 0);
+    this.yp = new Float64Array(perm ? this.n : 0);
     this.t = new Float64Array(bs);
-    // numeric: row I is eliminated in the row buffer (position p = k − rowPtr[I]) against the
-    // finished rows K < I in upper, then written out to lower and upper
+    // numeric: row I is gathered into the row buffer in column order (position p), eliminated
+    // against the finished rows K < I in upper, then written out to lower and upper
     let flops = 0;
     for (let I = 0; I < nb; I++) {
-      const s = rowPtr[I], e = rowPtr[I + 1], len = e - s, dp = diag[I] - s;
-      if (!allFinite(values, s * bb, len * bb)) return nonFinite(this.name, this.blockRowName(I), 'the matrix blocks');
-      row.set(values.subarray(s * bb, e * bb), 0);
-      for (let k = s; k < e; k++) iw[colInd[k]] = k - s;
+      const R = perm ? perm[I] : I;
+      const s = rowPtr[R], len = rowPtr[R + 1] - s;
+      if (!allFinite(values, s * bb, len * bb)) return nonFinite(this.name, R, 'the matrix blocks');
+      for (let p = 0; p < len; p++) { // insertion sort by renumbered column (rows are short; A's rows are sorted)
+        const J = inv ? inv[colInd[s + p]] : colInd[s + p];
+        let q = p;
+        for (; q > 0 && cols[q - 1] > J; q--) { cols[q] = cols[q - 1]; src[q] = src[q - 1]; }
+        cols[q] = J; src[q] = s + p;
+      }
+      for (let p = 0; p < len; p++) {
+        row.set(values.subarray(src[p] * bb, src[p] * bb + bb), p * bb);
+        iw[cols[p]] = p;
+      }
+      const dp = lowerPtr[I + 1] - lowerPtr[I]; // cols[dp] === I
       for (let p = 0; p < dp; p++) {
-        const K = colInd[s + p];
-        const uK = upperPtr[K], dK = uK + (rowPtr[K + 1] - diag[K]) - 1; // D_K⁻¹ closes row K
+        const K = cols[p];
+        const uK = upperPtr[nb - 1 - K], dK = upperPtr[nb - K] - 1; // D_K⁻¹ closes row K
         // L_IK = A_IK · D_K⁻¹
         work.set(row.subarray(p * bb, p * bb + bb), 0);
         blockGemm(row, p * bb, work, 0, upper, dK * bb, bs);
@@ -110,20 +128,20 @@ export class BlockIlu0Preconditioner implements Preconditioner {
           if (pos >= 0) { blockGemmSub(row, pos * bb, row, p * bb, upper, q * bb, bs); flops += denseFlops.gemm(bs); }
         }
       }
-      for (let k = s; k < e; k++) iw[colInd[k]] = -1;
+      for (let p = 0; p < len; p++) iw[cols[p]] = -1;
       work.set(row.subarray(dp * bb, dp * bb + bb), 0);
-      const fail = factorBlock(this.name, this.blockRowName(I), work, 0, bs, piv, 0, this.shift);
+      const fail = factorBlock(this.name, R, work, 0, bs, piv, 0, this.shift);
       if (fail) return fail;
-      const uI = upperPtr[I], dI = uI + (e - diag[I]) - 1;
+      const uI = upperPtr[nb - 1 - I], dI = upperPtr[nb - I] - 1;
       luInverse(work, 0, piv, 0, bs, upper, dI * bb);
       upperCol[dI] = I;
       flops += denseFlops.inverse(bs);
       lower.set(row.subarray(0, dp * bb), lowerPtr[I] * bb);
-      for (let p = 0; p < dp; p++) lowerCol[lowerPtr[I] + p] = colInd[s + p];
+      lowerCol.set(cols.subarray(0, dp), lowerPtr[I]);
       upper.set(row.subarray((dp + 1) * bb, len * bb), uI * bb);
-      for (let p = dp + 1; p < len; p++) upperCol[uI + p - dp - 1] = colInd[s + p];
+      upperCol.set(cols.subarray(dp + 1, len), uI);
       if (!allFinite(lower, lowerPtr[I] * bb, dp * bb) || !allFinite(upper, uI * bb, (dI - uI + 1) * bb)) {
-        return nonFinite(this.name, this.blockRowName(I), 'the factors');
+        return nonFinite(this.name, R, 'the factors');
       }
     }
     this.lower = lower; this.lowerPtr = lowerPtr; this.lowerCol = lowerCol;
@@ -147,14 +165,11 @@ export class BlockIlu0Preconditioner implements Preconditioner {
       for (let q = lowerPtr[I]; q < lowerPtr[I + 1]; q++) blockMatVecSub(lower, q * bb, bs, y, lowerCol[q] * bs, y, yo);
     }
     // backward: y_I ← D_I⁻¹ (y_I − Σ_{J>I} U_IJ y_J); upper is read front to back (rows descending)
-    let q = 0;
-    for (let I = nb - 1; I >= 0; I--) {
-      const yo = I * bs;
-      const dI = I > 0 ? upperPtr[I - 1] - 1 : upperPtr[nb] - 1;
-      for (; q < dI; q++) blockMatVecSub(upper, q * bb, bs, y, upperCol[q] * bs, y, yo);
+    for (let s = 0; s < nb; s++) {
+      const I = nb - 1 - s, yo = I * bs, dI = upperPtr[s + 1] - 1;
+      for (let q = upperPtr[s]; q < dI; q++) blockMatVecSub(upper, q * bb, bs, y, upperCol[q] * bs, y, yo);
       for (let i = 0; i < bs; i++) t[i] = y[yo + i];
       blockMatVec(upper, dI * bb, bs, t, 0, y, yo);
-      q = dI + 1;
     }
     if (this.perm) scatterBlocks(y, this.perm, bs, z);
   }
@@ -172,7 +187,7 @@ export class BlockIlu0Preconditioner implements Preconditioner {
       const nl = this.lowerPtr[I + 1] - this.lowerPtr[I];
       out.set(this.lower.subarray(this.lowerPtr[I] * bb, (this.lowerPtr[I] + nl) * bb), o * bb);
       o += nl;
-      const uI = this.upperPtr[I], uEnd = I > 0 ? this.upperPtr[I - 1] : this.upperPtr[nb];
+      const uI = this.upperPtr[nb - 1 - I], uEnd = this.upperPtr[nb - I];
       const nu = uEnd - uI; // U blocks + D_I⁻¹ (last)
       out.set(this.upper.subarray((uEnd - 1) * bb, uEnd * bb), o * bb); // D_I⁻¹ comes first in pattern order
       out.set(this.upper.subarray(uI * bb, (uEnd - 1) * bb), (o + 1) * bb);

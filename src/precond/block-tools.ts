@@ -57,17 +57,26 @@ export function validSlabOffsets(offsets: Int32Array | undefined, nBlockRows: nu
 }
 
 /**
+ * The block permutation of the requested ordering (perm[new] = old), or null for the natural order
+ * and for an ordering that leaves every block row in place, so apply() can skip the gather/scatter.
+ */
+export function orderingPermutation(
+  a: Bsr, ordering: OrderingName, slabOffsets: Int32Array | undefined,
+): Int32Array | null {
+  if (ordering === 'natural') return null;
+  const slabs = validSlabOffsets(slabOffsets, a.nBlockRows) ? slabOffsets : undefined;
+  const perm = blockOrdering(a, ordering, { slabOffsets: slabs });
+  for (let i = 0; i < perm.length; i++) if (perm[i] !== i) return perm;
+  return null;
+}
+
+/**
  * The matrix in the requested block ordering (permuted once; natural order shares the input).
  * perm is null for the natural order, so apply() can skip the gather/scatter.
  */
 export function orderedMatrix(
   a: Bsr, ordering: OrderingName, slabOffsets: Int32Array | undefined,
 ): { a: Bsr; perm: Int32Array | null } {
-  if (ordering === 'natural') return { a, perm: null };
-  const slabs = validSlabOffsets(slabOffsets, a.nBlockRows) ? slabOffsets : undefined;
-  const perm = blockOrdering(a, ordering, { slabOffsets: slabs });
-  let identity = true;
-  for (let i = 0; i < perm.length; i++) if (perm[i] !== i) { identity = false; break; }
-  if (identity) return { a, perm: null };
-  return { a: permuteBsr(a, perm), perm };
+  const perm = orderingPermutation(a, ordering, slabOffsets);
+  return perm ? { a: permuteBsr(a, perm), perm } : { a, perm: null };
 }
