@@ -1,11 +1,10 @@
 /**
  * Block-structure helpers shared by the preconditioners: unchecked gather/scatter of vector
- * blocks for apply(), and the matrix in a requested block ordering for setup().
+ * blocks for apply(), and the permutation of a requested block ordering for setup().
  */
 import type { Bsr } from '../sparse/types.js';
 import type { OrderingName } from '../solvers/recipe.js';
 import { blockOrdering } from '../sparse/orderings.js';
-import { permuteBsr } from '../sparse/permute.js';
 import { diagonalBlockIndex } from '../sparse/blocks.js';
 import { slabOffsetsProblem } from '../sparse/structure.js';
 
@@ -68,15 +67,4 @@ export function orderingPermutation(
   const perm = blockOrdering(a, ordering, { slabOffsets: slabs });
   for (let i = 0; i < perm.length; i++) if (perm[i] !== i) return perm;
   return null;
-}
-
-/**
- * The matrix in the requested block ordering (permuted once; natural order shares the input).
- * perm is null for the natural order, so apply() can skip the gather/scatter.
- */
-export function orderedMatrix(
-  a: Bsr, ordering: OrderingName, slabOffsets: Int32Array | undefined,
-): { a: Bsr; perm: Int32Array | null } {
-  const perm = orderingPermutation(a, ordering, slabOffsets);
-  return perm ? { a: permuteBsr(a, perm), perm } : { a, perm: null };
 }

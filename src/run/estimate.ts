@@ -21,8 +21,8 @@
  *      jacobi       inverse diagonal, n·8
  *      block-jacobi the inverse of each diagonal block, elements·bs²·8 (the default
  *                   blockInverse; 'lu' keeps LU factors of the same size plus pivots elements·bs·4)
- *      block-gs     the same diagonal-block inverses (natural ordering; another ordering adds a
- *                   permuted copy of the matrix)
+ *      block-gs     the same diagonal-block inverses (natural ordering; another ordering adds
+ *                   its visiting order and inverse, 2·elements·4; A itself is read in place)
  *      ilu0         scalar ILU(0) on the pattern of A: factors nnz·8 and diagonal positions n·4,
  *                   plus the scalar CSR pattern it runs on (column indices nnz·4, row pointers
  *                   (n+1)·4), nnz = blocks·bs²
