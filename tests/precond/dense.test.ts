@@ -117,7 +117,7 @@ describe('luSolve (two rows per pass) against luSolveNaive (one running sum per 
 });
 
 describe('block kernels: fast paths against the naive twins (random non-symmetric blocks)', () => {
-  for (const bs of [1, 2, 3, 4, 5, 7, 8, 13, 20, 35, 40]) {
+  for (const bs of [1, 2, 3, 4, 5, 6, 7, 8, 9, 13, 20, 30, 33, 35, 36, 40]) {
     it(`bs = ${bs}: mat-vec, mat-vec-subtract, C −= A·B and C = A·B`, () => {
       const r = rng(7 + bs);
       const A = Float64Array.from({ length: bs * bs + 3 }, () => 2 * r() - 1);

@@ -97,7 +97,7 @@ describe('bsr products against a dense ml-matrix product (non-symmetric blocks)'
 });
 
 describe('fast paths against the generic kernels', () => {
-  for (const bs of [1, 2, 3, 4, 5, 7, 10, 13, 40]) {
+  for (const bs of [1, 2, 3, 4, 5, 6, 7, 9, 10, 13, 30, 33, 36, 40]) {
     it(`bs ${bs}: dispatching kernel = tiled kernel = plain triple loop`, () => {
       const r = rng(77 + bs);
       const nb = bs >= 10 ? 9 : 60;
