@@ -18,13 +18,14 @@
  *    and a fused update+norm pass (3 vectors) = 4j + 5 vectors, averaged over a cycle of 30
  *    (j = 0..29), plus 5 vectors for the operator/preconditioner input and output and ‖A z‖.
  * Time per iteration: solve seconds of one full GMRES(30) cycle (maxIterations 30, rtol 0, so the
- * cycle-end update and true-residual check are included, 1/30 of an extra SpMV + apply), median of
- * repeats after one warm-up cycle; before each row the process settles (bench/stream.ts settle)
- * and the streaming triad is measured again, so each row is compared with the bandwidth of its
- * own moment (the triad swung between 7 and 12 GB/s within minutes on the shared bench machine).
- * Ratio = time / (bytes / stream bandwidth); target ≤ 1.5. "of which M" is the median time of one
- * preconditioner application inside the solve, and "M ratio" its own bytes-time ratio, so a slow
- * iteration can be attributed. Rows marked * use the default recipe (blockInverse 'inverse'); the
+ * cycle-end update and true-residual check are included, 1/30 of an extra SpMV + apply). After a
+ * warm-up cycle, five pairs: a short streaming triad, then one cycle; the ratio
+ * time / (bytes / triad bandwidth) is taken per pair and the row prints the medians (and the
+ * range of the ratios). Pairing matters on a shared machine: the triad swung between 7 and
+ * 12 GB/s within minutes on the bench machine. The process settles (bench/stream.ts settle) before
+ * each row. Target: ratio ≤ 1.5. "of which M" is the median time of one preconditioner
+ * application inside the solve, and "M ratio" its own bytes-time ratio, so a slow iteration can be
+ * attributed. Rows marked * use the default recipe (blockInverse 'inverse'); the
  * others the alternative. Figures only; no assertions.
  */
 import { parseGeneratorParams, generateSystem } from '../src/dg/generate.js';
@@ -72,6 +73,7 @@ let lowerBlocks = 0;
 for (let I = 0; I < nb; I++) for (let k = bsr.rowPtr[I]; k < bsr.rowPtr[I + 1]; k++) if (bsr.colInd[k] < I) lowerBlocks++;
 
 const variants: Array<{ label: string; over: Partial<Recipe> }> = [
+  { label: 'none (SpMV + basis)', over: { preconditioner: 'none' } },
   { label: 'block-ilu0 *', over: { preconditioner: 'block-ilu0' } },
   { label: `block-jacobi${DEFAULT_RECIPE.blockInverse === 'inverse' ? ' *' : ' inverse'}`, over: { preconditioner: 'block-jacobi', blockInverse: 'inverse' } },
   { label: `block-jacobi${DEFAULT_RECIPE.blockInverse === 'lu' ? ' *' : ' lu'}`, over: { preconditioner: 'block-jacobi', blockInverse: 'lu' } },
@@ -91,23 +93,25 @@ for (const { label, over } of variants) {
     ? factorBytes + lowerBlocks * bs * bs * 8 + bsr.colInd.byteLength + bsr.rowPtr.byteLength
     : factorBytes;
   await settle();
-  // the triad right before each row, so a row's ratio compares like with like on a shared machine
-  const bandwidth = await measureStreamBandwidth({ timeMs: quick ? 200 : 600 });
-  const samples: number[] = [];
-  const applySamples: number[] = [];
-  for (let rep = 0; rep < (quick ? 2 : 4); rep++) {
+  // Pairs: a short triad right before each measured cycle, and the ratio taken per pair, so load
+  // that comes and goes on a shared machine hits both sides of a ratio; the row shows medians.
+  const bytes = matrixBytes + precondBytes + basisBytes;
+  const perIts: number[] = [], perApplies: number[] = [], bandwidths: number[] = [];
+  const ratios: number[] = [], applyRatios: number[] = [];
+  for (let rep = 0; rep <= (quick ? 1 : 5); rep++) {
+    const bw = rep > 0 ? await measureStreamBandwidth({ timeMs: quick ? 150 : 300 }) : 0;
     const x = new Float64Array(n);
     const r = gmres(A, gen.rhs, x, { ...krylovOptionsFromRecipe(recipe, M), ritz: false });
-    if (rep > 0 || quick) { // the first run warms up the JIT
-      samples.push(r.timing.solveSeconds / r.iterations);
-      applySamples.push(r.timing.secondsPerPreconditionerApply);
-    }
+    if (rep === 0) continue; // the first cycle warms up the JIT
+    const perIt = r.timing.solveSeconds / r.iterations, perApply = r.timing.secondsPerPreconditionerApply;
+    perIts.push(perIt); perApplies.push(perApply); bandwidths.push(bw);
+    ratios.push(perIt / (bytes / (bw * 1e9)));
+    applyRatios.push(precondBytes > 0 ? perApply / (precondBytes / (bw * 1e9)) : Number.NaN);
   }
-  const perIt = median(samples);
-  const perApply = median(applySamples);
-  const bytes = matrixBytes + precondBytes + basisBytes;
+  const perIt = median(perIts), perApply = median(perApplies), bandwidth = median(bandwidths);
   const bytesTime = bytes / (bandwidth * 1e9);
   const mb = (b: number) => (b / 1e6).toFixed(1).padStart(9);
   console.log(`${label.padEnd(21)}${perIt.toExponential(3).padStart(12)}${perApply.toExponential(3).padStart(12)}  ${mb(matrixBytes)}   ${mb(precondBytes)}  ${mb(basisBytes)}  ${mb(bytes)}  ` +
-    `${bandwidth.toFixed(2).padStart(10)}  ${bytesTime.toExponential(3).padStart(13)}   ${(perIt / bytesTime).toFixed(2)}   ${(perApply / (precondBytes / (bandwidth * 1e9))).toFixed(2)}`);
+    `${bandwidth.toFixed(2).padStart(10)}  ${bytesTime.toExponential(3).padStart(13)}   ${median(ratios).toFixed(2)}   ${median(applyRatios).toFixed(2)}` +
+    `   (ratios ${Math.min(...ratios).toFixed(2)}–${Math.max(...ratios).toFixed(2)})`);
 }
