@@ -112,6 +112,6 @@ for (const { label, over } of variants) {
   const bytesTime = bytes / (bandwidth * 1e9);
   const mb = (b: number) => (b / 1e6).toFixed(1).padStart(9);
   console.log(`${label.padEnd(21)}${perIt.toExponential(3).padStart(12)}${perApply.toExponential(3).padStart(12)}  ${mb(matrixBytes)}   ${mb(precondBytes)}  ${mb(basisBytes)}  ${mb(bytes)}  ` +
-    `${bandwidth.toFixed(2).padStart(10)}  ${bytesTime.toExponential(3).padStart(13)}   ${median(ratios).toFixed(2)}   ${median(applyRatios).toFixed(2)}` +
+    `${bandwidth.toFixed(2).padStart(10)}  ${bytesTime.toExponential(3).padStart(13)}   ${median(ratios).toFixed(2)}   ${precondBytes > 0 ? median(applyRatios).toFixed(2) : "  –"}` +
     `   (ratios ${Math.min(...ratios).toFixed(2)}–${Math.max(...ratios).toFixed(2)})`);
 }
