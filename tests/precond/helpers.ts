@@ -1,13 +1,15 @@
 /** Test fixtures for the preconditioner tests: seeded random numbers and small model matrices. */
 import type { Bsr, Csr } from '../../src/sparse/types.js';
-import type { SystemMatrix } from '../../src/precond/types.js';
+import type { Preconditioner, SystemMatrix } from '../../src/precond/types.js';
+import { gatherBlocks, scatterBlocks } from '../../src/precond/block-tools.js';
 import type { Recipe } from '../../src/solvers/recipe.js';
 import { DEFAULT_RECIPE } from '../../src/solvers/recipe.js';
 import { bsrToCsr, csrToBsr } from '../../src/sparse/bsr.js';
 import { mulberry32 } from '../../src/util/random.js';
 
 export { csrFromTriplets, csrMatVec, poisson1d, poisson2d } from '../sparse/model-matrices.js';
-export { maxAbsDiff } from '../sparse/random-sparse.js';
+import { maxAbsDiff } from '../sparse/random-sparse.js';
+export { maxAbsDiff };
 
 export const rng = mulberry32;
 
@@ -83,4 +85,21 @@ export function bsrToDense(a: Bsr): Float64Array {
     }
   }
   return d;
+}
+
+/**
+ * Max |z − z'| between M applied to r and the natural-order N (built on P A Pᵀ) conjugated back:
+ * z' = scatter(N⁻¹ gather(r)), perm[new] = old. Zero to rounding when M is N's reordered twin.
+ */
+export function reorderedApplyDifference(
+  M: Preconditioner, N: Preconditioner, perm: Int32Array, bs: number, seed: number,
+): number {
+  const n = perm.length * bs;
+  const rhs = randomVector(n, seed);
+  const z = new Float64Array(n), rp = new Float64Array(n), zp = new Float64Array(n), want = new Float64Array(n);
+  M.apply(rhs, z);
+  gatherBlocks(rhs, perm, bs, rp);
+  N.apply(rp, zp);
+  scatterBlocks(zp, perm, bs, want);
+  return maxAbsDiff(z, want);
 }
