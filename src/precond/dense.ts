@@ -278,7 +278,7 @@ export function luInverse(
 
 /**
  * y[yo..] ← A x[xo..]. Fast paths for bs ≤ 3; bs 6–33 divisible by 3 goes three rows per pass
- * (blockMatVec3; the range where that kernel shape beat the two-row one, see mulAddTiled3 in
+ * (blockMatVecRows3; the range where that kernel shape beat the two-row one, see mulAddTiled3 in
  * src/sparse/bsr.ts for the measurements); otherwise two rows per pass, so each
  * x entry loaded serves two rows (about 1.6–1.9× the one-row loop on streamed blocks,
  * bench/precond.bench.ts). x and y may be the same array when the ranges do not overlap.
@@ -300,7 +300,7 @@ export function blockMatVec(
     y[yo + 2] = a[ao + 6] * x0 + a[ao + 7] * x1 + a[ao + 8] * x2;
     return;
   }
-  if (bs % 3 === 0 && bs <= 33) { blockMatVec3(a, ao, bs, x, xo, y, yo); return; }
+  if (bs % 3 === 0 && bs <= 33) { blockMatVecRows3(a, ao, bs, x, xo, y, yo, false); return; }
   let i = 0;
   for (; i + 1 < bs; i += 2) {
     const r0 = ao + i * bs, r1 = r0 + bs;
@@ -323,9 +323,14 @@ export function blockMatVec(
   }
 }
 
-/** blockMatVec for bs divisible by 3 (6 ≤ bs ≤ 33): three rows per pass, two partial sums each (see blockMatVec). */
-function blockMatVec3(
+/**
+ * y[yo..] = A x[xo..] (subtract false) or y[yo..] −= A x[xo..] (subtract true) for bs divisible by
+ * 3 (6 ≤ bs ≤ 33): three rows per pass, two partial sums each (see blockMatVec). The branch sits
+ * outside the inner loop, once per row triple.
+ */
+function blockMatVecRows3(
   a: Float64Array, ao: number, bs: number, x: Float64Array, xo: number, y: Float64Array, yo: number,
+  subtract: boolean,
 ): void {
   let r0 = ao;
   for (let i = 0; i < bs; i += 3) {
@@ -339,9 +344,11 @@ function blockMatVec3(
       s2 += a[r2 + j] * xa; t2 += a[r2 + j + 1] * xb;
     }
     if (j < bs) { const xa = x[xo + j]; s0 += a[r0 + j] * xa; s1 += a[r1 + j] * xa; s2 += a[r2 + j] * xa; }
-    y[yo + i] = s0 + t0;
-    y[yo + i + 1] = s1 + t1;
-    y[yo + i + 2] = s2 + t2;
+    if (subtract) {
+      y[yo + i] -= s0 + t0; y[yo + i + 1] -= s1 + t1; y[yo + i + 2] -= s2 + t2;
+    } else {
+      y[yo + i] = s0 + t0; y[yo + i + 1] = s1 + t1; y[yo + i + 2] = s2 + t2;
+    }
     r0 += 3 * bs;
   }
 }
@@ -364,7 +371,7 @@ export function blockMatVecSub(
     y[yo + 2] -= a[ao + 6] * x0 + a[ao + 7] * x1 + a[ao + 8] * x2;
     return;
   }
-  if (bs % 3 === 0 && bs <= 33) { blockMatVecSub3(a, ao, bs, x, xo, y, yo); return; }
+  if (bs % 3 === 0 && bs <= 33) { blockMatVecRows3(a, ao, bs, x, xo, y, yo, true); return; }
   let i = 0;
   for (; i + 1 < bs; i += 2) {
     const r0 = ao + i * bs, r1 = r0 + bs;
@@ -384,29 +391,6 @@ export function blockMatVecSub(
     let s = 0;
     for (let j = 0; j < bs; j++) s += a[r0 + j] * x[xo + j];
     y[yo + i] -= s;
-  }
-}
-
-/** blockMatVecSub for bs divisible by 3 (6 ≤ bs ≤ 33): three rows per pass, two partial sums each (see blockMatVec). */
-function blockMatVecSub3(
-  a: Float64Array, ao: number, bs: number, x: Float64Array, xo: number, y: Float64Array, yo: number,
-): void {
-  let r0 = ao;
-  for (let i = 0; i < bs; i += 3) {
-    const r1 = r0 + bs, r2 = r1 + bs;
-    let s0 = 0, s1 = 0, s2 = 0, t0 = 0, t1 = 0, t2 = 0;
-    let j = 0;
-    for (; j + 1 < bs; j += 2) {
-      const xa = x[xo + j], xb = x[xo + j + 1];
-      s0 += a[r0 + j] * xa; t0 += a[r0 + j + 1] * xb;
-      s1 += a[r1 + j] * xa; t1 += a[r1 + j + 1] * xb;
-      s2 += a[r2 + j] * xa; t2 += a[r2 + j + 1] * xb;
-    }
-    if (j < bs) { const xa = x[xo + j]; s0 += a[r0 + j] * xa; s1 += a[r1 + j] * xa; s2 += a[r2 + j] * xa; }
-    y[yo + i] -= s0 + t0;
-    y[yo + i + 1] -= s1 + t1;
-    y[yo + i + 2] -= s2 + t2;
-    r0 += 3 * bs;
   }
 }
 
