@@ -113,8 +113,7 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
   const recipe = recipeFromOptions(opts);
   const blockSize = opts.blockSize === undefined ? undefined : parseBlockSize(opts.blockSize);
   const sys: LoadedSystem = await loadSystem(file, { blockSize, layoutPath: opts.layout });
-  const n = sys.csr.nRows;
-  if (sys.csr.nCols !== n) throw fileError(file, undefined, `solve needs a square matrix, got ${n}×${sys.csr.nCols}`);
+  const n = sys.n; // a loaded system is square (systemFromMatrix checks)
   let b: Float64Array;
   if (opts.rhs !== undefined) {
     b = await readMatrixMarketVector(opts.rhs);
@@ -134,13 +133,13 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
       if (now - last > 250) { last = now; process.stderr.write(`\r  iteration ${it}, relative residual ${num(rel)}   `); }
     }
     : undefined;
-  const { result, x } = solveSystem(sys, b, recipe, { onIteration });
+  const { result, x } = solveSystem(sys, b, recipe, { onIteration, lastUse: true });
   if (progress && last > 0) process.stderr.write('\r\x1b[K');
   const report: SolveReport = {
     schema: 'slabbench-solve/1',
     ...result,
     matrix: {
-      file, n, nnz: sys.csr.rowPtr[n], bs: sys.bs, blockSizeSource: sys.blockSizeSource,
+      file, n, nnz: sys.nnz, bs: sys.bs, blockSizeSource: sys.blockSizeSource,
       nSlabs: sys.slabOffsets ? sys.slabOffsets.length - 1 : null,
     },
     rhs: opts.rhs !== undefined ? { source: 'file', file: opts.rhs } : { source: 'A·1' },

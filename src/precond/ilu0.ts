@@ -12,7 +12,7 @@ import { checkApplyArgs, checkReady } from './common.js';
 import { PIVOT_RTOL } from './dense.js';
 
 export function createIlu0(system: SystemMatrix, recipe: Recipe): Preconditioner {
-  if (system.csr.nRows !== system.csr.nCols) throw new RangeError('ilu0: matrix is not square');
+  if (system.n === undefined && system.csr.nRows !== system.csr.nCols) throw new RangeError('ilu0: matrix is not square');
   return new Ilu0Preconditioner(system, recipe.shift);
 }
 
@@ -26,11 +26,11 @@ export class Ilu0Preconditioner implements Preconditioner {
   private setupFlops = 0;
 
   constructor(private readonly system: SystemMatrix, private readonly shift: number) {
-    this.n = system.csr.nRows;
+    this.n = system.n ?? system.csr.nRows;
   }
 
   private fail(reason: 'zero-pivot' | 'non-finite', i: number, what: string): SetupOutcome {
-    const bs = this.system.bsr.bs;
+    const bs = this.system.bs ?? this.system.bsr.bs;
     const I = Math.floor(i / bs);
     return { ok: false, reason, blockRow: I, message: `ilu0: ${what} in row ${i} (block row ${I})` +
       (reason === 'zero-pivot' ? '; a diagonal shift (recipe shift > 0) avoids it' : '') };

@@ -19,12 +19,12 @@ class JacobiPreconditioner implements Preconditioner {
   private invDiag: Float64Array = new Float64Array(0);
   private ready = false;
   constructor(private readonly system: SystemMatrix, private readonly shift: number) {
-    this.n = system.csr.nRows;
+    this.n = system.n ?? system.csr.nRows;
   }
 
   setup(): SetupOutcome {
     const { rowPtr, colInd, values } = this.system.csr;
-    const bs = this.system.bsr.bs;
+    const bs = this.system.bs ?? this.system.bsr.bs;
     const n = this.n;
     this.invDiag = new Float64Array(n);
     for (let i = 0; i < n; i++) {

@@ -5,7 +5,7 @@ import type { BufferBytes } from '../solvers/types.js';
 import { checkApplyArgs } from './common.js';
 
 export function createNone(system: SystemMatrix, _recipe: Recipe): Preconditioner {
-  return new NonePreconditioner(system.csr.nRows);
+  return new NonePreconditioner(system.n ?? system.csr.nRows);
 }
 
 class NonePreconditioner implements Preconditioner {

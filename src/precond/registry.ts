@@ -38,9 +38,10 @@ export function createPreconditioner(system: SystemMatrix, recipe: Recipe): Prec
   if (!factory) {
     throw new UserError(`recipe ${recipe.name}: unknown preconditioner '${String(recipe.preconditioner)}', expected one of ${preconditionerNames().join(', ')}`);
   }
-  // only the BSR view is touched here: a slab's CSR view is built lazily, for point methods only
-  const { bsr } = system;
-  if (bsr.nBlockRows !== bsr.nBlockCols) {
+  // a loaded system (n given) is square by construction; otherwise only the BSR view is touched
+  // here: a slab's CSR view is built lazily, for point methods only
+  const bsr = system.n === undefined ? system.bsr : undefined;
+  if (bsr && bsr.nBlockRows !== bsr.nBlockCols) {
     throw new UserError(`recipe ${recipe.name}: preconditioner ${recipe.preconditioner} needs a square matrix, got ${bsr.nBlockRows}×${bsr.nBlockCols} blocks`);
   }
   return factory(system, recipe);

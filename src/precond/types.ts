@@ -9,6 +9,13 @@ export interface SystemMatrix {
   readonly bsr: Bsr;
   /** Block-row offsets of time slabs (first 0, last nBlockRows), when known. */
   readonly slabOffsets?: Int32Array;
+  /**
+   * Scalar size and block size, when known without touching csr/bsr. A loaded system
+   * (src/sparse/system.ts) builds a missing format on first access, so a point method reads
+   * these rather than system.bsr.bs (and a loaded system is square by construction).
+   */
+  readonly n?: number;
+  readonly bs?: number;
 }
 
 export type SetupOutcome =

@@ -56,16 +56,20 @@ export function environment(): Environment {
 
 export function matrixInfo(
   base: { name: string; source: 'file' | 'generated'; path: string; note?: string },
-  loaded: { csr: { nRows: number; values: Float64Array }; bsr: Bsr; bs: number; blockSizeSource?: string; slabOffsets?: Int32Array },
+  loaded: {
+    csr: { nRows: number; values: Float64Array }; bsr: Bsr; bs: number; blockSizeSource?: string; slabOffsets?: Int32Array;
+    /** A loaded system's sizes and block structure, read without building a format it does not hold. */
+    n?: number; nnz?: number; blockStructure?: () => Bsr;
+  },
 ): MatrixInfo {
-  const { bsr } = loaded;
+  const bsr = loaded.blockStructure ? loaded.blockStructure() : loaded.bsr;
   return {
     name: base.name,
     source: base.source,
     path: base.path,
     ...(base.note !== undefined ? { note: base.note } : {}),
-    n: loaded.csr.nRows,
-    nnz: loaded.csr.values.length,
+    n: loaded.n ?? loaded.csr.nRows,
+    nnz: loaded.nnz ?? loaded.csr.values.length,
     bs: loaded.bs,
     nBlockRows: bsr.nBlockRows,
     nBlocks: bsr.colInd.length,

@@ -5,6 +5,7 @@
  */
 import type { Recipe } from '../solvers/recipe.js';
 import { csrSpmv } from '../sparse/csr.js';
+import { isMatrixStore } from '../sparse/system.js';
 import { UserError } from '../util/errors.js';
 import type { RunDeps, LoadedForRun } from './deps.js';
 import type { MatrixInfo, RunRecord } from './results-types.js';
@@ -94,7 +95,8 @@ export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache
     info = matrixInfo({ name: m.name, source: m.source, path: m.displayPath, note: m.note }, loaded.system);
   }
   const sys = loaded.system;
-  const system = { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}) };
+  // a loaded system is passed as it is, so solveSystem can keep only the format each recipe needs
+  const system = isMatrixStore(sys) ? sys : { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}) };
   try {
     if (task.warmup) deps.solveSystem(system, loaded.b, task.recipe);
     const { result } = deps.solveSystem(system, loaded.b, task.recipe);

@@ -8,30 +8,59 @@ import { bsrOperator, csrOperator, residualInto, type MatrixOperator } from './o
 import { krylovSolve } from './krylov.js';
 import { buildResult, meterPreconditioner, peakRssBytes, relative, secondsSince, sumBytes } from './result.js';
 import { norm2 } from './vector.js';
+import { isMatrixStore, type MatrixFormat } from '../sparse/system.js';
 
 export interface SolveSystemOptions {
   /** Initial guess (copied; default zeros). */
   x0?: Float64Array;
   /** Per-iteration monitor (see KrylovOptions.onIteration). */
   onIteration?: KrylovOptions['onIteration'];
+  /**
+   * The system will not be solved again (the `solve` command): a loaded system may then drop a
+   * CSR whose blocks are partially filled, which it otherwise keeps to rebuild the exact pattern.
+   */
+  lastUse?: boolean;
 }
 
-/** The operator solveSystem multiplies with: BSR when the block size is above 1, else CSR. */
-export function systemOperator(system: SystemMatrix): MatrixOperator {
-  return system.bsr.bs > 1 ? bsrOperator(system.bsr) : csrOperator(system.csr);
+/** Preconditioners that run on the scalar CSR pattern; every other one reads the BSR view. */
+const POINT_PRECONDITIONERS: ReadonlySet<string> = new Set(['jacobi', 'ilu0']);
+
+/**
+ * The one matrix format a recipe needs: CSR for the point methods (jacobi, ilu0), BSR for the
+ * block methods (and for none when the block size is above 1). The operator uses the same format,
+ * so a loaded system holds one copy of the matrix (a component asking for the other one gets it
+ * built, and counted).
+ */
+export function matrixFormatFor(recipe: Recipe, bs: number): MatrixFormat {
+  if (POINT_PRECONDITIONERS.has(recipe.preconditioner)) return 'csr';
+  if (recipe.preconditioner === 'none') return bs > 1 ? 'bsr' : 'csr';
+  return 'bsr';
+}
+
+function blockSizeOf(system: SystemMatrix): number {
+  return system.bs ?? system.bsr.bs;
+}
+
+/** The operator solveSystem multiplies with: the recipe's format (default: BSR when the block size is above 1, else CSR). */
+export function systemOperator(system: SystemMatrix, format?: MatrixFormat): MatrixOperator {
+  const f = format ?? (blockSizeOf(system) > 1 ? 'bsr' : 'csr');
+  return f === 'bsr' ? bsrOperator(system.bsr) : csrOperator(system.csr);
 }
 
 /**
- * Solve A x = b with a recipe: create the preconditioner through the registry, set it up (timed),
- * run the recipe's method (timed), and fill the memory report (matrix bytes of the operator actually
- * used, preconditioner bytes from M.memory(), Krylov basis and work vectors, peak RSS) and the
- * preconditioner's statistics. Solver and preconditioner failures become stop reasons; only an
+ * Solve A x = b with a recipe: a loaded system first keeps only the format the recipe needs
+ * (matrixFormatFor); create the preconditioner through the registry, set it up (timed), run the
+ * recipe's method (timed), and fill the memory report (matrix bytes: every array a loaded system
+ * holds at the end, else those of the operator used; preconditioner bytes from M.memory(); Krylov
+ * basis; work vectors plus b and x; peak RSS) and the preconditioner's statistics. Solver and preconditioner failures become stop reasons; only an
  * invalid recipe (or a recipe the matrix cannot serve) throws a UserError. b is never modified.
  */
 export function solveSystem(
   system: SystemMatrix, b: Float64Array, recipe: Recipe, opts: SolveSystemOptions = {},
 ): { result: SolveResult; x: Float64Array } {
-  const A = systemOperator(system);
+  const format = matrixFormatFor(recipe, blockSizeOf(system));
+  if (isMatrixStore(system)) system.keepOnly(format, { lastUse: opts.lastUse === true });
+  const A = systemOperator(system, format);
   const n = A.n;
   if (b.length !== n) throw new UserError(`right-hand side has length ${b.length}, expected ${n} (the matrix size)`);
   if (opts.x0 && opts.x0.length !== n) throw new UserError(`initial guess has length ${opts.x0.length}, expected ${n}`);
@@ -60,8 +89,12 @@ export function solveSystem(
   }
   result.timing.setupSeconds = setupSeconds;
   const mem = result.memory;
-  mem.buffers.matrix = { ...A.bytes };
-  mem.matrixBytes = sumBytes(A.bytes);
+  mem.buffers.matrix = isMatrixStore(system) ? system.heldBytes() : { ...A.bytes };
+  mem.matrixBytes = sumBytes(mem.buffers.matrix);
+  // the right-hand side and the solution live as long as the solve
+  mem.buffers.work['right-hand side'] = b.byteLength;
+  mem.buffers.work.solution = x.byteLength;
+  mem.workBytes = sumBytes(mem.buffers.work);
   if (M) {
     mem.buffers.preconditioner = M.memory();
     mem.preconditionerBytes = sumBytes(mem.buffers.preconditioner);
