@@ -78,13 +78,20 @@ export function renderEstimate(e: MemoryEstimate): string {
   bytes('Jacobian (BSR)', a.jacobian.total, s.jacobian.total);
   bytes('  values', a.jacobian.values, s.jacobian.values);
   bytes('  indices', a.jacobian.indices, s.jacobian.indices);
-  rows.push(['preconditioner factors', '', '']);
-  for (const p of ESTIMATE_PRECONDITIONERS) bytes(`  ${p}`, a.preconditioners[p].total, s.preconditioners[p].total);
+  bytes('Jacobian (CSR, for jacobi, ilu0)', a.jacobianCsr.total, s.jacobianCsr.total);
+  rows.push(['preconditioner', '', '']);
+  for (const p of ESTIMATE_PRECONDITIONERS) {
+    if (p === 'none') continue;
+    // the slab preconditioner is itself the one-slab-at-a-time strategy: no one-slab figure of its own
+    if (p === 'slab') rows.push([`  ${p} (one slab at a time)`, formatBytes(a.preconditioners[p].total), '—']);
+    else bytes(`  ${p}`, a.preconditioners[p].total, s.preconditioners[p].total);
+  }
   rows.push([`Krylov basis (restart ${e.restart})`, '', '']);
   for (const k of ESTIMATE_KRYLOV) bytes(`  ${k}`, a.krylov[k], s.krylov[k]);
   rows.push(null);
   bytes('Jacobian + block-ilu0 + gmres', peakBytes(a, 'block-ilu0', 'gmres'), peakBytes(s, 'block-ilu0', 'gmres'));
   bytes('Jacobian + block-jacobi + gmres', peakBytes(a, 'block-jacobi', 'gmres'), peakBytes(s, 'block-jacobi', 'gmres'));
+  bytes('Jacobian (CSR) + ilu0 + gmres', peakBytes(a, 'ilu0', 'gmres'), peakBytes(s, 'ilu0', 'gmres'));
 
   const heads: [string, string, string] = ['', 'all at once', `one slab (of ${e.slabs})`];
   const w0 = Math.max(...rows.map((r) => (r ? r[0].length : 0)));
@@ -122,6 +129,7 @@ export function registerEstimate(program: Command): void {
     .addHelpText('after', `
 Formulas (README "Memory projection"): block size = equations × C(p+d+1, d+1); the matrix stores
 one block per element and one per element and face neighbour; bytes are 8 per value, 4 per index.
+A solve holds the Jacobian in one format: CSR with jacobi and ilu0, BSR otherwise.
 
 Examples:
   slabbench estimate --dim 3 --order 3 --equations 5 --elements 1e6 --slabs 100

@@ -17,18 +17,29 @@
  *    term removes the initial and final faces and the upper (zero, upwind-in-time) block of every
  *    slab-interface face. One slab alone: E_s·(d+3) − B_space,s − 2·d!·c^d.
  *  - BSR bytes: values blocks·bs²·8, column indices blocks·4, row pointers (elements + 1)·4.
- *  - preconditioner factors (as stored by src/precond):
+ *    CSR bytes (the format the point methods jacobi and ilu0 run on; a solve holds only the
+ *    format its recipe needs): values nnz·8, column indices nnz·4, row pointers (n + 1)·4,
+ *    nnz = blocks·bs².
+ *  - preconditioner bytes, as stored by src/precond with the default options (natural ordering,
+ *    explicit block inverses), workspace included, so they equal what `solve` reports:
+ *      none         nothing
  *      jacobi       inverse diagonal, n·8
  *      block-jacobi the inverse of each diagonal block, elements·bs²·8 (the default
- *                   blockInverse; 'lu' keeps LU factors of the same size plus pivots elements·bs·4)
+ *                   blockInverse; 'lu' keeps LU factors of the same size plus pivots elements·bs·4);
+ *                   workspace one block and its pivots, bs²·8 + bs·4
  *      block-gs     the same diagonal-block inverses (natural ordering; another ordering adds
- *                   its visiting order and inverse, 2·elements·4; A itself is read in place)
- *      ilu0         scalar ILU(0) on the pattern of A: factors nnz·8 and diagonal positions n·4,
- *                   plus the scalar CSR pattern it runs on (column indices nnz·4, row pointers
- *                   (n+1)·4), nnz = blocks·bs²
+ *                   its visiting order and inverse, 2·elements·4; A itself is read in place);
+ *                   workspace (2·bs + bs²)·8 + bs·4
+ *      ilu0         scalar ILU(0) on the pattern of A: factors nnz·8 and diagonal positions n·4;
+ *                   the factors share the row pointers and column indices of A's CSR, which is
+ *                   the matrix the solve holds (counted as the Jacobian, in CSR)
  *      block-ilu0   one factor block per stored block, blocks·bs²·8 (diagonal blocks kept
  *                   inverted, so no pivots), plus the factor pattern in sweep order: a block
- *                   column index per block, blocks·4, and two row-pointer arrays, 2·(elements+1)·4
+ *                   column index per block, blocks·4, and two row-pointer arrays, 2·(elements+1)·4;
+ *                   workspace one block vector, bs·8
+ *      slab         one slab at a time with the default inner recipe (GMRES(30) + block ILU(0)):
+ *                   the inner block-ilu0 bytes and inner basis 31·n_s·8 of one slab, a buffer for
+ *                   one slab's diagonal part (the one-slab BSR bytes) and two slab vectors 2·n_s·8
  *  - Krylov basis: GMRES (m+1)·n·8, FGMRES (2m+1)·n·8 (the preconditioned vectors too), BiCGStab
  *    8·n·8 (eight work vectors with a preconditioner), m = min(restart, n). The small Hessenberg
  *    and rotation arrays are left out.
@@ -59,7 +70,7 @@ export interface EstimateInput {
   blocks?: number;
 }
 
-export const ESTIMATE_PRECONDITIONERS = ['jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0'] as const;
+export const ESTIMATE_PRECONDITIONERS = ['none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'slab'] as const;
 export type EstimatePreconditioner = (typeof ESTIMATE_PRECONDITIONERS)[number];
 export const ESTIMATE_KRYLOV = ['gmres', 'fgmres', 'bicgstab'] as const;
 export type EstimateKrylov = (typeof ESTIMATE_KRYLOV)[number];
@@ -68,7 +79,10 @@ export interface Footprint {
   elements: number;
   unknowns: number;
   blocks: number;
+  /** The Jacobian in BSR (what block methods and the operator use). */
   jacobian: { values: number; indices: number; total: number };
+  /** The Jacobian in CSR (what a solve with jacobi or ilu0 holds instead). */
+  jacobianCsr: { values: number; indices: number; total: number };
   /** Bytes per preconditioner, with the named parts. */
   preconditioners: Record<EstimatePreconditioner, { total: number; parts: Record<string, number> }>;
   krylov: Record<EstimateKrylov, number>;
@@ -116,28 +130,50 @@ function perAxis<T>(v: T | T[], d: number): T[] {
   return Array.isArray(v) ? v : Array<T>(d).fill(v);
 }
 
-function footprint(elements: number, blocks: number, bs: number, restart: number): Footprint {
+const sum = (p: Record<string, number>): { total: number; parts: Record<string, number> } =>
+  ({ total: Object.values(p).reduce((a, b) => a + b, 0), parts: p });
+
+/** Inner recipe of the slab preconditioner's default (GMRES(30) + block ILU(0)): its restart. */
+const SLAB_INNER_RESTART = 30;
+
+function footprint(elements: number, blocks: number, bs: number, restart: number, slab?: Footprint): Footprint {
   const n = elements * bs;
   const bb = bs * bs;
   const nnz = blocks * bb;
   const values = blocks * bb * 8;
   const indices = blocks * 4 + (elements + 1) * 4;
+  const csrIndices = nnz * 4 + (n + 1) * 4;
   const diagInverse = { 'inverse blocks': elements * bb * 8 };
-  const sum = (p: Record<string, number>): { total: number; parts: Record<string, number> } =>
-    ({ total: Object.values(p).reduce((a, b) => a + b, 0), parts: p });
   const m = Math.max(1, Math.min(restart, n));
+  const blockIlu0 = sum({ factors: values, 'factor pattern': blocks * 4 + 2 * (elements + 1) * 4, workspace: bs * 8 });
+  const s = slab; // one slab's footprint (undefined when this is the one-slab footprint itself)
+  const ns = s ? s.unknowns : n;
+  const mInner = Math.max(1, Math.min(SLAB_INNER_RESTART, ns));
   return {
     elements, unknowns: n, blocks,
     jacobian: { values, indices, total: values + indices },
+    jacobianCsr: { values: nnz * 8, indices: csrIndices, total: nnz * 8 + csrIndices },
     preconditioners: {
+      none: sum({}),
       jacobi: sum({ 'inverse diagonal': n * 8 }),
-      'block-jacobi': sum({ ...diagInverse }),
-      'block-gs': sum({ ...diagInverse }),
-      ilu0: sum({ factors: nnz * 8, 'diagonal positions': n * 4, 'scalar CSR pattern': nnz * 4 + (n + 1) * 4 }),
-      'block-ilu0': sum({ factors: values, 'factor pattern': blocks * 4 + 2 * (elements + 1) * 4 }),
+      'block-jacobi': sum({ ...diagInverse, workspace: bb * 8 + bs * 4 }),
+      'block-gs': sum({ ...diagInverse, workspace: (2 * bs + bb) * 8 + bs * 4 }),
+      ilu0: sum({ factors: nnz * 8, 'diagonal positions': n * 4 }),
+      'block-ilu0': blockIlu0,
+      slab: sum({
+        'inner block-ilu0 (one slab)': (s ? s.preconditioners['block-ilu0'] : blockIlu0).total,
+        'inner Krylov basis (one slab)': (mInner + 1) * ns * 8,
+        'slab matrix buffer': (s ? s.jacobian : { total: values + indices }).total,
+        'slab vectors': 2 * ns * 8,
+      }),
     },
     krylov: { gmres: (m + 1) * n * 8, fgmres: (2 * m + 1) * n * 8, bicgstab: 8 * n * 8 },
   };
+}
+
+/** The Jacobian bytes a solve with this preconditioner holds: CSR for the point methods, else BSR. */
+export function jacobianBytes(f: Footprint, preconditioner: EstimatePreconditioner): number {
+  return preconditioner === 'jacobi' || preconditioner === 'ilu0' ? f.jacobianCsr.total : f.jacobian.total;
 }
 
 function check(cond: boolean, what: string): void {
@@ -196,14 +232,15 @@ export function estimateMemory(input: EstimateInput): MemoryEstimate {
     blocks = input.blocks;
     source = 'exact';
   }
+  const slab = footprint(slabElements, slabBlocks, bs, restart);
   return {
     spaceDim: d, order: p, equations, nBasis, bs, slabs, restart, blockCountSource: source,
-    allAtOnce: footprint(elements, blocks, bs, restart),
-    slab: footprint(slabElements, slabBlocks, bs, restart),
+    allAtOnce: footprint(elements, blocks, bs, restart, slab),
+    slab,
   };
 }
 
 /** Jacobian + preconditioner + Krylov basis: what one solve holds at its peak. */
 export function peakBytes(f: Footprint, preconditioner: EstimatePreconditioner, krylov: EstimateKrylov): number {
-  return f.jacobian.total + f.preconditioners[preconditioner].total + f.krylov[krylov];
+  return jacobianBytes(f, preconditioner) + f.preconditioners[preconditioner].total + f.krylov[krylov];
 }
