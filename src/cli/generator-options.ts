@@ -12,7 +12,7 @@ interface GeneratorOption {
   key: string;
   field: string;
   help: string;
-  kind: 'number' | 'string' | 'list' | 'periodic' | 'shear' | 'repeat' | 'flag-false';
+  kind: 'number' | 'string' | 'list' | 'periodic' | 'shear' | 'repeat' | 'flag-false' | 'flag-true';
 }
 
 const OPTIONS: readonly GeneratorOption[] = [
@@ -30,6 +30,7 @@ const OPTIONS: readonly GeneratorOption[] = [
   { flags: '--jitter <f>', key: 'jitter', field: 'jitter', kind: 'number', help: 'random vertex displacement in space, fraction of the cell size in [0, 0.5) (default 0)' },
   { flags: '--seed <n>', key: 'seed', field: 'seed', kind: 'number', help: 'seed of the jitter and of --ordering random (default 1)' },
   { flags: '--ordering <name>', key: 'ordering', field: 'ordering', kind: 'string', help: 'element order inside each slab: natural, downstream or random (default natural)' },
+  { flags: '--drop-zero-blocks', key: 'dropZeroBlocks', field: 'dropZeroBlocks', kind: 'flag-true', help: 'leave out off-diagonal blocks whose entries are all exactly zero (the numerical pattern; default: the full face pattern)' },
   { flags: '--velocity <expr>', key: 'velocity', field: 'velocity', kind: 'repeat', help: 'advection velocity, one per axis (repeat the option), numbers or expressions in x, y, z, t (default 1, 0.5, 0.25)' },
   { flags: '--diffusivity <nu>', key: 'diffusivity', field: 'diffusivity', kind: 'number', help: 'advection-diffusion: diffusion coefficient ν ≥ 0 (default 0.01)' },
   { flags: '--sound-speed <c>', key: 'soundSpeed', field: 'soundSpeed', kind: 'number', help: 'acoustics: speed of sound (default 1)' },
@@ -85,6 +86,7 @@ export function generatorParamsFromOptions(opts: Record<string, unknown>): Gener
       case 'list': raw[o.field] = String(v).split(',').map((s) => numberOrText(s.trim())); break;
       case 'repeat': raw[o.field] = (v as string[]).map((s) => numberOrText(s)); break;
       case 'flag-false': raw[o.field] = false; break;
+      case 'flag-true': raw[o.field] = true; break;
       case 'shear': raw[o.field] = String(v) === 'align' ? 'align' : String(v).split(',').map((s) => numberOrText(s.trim())); break;
       case 'periodic': {
         const s = String(v).trim().toLowerCase();

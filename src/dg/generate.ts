@@ -37,6 +37,12 @@ export interface GeneratorParams {
   jitter: number;
   seed: number;
   ordering: ElementOrdering;
+  /**
+   * Drop stored blocks whose entries are all exactly zero (off-diagonal only), leaving the
+   * numerical pattern; absent (false) keeps the full face pattern. Present only when true, so the
+   * parameters of earlier cases stay as they were.
+   */
+  dropZeroBlocks?: boolean;
   /** Physics-specific fields (velocity, diffusivity, soundSpeed, meanFlow, travelling, direction, initial, state, inflow). */
   [field: string]: unknown;
 }
@@ -45,7 +51,7 @@ export const MAX_ORDER = 4;
 export const MAX_ORDER_3D = 3;
 const COMMON_FIELDS = [
   'physics', 'dim', 'order', 'cells', 'extent', 'slabs', 'layersPerSlab', 'cfl', 'slabThickness',
-  'periodic', 'shear', 'jitter', 'seed', 'ordering',
+  'periodic', 'shear', 'jitter', 'seed', 'ordering', 'dropZeroBlocks',
 ];
 /** Largest generated value array (entries), checked before anything is allocated. */
 export const MAX_GENERATED_VALUES = 1.5e9;
@@ -124,12 +130,14 @@ export function parseGeneratorParams(obj: unknown, where: string, label?: FieldL
   if (typeof ordering !== 'string' || !ELEMENT_ORDERINGS.includes(ordering as ElementOrdering)) {
     fail('ordering', `expected one of ${ELEMENT_ORDERINGS.join(', ')}, got ${show(ordering)}`);
   }
+  const dropZeroBlocks = raw.dropZeroBlocks ?? false;
+  if (typeof dropZeroBlocks !== 'boolean') fail('dropZeroBlocks', `expected true or false, got ${show(dropZeroBlocks)}`);
   const ctx: PhysicsContext = { dim: d, extent, periodic, label: name };
   const physicsFields = def.normalize(raw, ctx);
   const params: GeneratorParams = {
     physics: def.name, dim: d, order: order as number, cells, extent, slabs: slabs as number,
     layersPerSlab: layersPerSlab as number, cfl, slabThickness, periodic, shear, jitter: jitter as number,
-    seed: seed as number, ordering: ordering as ElementOrdering, ...physicsFields,
+    seed: seed as number, ordering: ordering as ElementOrdering, ...(dropZeroBlocks ? { dropZeroBlocks: true } : {}), ...physicsFields,
   };
   // Everything that depends on the physics: slab thickness, shear, sizes, expressions over [0, T].
   resolveGenerator(params, name);
@@ -228,12 +236,18 @@ export function generateWithDiscretization(
   const { mesh, physics, tables, ordering } = disc;
   let state: Float64Array | null = null;
   if (physics.state) state = projectFunction(mesh, params.order, physics.nEquations, ordering.inv, physics.state);
-  const { bsr, residual } = assembleDg(disc, state, { onProgress });
+  const assembled = assembleDg(disc, state, { onProgress });
+  const { residual } = assembled;
   for (let i = 0; i < residual.length; i++) residual[i] = -residual[i];
+  const full = assembled.bsr as Bsr;
+  const zeroOnFacePattern = countZeroBlocks(full);
+  const bsr = params.dropZeroBlocks === true ? dropZeroBlocks(full) : full;
+  const zeroKept = bsr === full ? zeroOnFacePattern : countZeroBlocks(bsr);
   const slabOffsets: number[] = Array.from(mesh.slabOffsets);
   const layout: Layout = {
     blockSize: disc.bs,
     slabOffsets,
+    zeroBlocks: { count: zeroKept, share: bsr.colInd.length === 0 ? 0 : zeroKept / bsr.colInd.length },
     provenance: {
       generator: 'slabbench generate',
       slabbenchVersion: VERSION,
@@ -252,10 +266,14 @@ export function generateWithDiscretization(
       quadratureDegree: 2 * params.order + physics.extraQuadratureDegree(params.order),
       system: physics.state ? 'Newton step: Jacobian at the projected state, rhs = -residual' : 'linear: DG operator, rhs = data terms',
       physicsSummary: physics.summary,
+      blockPattern: params.dropZeroBlocks === true
+        ? `numerical: the ${zeroOnFacePattern} off-diagonal blocks of the face pattern whose entries are all exactly zero are dropped`
+        : 'full face pattern: one block per element pair sharing a face, zero or not',
+      droppedZeroBlocks: full.colInd.length - bsr.colInd.length,
       params: { ...params },
     },
   };
-  const out: GeneratedSystem = { bsr: bsr as Bsr, rhs: residual, layout };
+  const out: GeneratedSystem = { bsr, rhs: residual, layout };
   const exact = physics.exact;
   if (exact) {
     // Projected on first access: it costs a high-order quadrature with an expression evaluation
@@ -267,6 +285,52 @@ export function generateWithDiscretization(
     });
   }
   return { system: out, disc };
+}
+
+/** Stored blocks whose bs² entries are all exactly 0 (upwind faces whose coupling vanishes, …). */
+export function countZeroBlocks(a: Bsr): number {
+  const bb = a.bs * a.bs;
+  const nBlocks = a.colInd.length;
+  let count = 0;
+  for (let k = 0; k < nBlocks; k++) {
+    let zero = true;
+    for (let q = k * bb; q < (k + 1) * bb; q++) if (a.values[q] !== 0) { zero = false; break; }
+    if (zero) count++;
+  }
+  return count;
+}
+
+/**
+ * The numerical block pattern: a copy without the off-diagonal blocks whose entries are all exactly
+ * zero. Diagonal blocks always stay (every factorization needs them). The matrix is unchanged as an
+ * operator; only the pattern (and with it the ILU(0) pattern) shrinks.
+ */
+export function dropZeroBlocks(a: Bsr): Bsr {
+  const { nBlockRows: nb, bs, rowPtr, colInd, values } = a;
+  const bb = bs * bs;
+  const keep = new Uint8Array(colInd.length);
+  let kept = 0;
+  for (let I = 0; I < nb; I++) {
+    for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
+      let nonzero = colInd[k] === I;
+      for (let q = k * bb; !nonzero && q < (k + 1) * bb; q++) if (values[q] !== 0) nonzero = true;
+      if (nonzero) { keep[k] = 1; kept++; }
+    }
+  }
+  const outPtr = new Int32Array(nb + 1);
+  const outCol = new Int32Array(kept);
+  const outVal = new Float64Array(kept * bb);
+  let p = 0;
+  for (let I = 0; I < nb; I++) {
+    for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
+      if (!keep[k]) continue;
+      outCol[p] = colInd[k];
+      outVal.set(values.subarray(k * bb, (k + 1) * bb), p * bb);
+      p++;
+    }
+    outPtr[I + 1] = p;
+  }
+  return { nBlockRows: nb, nBlockCols: a.nBlockCols, bs, rowPtr: outPtr, colInd: outCol, values: outVal };
 }
 
 /** Generate and write NAME.mtx, NAME.rhs.mtx and NAME.layout.json into outDir. */

@@ -60,6 +60,12 @@ export function validateLayout(obj: unknown, where: string): Layout {
       }
     }
   }
+  if (o.zeroBlocks !== undefined) {
+    const z = o.zeroBlocks as Record<string, unknown> | null;
+    if (typeof z !== 'object' || z === null || Array.isArray(z)) throw fileError(where, undefined, `zeroBlocks: expected an object { count, share }, found ${describe(z)}`);
+    if (typeof z.count !== 'number' || !Number.isInteger(z.count) || z.count < 0) throw fileError(where, undefined, `zeroBlocks.count: expected a non-negative integer, found ${describe(z.count)}`);
+    if (typeof z.share !== 'number' || !(z.share >= 0 && z.share <= 1)) throw fileError(where, undefined, `zeroBlocks.share: expected a number from 0 to 1, found ${describe(z.share)}`);
+  }
   if (o.provenance !== undefined && (typeof o.provenance !== 'object' || o.provenance === null || Array.isArray(o.provenance))) {
     throw fileError(where, undefined, `provenance: expected an object, found ${describe(o.provenance)}`);
   }

@@ -44,5 +44,7 @@ export interface Layout {
   readonly slabOffsets?: readonly number[];
   /** Free-form provenance: generator parameters, source code, date… */
   readonly provenance?: Record<string, unknown>;
+  /** Stored blocks whose entries are all exactly zero, and their share of the stored blocks (generated cases write it). */
+  readonly zeroBlocks?: { readonly count: number; readonly share: number };
   readonly [extra: string]: unknown;
 }

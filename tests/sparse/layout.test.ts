@@ -98,3 +98,12 @@ describe('readLayout / writeLayout', () => {
     expect(layout).toEqual({ blockSize: 2, slabOffsets: [0, 1, 3] });
   });
 });
+
+describe('validateLayout: zeroBlocks', () => {
+  it('accepts { count, share } and names the bad part otherwise', () => {
+    expect(validateLayout({ blockSize: 2, zeroBlocks: { count: 3, share: 0.25 } }, 'z.layout.json').zeroBlocks).toEqual({ count: 3, share: 0.25 });
+    expect(() => validateLayout({ blockSize: 2, zeroBlocks: 3 }, 'z.layout.json')).toThrow(/z\.layout\.json: zeroBlocks: expected an object/);
+    expect(() => validateLayout({ blockSize: 2, zeroBlocks: { count: -1, share: 0 } }, 'z.layout.json')).toThrow(/zeroBlocks\.count: expected a non-negative integer/);
+    expect(() => validateLayout({ blockSize: 2, zeroBlocks: { count: 1, share: 1.5 } }, 'z.layout.json')).toThrow(/zeroBlocks\.share: expected a number from 0 to 1/);
+  });
+});
