@@ -1,5 +1,5 @@
 import type { Command } from 'commander';
-import { optionError } from '../util/errors.js';
+import { EXIT, optionError } from '../util/errors.js';
 import { readSuiteCases } from '../dg/suite-cases.js';
 import { runRefinementStudy, type RefinementRow, type RefinementStudy } from '../dg/refine.js';
 import type { GeneratorParams } from '../dg/generate.js';
@@ -17,21 +17,42 @@ function parseSizes(text: string): number[] {
   return sizes;
 }
 
-/** Fixed-width table of a refinement study. */
-export function formatStudy(study: RefinementStudy): string {
-  const head = ['cells', 'h', 'slabs', 'elements', 'unknowns', 'L2 error', 'order', 'solver'];
-  const rows = study.rows.map((r: RefinementRow) => [
-    r.cells.join('×'), r.h.toPrecision(3), String(r.slabs), String(r.nElements), String(r.nUnknowns),
-    r.error.toExponential(3), r.observedOrder === null ? '—' : r.observedOrder.toFixed(2),
-    r.iterations !== undefined ? `${r.solver} (${r.iterations} it)` : r.solver,
-  ]);
-  const widths = head.map((h, j) => Math.max(h.length, ...rows.map((r) => r[j].length)));
-  const line = (cells: string[]): string => cells.map((c, j) => (j < 7 ? c.padStart(widths[j]) : c)).join('  ');
+/** Columns of the refinement table: fixed widths, so rows can be printed as each mesh finishes. */
+const COLUMNS: Array<{ head: string; width: number; cell: (r: RefinementRow) => string }> = [
+  { head: 'cells', width: 11, cell: (r) => r.cells.join('×') },
+  { head: 'h', width: 9, cell: (r) => r.h.toPrecision(3) },
+  { head: 'slabs', width: 6, cell: (r) => String(r.slabs) },
+  { head: 'elements', width: 9, cell: (r) => String(r.nElements) },
+  { head: 'unknowns', width: 9, cell: (r) => String(r.nUnknowns) },
+  { head: 'L2 error', width: 10, cell: (r) => r.error.toExponential(3) },
+  { head: 'order', width: 6, cell: (r) => (r.observedOrder === null ? '—' : r.observedOrder.toFixed(2)) },
+  { head: 'seconds', width: 8, cell: (r) => r.seconds.toFixed(1) },
+];
+
+/** Title and column heads of the table. */
+export function formatStudyHead(study: { physics: string; dim: number; order: number; finalTime: number }): string {
   return [
     `refinement study: ${study.physics} ${study.dim}D+t, order ${study.order}, final time ${study.finalTime.toPrecision(4)}`,
-    line(head),
-    ...rows.map(line),
+    [...COLUMNS.map((c) => c.head.padStart(c.width)), 'solver'].join('  '),
   ].join('\n');
+}
+
+/** One finished mesh as a table row. */
+export function formatStudyRow(r: RefinementRow): string {
+  const solver = r.iterations !== undefined ? `${r.solver} (${r.iterations} it)` : r.solver;
+  return [...COLUMNS.map((c) => c.cell(r).padStart(c.width)), solver].join('  ');
+}
+
+/** The failure line of a study that stopped. */
+export function formatStudyFailure(f: { cells: number[]; message: string }): string {
+  return `refinement stopped: the ${f.cells.join('×')}-cell mesh failed: ${f.message}; the rows above are the meshes that finished`;
+}
+
+/** Fixed-width table of a refinement study (what the command prints row by row). */
+export function formatStudy(study: RefinementStudy): string {
+  const lines = [formatStudyHead(study), ...study.rows.map(formatStudyRow)];
+  if (study.failure) lines.push(formatStudyFailure(study.failure));
+  return lines.join('\n');
 }
 
 export function registerRefine(program: Command): void {
@@ -48,8 +69,13 @@ export function registerRefine(program: Command): void {
     .addHelpText('after', `
 The case must have an exact solution: advection with a constant velocity, advection-diffusion
 with a constant velocity and the default initial condition, or acoustics whose initial pressure
-depends on x only (the default is a plane wave). Each mesh is solved slab by slab (block forward
-substitution or dense LU for small slabs, else GMRES + block ILU(0) to 1e-12).
+depends on x only (the default is a plane wave). Each mesh is solved slab by slab, the inflow
+coming from the previous slab's solution: block forward substitution when the slab is
+triangular, dense LU for small slabs, banded LU when the band (element order or reverse
+Cuthill-McKee) is small enough, else GMRES + block ILU(0) to 1e-12 on the slab. Rows are
+printed as each mesh finishes (--json: one document at the end). A mesh whose slab solve fails
+stops the study: the finished rows stay, a last line names the mesh and why, and the exit code
+is 1.
 
 Examples:
   slabbench refine --physics advection --dim 1 --order 2 --sizes 8,16,32,64
@@ -78,11 +104,15 @@ Examples:
       // Start the study at the first size so the default final time comes from the coarsest mesh.
       const first = { ...base, cells: base.cells.map((c) => Math.max(1, Math.round((sizes[0] * c) / base.cells[0]))) };
       const json = opts.json === true;
-      const onRow = !json && process.stderr.isTTY
-        ? (r: RefinementRow): void => { process.stderr.write(`  ${r.cells.join('×')}: error ${r.error.toExponential(3)} (${r.seconds.toFixed(1)} s)\n`); }
-        : undefined;
-      const study = runRefinementStudy(first, sizes, { finalTime, onRow });
+      const study = runRefinementStudy(first, sizes, json ? { finalTime } : {
+        finalTime,
+        onStart: (head) => { process.stdout.write(`${formatStudyHead(head)}\n`); },
+        onRow: (r: RefinementRow) => { process.stdout.write(`${formatStudyRow(r)}\n`); },
+      });
       if (json) process.stdout.write(`${JSON.stringify({ schema: 'slabbench-refine/1', ...study, params: first }, null, 2)}\n`);
-      else process.stdout.write(`${formatStudy(study)}\n`);
+      if (study.failure) {
+        process.stderr.write(`slabbench: refine: the ${study.failure.cells.join('×')}-cell mesh failed: ${study.failure.message}\n`);
+        process.exitCode = EXIT.failed;
+      }
     });
 }

@@ -1,11 +1,12 @@
 import { UserError } from '../util/errors.js';
 import { generateWithDiscretization, resolveGenerator, type GeneratorParams } from './generate.js';
 import { spaceTimeL2Error } from './projection.js';
-import { solveBySlabs } from './slab-solve.js';
+import { solveBySlabs, type SlabSolveOptions } from './slab-solve.js';
 
 /**
  * Refinement study for a linear case with an exact solution: for each mesh size, generate, solve
- * (slab-by-slab direct solve, or tight GMRES for large slabs), and measure the space-time L²
+ * slab by slab (solveBySlabs: forward substitution, dense or banded LU, or tight GMRES + block
+ * ILU(0) per slab), and measure the space-time L²
  * error ‖u_h − u‖ over Ω×(0, T). The final time T is held fixed: the slab thickness follows the
  * case's CFL number (or scales with h when a thickness was given) and is rounded so an integer
  * number of slabs fills (0, T). Observed order between successive sizes:
@@ -23,7 +24,11 @@ export interface RefinementRow {
   error: number;
   /** Observed order against the previous row (null on the first). */
   observedOrder: number | null;
+  /** Slab methods used, joined by '+' (see solveBySlabs). */
   solver: string;
+  /** Slabs solved by each method. */
+  slabMethods: Record<string, number>;
+  /** GMRES iterations summed over the slabs solved iteratively. */
   iterations?: number;
   seconds: number;
 }
@@ -33,7 +38,10 @@ export interface RefinementStudy {
   dim: number;
   order: number;
   finalTime: number;
+  /** The finished meshes, in order (all of them unless failure is set). */
   rows: RefinementRow[];
+  /** The mesh whose solve failed, and why; the study stops there. */
+  failure?: { cells: number[]; message: string };
 }
 
 /** Parameters of size `size` (cells along axis 0; other axes keep the base aspect ratio). */
@@ -52,7 +60,15 @@ export function refinedParams(base: GeneratorParams, size: number, finalTime: nu
 
 export function runRefinementStudy(
   base: GeneratorParams, sizes: number[],
-  opts: { finalTime?: number; onRow?: (row: RefinementRow) => void } = {},
+  opts: {
+    finalTime?: number;
+    /** Called once the sizes are checked, before the first mesh is solved. */
+    onStart?: (study: { physics: string; dim: number; order: number; finalTime: number }) => void;
+    /** Called as each mesh finishes. */
+    onRow?: (row: RefinementRow) => void;
+    /** Options of the slab solve (limits of the direct solves, the iterative recipe). */
+    slabSolve?: SlabSolveOptions;
+  } = {},
 ): RefinementStudy {
   if (sizes.length < 2) throw new UserError('refinement study: give at least two mesh sizes');
   for (let i = 1; i < sizes.length; i++) {
@@ -65,14 +81,18 @@ export function runRefinementStudy(
   }
   const finalTime = opts.finalTime ?? baseResolved.finalTime;
   if (!(finalTime > 0)) throw new UserError(`refinement study: final time must be > 0, got ${finalTime}`);
+  // Every mesh's parameters and size limits are checked before the first one is built.
+  const allParams = sizes.map((size) => refinedParams(base, size, finalTime));
+  for (const p of allParams) resolveGenerator(p, (f) => `refinement study, ${p.cells.join('×')} cells: ${f}`);
+  const head = { physics: base.physics, dim: base.dim, order: base.order, finalTime };
+  opts.onStart?.(head);
   const rows: RefinementRow[] = [];
-  for (const size of sizes) {
+  for (const params of allParams) {
     const t0 = performance.now();
-    const params = refinedParams(base, size, finalTime);
     const { system, disc } = generateWithDiscretization(params);
-    const solved = solveBySlabs(system.bsr, system.rhs, system.layout.slabOffsets as number[]);
-    if (solved.converged === false) {
-      throw new UserError(`refinement study: the iterative solve did not converge for ${params.cells.join('×')} cells (relative residual ${solved.relativeResidual?.toExponential(2)})`);
+    const solved = solveBySlabs(system.bsr, system.rhs, system.layout.slabOffsets as number[], opts.slabSolve);
+    if (!solved.converged) {
+      return { ...head, rows, failure: { cells: params.cells, message: solved.failure?.message ?? 'the slab solve did not converge' } };
     }
     const exact = disc.physics.exact!;
     const error = spaceTimeL2Error(disc.mesh, params.order, disc.physics.nEquations, disc.ordering.inv, solved.x, exact);
@@ -89,11 +109,12 @@ export function runRefinementStudy(
       error,
       observedOrder: prev ? Math.log(prev.error / error) / Math.log(prev.h / h) : null,
       solver: solved.method,
+      slabMethods: { ...solved.slabMethods },
       seconds: (performance.now() - t0) / 1000,
     };
     if (solved.iterations !== undefined) row.iterations = solved.iterations;
     rows.push(row);
     opts.onRow?.(row);
   }
-  return { physics: base.physics, dim: base.dim, order: base.order, finalTime, rows };
+  return { ...head, rows };
 }

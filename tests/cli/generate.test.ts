@@ -86,7 +86,7 @@ describe('slabbench refine', () => {
     expect(r.code).toBe(0);
     const lines = r.stdout.trim().split('\n');
     expect(lines[0]).toMatch(/^refinement study: advection 1D\+t, order 1, final time/);
-    expect(lines[1]).toMatch(/cells\s+h\s+slabs\s+elements\s+unknowns\s+L2 error\s+order\s+solver/);
+    expect(lines[1]).toMatch(/cells\s+h\s+slabs\s+elements\s+unknowns\s+L2 error\s+order\s+seconds\s+solver/);
     expect(lines).toHaveLength(5);
     const orders = lines.slice(3).map((l) => Number(l.trim().split(/\s+/)[6]));
     for (const o of orders) expect(o).toBeGreaterThan(1.5); // ≥ p + 1/2 (Johnson & Pitkäranta 1986)
