@@ -1,7 +1,8 @@
 import type { Command } from 'commander';
 import { basename } from 'node:path';
 import type { Csr, Layout } from '../sparse/types.js';
-import { readMatrixMarket, writeMatrixMarket, readMatrixMarketVector, writeMatrixMarketVector } from '../sparse/matrix-market.js';
+import { readMatrixFile } from '../sparse/read-matrix.js';
+import { writeMatrixMarket, readMatrixMarketVector, writeMatrixMarketVector } from '../sparse/matrix-market.js';
 import { layoutPathFor, readLayout, readLayoutFor, writeLayout, checkLayoutFits } from '../sparse/layout.js';
 import { permuteCsrBlocks, permuteVectorBlocks } from '../sparse/permute.js';
 import { UserError, optionError } from '../util/errors.js';
@@ -48,7 +49,7 @@ export async function convertMatrix(input: string, output: string, opts: Convert
   if (nPermOptions > 1) throw optionError('--permute', 'use only one of --permute, --reverse-blocks and --shuffle-blocks');
   if ((opts.rhs === undefined) !== (opts.rhsOut === undefined)) throw optionError('--rhs', '--rhs and --rhs-out go together');
 
-  const { header, csr } = await readMatrixMarket(input, {
+  const { header, csr, fileBlockSize } = await readMatrixFile(input, {
     duplicates: opts.rejectDuplicates ? 'reject' : 'sum',
     allowNonFinite: opts.allowNonFinite ?? false,
   });
@@ -57,7 +58,7 @@ export async function convertMatrix(input: string, output: string, opts: Convert
   if (layout !== undefined && opts.blockSize !== undefined && opts.blockSize !== layout.blockSize) {
     throw optionError('--block-size', `${opts.blockSize} disagrees with blockSize ${layout.blockSize} in ${layoutSource}`);
   }
-  const bs = layout?.blockSize ?? opts.blockSize;
+  const bs = layout?.blockSize ?? opts.blockSize ?? fileBlockSize;
   if (layout !== undefined) checkLayoutFits(layout, csr.nRows, csr.nCols, layoutSource);
 
   let perm: Int32Array | undefined;
@@ -128,7 +129,7 @@ export function registerConvert(program: Command): void {
   program
     .command('convert')
     .description('Rewrite a Matrix Market file as coordinate real general (symmetry expanded), optionally with a block permutation.')
-    .argument('<in>', 'matrix to read (.mtx or .mtx.gz; any field, symmetry or format slabbench reads)')
+    .argument('<in>', 'matrix to read (.mtx or .mtx.gz, any field, symmetry or format slabbench reads; or a scipy.sparse .npz)')
     .argument('<out>', 'matrix to write (.mtx, or .mtx.gz to compress); its layout sidecar is written beside it')
     .option('--permute <file>', 'reorder block rows and columns: one 0-based OLD block row index per line, line i giving new block row i')
     .option('--reverse-blocks', 'reverse the block order (turns a downstream order into an upstream one)')

@@ -115,6 +115,7 @@ export function formatInspectReport(r: InspectReport): string {
   const b = r.blockSize;
   const source = b.source === 'layout' ? `from layout ${b.layoutFile}`
     : b.source === 'option' ? 'from --block-size'
+      : b.source === 'file' ? 'stored in the file (bsr blocks)'
       : b.source === 'detected' ? 'detected from the pattern' : 'no blocks found (scalar)';
   const det = b.detected;
   const detText = b.source === 'detected' || b.source === 'none' ? ''
