@@ -38,7 +38,7 @@ export interface SlabSolveOutcome {
 }
 
 export const REFINE_RECIPE: Recipe = {
-  ...DEFAULT_RECIPE, name: 'refine-slab-gmres-bilu0', krylov: 'gmres', preconditioner: 'block-ilu0',
+  ...DEFAULT_RECIPE, name: 'refine-slab-gmres-block-ilu0', krylov: 'gmres', preconditioner: 'block-ilu0',
   restart: 60, rtol: 1e-12, maxIterations: 5000,
 };
 
@@ -134,7 +134,7 @@ export function solveBySlabs(
             x, method: methodName(counts), slabMethods: counts, iterations, relativeResidual: worstResidual, converged: false,
             failure: {
               slab: s,
-              message: `slab ${s + 1} of ${nSlabs} (${n} unknowns): ${recipe.krylov} + ${recipe.preconditioner} stopped (${String(result.reason)}) ` +
+              message: `slab ${s + 1} of ${nSlabs} (${n} unknowns): ${recipe.krylov} + ${recipe.preconditioner} stopped (${result.cause}) ` +
                 `after ${result.iterations} iterations at relative residual ${result.trueRelativeResidual.toExponential(2)} (target ${recipe.rtol})`,
             },
           };

@@ -71,8 +71,8 @@ describe('parseSuite', () => {
     ['duplicate matrix', (s) => { s.matrices[1].name = 'm1'; }, 'suite.json: matrices[1].name: duplicate matrix name "m1" (also matrices[0])'],
     ['both file and generate', (s) => { s.matrices[0].generate = { size: 3 }; }, 'suite.json: matrices[0]: expected exactly one of "file"'],
     ['neither', (s) => { delete s.matrices[0].file; }, 'suite.json: matrices[0]: expected exactly one of "file"'],
-    ['file type', (s) => { s.matrices[0].file = 7; }, 'suite.json: matrices[0].file: expected a path to a .mtx or .mtx.gz file, got 7'],
-    ['file extension', (s) => { s.matrices[0].file = 'a.txt'; }, 'suite.json: matrices[0].file: expected a path ending in .mtx or .mtx.gz, got "a.txt"'],
+    ['file type', (s) => { s.matrices[0].file = 7; }, 'suite.json: matrices[0].file: expected a path to a .mtx, .mtx.gz or .npz file, got 7'],
+    ['file extension', (s) => { s.matrices[0].file = 'a.txt'; }, 'suite.json: matrices[0].file: expected a path ending in .mtx, .mtx.gz or .npz, got "a.txt"'],
     ['rhs type', (s) => { s.matrices[0].rhs = false; }, 'suite.json: matrices[0].rhs: expected a path to a Matrix Market vector, got false'],
     ['blockSize zero', (s) => { s.matrices[0].blockSize = 0; }, 'suite.json: matrices[0].blockSize: expected an integer from 1 to 4096, got 0'],
     ['blockSize fraction', (s) => { s.matrices[0].blockSize = 2.5; }, 'suite.json: matrices[0].blockSize: expected an integer from 1 to 4096, got 2.5'],
@@ -143,7 +143,7 @@ describe('committed suites', () => {
     expect(demo.matrices.every((m) => m.note?.includes('invented'))).toBe(true);
     const ci = await loadSuite(fileURLToPath(new URL('../../matrices/ci/suite.json', import.meta.url)));
     expect(ci.matrices.map((m) => m.kind)).toEqual(['file', 'file', 'file']);
-    expect(ci.recipes.map((r) => r.name)).toEqual(['gmres-bjacobi', 'gmres-bgs-sym', 'gmres-bilu0-down', 'fgmres-slab-loose']);
+    expect(ci.recipes.map((r) => r.name)).toEqual(['gmres-block-jacobi', 'gmres-block-gs-symmetric', 'gmres-block-ilu0-downstream', 'fgmres-slab-loose']);
   });
 
   it('every demo case has a committed copy built from exactly its suite parameters', async () => {
