@@ -1,0 +1,139 @@
+// The README's example outputs against a run of the same command: deterministic figures only
+// (counts, iterations, causes, errors, bytes), never times. Columns are found by their heads, so a
+// column added or moved elsewhere does not break the comparison; a checked column or line that
+// disappears from either side does.
+import { describe, it, expect } from 'vitest';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { runCli } from './cli-helpers.js';
+
+const root = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
+const readme = readFileSync(join(root, 'README.md'), 'utf8');
+
+/** The lines of the fenced block whose first line is `$ COMMAND` (the command line excluded). */
+function exampleAfter(commandPrefix: string): { command: string; lines: string[] } {
+  const blocks = readme.split('```');
+  for (let i = 1; i < blocks.length; i += 2) {
+    const lines = blocks[i].split('\n').slice(1); // drop the info string
+    const k = lines.findIndex((l) => l.startsWith(`$ ${commandPrefix}`));
+    if (k >= 0) return { command: lines[k].slice(2), lines: lines.slice(k + 1).filter((l) => l.trim() !== '') };
+  }
+  throw new Error(`README has no example block starting with "$ ${commandPrefix}"`);
+}
+
+/** The fenced block that contains a line starting with `marker`. */
+function blockWith(marker: string): string[] {
+  const blocks = readme.split('```');
+  for (let i = 1; i < blocks.length; i += 2) {
+    const lines = blocks[i].split('\n').slice(1);
+    if (lines.some((l) => l.startsWith(marker))) return lines.filter((l) => l.trim() !== '');
+  }
+  throw new Error(`README has no block with a line starting with "${marker}"`);
+}
+
+const cells = (line: string): string[] => line.trim().split(/\s{2,}/);
+
+/** Rows of a table as head → cell maps (head line found by its first head). */
+function table(lines: string[], firstHead: string, keyHead: string): Map<string, Map<string, string>> {
+  const h = lines.findIndex((l) => l.trim().startsWith(firstHead));
+  expect(h, `table with head "${firstHead}"`).toBeGreaterThanOrEqual(0);
+  const heads = cells(lines[h]);
+  const out = new Map<string, Map<string, string>>();
+  for (const line of lines.slice(h + 1)) {
+    if (/^[\s─]*$/.test(line)) continue;
+    const c = cells(line);
+    if (c.length !== heads.length) continue; // notes and footers
+    const row = new Map(heads.map((name, j) => [name, c[j]]));
+    out.set(row.get(keyHead)!, row);
+  }
+  return out;
+}
+
+function compareTables(
+  doc: Map<string, Map<string, string>>, run: Map<string, Map<string, string>>, checked: string[], what: string,
+): void {
+  expect(doc.size, `${what}: README rows`).toBeGreaterThan(0);
+  for (const [key, row] of doc) {
+    const got = run.get(key);
+    expect(got, `${what}: row ${key} missing from the run`).toBeDefined();
+    let compared = 0;
+    for (const col of checked) {
+      if (!row.has(col) || !got!.has(col)) continue;
+      expect(got!.get(col), `${what}: ${key}, column ${col}`).toBe(row.get(col));
+      compared++;
+    }
+    expect(compared, `${what}: ${key}: no checked column in both`).toBeGreaterThan(0);
+  }
+}
+
+/** Label → cells of "label  value  value" lines (the estimate and inspect layouts). */
+function labelled(lines: string[]): Map<string, string[]> {
+  const out = new Map<string, string[]>();
+  for (const l of lines) {
+    const c = cells(l);
+    if (c.length >= 2 && !out.has(c[0])) out.set(c[0], c.slice(1));
+  }
+  return out;
+}
+
+/** Command-line words (the README commands use no quoting). */
+const words = (command: string): string[] => command.trim().split(/\s+/).slice(1);
+
+describe('README examples match a run (deterministic figures)', () => {
+  it('estimate: every line of the example', async () => {
+    const ex = exampleAfter('slabbench estimate');
+    const r = await runCli(words(ex.command));
+    expect(r.code).toBe(0);
+    const got = r.stdout.split('\n').filter((l) => l.trim() !== '');
+    const doc = labelled(ex.lines), run = labelled(got);
+    expect(doc.size).toBeGreaterThan(10);
+    for (const [label, values] of doc) expect(run.get(label), `estimate: ${label}`).toEqual(values);
+    // the title lines (basis functions, block size, block-count note)
+    for (const line of ex.lines.slice(0, 3)) expect(got).toContain(line);
+  });
+
+  it('refine: cells, h, slabs, sizes, L2 errors, orders and solvers of the first two meshes', async () => {
+    for (const prefix of ['slabbench refine --physics advection ', 'slabbench refine --physics advection-diffusion ']) {
+      const ex = exampleAfter(prefix);
+      // the first two sizes only (each mesh is independent; the final time comes from the first)
+      const args = words(ex.command);
+      const k = args.indexOf('--sizes');
+      args[k + 1] = args[k + 1].split(',').slice(0, 2).join(',');
+      const r = await runCli(args);
+      expect(r.code).toBe(0);
+      const got = r.stdout.split('\n');
+      expect(got[0]).toBe(ex.lines[0]);
+      const doc = table(ex.lines, 'cells', 'cells');
+      const run = table(got, 'cells', 'cells');
+      for (const key of [...doc.keys()].slice(2)) doc.delete(key);
+      compareTables(doc, run, ['h', 'slabs', 'elements', 'unknowns', 'L2 error', 'order', 'solver'], prefix);
+    }
+  });
+
+  it('inspect: the figures of the corridor-smoke example', async () => {
+    const ex = exampleAfter('npx slabbench inspect');
+    const r = await runCli(words(ex.command.replace(/^npx /, '')));
+    expect(r.code).toBe(0);
+    const doc = labelled(ex.lines), run = labelled(r.stdout.split('\n'));
+    for (const label of ['size', 'blocks', 'slabs (layout)', 'storage BSR']) expect(doc.has(label), `README inspect line ${label}`).toBe(true);
+    for (const [label, values] of doc) expect(run.get(label), `inspect: ${label}`).toEqual(values);
+  });
+
+  it('quick start: the stirred-tank table (iterations, restarts, cause, memory)', async () => {
+    const lines = blockWith('stirred-tank');
+    const out = mkdtempSync(join(tmpdir(), 'slabbench-readme-'));
+    try {
+      const r = await runCli(['sweep', join(root, 'matrices', 'suite.json'), '--only-matrix', 'stirred-tank', '--no-report', '--out', out]);
+      expect(r.code).toBe(0);
+      const got = r.stdout.split('\n');
+      const i = got.findIndex((l) => l.startsWith('stirred-tank'));
+      expect(got[i]).toBe(lines[0]);
+      const doc = table(lines, 'rank', 'recipe'), run = table(got.slice(i), 'rank', 'recipe');
+      compareTables(doc, run, ['iters', 'restarts', 'cause', 'memory'], 'stirred-tank');
+    } finally {
+      rmSync(out, { recursive: true, force: true });
+    }
+  });
+});
