@@ -12,7 +12,8 @@
 import { totalmem } from 'node:os';
 import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { OrderingName, Recipe } from '../solvers/recipe.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
+import { addWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
 import type { Bsr } from '../sparse/types.js';
 import { permuteBsr } from '../sparse/permute.js';
 import { fillPattern } from '../sparse/fill-levels.js';
@@ -36,6 +37,8 @@ export class BlockIlukPreconditioner implements Preconditioner {
   private ready = false;
   private blocksPerLevel: number[] = [];
   private nFactorBlocks = 0;
+  private copyWork: WorkCounts = zeroWork();
+  private applies = 0;
 
   constructor(
     private readonly system: SystemMatrix, private readonly ordering: OrderingName,
@@ -48,6 +51,9 @@ export class BlockIlukPreconditioner implements Preconditioner {
   setup(): SetupOutcome {
     const a = this.system.bsr;
     const bs = a.bs, bb = bs * bs;
+    this.applies = 0;
+    this.inner = null;
+    this.ready = false;
     const perm = orderingPermutation(a, this.ordering, this.system.slabOffsets);
     this.perm = perm;
     const ap = perm ? permuteBsr(a, perm) : a;
@@ -69,10 +75,15 @@ export class BlockIlukPreconditioner implements Preconditioner {
         values.set(ap.values.subarray(p * bb, (p + 1) * bb), q * bb);
       }
     }
+    // data movement of setup (the elimination itself is block-ilu0's count): the reordered copy
+    // of A (read + write), and zero-filling then scattering into the extended pattern
+    const nA = a.rowPtr[a.nBlockRows]!;
+    this.copyWork = kernel(0, (perm ? 2 * nA * bb * 8 : 0) + values.length * 8 + 2 * nA * bb * 8);
     const extended: Bsr = { nBlockRows: ap.nBlockRows, nBlockCols: ap.nBlockCols, bs, rowPtr: pat.rowPtr, colInd: pat.colInd, values };
     // block-ilu0 reads only the block view
     const inner = new BlockIlu0Preconditioner({ bsr: extended } as SystemMatrix, 'natural', this.shift);
     const out = inner.setup();
+    this.inner = inner;
     this.blocksPerLevel = pat.blocksPerLevel;
     this.nFactorBlocks = pat.rowPtr[ap.nBlockRows]!;
     if (!out.ok) {
@@ -80,7 +91,6 @@ export class BlockIlukPreconditioner implements Preconditioner {
       const blockRow = out.blockRow !== undefined && perm ? perm[out.blockRow]! : out.blockRow;
       return { ...out, blockRow, message: out.message.replace(/^block-ilu0/, 'block-iluk').replace(/block row (\d+)/, () => `block row ${blockRow}`) };
     }
-    this.inner = inner;
     this.rp = new Float64Array(perm ? this.n : 0);
     this.zp = new Float64Array(perm ? this.n : 0);
     this.ready = true;
@@ -90,11 +100,22 @@ export class BlockIlukPreconditioner implements Preconditioner {
   apply(r: Float64Array, z: Float64Array): void {
     checkApplyArgs(this.name, this.n, r, z);
     checkReady(this.name, this.ready);
+    this.applies++;
     const inner = this.inner!;
     if (this.perm === null) { inner.apply(r, z); return; }
     gatherBlocks(r, this.perm, this.bs, this.rp);
     inner.apply(this.rp, this.zp);
     scatterBlocks(this.zp, this.perm, this.bs, z);
+  }
+
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    const inner = this.inner?.work() ?? { setup: zeroWork(), apply: zeroWork() };
+    const setup = addWork({ ...inner.setup }, this.copyWork);
+    const apply = { ...inner.apply };
+    if (this.perm) addWork(apply, scaledWork(vectorWork.permute(this.system.bsr.nBlockRows, this.bs), 2 * this.applies));
+    // the inner applies are this method's own
+    apply.preconditionerApplies = this.applies;
+    return { setup, apply };
   }
 
   /** Factors on the (renumbered) level-k pattern, row by row, as block-ilu0's factorValues(). */

@@ -107,6 +107,20 @@ describe('block ILU(k) preconditioner', () => {
     expect(k0.stats().fillRatio).toBe(1);
   });
 
+  it('counts the work of block ILU(0) on the same pattern, plus the copies of setup', () => {
+    const k0 = new BlockIlukPreconditioner(systemOf(a), 'natural', 0, 0);
+    const i0 = new BlockIlu0Preconditioner(systemOf(a), 'natural', 0);
+    k0.setup(); i0.setup();
+    const r = randomVector(90, 2), z = new Float64Array(90);
+    for (let t = 0; t < 3; t++) { k0.apply(r, z); i0.apply(r, z); }
+    const wk = k0.work(), wi = i0.work();
+    expect(wk.apply).toEqual(wi.apply);
+    expect(wk.setup.flops).toBe(wi.setup.flops);
+    // natural order: zero-fill of the extended values (k blocks·bs²·8) + scatter of A (read + write)
+    const blocks = a.rowPtr[30]!, bb = 9;
+    expect(wk.setup.bytes - wi.setup.bytes).toBe(blocks * bb * 8 + 2 * blocks * bb * 8);
+  });
+
   it('k ≥ n is the exact LU: GMRES converges in one iteration', () => {
     expect(solveIterations(a, 30)).toBe(1);
   });
