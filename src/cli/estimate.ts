@@ -81,10 +81,13 @@ export function renderEstimate(e: MemoryEstimate): string {
   bytes('Jacobian (CSR, for jacobi, ilu0)', a.jacobianCsr.total, s.jacobianCsr.total);
   rows.push(['preconditioner', '', '']);
   for (const p of ESTIMATE_PRECONDITIONERS) {
-    if (p === 'none') continue;
+    if (p === 'none' || a.preconditioners[p] === undefined) continue; // block-iluk: needs its fill pattern's block count
     // the slab preconditioner is itself the one-slab-at-a-time strategy: no one-slab figure of its own
     if (p === 'slab') rows.push([`  ${p} (one slab at a time)`, formatBytes(a.preconditioners[p].total), '—']);
-    else bytes(`  ${p}`, a.preconditioners[p].total, s.preconditioners[p].total);
+    else {
+      const one = s.preconditioners[p];
+      rows.push([`  ${p}`, formatBytes(a.preconditioners[p]!.total), one ? formatBytes(one.total) : '—']);
+    }
   }
   rows.push([`Krylov basis (restart ${e.restart})`, '', '']);
   for (const k of ESTIMATE_KRYLOV) bytes(`  ${k}`, a.krylov[k], s.krylov[k]);

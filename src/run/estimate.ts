@@ -37,6 +37,8 @@
  *                   inverted, so no pivots), plus the factor pattern in sweep order: a block
  *                   column index per block, blocks·4, and two row-pointer arrays, 2·(elements+1)·4;
  *                   workspace one block vector, bs·8
+ *      block-iluk   block-ilu0's storage on the level-k factor pattern, given its block count
+ *                   (fillBlocks; the pattern depends on more than the mesh sizes)
  *      slab         one slab at a time with the default inner recipe (GMRES(30) + block ILU(0)):
  *                   the inner block-ilu0 bytes and inner basis 31·n_s·8 of one slab, a buffer for
  *                   one slab's diagonal part (the one-slab BSR bytes) and two slab vectors 2·n_s·8
@@ -68,9 +70,14 @@ export interface EstimateInput {
   periodic?: boolean | boolean[];
   /** Exact number of stored blocks of the whole matrix (overrides the face-count estimate). */
   blocks?: number;
+  /**
+   * Stored blocks of block-iluk's level-k factor pattern for the whole matrix (its
+   * `preconditionerStats.factorBlocks`); without it block-iluk is not projected.
+   */
+  fillBlocks?: number;
 }
 
-export const ESTIMATE_PRECONDITIONERS = ['none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'slab'] as const;
+export const ESTIMATE_PRECONDITIONERS = ['none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab'] as const;
 export type EstimatePreconditioner = (typeof ESTIMATE_PRECONDITIONERS)[number];
 export const ESTIMATE_KRYLOV = ['gmres', 'fgmres', 'bicgstab'] as const;
 export type EstimateKrylov = (typeof ESTIMATE_KRYLOV)[number];
@@ -83,8 +90,13 @@ export interface Footprint {
   jacobian: { values: number; indices: number; total: number };
   /** The Jacobian in CSR (what a solve with jacobi or ilu0 holds instead). */
   jacobianCsr: { values: number; indices: number; total: number };
-  /** Bytes per preconditioner, with the named parts. */
-  preconditioners: Record<EstimatePreconditioner, { total: number; parts: Record<string, number> }>;
+  /**
+   * Bytes per preconditioner, with the named parts. block-iluk is present only when the stored
+   * blocks of its level-k factor pattern are given (EstimateInput.fillBlocks, whole matrix only):
+   * the level-k pattern is not a function of the mesh sizes alone.
+   */
+  preconditioners: Record<Exclude<EstimatePreconditioner, 'block-iluk'>, { total: number; parts: Record<string, number> }>
+    & { 'block-iluk'?: { total: number; parts: Record<string, number> } };
   krylov: Record<EstimateKrylov, number>;
 }
 
@@ -136,7 +148,7 @@ const sum = (p: Record<string, number>): { total: number; parts: Record<string, 
 /** Inner recipe of the slab preconditioner's default (GMRES(30) + block ILU(0)): its restart. */
 const SLAB_INNER_RESTART = 30;
 
-function footprint(elements: number, blocks: number, bs: number, restart: number, slab?: Footprint): Footprint {
+function footprint(elements: number, blocks: number, bs: number, restart: number, slab?: Footprint, fillBlocks?: number): Footprint {
   const n = elements * bs;
   const bb = bs * bs;
   const nnz = blocks * bb;
@@ -145,7 +157,9 @@ function footprint(elements: number, blocks: number, bs: number, restart: number
   const csrIndices = nnz * 4 + (n + 1) * 4;
   const diagInverse = { 'inverse blocks': elements * bb * 8 };
   const m = Math.max(1, Math.min(restart, n));
-  const blockIlu0 = sum({ factors: values, 'factor pattern': blocks * 4 + 2 * (elements + 1) * 4, workspace: bs * 8 });
+  const blockIluOn = (nBlocks: number): { total: number; parts: Record<string, number> } =>
+    sum({ factors: nBlocks * bb * 8, 'factor pattern': nBlocks * 4 + 2 * (elements + 1) * 4, workspace: bs * 8 });
+  const blockIlu0 = blockIluOn(blocks);
   const s = slab; // one slab's footprint (undefined when this is the one-slab footprint itself)
   const ns = s ? s.unknowns : n;
   const mInner = Math.max(1, Math.min(SLAB_INNER_RESTART, ns));
@@ -160,6 +174,8 @@ function footprint(elements: number, blocks: number, bs: number, restart: number
       'block-gs': sum({ ...diagInverse, workspace: (2 * bs + bb) * 8 + bs * 4 }),
       ilu0: sum({ factors: nnz * 8, 'diagonal positions': n * 4 }),
       'block-ilu0': blockIlu0,
+      // block ILU(0) on the level-k pattern (src/precond/block-iluk.ts), natural ordering
+      ...(fillBlocks !== undefined ? { 'block-iluk': blockIluOn(fillBlocks) } : {}),
       slab: sum({
         'inner block-ilu0 (one slab)': (s ? s.preconditioners['block-ilu0'] : blockIlu0).total,
         'inner Krylov basis (one slab)': (mInner + 1) * ns * 8,
@@ -222,6 +238,7 @@ export function estimateMemory(input: EstimateInput): MemoryEstimate {
     slabBlocks = slabElements * (d + 3);
     source = 'upper-bound';
   }
+  if (input.fillBlocks !== undefined) check(isPosInt(input.fillBlocks), `fillBlocks must be an integer ≥ 1, got ${input.fillBlocks}`);
   if (input.blocks !== undefined) {
     check(isPosInt(input.blocks), `blocks must be an integer ≥ 1, got ${input.blocks}`);
     check(input.blocks >= elements, `blocks (${input.blocks}) must be at least the number of elements (${elements}): one diagonal block each`);
@@ -235,12 +252,14 @@ export function estimateMemory(input: EstimateInput): MemoryEstimate {
   const slab = footprint(slabElements, slabBlocks, bs, restart);
   return {
     spaceDim: d, order: p, equations, nBasis, bs, slabs, restart, blockCountSource: source,
-    allAtOnce: footprint(elements, blocks, bs, restart, slab),
+    allAtOnce: footprint(elements, blocks, bs, restart, slab, input.fillBlocks),
     slab,
   };
 }
 
 /** Jacobian + preconditioner + Krylov basis: what one solve holds at its peak. */
 export function peakBytes(f: Footprint, preconditioner: EstimatePreconditioner, krylov: EstimateKrylov): number {
-  return jacobianBytes(f, preconditioner) + f.preconditioners[preconditioner].total + f.krylov[krylov];
+  const p = f.preconditioners[preconditioner];
+  if (!p) throw new RangeError(`peakBytes: no projection for ${preconditioner} (block-iluk needs fillBlocks)`);
+  return jacobianBytes(f, preconditioner) + p.total + f.krylov[krylov];
 }

@@ -147,11 +147,12 @@ describe('estimate: preconditioner factors and Krylov basis against measured buf
 
   it('preconditioner bytes match what each preconditioner reports (workspace included)', () => {
     for (const name of ESTIMATE_PRECONDITIONERS) {
+      if (name === 'block-iluk') continue; // needs its fill pattern's block count: tests/run/estimate-generated.test.ts
       const M = createPreconditioner(system, recipe({ preconditioner: name }));
       expect(M.setup().ok, name).toBe(true);
       // ilu0 shares the row pointers and column indices of A's CSR: they count as the Jacobian (CSR)
       const measured = without(M.memory(), '');
-      expect(measured, name).toBe(e.allAtOnce.preconditioners[name].total);
+      expect(measured, name).toBe(e.allAtOnce.preconditioners[name]!.total);
     }
     expect(e.allAtOnce.jacobianCsr.total).toBe(system.csr.values.byteLength + system.csr.colInd.byteLength + system.csr.rowPtr.byteLength);
   });
