@@ -16,6 +16,7 @@ import { appendHistory, historyEntry } from './history.js';
 import type { MatrixInfo, ResultsDoc, RunRecord } from './results-types.js';
 import { environment, newResultsDoc, writeResults } from './results.js';
 import { executeTask, type RunTask, type TaskCache, type TaskDone, type TaskMatrix } from './run-task.js';
+import { recordedRecipe } from '../solvers/recipe.js';
 import { shardPairs, type ShardSpec } from './shard.js';
 import { canonicalJson, selectFromSuite, shortHash, type GeneratedMatrixEntry, type Suite, type SuiteMatrix } from './suite.js';
 
@@ -136,7 +137,7 @@ function startWorker(depsModule: string): Worker {
 }
 
 function failedRecord(task: RunTask, error: string): TaskDone {
-  return { id: task.id, record: { matrix: task.matrix.name, recipe: task.recipe.name, recipeParams: task.recipe, error } };
+  return { id: task.id, record: { matrix: task.matrix.name, recipe: task.recipe.name, recipeParams: recordedRecipe(task.recipe), error } };
 }
 
 /** Run tasks on up to `jobs` workers; resolves true when interrupted. */

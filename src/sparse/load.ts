@@ -12,7 +12,10 @@ export { systemFromMatrix } from './system.js';
  * or pattern detection. A layout and `--block-size` that disagree are an error, not a silent choice.
  */
 export async function loadSystem(mtxPath: string, opts: LoadOptions = {}): Promise<LoadedSystem> {
-  const { header, csr } = await readMatrixMarket(mtxPath, opts.duplicates ? { duplicates: opts.duplicates } : {});
+  const { header, csr } = await readMatrixMarket(mtxPath, {
+    ...(opts.duplicates ? { duplicates: opts.duplicates } : {}),
+    ...(opts.allowNonFinite ? { allowNonFinite: true } : {}),
+  });
   let layout: Layout | undefined;
   let layoutPath: string | undefined;
   if (opts.layoutPath !== undefined) {
