@@ -11,7 +11,7 @@ import { solveSystem } from '../solvers/run-recipe.js';
 import type { SolveResult } from '../solvers/types.js';
 import { EXIT, fileError, optionError } from '../util/errors.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
-import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
+import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull, plural } from '../report/format.js';
 
 /** What each recipe option means (the accepted values come from the recipe validator). */
 const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
@@ -81,9 +81,13 @@ export function formatSolveReport(rep: SolveReport): string {
   const row = (label: string, text: string): void => { lines.push(`  ${label.padEnd(15)}${text}`); };
   const m = rep.matrix;
   lines.push(`${m.file}: ${m.n} × ${m.n}, ${m.nnz} nonzeros, block size ${m.bs} (${m.blockSizeSource})${m.nSlabs ? `, ${m.nSlabs} slabs` : ''}`);
-  row('recipe', `${recipeText(rep.recipe)}; rtol ${rep.recipe.rtol}${rep.recipe.atol ? `, atol ${rep.recipe.atol}` : ''}, at most ${rep.recipe.maxIterations} iterations`);
-  row('result', `${rep.reason} after ${rep.iterations} iteration${rep.iterations === 1 ? '' : 's'} (${rep.restarts} restart${rep.restarts === 1 ? '' : 's'})`);
-  if (rep.failure) row('failure', `${rep.failure.message}${rep.failure.blockRow !== undefined ? ` [block row ${rep.failure.blockRow}]` : ''}`);
+  row('recipe', `${recipeText(rep.recipe)}; rtol ${rep.recipe.rtol}${rep.recipe.atol ? `, atol ${rep.recipe.atol}` : ''}, at most ${plural(rep.recipe.maxIterations, 'iteration')}`);
+  row('result', `${rep.reason} after ${plural(rep.iterations, 'iteration')} (${plural(rep.restarts, 'restart')})`);
+  if (rep.failure) {
+    const f = rep.failure;
+    const named = f.blockRow === undefined || f.message.includes(`block row ${f.blockRow}`);
+    row('failure', `${f.message}${named ? '' : ` [block row ${f.blockRow}]`}`);
+  }
   const base = rep.baseline === 'rhs' ? '‖b‖' : '‖r₀‖';
   const monitored = rep.monitored === 'true' ? 'true residual' : 'preconditioned residual ‖M⁻¹r‖';
   row('residual', `true ‖b − Ax‖/${base} = ${num(rep.trueRelativeResidual)}; monitored: ${monitored}, last ${num(rep.history[rep.history.length - 1])}`);
@@ -91,7 +95,7 @@ export function formatSolveReport(rep: SolveReport): string {
   if (rep.errorVsOnes) row('error', `b = A·1: max |x − 1| = ${num(rep.errorVsOnes.max)}, ‖x − 1‖/‖1‖ = ${num(rep.errorVsOnes.relative2)}`);
   const t = rep.timing;
   row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
-    + (t.preconditionerApplications > 0 ? ` (${t.preconditionerApplications} preconditioner application${t.preconditionerApplications === 1 ? '' : 's'}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
+    + (t.preconditionerApplications > 0 ? ` (${plural(t.preconditionerApplications, 'preconditioner application')}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
   const mem = rep.memory;
   row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
   if (rep.ritz && rep.ritz.re.length > 0) {

@@ -1,7 +1,7 @@
 import { scaleLinear } from 'd3-scale';
 import { symbol, symbolsFill } from 'd3-shape';
 import {
-  attrs, AXIS_COLOR, emptyPlot, esc, GRID_COLOR, legend, legendWidth, LEGEND_ROW, num, seriesStyle, svgOpen, text,
+  attrs, AXIS_COLOR, emptyPlot, esc, GRID_COLOR, legend, legendWidth, LEGEND_ROW, markerPaint, num, seriesStyle, svgOpen, text,
   tickLabel, type LegendEntry,
 } from './common.js';
 
@@ -32,7 +32,7 @@ export function ritzPlot(input: RitzPlotInput): string {
   const series = input.series.filter((s) => s.re.length > 0);
   const entries: LegendEntry[] = series.map((s) => ({
     name: s.name, style: seriesStyle(s.colorIndex), note: `${s.re.length} values`,
-    marker: symbol(symbolsFill[seriesStyle(s.colorIndex).symbol], MARKER_AREA)() ?? undefined,
+    markerOnly: true,
   }));
   const lw = legendWidth(entries);
   const width = M.left + S + M.right + lw + 8;
@@ -82,7 +82,7 @@ export function ritzPlot(input: RitzPlotInput): string {
   for (const ser of series) {
     const st = seriesStyle(ser.colorIndex);
     const d = symbol(symbolsFill[st.symbol], MARKER_AREA)() ?? '';
-    s += `<g${attrs({ 'data-series': ser.name, fill: st.color, 'fill-opacity': 0.8, stroke: '#fff', 'stroke-width': 0.5 })}>`;
+    s += `<g${attrs({ 'data-series': ser.name, ...markerPaint(st), 'fill-opacity': st.hollow ? 1 : 0.8 })}>`;
     for (let i = 0; i < ser.re.length; i++) {
       const a = ser.re[i], b = ser.im[i] ?? 0;
       if (!Number.isFinite(a) || !Number.isFinite(b)) continue;
