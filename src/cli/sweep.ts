@@ -113,7 +113,8 @@ Examples:
         outcome = await runSweep({
           suite, outDir: opts.out, jobs: opts.jobs, shard, onlyMatrix: opts.onlyMatrix, onlyRecipe: opts.onlyRecipe,
           cacheDir: opts.cache, builder, depsModule, signal: ac.signal, warmup: opts.warmup === true,
-          onProgress: bar ? (d, t, label) => bar.update(d, t, label) : undefined,
+          onProgress: bar ? (d, t) => bar.update(d, t, '') : undefined,
+          onStatus: bar ? (label) => bar.status(label) : undefined,
           log: opts.quiet ? undefined : (line) => { bar?.finish(); process.stderr.write(`${line}\n`); },
         });
       } finally {
