@@ -21,7 +21,7 @@ export interface PreconditionerInfo {
   /**
    * The recipe fields its factory and setup read, beyond the common ones every recipe uses
    * (krylov, preconditioner and the stopping rule: rtol, atol, maxIterations, divergence,
-   * baseline). A field set explicitly in a recipe that neither this list nor the Krylov method's
+   * relativeTo). A field set explicitly in a recipe that neither this list nor the Krylov method's
    * list (KRYLOV_USES in recipe.ts) contains is rejected, and results record only used fields.
    * Leave it out only while unsure: then nothing is rejected and every field is recorded.
    */

@@ -93,7 +93,7 @@ table.ranked th { text-align: right; font-weight: 600; color: var(--muted); bord
 table.ranked td { text-align: right; border-bottom: 1px solid var(--line); padding: 5px 8px; white-space: nowrap; }
 table.ranked th.text, table.ranked td.text { text-align: left; }
 table.ranked tr.winner td { background: var(--win); font-weight: 600; }
-table.ranked tr.failed td.reason { color: #a3202f; }
+table.ranked tr.failed td.cause { color: #a3202f; }
 .table-wrap { overflow-x: auto; }
 .notes { font-size: 12px; color: var(--muted); margin: 0 0 8px; padding-left: 18px; }
 .status { border-left: 4px solid #a3202f; background: var(--warn); padding: 10px 14px; margin: 16px 0 20px; font-size: 14px; }
@@ -109,8 +109,8 @@ footer { color: var(--muted); font-size: 12px; }
 function tableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): string {
   const { ranked, missing } = rankMatrix(results, matrix, runs);
   const heads = WIDE_COLUMN_TITLES;
-  const textCols = new Set([heads.indexOf('recipe'), heads.indexOf('stop reason')]);
-  const reasonCol = heads.indexOf('stop reason');
+  const textCols = new Set([heads.indexOf('recipe'), heads.indexOf('cause')]);
+  const reasonCol = heads.indexOf('cause');
   let s = '<div class="table-wrap"><table class="ranked"><thead><tr>';
   heads.forEach((h, j) => { s += `<th${textCols.has(j) ? ' class="text"' : ''}>${esc(h)}</th>`; });
   s += '</tr></thead><tbody>';
@@ -118,7 +118,7 @@ function tableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): stri
     const cls = r.winner ? 'winner' : r.converged ? '' : 'failed';
     s += `<tr${cls ? ` class="${cls}"` : ''} data-recipe="${esc(r.run.recipe)}">`;
     rowCells(r).forEach((c, j) => {
-      const klass = [textCols.has(j) ? 'text' : '', j === reasonCol ? 'reason' : ''].filter(Boolean).join(' ');
+      const klass = [textCols.has(j) ? 'text' : '', j === reasonCol ? 'cause' : ''].filter(Boolean).join(' ');
       s += `<td${klass ? ` class="${klass}"` : ''}>${esc(c)}</td>`;
     });
     s += '</tr>';
@@ -190,8 +190,7 @@ function historyFigures(groups: MatrixRuns[], history: HistoryEntry[], color: (n
         const r = e.runs.find((q) => q.matrix === m && q.recipe === name);
         iterations.push(r ? r.iterations : NaN);
         seconds.push(r ? r.setupSeconds + r.solveSeconds : NaN);
-        const outcome = (r as { outcome?: string } | undefined)?.outcome;
-        converged.push(r ? (outcome !== undefined ? outcome === 'solved' : r.reason.startsWith('converged')) : false);
+        converged.push(r ? r.outcome === 'solved' : false);
       }
       return { name, colorIndex: color(name), iterations, seconds, converged };
     });
@@ -254,7 +253,7 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
             colorIndex: color(r.recipe),
             rtol: r.recipeParams?.rtol,
             leftPreconditioned: watchedLeft(res),
-            note: `${res.iterations} it${res.converged ? '' : `, ${res.reason}`}`,
+            note: `${res.iterations} it${res.converged ? '' : `, ${res.cause}`}`,
           };
         }),
       }),

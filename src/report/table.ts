@@ -56,7 +56,7 @@ const COLUMNS: Column[] = [
   { key: 'matvecs', title: 'matvecs', align: 'right', cell: (_r, res) => (res ? count(solveWork(res).matvecs) : dash) },
   { key: 'applies', title: 'applies', align: 'right', cell: (_r, res) => (res ? count(solveWork(res).applies) : dash) },
   { key: 'restarts', title: 'restarts', align: 'right', cell: (_r, res) => (res ? count(res.restarts) : dash), wideOnly: true },
-  { key: 'reason', title: 'stop reason', align: 'left', cell: (_r, res) => (res ? res.reason : 'not run') },
+  { key: 'cause', title: 'cause', align: 'left', cell: (_r, res) => (res ? res.cause : 'not run') },
   {
     key: 'residual', title: 'true res.', align: 'right',
     cell: (_r, res) => (res ? formatResidual(res.trueRelativeResidual) + (res.residualMismatch ? MISMATCH_MARK : '') : dash),
@@ -177,7 +177,7 @@ function layout(ranked: RankedRun[], width: number): { cols: Column[]; rows: str
 /**
  * One ranked table per matrix for the terminal, laid out for `width` columns (default: the
  * terminal's width, 80 when unknown). Memory is preconditioner + Krylov bytes. With `color`, the
- * winner row is green and stop reasons other than convergence are red. Partial or interrupted
+ * winner row is green and causes of runs that did not solve are red. Partial or interrupted
  * results say so first, and a matrix missing some recipes gets no winner.
  */
 export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean; width?: number } = {}): string {
@@ -196,7 +196,7 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean;
     lines.push(c.dim(INDENT + widths.map((w) => '─'.repeat(w)).join(GAP)));
     ranked.forEach((r, i) => {
       const cells = rows[i].map((cell, j) => pad(cell, widths[j], cols[j].align));
-      const ri = cols.findIndex((col) => col.key === 'reason');
+      const ri = cols.findIndex((col) => col.key === 'cause');
       if (!r.converged && ri >= 0) cells[ri] = c.red(cells[ri]);
       const line = INDENT + cells.join(GAP);
       lines.push(r.winner ? c.green(c.bold(line)) : line);

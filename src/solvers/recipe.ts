@@ -41,15 +41,16 @@ export interface Recipe {
   shift: number;
   /** Block-jacobi diagonal block solve: LU with partial pivoting, or explicit inverse. */
   blockInverse: BlockInverse;
-  /** Stop when ‖r‖ ≤ rtol · baselineNorm … */
+  /** Stop when ‖r‖ ≤ rtol · reference norm (‖b‖ or ‖r₀‖, see relativeTo) … */
   rtol: number;
   /** … or when ‖r‖ ≤ atol (absolute). 0 disables. */
   atol: number;
   /** Maximum total iterations (inner Krylov steps, or stationary steps), whatever the restart. */
   maxIterations: number;
-  /** Stop as diverged when ‖r‖ > divergence · baselineNorm. */
+  /** Stop (residual-growth) when ‖r‖ > divergence · reference norm. */
   divergence: number;
-  baseline: 'rhs' | 'initial-residual';
+  /** What relative residuals divide by: ‖b‖ ('rhs') or ‖r₀‖ ('start-residual'). */
+  relativeTo: 'rhs' | 'start-residual';
   /** Slab preconditioner: how each slab is solved. */
   inner?: Recipe;
 }
@@ -71,7 +72,7 @@ export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
   atol: 0,
   maxIterations: 1000,
   divergence: 1e10,
-  baseline: 'rhs',
+  relativeTo: 'rhs',
 });
 
 // ---------------------------------------------------------------------------------------------
@@ -82,7 +83,7 @@ export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
 export const BLOCK_INVERSES: readonly BlockInverse[] = ['lu', 'inverse'];
 export const PRECONDITION_SIDES: readonly PreconditionSide[] = ['right', 'left'];
 export const ORTHOGONALIZATIONS: readonly Orthogonalization[] = ['mgs', 'cgs2'];
-export const BASELINES: readonly Recipe['baseline'][] = ['rhs', 'initial-residual'];
+export const RELATIVE_TO: readonly Recipe['relativeTo'][] = ['rhs', 'start-residual'];
 
 /** Inner recipe a slab preconditioner uses when none is given: GMRES(30) + block ILU(0) to 1e-10. */
 export const DEFAULT_INNER_RECIPE: Readonly<Recipe> = Object.freeze({
@@ -117,7 +118,7 @@ const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   atol: { kind: 'number', min: 0, minOpen: false },
   maxIterations: { kind: 'int', min: 0, max: 1e9 },
   divergence: { kind: 'number', min: 1, minOpen: true },
-  baseline: { kind: 'enum', values: BASELINES },
+  relativeTo: { kind: 'enum', values: RELATIVE_TO },
 };
 
 function describeSpec(s: FieldSpec): string {
@@ -220,7 +221,7 @@ export type RecipeField = ScalarField | 'inner';
 
 /** Fields every recipe uses whatever its methods: the two choices and the stopping rule. */
 export const COMMON_RECIPE_FIELDS: readonly ScalarField[] = [
-  'krylov', 'preconditioner', 'rtol', 'atol', 'maxIterations', 'divergence', 'baseline',
+  'krylov', 'preconditioner', 'rtol', 'atol', 'maxIterations', 'divergence', 'relativeTo',
 ];
 
 /**
@@ -275,7 +276,7 @@ function firstUnused(r: Recipe, given: readonly RecipeField[]): { field: RecipeF
  * order), with the inner recipe trimmed the same way. A preconditioner registered without a
  * `uses` list keeps every field.
  */
-export type RecordedRecipe = Pick<Recipe, 'name' | 'krylov' | 'preconditioner' | 'rtol' | 'atol' | 'maxIterations' | 'divergence' | 'baseline'>
+export type RecordedRecipe = Pick<Recipe, 'name' | 'krylov' | 'preconditioner' | 'rtol' | 'atol' | 'maxIterations' | 'divergence' | 'relativeTo'>
   & Partial<Omit<Recipe, 'inner'>> & { inner?: RecordedRecipe };
 
 export function recordedRecipe(r: Recipe): RecordedRecipe {
@@ -303,7 +304,7 @@ export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   atol: 'atol',
   maxIterations: 'max-iters',
   divergence: 'divergence',
-  baseline: 'baseline',
+  relativeTo: 'relative-to',
 };
 
 /** commander's camelCase key for a flag ("max-iters" → "maxIters", "inner-precond" → "innerPrecond"). */

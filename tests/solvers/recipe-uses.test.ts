@@ -26,7 +26,7 @@ describe('recipe fields a method does not read are refused (suite files)', () =>
     expect(parseRecipe({ preconditioner: 'block-gs', sweep: 'symmetric', omega: 1.3, ordering: 'rcm', sweeps: 2, blockInverse: 'lu', shift: 0.1 }, 'r'))
       .toMatchObject({ omega: 1.3, sweep: 'symmetric' });
     expect(parseRecipe({ krylov: 'none', preconditioner: 'jacobi', omega: 0.7 }, 'r').omega).toBe(0.7);
-    expect(parseRecipe({ krylov: 'gmres', restart: 10, side: 'left', orthogonalization: 'cgs2', rtol: 1e-6, atol: 1e-12, maxIterations: 5, divergence: 1e6, baseline: 'initial-residual' }, 'r').restart).toBe(10);
+    expect(parseRecipe({ krylov: 'gmres', restart: 10, side: 'left', orthogonalization: 'cgs2', rtol: 1e-6, atol: 1e-12, maxIterations: 5, divergence: 1e6, relativeTo: 'start-residual' }, 'r').restart).toBe(10);
     expect(parseRecipe({ preconditioner: 'block-ilu0', ordering: 'mdf', shift: 0 }, 'r').ordering).toBe('mdf');
   });
 

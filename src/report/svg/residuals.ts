@@ -20,7 +20,7 @@ export interface ResidualSeries {
   x?: number[];
   /** Palette index (fixed per recipe across all plots of a report). */
   colorIndex: number;
-  /** Shown in the legend, e.g. "12 it, max-iterations". */
+  /** Shown in the legend, e.g. "120 it, iteration-budget". */
   note?: string;
   /** The relative tolerance this recipe stops at (drawn as a mark in its colour on the right edge). */
   rtol?: number;
