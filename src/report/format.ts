@@ -22,11 +22,11 @@ export function formatBytes(bytes: number, digits = 3): string {
   return `${significant(v, digits)} ${SI_BYTE_UNITS[u]}`;
 }
 
-/** Seconds with three significant digits; tiny values in exponent form. */
+/** Seconds with three significant digits: 12.3, 0.0467, 1.60e-5 (below 1 ms in exponent form). */
 export function formatSeconds(s: number): string {
   if (!Number.isFinite(s)) return '–';
   if (s === 0) return '0';
-  if (Math.abs(s) < 1e-3) return s.toExponential(1);
+  if (Math.abs(s) < 1e-3) return s.toExponential(2).replace('e+', 'e');
   if (Math.abs(s) >= 1000) return s.toFixed(0);
   return s.toPrecision(3);
 }

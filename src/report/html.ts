@@ -200,7 +200,7 @@ function historyFigures(groups: MatrixRuns[], history: HistoryEntry[], color: (n
       svg: historyPlot({ title: `${m}: iterations and time across stored runs`, runLabels: labels, series, idPrefix: `history-${slug}`, suiteChanges: changes }),
     };
     svgs.push(svg);
-    html += figure(svg, `${m}: iterations (top) and setup + solve seconds (bottom) per recipe for each of the ${plural(history.length, 'stored run')}, oldest left. Labels are the run's label or commit when known, else its date; a repeated label gets ·2, ·3. A vertical line marks a change of the suite between two runs.`);
+    html += figure(svg, `${m}: iterations (top) and setup + solve seconds (bottom) per recipe for ${history.length === 1 ? 'the one stored run' : `each of the ${history.length} stored runs, oldest left`}. Labels are the run's label or commit when known, else its date; a repeated label gets ·2, ·3. A vertical line marks a change of the suite between two runs.`);
   }
   return { html, svgs };
 }

@@ -98,11 +98,6 @@ function pad(s: string, width: number, align: 'left' | 'right'): string {
   return align === 'left' ? s + ' '.repeat(width - n) : ' '.repeat(width - n) + s;
 }
 
-/** Shorten to `width` characters with an ellipsis. */
-function fit(s: string, width: number): string {
-  return len(s) <= width ? s : `${[...s].slice(0, Math.max(1, width - 1)).join('')}…`;
-}
-
 /** Wrap words to lines of at most `width` characters, each line starting with `indent`. */
 function wrap(textLine: string, width: number, indent: string): string[] {
   const out: string[] = [];
@@ -132,12 +127,27 @@ export function rankMatrix(results: ResultsDoc, matrix: string, runs: RunRecord[
 const INDENT = '  ';
 const GAP = '  ';
 
+/** Shorten to `width` characters with an ellipsis in the middle, keeping both ends (names often differ at the end). */
+function fitMiddle(s: string, width: number): string {
+  const chars = [...s];
+  if (chars.length <= width) return s;
+  const keep = Math.max(2, width - 1);
+  const head = Math.ceil(keep / 2);
+  return `${chars.slice(0, head).join('')}…${chars.slice(chars.length - (keep - head)).join('')}`;
+}
+
+/** Columns the narrow layout may leave out when every row has the same value (said in a note instead). */
+const CONSTANT_DROPPABLE = ['cause', 'matvecs', 'applies', 'memory'];
+
 /**
- * Lay out rows for `width` columns: the wide layout when it fits, else the narrow one (setup and
- * solve merged into one time column, no restarts), then recipe names shortened, then columns
- * dropped from the right end (memory first) until it fits.
+ * Lay out rows for `width` columns: the wide layout when it fits; else the narrow one (setup and
+ * solve merged into one time column, no restarts), which then, while it does not fit, leaves out
+ * columns whose value is the same in every row (noted below the table), then memory, shortens
+ * recipe names in the middle (never below 16 characters), leaves out applies and matvecs, and
+ * last shortens names further.
  */
-function layout(ranked: RankedRun[], width: number): { cols: Column[]; rows: string[][]; widths: number[] } {
+function layout(ranked: RankedRun[], width: number): { cols: Column[]; rows: string[][]; widths: number[]; notes: string[] } {
+  const notes: string[] = [];
   const build = (cols: Column[]): { rows: string[][]; widths: number[]; total: number } => {
     const rows = ranked.map((r) => cols.map((c) => c.cell(r, r.run.result)));
     const widths = cols.map((c, j) => Math.max(len(c.title), ...rows.map((row) => len(row[j]))));
@@ -145,33 +155,43 @@ function layout(ranked: RankedRun[], width: number): { cols: Column[]; rows: str
   };
   let cols = COLUMNS.filter((c) => !c.narrowOnly);
   let b = build(cols);
-  if (b.total <= width) return { cols, ...b };
+  if (b.total <= width) return { cols, ...b, notes };
   cols = COLUMNS.filter((c) => !c.wideOnly);
   b = build(cols);
-  const ri = cols.findIndex((c) => c.key === 'recipe');
-  const over = b.total - width;
-  if (over > 0) {
-    const target = Math.max(12, b.widths[ri] - over);
-    b.rows.forEach((row) => { row[ri] = fit(row[ri], target); });
-    b.total -= b.widths[ri] - Math.max(len('recipe'), target);
-    b.widths[ri] = Math.max(len('recipe'), Math.min(b.widths[ri], target));
-  }
-  for (const drop of ['memory', 'applies', 'matvecs']) {
-    if (b.total <= width) break;
-    const j = cols.findIndex((c) => c.key === drop);
-    if (j < 0) continue;
+  const drop = (key: string): void => {
+    const j = cols.findIndex((c) => c.key === key);
+    if (j < 0) return;
     b.total -= b.widths[j] + len(GAP);
     cols = cols.filter((_c, k) => k !== j);
     b.rows = b.rows.map((row) => row.filter((_c, k) => k !== j));
     b.widths = b.widths.filter((_w, k) => k !== j);
+  };
+  const shorten = (target: number): void => {
+    const ri = cols.findIndex((c) => c.key === 'recipe');
+    const t = Math.max(len('recipe'), Math.min(b.widths[ri], target));
+    b.rows.forEach((row) => { row[ri] = fitMiddle(row[ri], t); });
+    b.total -= b.widths[ri] - t;
+    b.widths[ri] = t;
+  };
+  const recipeWidth = (): number => b.widths[cols.findIndex((c) => c.key === 'recipe')];
+  for (const key of CONSTANT_DROPPABLE) {
+    if (b.total <= width || ranked.length < 2) break;
+    const j = cols.findIndex((c) => c.key === key);
+    if (j < 0) continue;
+    const values = new Set(b.rows.map((row) => row[j]));
+    if (values.size !== 1) continue;
+    const v = [...values][0];
+    notes.push(v === dash ? `${cols[j].title}: not recorded in these results` : `${cols[j].title}: ${v} for every run`);
+    drop(key);
   }
-  if (b.total > width) {
-    // last resort: shorter recipe names still (rank and name stay readable, the rest is numbers)
-    const target = Math.max(len('recipe'), b.widths[ri] - (b.total - width));
-    b.rows.forEach((row) => { row[ri] = fit(row[ri], target); });
-    b.widths[ri] = target;
+  if (b.total > width && cols.some((c) => c.key === 'memory')) { drop('memory'); notes.push('memory: left out for width (see the report or a wider terminal)'); }
+  if (b.total > width) shorten(Math.max(16, recipeWidth() - (b.total - width)));
+  for (const key of ['applies', 'matvecs']) {
+    if (b.total <= width) break;
+    if (cols.some((c) => c.key === key)) { drop(key); notes.push(`${key}: left out for width`); }
   }
-  return { cols, rows: b.rows, widths: b.widths };
+  if (b.total > width) shorten(recipeWidth() - (b.total - width));
+  return { cols, rows: b.rows, widths: b.widths, notes };
 }
 
 /**
@@ -187,7 +207,7 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean;
   const warning = statusWarning(results);
   for (const g of runsByMatrix(results)) {
     const { ranked, missing } = rankMatrix(results, g.matrix, g.runs);
-    const { cols, rows, widths } = layout(ranked, width);
+    const { cols, rows, widths, notes: layoutNotes } = layout(ranked, width);
     const lines: string[] = [];
     const head = `${g.matrix}  ${matrixSummary(g.info)}`;
     lines.push(len(head) <= width ? `${c.bold(g.matrix)}  ${c.dim(matrixSummary(g.info))}` : `${c.bold(g.matrix)}\n${wrap(matrixSummary(g.info), width, INDENT).map((l) => c.dim(l)).join('\n')}`);
@@ -211,8 +231,8 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean;
         ? `${WINNER_MARK} winner: ${winner.run.recipe} (converged, least setup + solve time)`
         : 'no recipe converged on this matrix');
     }
-    notes.push('memory = preconditioner + Krylov basis bytes (the matrix itself not included)');
-    if (!cols.some((col) => col.key === 'memory')) notes.pop();
+    if (cols.some((col) => col.key === 'memory')) notes.push('memory = preconditioner + Krylov basis bytes (the matrix itself not included)');
+    notes.push(...layoutNotes);
     if (ranked.some((r) => r.run.result?.residualMismatch)) {
       notes.push(`${MISMATCH_MARK} recursive residual and true residual disagree by more than 10×`);
     }
@@ -223,6 +243,6 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean;
     for (const n of notes) lines.push(...wrap(n, width, INDENT).map((l) => c.dim(l)));
     blocks.push(lines.join('\n'));
   }
-  const warn = warning ? `${c.yellow(c.bold(`warning: ${warning}`))}\n\n` : '';
+  const warn = warning ? `${wrap(`warning: ${warning}`, width, '').map((l) => c.yellow(c.bold(l))).join('\n')}\n\n` : '';
   return blocks.length ? `${warn}${blocks.join('\n\n')}\n` : `${warn}no runs in the results\n`;
 }

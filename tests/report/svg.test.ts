@@ -180,11 +180,22 @@ describe('residual plot: telling series apart', () => {
       ],
     });
     expect(count(svg, /data-clipped=/g)).toBe(2);
-    expect(svg).toContain('↑ 1e4');
-    expect(svg).toContain('↑ ∞');
+    expect(svg).toContain('↑ up to 1e12'); // the largest value the run reached
+    expect(svg).toContain('↑ up to ∞');
     // top decade tick is 10^3, nothing above
     const exps = [...svg.matchAll(/10<tspan[^>]*>([^<]*)<\/tspan>/g)].map((m) => Number(m[1].replace('\u2212', '-')));
     expect(Math.max(...exps)).toBe(3);
+  });
+
+  it('the x axis ends where the drawn parts end, not at the last iteration of a cut history', () => {
+    const svg = residualPlot({
+      title: 't', idPrefix: 'dx', series: [
+        { name: 'ok', history: [1, 0.1, 0.01, 1e-3, 1e-4, 1e-5], colorIndex: 0 },
+        { name: 'up', history: [1, 1e4, ...Array.from({ length: 38 }, (_v, i) => 1e5 * (i + 1))], colorIndex: 1 },
+      ],
+    });
+    const ticks = [...svg.matchAll(/<text x="[\d.]+" y="[\d.]+" text-anchor="middle">(\d+)<\/text>/g)].map((m) => Number(m[1]));
+    expect(Math.max(...ticks)).toBeLessThanOrEqual(6);
   });
 
   it('a legend is wide enough for five-digit notes (no clipping at the SVG edge)', () => {

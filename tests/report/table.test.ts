@@ -89,7 +89,7 @@ describe('format', () => {
     expect(formatResidual(19000)).toBe('1.90e4');
     expect(formatResidual(NaN)).toBe('NaN');
     expect(formatSeconds(0.0123456)).toBe('0.0123');
-    expect(formatSeconds(0.00005)).toBe('5.0e-5');
+    expect(formatSeconds(0.00005)).toBe('5.00e-5');
     expect(formatCount(1234567)).toBe('1 234 567');
   });
 });

@@ -67,7 +67,12 @@ export function residualPlot(input: ResidualPlotInput): string {
     dash: s.leftPreconditioned ? WATCHED_LEFT_DASH : undefined,
   }));
   const lw = legendWidth(entries);
-  const width = M.left + W + M.right + lw;
+  // tolerance marks sit just outside the right edge, side by side when recipes share a level
+  const perLevel = new Map<number, number>();
+  for (const q of input.series) if (q.rtol !== undefined && q.rtol > 0) perLevel.set(q.rtol, (perLevel.get(q.rtol) ?? 0) + 1);
+  const marksWidth = perLevel.size > 0 ? 8 + 11 * Math.max(...perLevel.values()) : 0;
+  const right = M.right + marksWidth;
+  const width = M.left + W + right + lw;
   const height = Math.max(M.top + H + M.bottom, M.top + entries.length * LEGEND_ROW + 16);
   if (usable.length === 0) return emptyPlot(width, height, input.title, 'residuals', 'no residual histories recorded');
 
@@ -75,11 +80,17 @@ export function residualPlot(input: ResidualPlotInput): string {
   let start = 0;
   for (const ser of usable) { const first = ser.history.find(good); if (first !== undefined) start = Math.max(start, first); }
   const cap = start * CLIP_FACTOR;
+  // where each history leaves the plot upwards (above the cap, or +∞): it is drawn up to there only
+  const cutAt = (ser: ResidualSeries): number => {
+    const i = ser.history.findIndex((v) => v > cap || v === Infinity);
+    return i < 0 ? ser.history.length : i;
+  };
   let lo = Infinity, hi = -Infinity, xMax = 0;
   for (const ser of usable) {
     const xs = xsOf(ser);
+    const end = cutAt(ser);
     ser.history.forEach((v, i) => {
-      if (Number.isFinite(xs[i])) xMax = Math.max(xMax, xs[i]);
+      if (i <= end && i < xs.length && Number.isFinite(xs[i])) xMax = Math.max(xMax, xs[i]);
       if (good(v)) { lo = Math.min(lo, v); hi = Math.max(hi, Math.min(v, cap)); }
     });
     if (ser.rtol !== undefined && ser.rtol > 0) { lo = Math.min(lo, ser.rtol); hi = Math.max(hi, ser.rtol); }
@@ -117,7 +128,10 @@ export function residualPlot(input: ResidualPlotInput): string {
   for (const r of rtols) {
     const yy = y(r);
     s += `<line${attrs({ 'data-level': 'rtol', x1: M.left, x2: M.left + W, y1: yy, y2: yy, stroke: AXIS_COLOR, 'stroke-dasharray': '4 4', 'stroke-width': 0.8 })}/>`;
-    s += text(M.left + 4, yy - 4, `rtol ${r.toExponential(0).replace('e+', 'e')}`, { fill: AXIS_COLOR, 'font-size': 11 });
+    // right-aligned above the level, on a white halo so crossing lines do not hide it
+    s += text(M.left + W - 4, yy - 4, `rtol ${r.toExponential(0).replace('e+', 'e')}`, {
+      fill: AXIS_COLOR, 'font-size': 11, 'text-anchor': 'end', stroke: '#fff', 'stroke-width': 3, 'paint-order': 'stroke', 'stroke-linejoin': 'round',
+    });
   }
   const atLevel = new Map<number, number>();
   for (const ser of input.series) {
@@ -125,7 +139,7 @@ export function residualPlot(input: ResidualPlotInput): string {
     const k = atLevel.get(ser.rtol) ?? 0;
     atLevel.set(ser.rtol, k + 1);
     const st = seriesStyle(ser.colorIndex);
-    const xx = M.left + W - 8 - 11 * k, yy = y(ser.rtol);
+    const xx = M.left + W + 9 + 11 * k, yy = y(ser.rtol);
     s += `<g${attrs({ 'data-tolerance': ser.name, 'data-rtol': ser.rtol })}>`
       + `<line${attrs({ x1: xx - 5, x2: xx + 5, y1: yy, y2: yy, stroke: st.color, 'stroke-width': 3 })}/>`
       + `<path${attrs({ d: markerPath(st, 30), transform: `translate(${num(xx)},${num(yy - 7)})`, ...markerPaint(st) })}/></g>`;
@@ -149,7 +163,10 @@ export function residualPlot(input: ResidualPlotInput): string {
       const v = ser.history[i];
       if (v > cap || v === Infinity) {
         const prev = pts.length ? pts[pts.length - 1] : undefined;
-        clipped.set(ser.name, { x: xs[i], v });
+        // the label gives the largest value the run reached (+∞ when it overflowed)
+        let peak = 0;
+        for (const w of ser.history) if (w > peak || w === Infinity) peak = w;
+        clipped.set(ser.name, { x: xs[i], v: peak });
         if (prev) pts.push([xs[i], yTop]);
         break;
       }
@@ -189,15 +206,18 @@ export function residualPlot(input: ResidualPlotInput): string {
     if (!c) continue;
     const st = seriesStyle(ser.colorIndex);
     const xx = Number.isFinite(c.x) ? x(c.x) : M.left + W;
-    const label = Number.isFinite(c.v) ? `↑ ${c.v.toExponential(0).replace('e+', 'e')}` : '↑ ∞';
+    const label = Number.isFinite(c.v) ? `↑ up to ${c.v.toExponential(0).replace('e+', 'e')}` : '↑ up to ∞';
     s += `<g${attrs({ 'data-clipped': ser.name })}>`
       + `<path${attrs({ d: `M${num(xx)},${num(M.top - 1)}l-5,9h10z`, fill: st.color })}/>`
-      + text(xx + 7, M.top + 9, label, { fill: st.color, 'font-size': 10 })
+      // near the right edge the label goes left of the arrow, so it stays off the legend
+      + (xx > M.left + W - 100
+        ? text(xx - 7, M.top + 9, label, { fill: st.color, 'font-size': 10, 'text-anchor': 'end' })
+        : text(xx + 7, M.top + 9, label, { fill: st.color, 'font-size': 10 }))
       + '</g>';
   }
   if (clipped.size > 0) {
     s += text(M.left + W, M.top - 8, `cut at ${CLIP_FACTOR.toExponential(0).replace('e+', 'e')} × the starting residual`, { 'text-anchor': 'end', fill: AXIS_COLOR, 'font-size': 10 });
   }
-  s += legend(entries, M.left + W + M.right + 8, M.top);
+  s += legend(entries, M.left + W + right + 8, M.top);
   return `${s}</svg>`;
 }
