@@ -1,3 +1,4 @@
+import { plural } from '../report/format.js';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -159,10 +160,10 @@ Examples:
         process.stdout.write(`\nresults: ${files.results} (+ ${files.csv}${reportPath ? `, ${reportPath}` : ''})\n`);
       }
       if (interrupted) {
-        throw new UserError(`interrupted: ${doc.runs.length} finished run(s) kept in ${files.results}`, EXIT.interrupted);
+        throw new UserError(`interrupted: ${plural(doc.runs.length, 'finished run')} kept in ${files.results}`, EXIT.interrupted);
       }
       if (errors > 0) {
-        throw new UserError(`${errors} of ${doc.runs.length} run(s) could not start (see "error" in ${files.results}); the others ran`, EXIT.badInput);
+        throw new UserError(`${errors} of ${plural(doc.runs.length, 'run')} could not start (see "error" in ${files.results}); the others ran`, EXIT.badInput);
       }
     });
 }
