@@ -12,8 +12,7 @@ import { readHistory } from '../run/history.js';
 import { ProgressBar } from '../run/progress.js';
 import type { HistoryEntry, ResultsDoc } from '../run/results-types.js';
 import type { CaseBuilder, SuiteParsers } from '../run/deps.js';
-import { renderRankedTables, shouldUseColor } from '../report/table.js';
-import { rankRuns } from '../report/rank.js';
+import { rankMatrix, renderRankedTables, shouldUseColor } from '../report/table.js';
 import { writeReport } from '../report/html.js';
 
 /** The demo suite shipped with the package (resolved from the installed code, not the working folder). */
@@ -56,7 +55,11 @@ function summary(doc: ResultsDoc, files: Record<string, string | undefined>, int
     converged: doc.runs.filter((r) => r.result?.converged).length,
     notConverged: doc.runs.filter((r) => r.result && !r.result.converged).length,
     errors: doc.runs.filter((r) => r.error !== undefined).length,
-    winners: [...byMatrix].map(([matrix, runs]) => ({ matrix, recipe: rankRuns(runs).find((x) => x.winner)?.run.recipe ?? null })),
+    // a matrix missing some of the sweep's recipes names no winner (null) and lists what is missing
+    winners: [...byMatrix].map(([matrix, runs]) => {
+      const { ranked, missing } = rankMatrix(doc, matrix, runs);
+      return { matrix, recipe: ranked.find((x) => x.winner)?.run.recipe ?? null, ...(missing.length ? { missingRecipes: missing } : {}) };
+    }),
   };
 }
 
