@@ -45,11 +45,24 @@ function reachablePackages(entry: string): Set<string> {
 }
 
 describe('start-up: the expression library is loaded only when an expression is parsed', () => {
-  it('no static value import chain leads from the CLI entry to mathjs', () => {
+  it('no static value import chain leads from the CLI entry or the command list to mathjs', () => {
     const pkgs = reachablePackages(join(SRC, 'cli/main.ts'));
     // the walk itself works: commander is imported by main.ts
     expect(pkgs.has('commander')).toBe(true);
     expect(pkgs.has('mathjs')).toBe(false);
+    // every command (what --help and each command load): d3 and ml-matrix are reached, mathjs is not
+    const all = reachablePackages(join(SRC, 'cli/commands.ts'));
+    expect(all.has('d3-scale')).toBe(true);
+    expect(all.has('ml-matrix')).toBe(true);
+    expect(all.has('mathjs')).toBe(false);
+  });
+
+  it('--version answers without loading the commands', async () => {
+    const { runCli } = await import('./cli-helpers.js');
+    const { VERSION } = await import('../../src/version.js');
+    const r = await runCli(['--version']);
+    expect(r).toEqual({ code: 0, stdout: `${VERSION}\n`, stderr: '' });
+    expect(reachablePackages(join(SRC, 'cli/main.ts')).has('d3-scale')).toBe(false);
   });
 
   it('the import walk does see a static import when there is one (physics → expressions → types only)', () => {
@@ -65,6 +78,7 @@ describe('start-up: the expression library is loaded only when an expression is 
       const req = createRequire(${JSON.stringify(join(ROOT, 'package.json'))});
       const loaded = () => Object.keys(req.cache).some((k) => k.includes('/node_modules/mathjs/'));
       await import(${JSON.stringify(join(SRC, 'cli/main.ts'))});
+      await import(${JSON.stringify(join(SRC, 'cli/commands.ts'))});
       const before = loaded();
       const { compileScalarField } = await import(${JSON.stringify(join(SRC, 'dg/expressions.ts'))});
       const numeric = compileScalarField(2, 'f', [1]);
