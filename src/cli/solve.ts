@@ -82,7 +82,10 @@ export function formatSolveReport(rep: SolveReport): string {
   const m = rep.matrix;
   lines.push(`${m.file}: ${m.n} × ${m.n}, ${m.nnz} nonzeros, block size ${m.bs} (${m.blockSizeSource})${m.nSlabs ? `, ${m.nSlabs} slabs` : ''}`);
   row('recipe', `${recipeText(rep.recipe)}; rtol ${rep.recipe.rtol}${rep.recipe.atol ? `, atol ${rep.recipe.atol}` : ''}, at most ${plural(rep.recipe.maxIterations, 'iteration')}`);
-  row('result', `${rep.outcome} (${rep.cause}) after ${plural(rep.iterations, 'iteration')} (${plural(rep.restarts, 'restart')})`);
+  const sw = rep.work.solve;
+  row('result', `${rep.outcome} (${rep.cause}) after ${plural(rep.iterations, 'iteration')} (${plural(rep.restarts, 'restart')}; `
+    + `${plural(sw.matvecs, 'matvec')}, ${plural(sw.preconditionerApplies, 'preconditioner apply', 'preconditioner applies')}`
+    + `${sw.innerIterations > 0 ? `, ${plural(sw.innerIterations, 'inner iteration')}` : ''})`);
   if (rep.failure) {
     const f = rep.failure;
     const named = f.blockRow === undefined || f.message.includes(`block row ${f.blockRow}`);
@@ -96,6 +99,8 @@ export function formatSolveReport(rep: SolveReport): string {
   const t = rep.timing;
   row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
     + (t.preconditionerApplications > 0 ? ` (${plural(t.preconditionerApplications, 'preconditioner application')}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
+  const su = rep.work.setup;
+  row('work', `setup ${num(su.flops)} flops, ${bytes(su.bytes)} moved; solve ${num(sw.flops)} flops, ${bytes(sw.bytes)} moved (work model, README)`);
   const mem = rep.memory;
   row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
   if (rep.ritz && rep.ritz.re.length > 0) {
