@@ -10,6 +10,7 @@ import { createJacobi } from './jacobi.js';
 import { createBlockJacobi } from './block-jacobi.js';
 import { createBlockGs } from './block-gs.js';
 import { createIlu0 } from './ilu0.js';
+import { createBlockIluk } from './block-iluk.js';
 import { createBlockIlu0 } from './block-ilu0.js';
 import { createSlab } from './slab.js';
 
@@ -71,4 +72,5 @@ registerPreconditioner('block-jacobi', createBlockJacobi, { uses: ['blockInverse
 registerPreconditioner('block-gs', createBlockGs, { uses: ['sweep', 'ordering', 'omega', 'sweeps', 'shift', 'blockInverse'] });
 registerPreconditioner('ilu0', createIlu0, { uses: ['shift'] });
 registerPreconditioner('block-ilu0', createBlockIlu0, { uses: ['ordering', 'shift'] });
+registerPreconditioner('block-iluk', createBlockIluk, { uses: ['fillLevel', 'ordering', 'shift'] });
 registerPreconditioner('slab', createSlab, { uses: ['inner', 'shift'] });
