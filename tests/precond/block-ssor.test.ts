@@ -229,3 +229,80 @@ describe('symmetric Gauss–Seidel convergence factor equals ρ(I − M_SSOR⁻�
     expect(measuredRate(A, (res, z) => M.apply(res, z), 400)).toBeCloseTo(rho, 8);
   });
 });
+
+describe('forward and backward block SOR sweeps equal (D + ωL)⁻¹ω and (D + ωU)⁻¹ω built densely (Saad 2003, §4.1)', () => {
+  const nb = 7, bs = 2;
+  const r = rng(81);
+  const pattern: Array<[number, number]> = [];
+  for (let I = 0; I < nb; I++) for (let t = 0; t < 3; t++) pattern.push([I, Math.floor(r() * nb)]);
+  const a = randomBsr(nb, bs, pattern, 82);
+  const n = nb * bs;
+  const A = bsrToDense(a);
+  for (const sweep of ['forward', 'backward'] as const) {
+    for (const omega of [1, 0.6, 1.7]) {
+      it(`${sweep}, ω ${omega}: one sweep is M⁻¹ with M = D/ω + ${sweep === 'forward' ? 'L' : 'U'}; two sweeps are two steps with that M`, () => {
+        const M = new Float64Array(n * n);
+        for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+          const I = Math.floor(i / bs), J = Math.floor(j / bs);
+          if (I === J) M[i * n + j] = A[i * n + j] / omega;
+          else if (sweep === 'forward' ? J < I : J > I) M[i * n + j] = A[i * n + j];
+        }
+        const rhs = randomVector(n, 83);
+        const one = createBlockGs(systemOf(a), recipe({ preconditioner: 'block-gs', sweep, omega }));
+        expect(one.setup().ok).toBe(true);
+        const z = new Float64Array(n);
+        one.apply(rhs, z);
+        const x1 = denseSolve(M, n, rhs);
+        expect(maxRel(z, x1)).toBeLessThan(1e-12);
+        const two = createBlockGs(systemOf(a), recipe({ preconditioner: 'block-gs', sweep, omega, sweeps: 2, blockInverse: 'lu' }));
+        expect(two.setup().ok).toBe(true);
+        two.apply(rhs, z);
+        const res = denseMatVec(A, n, x1);
+        for (let i = 0; i < n; i++) res[i] = rhs[i] - res[i];
+        const dx = denseSolve(M, n, res);
+        expect(maxRel(z, x1.map((v, i) => v + dx[i]))).toBeLessThan(1e-12);
+      });
+    }
+  }
+});
+
+describe('block-gs reports exact memory and statistics (derived from what it stores)', () => {
+  const nb = 6, bs = 3, bb = 9;
+  const a = randomBsr(nb, bs, [[1, 0], [2, 1], [4, 5]], 91);
+  it('inverse blocks: nb·bs² doubles, workspace (2bs + bs²) doubles + bs Int32 pivots; setup flops nb·2bs³', () => {
+    const M = createBlockGs(systemOf(a), recipe({ preconditioner: 'block-gs', sweep: 'symmetric', omega: 1.1, sweeps: 2 }));
+    expect(M.setup().ok).toBe(true);
+    expect(M.memory()).toEqual({ 'inverse blocks': nb * bb * 8, workspace: (2 * bs + bb) * 8 + bs * 4 });
+    expect(M.stats!()).toEqual({
+      sweep: 'symmetric', sweeps: 2, omega: 1.1, ordering: 'natural', blockInverse: 'inverse', shift: 0, shiftedPivots: 0,
+      setupFlops: nb * 2 * bs ** 3, // LU (2bs³/3) + inverse from the factors (4bs³/3); common practice
+    });
+  });
+  it('LU blocks: nb·bs² doubles of factors, nb·bs Int32 pivots, bs doubles of workspace; setup flops nb·2bs³/3; shift counted on every pivot', () => {
+    const M = createBlockGs(systemOf(a), recipe({ preconditioner: 'block-gs', blockInverse: 'lu', shift: 0.5 }));
+    expect(M.setup().ok).toBe(true);
+    expect(M.memory()).toEqual({ 'factors (diagonal-block LU)': nb * bb * 8, pivots: nb * bs * 4, workspace: bs * 8 });
+    const s = M.stats!();
+    expect(s.setupFlops).toBeCloseTo((nb * 2 * bs ** 3) / 3, 10);
+    expect(s.shiftedPivots).toBe(nb * bs);
+    expect(s.shift).toBe(0.5);
+  });
+  it('accepts ω just inside (0, 2) and rejects the ends and a fractional sweep count', () => {
+    const sys = systemOf(a);
+    for (const omega of [1e-9, 1.999]) expect(() => createBlockGs(sys, recipe({ preconditioner: 'block-gs', omega }))).not.toThrow();
+    for (const omega of [0, 2, -1]) expect(() => createBlockGs(sys, recipe({ preconditioner: 'block-gs', omega }))).toThrow(/omega .* is outside \(0, 2\)/);
+    expect(() => createBlockGs(sys, recipe({ preconditioner: 'block-gs', sweeps: 1.5 }))).toThrow(/sweeps 1.5 is not a positive integer/);
+  });
+  it('a shift is added to every diagonal block: with A = D only, z = (D + shift·I)⁻¹ r', () => {
+    const d = randomBsr(3, 2, [], 92);
+    const shift = 0.75;
+    const M = createBlockGs(systemOf(d), recipe({ preconditioner: 'block-gs', shift }));
+    expect(M.setup().ok).toBe(true);
+    const D = bsrToDense(d);
+    for (let i = 0; i < 6; i++) D[i * 6 + i] += shift;
+    const rhs = randomVector(6, 93);
+    const z = new Float64Array(6);
+    M.apply(rhs, z);
+    expect(maxRel(z, denseSolve(D, 6, rhs))).toBeLessThan(1e-13);
+  });
+});
