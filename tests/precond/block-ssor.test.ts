@@ -306,3 +306,48 @@ describe('block-gs reports exact memory and statistics (derived from what it sto
     expect(maxRel(z, denseSolve(D, 6, rhs))).toBeLessThan(1e-13);
   });
 });
+
+describe('block-gs without a stored diagonal block: the shifted zero block is used (shift·I), in both block modes', () => {
+  // Block row 2 stores no diagonal block; with a shift the factor is shift·I, so one forward sweep is
+  // M⁻¹r with M = (block diagonal with shift·I in row 2) + strictly lower part (derived from the sweep).
+  const bs = 2, nb = 4, n = 8;
+  const pattern: Array<[number, number]> = [[1, 0], [2, 1], [3, 2], [0, 3]];
+  const full = randomBsr(nb, bs, pattern, 95);
+  // Drop block (2, 2) from the pattern.
+  const keep: number[] = [];
+  for (let k = 0; k < full.colInd.length; k++) if (!(k >= full.rowPtr[2] && k < full.rowPtr[3] && full.colInd[k] === 2)) keep.push(k);
+  const rowPtr = new Int32Array(nb + 1);
+  for (const k of keep) { let I = 0; while (k >= full.rowPtr[I + 1]) I++; rowPtr[I + 1]++; }
+  for (let I = 0; I < nb; I++) rowPtr[I + 1] += rowPtr[I];
+  const a: Bsr = {
+    nBlockRows: nb, nBlockCols: nb, bs, rowPtr, colInd: Int32Array.from(keep.map((k) => full.colInd[k])),
+    values: Float64Array.from(keep.flatMap((k) => Array.from(full.values.subarray(k * 4, k * 4 + 4)))),
+  };
+  for (const blockInverse of ['inverse', 'lu'] as const) {
+    it(`${blockInverse} blocks`, () => {
+      const shift = 3;
+      const without = createBlockGs(systemOf(a), recipe({ preconditioner: 'block-gs', blockInverse }));
+      const fail = without.setup();
+      expect(fail.ok).toBe(false);
+      if (!fail.ok) expect(fail.blockRow).toBe(2);
+      const M = createBlockGs(systemOf(a), recipe({ preconditioner: 'block-gs', blockInverse, shift }));
+      expect(M.setup().ok).toBe(true);
+      const A = bsrToDense(a);
+      const S = new Float64Array(n * n);
+      for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+        const I = Math.floor(i / bs), J = Math.floor(j / bs);
+        if (J < I) S[i * n + j] = A[i * n + j];
+        else if (J === I) S[i * n + j] = A[i * n + j] + (i === j ? shift : 0);
+      }
+      const rhs = randomVector(n, 96);
+      const z = new Float64Array(n);
+      M.apply(rhs, z);
+      expect(maxRel(z, denseSolve(S, n, rhs))).toBeLessThan(1e-13);
+    });
+  }
+  it('is a fixed linear operator named block-gs (not variable: plain GMRES may use it)', () => {
+    const M = createBlockGs(systemOf(full), recipe({ preconditioner: 'block-gs' }));
+    expect(M.name).toBe('block-gs');
+    expect(M.variable).toBe(false);
+  });
+});
