@@ -7,7 +7,7 @@
  */
 import { describe, it, expect } from 'vitest';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import { eulerFlux, eulerNumericalFlux, toConserved, pressureOf, type EulerFluxName } from '../../src/dg/physics/euler-flux.js';
+import { eulerFlux, eulerSpatialFlux, eulerNumericalFlux, toConserved, pressureOf, type EulerFluxName } from '../../src/dg/physics/euler-flux.js';
 import { mulberry32 } from '../../src/util/random.js';
 
 const G = 1.4;
@@ -61,6 +61,26 @@ describe('Euler flux and its Jacobian', () => {
           let s = 0;
           for (let j = 0; j < m; j++) s += A[i * m + j]! * U[j]!;
           expect(Math.abs(s - g[i]!)).toBeLessThan(1e-12 * Math.max(1, Math.abs(g[i]!)));
+        }
+      }
+    });
+  }
+});
+
+describe('closed-form spatial flux Jacobian (fast) against the differentiated flux (slow)', () => {
+  for (const d of [1, 2, 3]) {
+    it(`${d}D: F_k and ∂F_k/∂U agree with eulerFlux(U, e_k) to round-off`, () => {
+      const r = mulberry32(100 + d);
+      const m = d + 2;
+      for (let t = 0; t < 20; t++) {
+        const U = randomState(r, d, 2);
+        for (let k = 0; k < d; k++) {
+          const n = new Float64Array(d + 1); n[k] = 1;
+          const g = new Float64Array(m), A = new Float64Array(m * m), gf = new Float64Array(m), Af = new Float64Array(m * m);
+          eulerFlux(U, n, d, G, g, A);
+          eulerSpatialFlux(U, k, d, G, gf, Af);
+          for (let i = 0; i < m; i++) expect(Math.abs(gf[i]! - g[i]!)).toBeLessThan(1e-13 * Math.max(1, Math.abs(g[i]!)));
+          for (let i = 0; i < m * m; i++) expect(Math.abs(Af[i]! - A[i]!)).toBeLessThan(1e-13 * Math.max(1, Math.abs(A[i]!)));
         }
       }
     });

@@ -83,6 +83,46 @@ export function eulerFlux(U: ArrayLike<number>, n: ArrayLike<number>, d: number,
   }
 }
 
+/**
+ * The spatial flux F_k(U) and ∂F_k/∂U in closed form (row-major m×m), the fast twin of
+ * eulerFlux(U, e_k): with u = m/ρ, q² = |u|², H = (E + p)/ρ (e.g. Toro 2009 §3.2.2),
+ *   row ρ:    ∂m_k/∂U = e_{m_k}
+ *   row m_i:  ∂ρ: −u_k u_i + δ_ik (γ−1)q²/2,  ∂m_j: δ_kj u_i + δ_ij u_k − δ_ik (γ−1) u_j,  ∂E: δ_ik (γ−1)
+ *   row E:    ∂ρ: u_k ((γ−1)q²/2 − H),         ∂m_j: δ_kj H − (γ−1) u_k u_j,              ∂E: γ u_k
+ */
+export function eulerSpatialFlux(U: ArrayLike<number>, k: number, d: number, gamma: number, g: Float64Array, dg: Float64Array): void {
+  const m = d + 2;
+  const rho = U[0]!, E = U[d + 1]!;
+  let q2 = 0;
+  for (let j = 0; j < d; j++) { const uj = U[1 + j]! / rho; q2 += uj * uj; }
+  const p = (gamma - 1) * (E - 0.5 * rho * q2);
+  const uk = U[1 + k]! / rho;
+  const H = (E + p) / rho;
+  const g1 = gamma - 1;
+  dg.fill(0, 0, m * m);
+  g[0] = U[1 + k]!;
+  dg[1 + k] = 1;
+  for (let i = 0; i < d; i++) {
+    const ui = U[1 + i]! / rho;
+    const row = (1 + i) * m;
+    g[1 + i] = U[1 + k]! * ui + (i === k ? p : 0);
+    dg[row] = -uk * ui + (i === k ? 0.5 * g1 * q2 : 0);
+    for (let j = 0; j < d; j++) {
+      const uj = U[1 + j]! / rho;
+      dg[row + 1 + j] = (k === j ? ui : 0) + (i === j ? uk : 0) - (i === k ? g1 * uj : 0);
+    }
+    dg[row + d + 1] = i === k ? g1 : 0;
+  }
+  const row = (d + 1) * m;
+  g[d + 1] = uk * (E + p);
+  dg[row] = uk * (0.5 * g1 * q2 - H);
+  for (let j = 0; j < d; j++) {
+    const uj = U[1 + j]! / rho;
+    dg[row + 1 + j] = (k === j ? H : 0) - g1 * uk * uj;
+  }
+  dg[row + d + 1] = gamma * uk;
+}
+
 export type EulerFluxName = 'llf' | 'roe';
 
 /**
