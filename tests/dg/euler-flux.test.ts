@@ -7,7 +7,7 @@
  */
 import { describe, it, expect } from 'vitest';
 import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
-import { eulerFlux, eulerSpatialFlux, eulerNumericalFlux, toConserved, pressureOf, type EulerFluxName } from '../../src/dg/physics/euler-flux.js';
+import { eulerFlux, eulerSpatialFlux, eulerNumericalFlux, eulerNumericalFluxDual, toConserved, pressureOf, type EulerFluxName } from '../../src/dg/physics/euler-flux.js';
 import { mulberry32 } from '../../src/util/random.js';
 
 const G = 1.4;
@@ -81,6 +81,26 @@ describe('closed-form spatial flux Jacobian (fast) against the differentiated fl
           eulerSpatialFlux(U, k, d, G, gf, Af);
           for (let i = 0; i < m; i++) expect(Math.abs(gf[i]! - g[i]!)).toBeLessThan(1e-13 * Math.max(1, Math.abs(g[i]!)));
           for (let i = 0; i < m * m; i++) expect(Math.abs(Af[i]! - A[i]!)).toBeLessThan(1e-13 * Math.max(1, Math.abs(A[i]!)));
+        }
+      }
+    });
+  }
+});
+
+describe('closed-form local Lax–Friedrichs (fast) against the differentiated flux (slow)', () => {
+  for (const d of [1, 2, 3]) {
+    it(`${d}D: H, ∂H/∂U_L and ∂H/∂U_R agree to round-off`, () => {
+      const r = mulberry32(200 + d);
+      const m = d + 2;
+      for (let t = 0; t < 30; t++) {
+        const UL = randomState(r, d, 1.5), UR = randomState(r, d, 1.5), n = randomNormal(r, d, t % 3 === 0 ? 0 : 0.7);
+        const fast = flux('llf', UL, UR, n, d);
+        const h = new Float64Array(m), dL = new Float64Array(m * m), dR = new Float64Array(m * m);
+        eulerNumericalFluxDual('llf', UL, UR, n, d, G, h, dL, dR);
+        for (let i = 0; i < m; i++) expect(Math.abs(fast.h[i]! - h[i]!)).toBeLessThan(1e-13 * Math.max(1, Math.abs(h[i]!)));
+        for (let i = 0; i < m * m; i++) {
+          expect(Math.abs(fast.dL[i]! - dL[i]!)).toBeLessThan(1e-12 * Math.max(1, Math.abs(dL[i]!)));
+          expect(Math.abs(fast.dR[i]! - dR[i]!)).toBeLessThan(1e-12 * Math.max(1, Math.abs(dR[i]!)));
         }
       }
     });

@@ -28,7 +28,7 @@ function normal(dim: number, seed: number): Float64Array {
 
 describe('physics registry', () => {
   it('names every physics once, each with its fields', () => {
-    expect(PHYSICS_NAMES).toEqual(['advection', 'advection-diffusion', 'acoustics', 'burgers']);
+    expect(PHYSICS_NAMES).toEqual(['advection', 'advection-diffusion', 'acoustics', 'burgers', 'euler']);
     for (const def of PHYSICS.values()) expect(def.fields.length).toBeGreaterThan(0);
   });
 });

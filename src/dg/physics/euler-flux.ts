@@ -133,6 +133,81 @@ export function eulerNumericalFlux(
   name: EulerFluxName, UL: ArrayLike<number>, UR: ArrayLike<number>, n: ArrayLike<number>, d: number, gamma: number,
   h: Float64Array, dL: Float64Array, dR: Float64Array,
 ): void {
+  if (name === 'llf') llfClosedForm(UL, UR, n, d, gamma, h, dL, dR);
+  else eulerNumericalFluxDual(name, UL, UR, n, d, gamma, h, dL, dR);
+}
+
+const llfWork = { AL: new Float64Array(25), AR: new Float64Array(25), F: new Float64Array(5), dF: new Float64Array(25), gL: new Float64Array(5), gR: new Float64Array(5), sL: new Float64Array(5), sR: new Float64Array(5) };
+
+/** A(n) = n_t I + Σ n_k ∂F_k/∂U and G·n at U (closed form, eulerSpatialFlux). */
+function normalJacobian(U: ArrayLike<number>, n: ArrayLike<number>, d: number, gamma: number, g: Float64Array, A: Float64Array): void {
+  const m = d + 2;
+  const { F, dF } = llfWork;
+  for (let i = 0; i < m; i++) g[i] = n[d]! * U[i]!;
+  A.fill(0, 0, m * m);
+  for (let i = 0; i < m; i++) A[i * m + i] = n[d]!;
+  for (let k = 0; k < d; k++) {
+    if (n[k] === 0) continue;
+    eulerSpatialFlux(U, k, d, gamma, F, dF);
+    for (let i = 0; i < m; i++) g[i]! += n[k]! * F[i]!;
+    for (let q = 0; q < m * m; q++) A[q]! += n[k]! * dF[q]!;
+  }
+}
+
+/** s = |n_t + u·n_x| + c|n_x| and ∂s/∂U (written to ds). */
+function llfSpeed(U: ArrayLike<number>, n: ArrayLike<number>, d: number, gamma: number, nx: number, ds: Float64Array): number {
+  const rho = U[0]!, E = U[d + 1]!;
+  let un = 0, q2 = 0;
+  for (let k = 0; k < d; k++) { const uk = U[1 + k]! / rho; un += uk * n[k]!; q2 += uk * uk; }
+  const p = (gamma - 1) * (E - 0.5 * rho * q2);
+  const c = Math.sqrt((gamma * p) / rho);
+  const lam = n[d]! + un;
+  const sg = lam >= 0 ? 1 : -1;
+  // ∂(u·n)/∂U = (−u·n/ρ, n_k/ρ, 0); ∂p/∂U = (γ−1)(q²/2, −u_k, 1); ∂c/∂U = γ/(2cρ) (∂p − (p/ρ) e_ρ)
+  const f = nx * (gamma / (2 * c * rho));
+  ds[0] = sg * (-un / rho) + f * ((gamma - 1) * 0.5 * q2 - p / rho);
+  for (let k = 0; k < d; k++) ds[1 + k] = sg * (n[k]! / rho) + f * (gamma - 1) * -(U[1 + k]! / rho);
+  ds[d + 1] = f * (gamma - 1);
+  return Math.abs(lam) + c * nx;
+}
+
+/**
+ * Local Lax–Friedrichs with its exact Jacobian in closed form (the fast twin of the dual-number
+ * version): ∂H/∂U_L = ½A_L + ½αI − ½(U_R − U_L) ⊗ ∂α/∂U_L, ∂H/∂U_R = ½A_R − ½αI − ½(U_R − U_L) ⊗ ∂α/∂U_R,
+ * ∂α/∂U on the active side of the max only (ties take the left side, as the dual version does).
+ */
+function llfClosedForm(
+  UL: ArrayLike<number>, UR: ArrayLike<number>, n: ArrayLike<number>, d: number, gamma: number,
+  h: Float64Array, dL: Float64Array, dR: Float64Array,
+): void {
+  const m = d + 2;
+  const { AL, AR, gL, gR, sL, sR } = llfWork;
+  normalJacobian(UL, n, d, gamma, gL, AL);
+  normalJacobian(UR, n, d, gamma, gR, AR);
+  let nx = 0;
+  for (let k = 0; k < d; k++) nx += n[k]! * n[k]!;
+  nx = Math.sqrt(nx);
+  const aL = llfSpeed(UL, n, d, gamma, nx, sL), aR = llfSpeed(UR, n, d, gamma, nx, sR);
+  const leftActive = aL >= aR;
+  const alpha = leftActive ? aL : aR;
+  const ds = leftActive ? sL : sR;
+  for (let i = 0; i < m; i++) {
+    const jump = UR[i]! - UL[i]!;
+    h[i] = 0.5 * (gL[i]! + gR[i]!) - 0.5 * alpha * jump;
+    for (let j = 0; j < m; j++) {
+      const q = i * m + j;
+      const corr = 0.5 * jump * ds[j]!;
+      dL[q] = 0.5 * AL[q]! + (i === j ? 0.5 * alpha : 0) - (leftActive ? corr : 0);
+      dR[q] = 0.5 * AR[q]! - (i === j ? 0.5 * alpha : 0) - (leftActive ? 0 : corr);
+    }
+  }
+}
+
+/** eulerNumericalFlux by forward-mode differentiation of the flux as written (both fluxes; the slow twin for LLF). */
+export function eulerNumericalFluxDual(
+  name: EulerFluxName, UL: ArrayLike<number>, UR: ArrayLike<number>, n: ArrayLike<number>, d: number, gamma: number,
+  h: Float64Array, dL: Float64Array, dR: Float64Array,
+): void {
   const m = d + 2;
   const [L, R] = inputs(UL, UR, m) as [Dual[], Dual[]];
   const sL = dualState(L, d, gamma), sR = dualState(R, d, gamma);
