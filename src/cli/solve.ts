@@ -103,12 +103,6 @@ function parseBlockSize(v: string): number {
   return Number(v);
 }
 
-/** True when the slab preconditioner's inner solve makes M change between applications. */
-function variableSlab(r: Recipe): boolean {
-  // Without an inner recipe the slab solver uses DEFAULT_INNER_RECIPE, which is iterative.
-  return r.preconditioner === 'slab' && !(r.inner && r.inner.krylov === 'none' && r.inner.maxIterations === 1);
-}
-
 export async function runSolve(file: string, opts: SolveCommandOptions): Promise<SolveReport> {
   const recipe = recipeFromOptions(opts);
   const blockSize = opts.blockSize === undefined ? undefined : parseBlockSize(opts.blockSize);
@@ -122,9 +116,6 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
   } else {
     b = new Float64Array(n);
     csrSpmv(sys.csr, new Float64Array(n).fill(1), b);
-  }
-  if (variableSlab(recipe) && recipe.krylov !== 'fgmres') {
-    process.stderr.write(`slabbench: note: the slab preconditioner with an iterative inner solve changes between applications; --krylov fgmres is the method made for that\n`);
   }
   const progress = process.stderr.isTTY && opts.json !== '-';
   let last = 0;

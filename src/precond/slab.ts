@@ -137,7 +137,7 @@ export class SlabPreconditioner implements Preconditioner {
     this.peakInnerBuffers = {};
     for (let s = 0; s < nSlabs; s++) {
       const slab = this.extractSlab(s);
-      const M = createPreconditioner(slabSystem(slab), this.inner);
+      const M = createPreconditioner(slabSystem(slab, this.system.modes), this.inner);
       const out = M.setup();
       if (!out.ok) {
         const local = out.blockRow ?? 0;
@@ -207,7 +207,7 @@ export class SlabPreconditioner implements Preconditioner {
         }
       }
       const slab = this.extractSlab(s);
-      const M = createPreconditioner(slabSystem(slab), this.inner);
+      const M = createPreconditioner(slabSystem(slab, this.system.modes), this.inner);
       const out = M.setup();
       sol.fill(0);
       if (!out.ok) {
@@ -280,11 +280,15 @@ export class SlabPreconditioner implements Preconditioner {
   }
 }
 
-/** A slab as a SystemMatrix; its CSR view is built only if a point method asks for it. */
-function slabSystem(bsr: Bsr): SystemMatrix {
+/**
+ * A slab as a SystemMatrix; its CSR view is built only if a point method asks for it. The blocks
+ * are the whole matrix's, so the layout's `modes` section holds for them too (p-multigrid inside).
+ */
+function slabSystem(bsr: Bsr, modes: SystemMatrix['modes']): SystemMatrix {
   let csr: Csr | undefined;
   return {
     bsr,
+    ...(modes ? { modes } : {}),
     get csr(): Csr { return (csr ??= bsrToCsr(bsr)); },
   };
 }
