@@ -329,12 +329,12 @@ export const DEFAULT_PMG_COARSE_RECIPE: Readonly<Recipe> = Object.freeze({
 });
 
 export const DEFAULT_PMG_SMOOTHER: Readonly<PMultigridSmoother> = Object.freeze({
-  preconditioner: 'block-jacobi', omega: 0.7, sweep: 'forward', ordering: 'natural', blockInverse: 'inverse', shift: 0,
+  preconditioner: 'block-gs', omega: 1, sweep: 'symmetric', ordering: 'natural', blockInverse: 'inverse', shift: 0,
 });
 
 /** A fresh copy of the default p-multigrid options. */
 export function defaultPMultigrid(): PMultigridOptions {
-  return { cycle: 'v', preSweeps: 2, postSweeps: 2, smoother: { ...DEFAULT_PMG_SMOOTHER }, coarse: { ...DEFAULT_PMG_COARSE_RECIPE } };
+  return { cycle: 'v', preSweeps: 1, postSweeps: 1, smoother: { ...DEFAULT_PMG_SMOOTHER }, coarse: { ...DEFAULT_PMG_COARSE_RECIPE } };
 }
 
 /**
