@@ -455,6 +455,9 @@ function parseCoarse(obj: unknown, where: string): Recipe {
   const src = obj as Record<string, unknown>;
   if (src.inner !== undefined) throw new UserError(`${where}.inner: the coarse solve cannot use preconditioner slab`);
   if (src.pMultigrid !== undefined) throw new UserError(`${where}.pMultigrid: the coarse solve cannot itself use p-multigrid`);
+  if (src.preconditioner === 'slab' || src.preconditioner === 'p-multigrid') {
+    checkCoarse({ preconditioner: src.preconditioner } as Recipe, (f, m) => new UserError(`${where}.${f}: ${m}`));
+  }
   const merged = { ...DEFAULT_PMG_COARSE_RECIPE, ...src } as Record<string, unknown>;
   delete merged.inner;
   const r = parseRecipeAt(merged, where, false);
@@ -516,7 +519,7 @@ function applyPMultigridFlags(opts: Record<string, unknown>, recipe: Recipe): vo
   if (levels !== undefined) {
     const list = typeof levels === 'string' && /^\s*\d+(\s*,\s*\d+)*\s*$/.test(levels) ? levels.split(',').map((s) => Number(s.trim())) : levels;
     const bad = levelsProblem(list);
-    if (bad) throw optionError(`--${PMG_FLAGS.levels}`, `${bad.replace(/^expected a list/, 'expected a comma-separated list')}`);
+    if (bad) throw optionError(`--${PMG_FLAGS.levels}`, bad.replace(/^expected a list/, 'expected a comma-separated list').replace(/got .*$/, `got ${JSON.stringify(levels)}`));
     o.levels = list as number[];
   }
   if (cycle !== undefined) {
