@@ -168,6 +168,12 @@ export class PMultigridPreconditioner implements Preconditioner {
     return { ok: true };
   }
 
+  /** The levels after setup, finest first (read-only view for benchmarks and tests). */
+  levelView(): ReadonlyArray<{ degree: number; a: Bsr; smoother?: Preconditioner; coarse?: Preconditioner }> {
+    const L = this.levels.length - 1;
+    return this.levels.map((lev, l) => ({ degree: lev.degree, a: lev.a, ...(l === L ? { coarse: this.coarseM } : { smoother: lev.smoother }) }));
+  }
+
   apply(r: Float64Array, z: Float64Array): void {
     checkApplyArgs(this.name, this.n, r, z);
     checkReady(this.name, this.ready);

@@ -100,7 +100,7 @@ describe('readLayout / writeLayout', () => {
 });
 
 describe('layout section modes (how each block is built from a hierarchical basis)', () => {
-  const ok = { nEquations: 2, arrangement: 'equation-major', degrees: [0, 1, 1] };
+  const ok = { nEquations: 2, arrangement: 'equation-major' as const, degrees: [0, 1, 1] };
   it('is written on its own lines with the degrees on one line, and read back', () => {
     const p = join(dir, 'modes.layout.json');
     writeLayout(p, { blockSize: 6, slabOffsets: [0, 2], modes: ok, provenance: { order: 1 } });
