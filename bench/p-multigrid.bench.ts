@@ -35,8 +35,8 @@ function median(fn: () => void, reps: number): number {
 }
 
 const cases = [
-  { name: 'advection 2D+t p=2 (room draught, invented)', params: { physics: 'advection', dim: 2, order: 2, cells: quick ? [10, 10] : [21, 21], extent: [1, 1], slabs: 4, cfl: 0.5, periodic: [false, false], velocity: [1, 0.4] } },
-  { name: 'acoustics 2D+t p=2 (hall pulse, invented)', params: { physics: 'acoustics', dim: 2, order: 2, cells: quick ? [5, 5] : [10, 10], extent: [1, 1], slabs: 2, cfl: 1, periodic: [false, false], soundSpeed: 1, meanFlow: [0, 0] } },
+  { name: 'advection 2D+t p=2 (room draught, invented)', params: { physics: 'advection', dim: 2, order: 2, cells: quick ? [10, 10] : [22, 22], extent: [1, 1], slabs: 4, cfl: 0.5, periodic: [false, false], velocity: [1, 0.4] } },
+  { name: 'acoustics 2D+t p=2 (hall pulse, invented)', params: { physics: 'acoustics', dim: 2, order: 2, cells: quick ? [5, 5] : [11, 11], extent: [1, 1], slabs: 2, cfl: 1, periodic: [false, false], soundSpeed: 1, meanFlow: [0, 0] } },
 ];
 
 const fmt = (x: number, d = 3): string => (Number.isFinite(x) ? x.toPrecision(d) : '–');

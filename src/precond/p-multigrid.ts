@@ -49,9 +49,11 @@ export function createPMultigrid(system: SystemMatrix, recipe: Recipe): Precondi
     throw new UserError(`recipe ${recipe.name}: layout field modes describes ${modes.nEquations} × ${modes.degrees.length} = ${modes.nEquations * modes.degrees.length} unknowns per block, but the block size is ${bs}`);
   }
   const p = maxDegree(modes);
-  if (p === 0) throw new UserError(`recipe ${recipe.name}: p-multigrid: layout field modes.degrees has degree 0 only, so there is no lower degree to coarsen to`);
   let levels: number[];
-  if (opts.levels) {
+  // degree 0 only: a property of the matrix, not of the recipe, so setup() fails politely (a sweep
+  // over matrices of several orders records it as a result instead of stopping)
+  if (p === 0) levels = [0];
+  else if (opts.levels) {
     levels = opts.levels;
     if (levels[0] !== p) {
       throw new UserError(`recipe ${recipe.name}: pMultigrid.levels [${levels.join(', ')}] must start at the matrix's degree ${p} (the highest of layout field modes.degrees)`);
@@ -117,6 +119,9 @@ export class PMultigridPreconditioner implements Preconditioner {
   }
 
   setup(): SetupOutcome {
+    if (this.degrees.length < 2) {
+      return { ok: false, reason: 'invalid', message: 'p-multigrid: layout field modes.degrees has degree 0 only (a piecewise-constant basis), so there is no lower degree to coarsen to' };
+    }
     const fine = this.system.bsr;
     const nb = fine.nBlockRows;
     const nBlocks = fine.rowPtr[nb];
