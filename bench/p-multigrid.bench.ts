@@ -84,5 +84,5 @@ for (const c of cases) {
   console.log(`  one application: ${fmt(tApply)} s (coarse solve: ${fmt(st.coarseIterationsTotal / Math.max(1, st.coarseSolves))} GMRES iterations on average)`);
   const { result } = solveSystem(sys, b, recipe);
   const perIt = result.timing.solveSeconds / Math.max(1, result.iterations);
-  console.log(`  FGMRES + p-multigrid: ${result.iterations} iterations (${result.reason}), ${fmt(perIt)} s per iteration, setup ${fmt(result.timing.setupSeconds)} s, preconditioner ${mib(result.memory.preconditionerBytes)}`);
+  console.log(`  FGMRES + p-multigrid: ${result.iterations} iterations (${result.cause}), ${fmt(perIt)} s per iteration, setup ${fmt(result.timing.setupSeconds)} s, preconditioner ${mib(result.memory.preconditionerBytes)}`);
 }

@@ -235,8 +235,8 @@ export class PMultigridPreconditioner implements Preconditioner {
     this.coarseIterations += res.iterations;
     if (!res.converged) {
       this.coarseNotConverged++;
-      if (res.reason !== 'max-iterations' && this.coarseFailures.length < 10) {
-        this.coarseFailures.push(`coarse solve ${this.coarseSolves}: ${res.method} stopped with ${res.reason}`);
+      if (res.cause !== 'iteration-budget' && this.coarseFailures.length < 10) {
+        this.coarseFailures.push(`coarse solve ${this.coarseSolves}: ${res.method} stopped with ${res.cause}`);
       }
     }
   }
