@@ -26,7 +26,7 @@
  */
 import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { Recipe } from '../solvers/recipe.js';
-import { DEFAULT_INNER_RECIPE } from '../solvers/recipe.js';
+import { DEFAULT_INNER_RECIPE, defaultPMultigrid, pMultigridIsVariable } from '../solvers/recipe.js';
 import type { Bsr, Csr } from '../sparse/types.js';
 import type { BufferBytes } from '../solvers/types.js';
 import { UserError } from '../util/errors.js';
@@ -85,7 +85,9 @@ export class SlabPreconditioner implements Preconditioner {
   constructor(private readonly system: SystemMatrix, readonly inner: Recipe) {
     this.a = system.bsr;
     this.n = system.bsr.nBlockRows * system.bsr.bs;
-    this.variable = !(inner.krylov === 'none' && inner.maxIterations <= 1);
+    // a single stationary step is fixed only when the inner preconditioner is (p-multigrid may not be)
+    this.variable = !(inner.krylov === 'none' && inner.maxIterations <= 1)
+      || (inner.preconditioner === 'p-multigrid' && pMultigridIsVariable(inner.pMultigrid ?? defaultPMultigrid()));
   }
 
   setup(): SetupOutcome {

@@ -234,5 +234,10 @@ describe('structure: cycles, levels, statistics, memory, arrangements, inside th
     expect(result.converged).toBe(true);
     expect(result.iterations).toBeLessThanOrEqual(2);
     expect((result.preconditionerStats as { inner: { preconditioner: string } }).inner.preconditioner).toBe('p-multigrid');
+    // one stationary step of a variable p-multigrid is still variable; of a fixed one it is fixed
+    const step = (coarse: Record<string, unknown>) => createPreconditioner(g.sys, parseRecipe({ krylov: 'fgmres', preconditioner: 'slab',
+      inner: { krylov: 'none', maxIterations: 1, preconditioner: 'p-multigrid', pMultigrid: { coarse } } }, 'r')).variable;
+    expect(step({})).toBe(true);
+    expect(step({ krylov: 'none', rtol: 0, maxIterations: 2 })).toBe(false);
   });
 });
