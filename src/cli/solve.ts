@@ -97,6 +97,11 @@ export function formatSolveReport(rep: SolveReport): string {
     + (t.preconditionerApplications > 0 ? ` (${t.preconditionerApplications} preconditioner application${t.preconditionerApplications === 1 ? '' : 's'}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
   const mem = rep.memory;
   row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
+  const pmg = rep.recipe.preconditioner === 'p-multigrid' ? rep.preconditionerStats as { levels?: Array<{ degree: number; rows: number }>; coarseSolves?: number; coarseIterationsTotal?: number } | undefined : undefined;
+  if (pmg?.levels) {
+    const per = pmg.coarseSolves ? ` (${num(pmg.coarseIterationsTotal! / pmg.coarseSolves)} coarse iterations per coarse solve)` : '';
+    row('levels', `${pmg.levels.map((l) => `degree ${l.degree}: ${l.rows} rows`).join(' → ')}${per}`);
+  }
   if (rep.ritz && rep.ritz.re.length > 0) {
     const re = rep.ritz.re;
     const imMax = Math.max(...rep.ritz.im.map(Math.abs));
