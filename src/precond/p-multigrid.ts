@@ -29,7 +29,8 @@ import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { PMultigridOptions, Recipe } from '../solvers/recipe.js';
 import { DEFAULT_RECIPE, defaultPMultigrid, pMultigridIsVariable } from '../solvers/recipe.js';
 import type { Bsr, Csr, ModalLayout } from '../sparse/types.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
+import { addWork, kernel, sparseWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { UserError } from '../util/errors.js';
 import { bsrMultiplyAddKernel, bsrToCsr } from '../sparse/bsr.js';
 import { bsrOperator, type MatrixOperator } from '../solvers/operator.js';
@@ -80,6 +81,13 @@ interface Level {
   res: Float64Array;
   cor: Float64Array;
   setupSeconds: number;
+  /** Work-model call counts during applications (see work()). */
+  nResiduals: number;
+  nStepsFromZero: number;
+  nSteps: number;
+  nFills: number;
+  nRestricts: number;
+  nProlongs: number;
 }
 
 export class PMultigridPreconditioner implements Preconditioner {
@@ -99,6 +107,9 @@ export class PMultigridPreconditioner implements Preconditioner {
   private coarseIterations = 0;
   private coarseNotConverged = 0;
   private coarseFailures: string[] = [];
+  private setupWork: WorkCounts = zeroWork();
+  /** Everything the coarse solves did (their products, vector work and preconditioner applies). */
+  private coarseWork: WorkCounts = zeroWork();
 
   constructor(
     private readonly system: SystemMatrix,
@@ -127,6 +138,9 @@ export class PMultigridPreconditioner implements Preconditioner {
     const nBlocks = fine.rowPtr[nb];
     const L = this.degrees.length - 1;
     this.levels = [];
+    this.setupWork = zeroWork();
+    this.coarseWork = zeroWork();
+    this.applications = 0; this.coarseSolves = 0; this.coarseIterations = 0; this.coarseNotConverged = 0; this.coarseFailures = [];
     let modes = this.system.modes as ModalLayout;
     let prev: Level | undefined;
     for (let l = 0; l <= L; l++) {
@@ -141,6 +155,7 @@ export class PMultigridPreconditioner implements Preconditioner {
         const bsC = sel.length;
         const values = new Float64Array(nBlocks * bsC * bsC);
         extractBlocksKernel(nBlocks, (prev as Level).bs, (prev as Level).a.values, sel, values);
+        addWork(this.setupWork, kernel(0, 2 * values.length * 8)); // the kept entries read, the coarse blocks written
         a = { nBlockRows: nb, nBlockCols: nb, bs: bsC, rowPtr: fine.rowPtr, colInd: fine.colInd, values };
       }
       const n = nb * a.bs;
@@ -149,7 +164,7 @@ export class PMultigridPreconditioner implements Preconditioner {
         degree: q, bs: a.bs, a, modes, sel,
         b: new Float64Array(l === 0 ? 0 : n), x: new Float64Array(l === 0 ? 0 : n),
         res: new Float64Array(coarsest ? 0 : n), cor: new Float64Array(coarsest ? 0 : n),
-        setupSeconds: 0,
+        setupSeconds: 0, nResiduals: 0, nStepsFromZero: 0, nSteps: 0, nFills: 0, nRestricts: 0, nProlongs: 0,
       };
       const sys = levelSystem(a, l === 0 ? this.system.csr : undefined, this.system.slabOffsets, modes);
       const M = createPreconditioner(sys, coarsest ? this.opts.coarse : this.smootherRecipe);
@@ -164,6 +179,7 @@ export class PMultigridPreconditioner implements Preconditioner {
         const role = coarsest ? `coarse ${this.opts.coarse.preconditioner}` : `smoother ${this.opts.smoother.preconditioner}`;
         return { ...out, message: `p-multigrid level ${l} (degree ${q}) ${role}: ${out.message}` };
       }
+      addWork(this.setupWork, M.work().setup);
       if (coarsest) { this.coarseM = M; this.coarseOp = bsrOperator(a); } else level.smoother = M;
       level.setupSeconds = (performance.now() - t0) / 1000;
       this.levels.push(level);
@@ -184,6 +200,7 @@ export class PMultigridPreconditioner implements Preconditioner {
     checkReady(this.name, this.ready);
     this.applications++;
     z.fill(0);
+    this.levels[0].nFills++;
     this.cycle(0, r, z, true);
   }
 
@@ -201,9 +218,12 @@ export class PMultigridPreconditioner implements Preconditioner {
       this.residual(lev, b, x);
       restrictKernel(nb, lev.bs, next.sel as Int32Array, lev.res, next.b);
     }
+    next.nRestricts++;
     next.x.fill(0);
+    next.nFills++;
     for (let g = 0; g < this.gamma; g++) this.cycle(l + 1, next.b, next.x, g === 0);
     prolongAddKernel(nb, lev.bs, next.sel as Int32Array, next.x, x);
+    next.nProlongs++;
     for (let s = 0; s < this.opts.postSweeps; s++) this.smooth(lev, b, x, false);
   }
 
@@ -211,6 +231,7 @@ export class PMultigridPreconditioner implements Preconditioner {
   private residual(lev: Level, b: Float64Array, x: Float64Array): void {
     const a = lev.a;
     bsrMultiplyAddKernel(a.nBlockRows, a.bs, a.rowPtr, a.colInd, a.values, x, -1, b, lev.res);
+    lev.nResiduals++;
   }
 
   /** One smoothing step x ← x + ω M⁻¹(b − A x); from x = 0 it is x ← ω M⁻¹ b. */
@@ -222,10 +243,12 @@ export class PMultigridPreconditioner implements Preconditioner {
     if (xZero) {
       M.apply(b, c);
       for (let i = 0; i < n; i++) x[i] = w * c[i];
+      lev.nStepsFromZero++;
     } else {
       this.residual(lev, b, x);
       M.apply(lev.res, c);
       for (let i = 0; i < n; i++) x[i] += w * c[i];
+      lev.nSteps++;
     }
   }
 
@@ -233,12 +256,41 @@ export class PMultigridPreconditioner implements Preconditioner {
     const res = krylovSolve(this.coarseOp as MatrixOperator, b, x, this.opts.coarse, this.coarseM, { ritz: false });
     this.coarseSolves++;
     this.coarseIterations += res.iterations;
+    addWork(this.coarseWork, res.work.solve);
+    this.coarseWork.innerIterations += res.iterations;
     if (!res.converged) {
       this.coarseNotConverged++;
       if (res.cause !== 'iteration-budget' && this.coarseFailures.length < 10) {
         this.coarseFailures.push(`coarse solve ${this.coarseSolves}: ${res.method} stopped with ${res.cause}`);
       }
     }
+  }
+
+  /**
+   * Work model (README "Work model"; p-multigrid section): setup = extraction of every coarse level
+   * (kept entries read, coarse blocks written) + every smoother's and the coarse preconditioner's
+   * setup. apply = per level its residual products r = b − A x (BSR product + 2n flops, b read),
+   * smoothing updates (x ← ω c: n flops, 16n bytes; x ← x + ω c: an axpy), smoother applies (their
+   * own work), restrictions (gather: 16·n_c bytes), prolongations (scatter-add: n_c flops, 24·n_c
+   * bytes), zero fills, plus all the work of the coarse solves (innerIterations = their iterations);
+   * preconditionerApplies = apply() calls + smoother applies + the coarse solves' applies.
+   */
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    const w = zeroWork();
+    for (const lev of this.levels) {
+      const a = lev.a;
+      const nb = a.nBlockRows, bs = a.bs, n = nb * bs, k = a.rowPtr[nb];
+      if (lev.nResiduals) addWork(w, addWork(sparseWork.bsrSpmv(nb, bs, k), kernel(2 * n, 8 * n)), lev.nResiduals);
+      if (lev.nStepsFromZero) addWork(w, kernel(n, 16 * n), lev.nStepsFromZero);
+      if (lev.nSteps) addWork(w, vectorWork.axpy(n), lev.nSteps);
+      if (lev.nFills) addWork(w, vectorWork.fill(n), lev.nFills);
+      if (lev.nRestricts) addWork(w, kernel(0, 16 * n), lev.nRestricts);
+      if (lev.nProlongs) addWork(w, kernel(n, 24 * n), lev.nProlongs);
+      if (lev.smoother) addWork(w, lev.smoother.work().apply);
+    }
+    addWork(w, this.coarseWork);
+    w.preconditionerApplies += this.applications;
+    return { setup: { ...this.setupWork }, apply: w };
   }
 
   /** Bytes by named buffer, per level (the finest matrix and the shared block pattern are the input's, not counted). */

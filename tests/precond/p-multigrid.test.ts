@@ -241,3 +241,28 @@ describe('structure: cycles, levels, statistics, memory, arrangements, inside th
     expect(step({ krylov: 'none', rtol: 0, maxIterations: 2 })).toBe(false);
   });
 });
+
+describe('work counts (README "Work model"; counts derived from the cycle)', () => {
+  it('one V-cycle over levels [2, 0] with one pre- and one post-step: 2 residual products, 2 smoother applies, plus the coarse solve', () => {
+    // From z = 0: the pre-step needs no product (x = ω M⁻¹ b); one residual before restriction; the
+    // post-step one residual. The coarse solve adds its own products, applies and iterations.
+    const { sys, b } = generated(acoustics1d(2, 8));
+    const M = createPreconditioner(sys, pmg({ levels: [2, 0], smoother: { ...defaultPMultigrid().smoother, preconditioner: 'block-jacobi' } }));
+    expect(M.setup().ok).toBe(true);
+    const z = new Float64Array(b.length);
+    M.apply(b, z);
+    const st = M.stats?.() as { coarseIterationsTotal: number };
+    const w = M.work().apply;
+    const fine = sys.bsr, n = fine.nBlockRows * fine.bs, k = fine.rowPtr[fine.nBlockRows];
+    // coarse GMRES: matvecs = iterations + 2 (start residual, final check) when it ends in its first cycle
+    expect(w.innerIterations).toBe(st.coarseIterationsTotal);
+    expect(w.matvecs).toBe(2 + st.coarseIterationsTotal + 2);
+    // 1 apply() + 2 block Jacobi applies + the coarse GMRES's (right preconditioning: one per iteration + one per cycle)
+    expect(w.preconditionerApplies).toBe(1 + 2 + st.coarseIterationsTotal + 1);
+    // the fine-level residual products alone are already in the flops
+    expect(w.flops).toBeGreaterThan(2 * (2 * k * fine.bs * fine.bs + 2 * n));
+    const setup = M.work().setup;
+    expect(setup.bytes).toBeGreaterThanOrEqual(2 * k * 4 * 8); // extraction of the degree-0 blocks (2×2)
+    expect(setup.flops).toBeGreaterThan(0); // the smoother's and coarse preconditioner's factorizations
+  });
+});
