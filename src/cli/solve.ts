@@ -20,11 +20,12 @@ const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   orthogonalization: 'Gram–Schmidt variant: mgs = modified, cgs2 = classical with one reorthogonalization (default mgs)',
   preconditioner: 'preconditioner (default none)',
   sweep: 'block Gauss–Seidel sweep direction; symmetric = forward then backward (default forward)',
-  ordering: 'block ordering for block-gs and block-ilu0 (default natural)',
+  ordering: 'block ordering for block-gs, block-ilu0 and block-iluk (default natural)',
   omega: 'relaxation: inside block-gs (SOR), else the stationary step factor (default 1)',
   sweeps: 'block Gauss–Seidel sweeps per application (default 1)',
   shift: 'diagonal shift added before factorizing; 0 = a zero pivot fails the run (default 0)',
   blockInverse: 'diagonal blocks of block-jacobi and block-gs: inverse (explicit inverses, one block mat-vec per apply) or lu (LU factors with partial pivoting, two triangular solves per apply); default inverse',
+  fillLevel: 'block-iluk level of fill k: keep fill blocks of level ≤ k (Saad 2003 §10.3.3); 0 = block ILU(0) (default 1)',
   rtol: 'stop when the watched ‖r‖ ≤ rtol · reference norm (default 1e-8)',
   atol: 'or when the watched ‖r‖ ≤ atol; 0 disables (default 0)',
   maxIterations: 'maximum inner iterations in total, whatever the restart (default 1000)',
@@ -190,6 +191,7 @@ export function registerSolve(program: Command): void {
     [`--${PMG_FLAGS.ordering} <value>`, 'p-multigrid smoother block-gs/block-ilu0: block ordering (default natural)'],
     [`--${PMG_FLAGS.blockInverse} <value>`, 'p-multigrid smoother block-jacobi/block-gs: inverse or lu (default inverse)'],
     [`--${PMG_FLAGS.shift} <value>`, 'p-multigrid smoother: diagonal shift before factorizing (default 0)'],
+    [`--${PMG_FLAGS.fillLevel} <k>`, 'p-multigrid smoother block-iluk: level of fill, 0-64 (default 1)'],
   ];
   for (const [flags, text] of pmgHelp) cmd.option(flags, text);
   for (const field of RECIPE_FIELDS) {

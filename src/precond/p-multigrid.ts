@@ -123,7 +123,7 @@ export class PMultigridPreconditioner implements Preconditioner {
     this.smootherRecipe = {
       ...DEFAULT_RECIPE, name: `${recipeName} smoother`, krylov: 'none', preconditioner: s.preconditioner,
       omega: s.preconditioner === 'block-gs' ? s.omega : 1, sweep: s.sweep, ordering: s.ordering,
-      blockInverse: s.blockInverse, shift: s.shift, sweeps: 1,
+      blockInverse: s.blockInverse, shift: s.shift, fillLevel: s.fillLevel, sweeps: 1,
     };
     this.stepFactor = s.preconditioner === 'block-gs' ? 1 : s.omega;
     this.gamma = opts.cycle === 'w' ? 2 : 1;

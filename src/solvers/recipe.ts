@@ -4,7 +4,7 @@ import { UserError, optionError } from '../util/errors.js';
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
  */
 export type KrylovName = 'gmres' | 'fgmres' | 'bicgstab' | 'none';
-export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'slab'
+export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk' | 'slab'
   | 'p-multigrid';
 export type SweepDirection = 'forward' | 'backward' | 'symmetric';
 export type OrderingName = 'natural' | 'rcm' | 'downstream' | 'mdf';
@@ -14,7 +14,7 @@ export type BlockInverse = 'lu' | 'inverse';
 
 export const KRYLOV_NAMES: readonly KrylovName[] = ['gmres', 'fgmres', 'bicgstab', 'none'];
 export const PRECONDITIONER_NAMES: readonly PreconditionerName[] = [
-  'none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'slab',
+  'none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab',
   'p-multigrid',
 ];
 export const SWEEP_DIRECTIONS: readonly SweepDirection[] = ['forward', 'backward', 'symmetric'];
@@ -42,6 +42,8 @@ export interface Recipe {
   shift: number;
   /** Block-jacobi diagonal block solve: LU with partial pivoting, or explicit inverse. */
   blockInverse: BlockInverse;
+  /** Block ILU(k): level of fill k (0 = the pattern of A, i.e. block ILU(0)). */
+  fillLevel: number;
   /** Stop when ‖r‖ ≤ rtol · reference norm (‖b‖ or ‖r₀‖, see relativeTo) … */
   rtol: number;
   /** … or when ‖r‖ ≤ atol (absolute). 0 disables. */
@@ -71,6 +73,7 @@ export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
   sweeps: 1,
   shift: 0,
   blockInverse: 'inverse',
+  fillLevel: 1,
   rtol: 1e-8,
   atol: 0,
   maxIterations: 1000,
@@ -117,6 +120,7 @@ const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   sweeps: { kind: 'int', min: 1, max: 1000 },
   shift: { kind: 'number', min: 0, minOpen: false },
   blockInverse: { kind: 'enum', values: BLOCK_INVERSES },
+  fillLevel: { kind: 'int', min: 0, max: 64 },
   rtol: { kind: 'number', min: 0, minOpen: false, max: 1, maxOpen: true },
   atol: { kind: 'number', min: 0, minOpen: false },
   maxIterations: { kind: 'int', min: 0, max: 1e9 },
@@ -227,6 +231,7 @@ export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   sweeps: 'sweeps',
   shift: 'shift',
   blockInverse: 'block-inverse',
+  fillLevel: 'fill-level',
   rtol: 'rtol',
   atol: 'atol',
   maxIterations: 'max-iters',
@@ -289,8 +294,8 @@ export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
 export type PMultigridCycle = 'v' | 'w';
 export const PMG_CYCLES: readonly PMultigridCycle[] = ['v', 'w'];
 /** Single-level preconditioners a p-multigrid level can smooth with. */
-export type PMultigridSmootherName = 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0';
-export const PMG_SMOOTHERS: readonly PMultigridSmootherName[] = ['jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0'];
+export type PMultigridSmootherName = 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk';
+export const PMG_SMOOTHERS: readonly PMultigridSmootherName[] = ['jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk'];
 
 /** One smoothing step on a level: x ← x + ω M⁻¹(b − A x) (for block-gs ω is its SOR factor and the step is 1). */
 export interface PMultigridSmoother {
@@ -305,6 +310,8 @@ export interface PMultigridSmoother {
   blockInverse: BlockInverse;
   /** Diagonal shift before factorizing (every smoother). */
   shift: number;
+  /** block-iluk only: level of fill. */
+  fillLevel: number;
 }
 
 export interface PMultigridOptions {
@@ -330,7 +337,7 @@ export const DEFAULT_PMG_COARSE_RECIPE: Readonly<Recipe> = Object.freeze({
 });
 
 export const DEFAULT_PMG_SMOOTHER: Readonly<PMultigridSmoother> = Object.freeze({
-  preconditioner: 'block-gs', omega: 1, sweep: 'symmetric', ordering: 'natural', blockInverse: 'inverse', shift: 0,
+  preconditioner: 'block-gs', omega: 1, sweep: 'symmetric', ordering: 'natural', blockInverse: 'inverse', shift: 0, fillLevel: 1,
 });
 
 /** A fresh copy of the default p-multigrid options. */
@@ -355,6 +362,7 @@ const SMOOTHER_USES: Record<PMultigridSmootherName, readonly (keyof PMultigridSm
   'block-gs': ['omega', 'sweep', 'ordering', 'blockInverse', 'shift'],
   'ilu0': ['omega', 'shift'],
   'block-ilu0': ['omega', 'ordering', 'shift'],
+  'block-iluk': ['omega', 'ordering', 'shift', 'fillLevel'],
 };
 
 const SMOOTHER_SPECS: Record<Exclude<keyof PMultigridSmoother, 'preconditioner'>, FieldSpec> = {
@@ -363,6 +371,7 @@ const SMOOTHER_SPECS: Record<Exclude<keyof PMultigridSmoother, 'preconditioner'>
   ordering: { kind: 'enum', values: ORDERING_NAMES },
   blockInverse: { kind: 'enum', values: BLOCK_INVERSES },
   shift: { kind: 'number', min: 0, minOpen: false },
+  fillLevel: { kind: 'int', min: 0, max: 64 },
 };
 const PMG_SWEEPS_SPEC: FieldSpec = { kind: 'int', min: 0, max: 100 };
 const PMG_FIELDS = ['levels', 'cycle', 'preSweeps', 'postSweeps', 'smoother', 'coarse'];
@@ -428,7 +437,7 @@ function pmgOwnProblem(o: PMultigridOptions): [string, string] | undefined {
 }
 
 function parseSmoother(obj: unknown, where: string, fromText: boolean): PMultigridSmoother {
-  if (obj === null || typeof obj !== 'object' || Array.isArray(obj)) throw new UserError(`${where}: expected an object (preconditioner, omega, sweep, ordering, blockInverse, shift)`);
+  if (obj === null || typeof obj !== 'object' || Array.isArray(obj)) throw new UserError(`${where}: expected an object (preconditioner, omega, sweep, ordering, blockInverse, shift, fillLevel)`);
   const src = obj as Record<string, unknown>;
   const out: PMultigridSmoother = { ...DEFAULT_PMG_SMOOTHER };
   if (src.preconditioner !== undefined) {
@@ -485,6 +494,7 @@ export const PMG_FLAGS = {
   ordering: 'pmg-smoother-order',
   blockInverse: 'pmg-smoother-block-inverse',
   shift: 'pmg-smoother-shift',
+  fillLevel: 'pmg-smoother-fill-level',
 } as const;
 export const PMG_COARSE_PREFIX = 'pmg-coarse-';
 
@@ -502,7 +512,7 @@ function applyPMultigridFlags(opts: Record<string, unknown>, recipe: Recipe): vo
   const smoother: Record<string, unknown> = {};
   const sm = raw(PMG_FLAGS.smoother);
   if (sm !== undefined) smoother.preconditioner = sm;
-  for (const k of ['omega', 'sweep', 'ordering', 'blockInverse', 'shift'] as const) {
+  for (const k of ['omega', 'sweep', 'ordering', 'blockInverse', 'shift', 'fillLevel'] as const) {
     const v = raw(PMG_FLAGS[k]);
     if (v !== undefined) smoother[k] = v;
   }

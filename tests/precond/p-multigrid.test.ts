@@ -191,6 +191,13 @@ describe('structure: cycles, levels, statistics, memory, arrangements, inside th
     }
   });
 
+  it('every single-level smoother runs (jacobi, block-jacobi, block-gs, ilu0, block-ilu0, block-iluk)', () => {
+    for (const preconditioner of ['jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk'] as const) {
+      const { result } = solveSystem(sys, b, pmg({ smoother: { ...defaultPMultigrid().smoother, preconditioner, omega: preconditioner.endsWith('jacobi') ? 0.7 : 1 } }));
+      expect(result.converged, preconditioner).toBe(true);
+    }
+  });
+
   it('stats list rows and nonzero blocks per level; memory names every level\'s buffers', () => {
     const M = createPreconditioner(sys, pmg({ levels: [2, 0] }));
     expect(M.setup().ok).toBe(true);

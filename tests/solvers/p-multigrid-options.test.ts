@@ -17,7 +17,7 @@ describe('recipe field pMultigrid (suite files)', () => {
     const r = parseRecipe(fgmresPmg, 'r');
     expect(r.pMultigrid).toEqual({
       cycle: 'v', preSweeps: 1, postSweeps: 1,
-      smoother: { preconditioner: 'block-gs', omega: 1, sweep: 'symmetric', ordering: 'natural', blockInverse: 'inverse', shift: 0 },
+      smoother: { preconditioner: 'block-gs', omega: 1, sweep: 'symmetric', ordering: 'natural', blockInverse: 'inverse', shift: 0, fillLevel: 1 },
       coarse: { ...DEFAULT_PMG_COARSE_RECIPE },
     });
     expect(r.pMultigrid?.levels).toBeUndefined();
@@ -53,7 +53,7 @@ describe('recipe field pMultigrid (suite files)', () => {
     [{ pMultigrid: { postSweeps: 1.5 } }, /^r\.pMultigrid\.postSweeps: expected an integer/],
     [{ pMultigrid: { preSweeps: 0, postSweeps: 0 } }, /^r\.pMultigrid\.postSweeps: preSweeps and postSweeps are both 0/],
     [{ pMultigrid: { smoother: 'block-gs' } }, /^r\.pMultigrid\.smoother: expected an object/],
-    [{ pMultigrid: { smoother: { preconditioner: 'slab' } } }, /^r\.pMultigrid\.smoother\.preconditioner: expected one of jacobi, block-jacobi, block-gs, ilu0, block-ilu0, got "slab"$/],
+    [{ pMultigrid: { smoother: { preconditioner: 'slab' } } }, /^r\.pMultigrid\.smoother\.preconditioner: expected one of jacobi, block-jacobi, block-gs, ilu0, block-ilu0, block-iluk, got "slab"$/],
     [{ pMultigrid: { smoother: { preconditioner: 'p-multigrid' } } }, /smoother\.preconditioner: expected one of/],
     [{ pMultigrid: { smoother: { omega: 2 } } }, /^r\.pMultigrid\.smoother\.omega: expected a finite number > 0 and < 2, got 2$/],
     [{ pMultigrid: { smoother: { omega: 0 } } }, /smoother\.omega: expected a finite number > 0/],
@@ -65,6 +65,8 @@ describe('recipe field pMultigrid (suite files)', () => {
     [{ pMultigrid: { smoother: { preconditioner: 'block-jacobi', sweep: 'forward' } } }, /^r\.pMultigrid\.smoother\.sweep: not used by smoother block-jacobi \(it reads omega, blockInverse, shift\)$/],
     [{ pMultigrid: { smoother: { preconditioner: 'block-ilu0', blockInverse: 'lu' } } }, /smoother\.blockInverse: not used by smoother block-ilu0/],
     [{ pMultigrid: { smoother: { preconditioner: 'jacobi', ordering: 'rcm' } } }, /smoother\.ordering: not used by smoother jacobi/],
+    [{ pMultigrid: { smoother: { fillLevel: 2 } } }, /smoother\.fillLevel: not used by smoother block-gs/],
+    [{ pMultigrid: { smoother: { preconditioner: 'block-iluk', fillLevel: 65 } } }, /smoother\.fillLevel: expected an integer from 0 to 64, got 65/],
     [{ pMultigrid: { coarse: 'gmres' } }, /^r\.pMultigrid\.coarse: expected an object with recipe fields$/],
     [{ pMultigrid: { coarse: { restart: 0 } } }, /^r\.pMultigrid\.coarse\.restart: expected an integer from 1 to 10000, got 0$/],
     [{ pMultigrid: { coarse: { preconditioner: 'slab' } } }, /^r\.pMultigrid\.coarse\.preconditioner: the coarse solve cannot use slab/],
@@ -136,7 +138,7 @@ describe('--pmg-… options (command line)', () => {
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgLevels: 'two,one' }, 'option --pmg-levels: expected a comma-separated list of at least 2 polynomial degrees, finest first, got "two,one"'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgCycle: 'x' }, 'option --pmg-cycle: expected one of v, w, got "x"'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgPreSweeps: '0', pmgPostSweeps: '0' }, 'option --pmg-post-sweeps: preSweeps and postSweeps are both 0: the levels above the coarsest would do nothing'],
-    [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmoother: 'slab' }, 'option --pmg-smoother: expected one of jacobi, block-jacobi, block-gs, ilu0, block-ilu0, got "slab"'],
+    [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmoother: 'slab' }, 'option --pmg-smoother: expected one of jacobi, block-jacobi, block-gs, ilu0, block-ilu0, block-iluk, got "slab"'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmootherOmega: '2.5' }, 'option --pmg-smoother-omega: expected a finite number > 0 and < 2, got "2.5"'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmoother: 'jacobi', pmgSmootherSweep: 'forward' }, 'option --pmg-smoother-sweep: not used by smoother jacobi (it reads omega, shift)'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmootherOrder: 'mdf', pmgSmoother: 'block-jacobi' }, 'option --pmg-smoother-order: not used by smoother block-jacobi (it reads omega, blockInverse, shift)'],
