@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import {
-  DEFAULT_PMG_COARSE_RECIPE, DEFAULT_PMG_SMOOTHER, defaultPMultigrid, parseRecipe, pMultigridIsVariable, recipeFromOptions,
+  DEFAULT_PMG_COARSE_RECIPE, DEFAULT_PMG_SMOOTHER, defaultPMultigrid, parseRecipe, pMultigridIsVariable, recipeFromOptions, recordedRecipe,
 } from '../../src/solvers/recipe.js';
 import { solveSystem } from '../../src/solvers/run-recipe.js';
 import { krylovSolve } from '../../src/solvers/krylov.js';
@@ -141,7 +141,7 @@ describe('--pmg-… options (command line)', () => {
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmoother: 'slab' }, 'option --pmg-smoother: expected one of jacobi, block-jacobi, block-gs, ilu0, block-ilu0, block-iluk, got "slab"'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmootherOmega: '2.5' }, 'option --pmg-smoother-omega: expected a finite number > 0 and < 2, got "2.5"'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmoother: 'jacobi', pmgSmootherSweep: 'forward' }, 'option --pmg-smoother-sweep: not used by smoother jacobi (it reads omega, shift)'],
-    [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmootherOrder: 'mdf', pmgSmoother: 'block-jacobi' }, 'option --pmg-smoother-order: not used by smoother block-jacobi (it reads omega, blockInverse, shift)'],
+    [{ krylov: 'fgmres', precond: 'p-multigrid', pmgSmootherOrdering: 'mdf', pmgSmoother: 'block-jacobi' }, 'option --pmg-smoother-ordering: not used by smoother block-jacobi (it reads omega, blockInverse, shift)'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgCoarseRtol: '2' }, 'option --pmg-coarse-rtol: expected a finite number ≥ 0 and < 1, got "2"'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgCoarsePrecond: 'slab' }, 'option --pmg-coarse-precond: the coarse solve cannot use slab; expected a single-level preconditioner'],
     [{ krylov: 'fgmres', precond: 'p-multigrid', pmgCoarseKrylov: 'fgmres', pmgCoarseSide: 'left' }, 'option --pmg-coarse-side: fgmres preconditions on the right only'],
@@ -198,5 +198,22 @@ describe('the matrix side: layout field modes, and GMRES refusing a variable pre
     expect(() => solveSystem(systemOf(a), b, slab)).toThrow(/^recipe slabby: preconditioner slab changes between applications/);
     // FGMRES takes it
     expect(solveSystem(sys, b, { ...gm, krylov: 'fgmres' }).result.converged).toBe(true);
+  });
+});
+
+describe('option applicability (fields p-multigrid does not read are errors; results record pMultigrid)', () => {
+  it('an outer field p-multigrid does not read is refused; the coarse recipe is checked the same way', () => {
+    expect(() => parseRecipe({ ...fgmresPmg, sweep: 'backward' }, 'r')).toThrow(/^r\.sweep: has no effect with fgmres \+ p-multigrid/);
+    expect(() => parseRecipe({ ...fgmresPmg, shift: 0.1 }, 'r')).toThrow(/^r\.shift: has no effect/);
+    expect(() => parseRecipe({ ...fgmresPmg, pMultigrid: { coarse: { preconditioner: 'block-ilu0', sweep: 'forward' } } }, 'r'))
+      .toThrow(/^r\.pMultigrid\.coarse\.sweep: has no effect with gmres \+ block-ilu0/);
+    expect(() => recipeFromOptions({ krylov: 'fgmres', precond: 'p-multigrid', pmgCoarseSweep: 'forward' }))
+      .toThrow(/^option --pmg-coarse-sweep: has no effect with gmres \+ block-ilu0/);
+  });
+
+  it('recordedRecipe keeps the pMultigrid options', () => {
+    const r = parseRecipe({ ...fgmresPmg, pMultigrid: { cycle: 'w' } }, 'r');
+    expect(recordedRecipe(r).pMultigrid?.cycle).toBe('w');
+    expect(recordedRecipe(r)).not.toHaveProperty('sweep');
   });
 });
