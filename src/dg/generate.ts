@@ -238,6 +238,7 @@ export function generateWithDiscretization(
   const layout: Layout = {
     blockSize: disc.bs,
     slabOffsets,
+    modes: { nEquations: physics.nEquations, arrangement: 'equation-major', degrees: Array.from(tables.basis.degrees) },
     provenance: {
       generator: 'slabbench generate',
       slabbenchVersion: VERSION,
