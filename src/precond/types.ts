@@ -1,4 +1,4 @@
-import type { Bsr, Csr } from '../sparse/types.js';
+import type { Bsr, Csr, ModalLayout } from '../sparse/types.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 
 /** The matrix as a preconditioner factory sees it. */
@@ -16,6 +16,8 @@ export interface SystemMatrix {
    */
   readonly n?: number;
   readonly bs?: number;
+  /** How each block is built from a hierarchical basis (layout section `modes`), when known; p-multigrid needs it. */
+  readonly modes?: ModalLayout;
 }
 
 export type SetupOutcome =
