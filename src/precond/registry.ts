@@ -12,6 +12,8 @@ import { createBlockGs } from './block-gs.js';
 import { createIlu0 } from './ilu0.js';
 import { createBlockIlu0 } from './block-ilu0.js';
 import { createSlab } from './slab.js';
+import { createSchwarz } from './schwarz.js';
+import { createDirect } from './direct.js';
 
 /** Creates a preconditioner (cheap: checks options; the heavy work happens in setup()). */
 export type PreconditionerFactory = (system: SystemMatrix, recipe: Recipe) => Preconditioner;
@@ -53,3 +55,5 @@ registerPreconditioner('block-gs', createBlockGs);
 registerPreconditioner('ilu0', createIlu0);
 registerPreconditioner('block-ilu0', createBlockIlu0);
 registerPreconditioner('slab', createSlab);
+registerPreconditioner('schwarz', createSchwarz);
+registerPreconditioner('direct', createDirect);
