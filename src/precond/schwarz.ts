@@ -344,7 +344,7 @@ export class SchwarzPreconditioner implements Preconditioner {
     const bs = this.system.bsr.bs;
     const base: Record<string, unknown> = {
       kind: this.o.kind, overlap: this.o.overlap, subdomain: this.o.subdomain, partitionSlabs: this.o.slabs,
-      setupFlops: this.setupFlops,
+      setupFlops: this.setupFlops, applications: this.applies,
     };
     if (!p) return { ...base, parts: this.o.parts };
     const pw = this.partApplyWork();
