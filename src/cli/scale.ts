@@ -7,6 +7,8 @@ import { EXAMPLE_MACHINE, runScale, type ScaleReport } from '../run/scale.js';
 import { EXIT, fileError, optionError } from '../util/errors.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
 import { formatBytes, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
+import { esc } from '../report/svg/common.js';
+import { scalePlot } from '../report/svg/scale.js';
 
 interface ScaleCommandOptions extends Record<string, unknown> {
   rhs?: string;
@@ -17,6 +19,7 @@ interface ScaleCommandOptions extends Record<string, unknown> {
   latency?: string;
   networkBandwidth?: string;
   json?: string;
+  html?: string;
 }
 
 function positive(option: string, v: string): number {
@@ -77,6 +80,31 @@ export function formatScaleReport(r: ScaleReport): string {
   ].join('\n');
 }
 
+/** The forecast plot of a report (iterations and modelled time per iteration against P). */
+export function scaleReportSvg(r: ScaleReport, file: string): string {
+  const name = r.rows[0]?.recipe.name.replace(/-P1$/, '') ?? 'recipe';
+  return scalePlot({
+    title: `${name} on P parts: iterations and modelled time`, recipe: name,
+    parts: r.rows.map((x) => x.parts), iterations: r.rows.map((x) => x.iterations),
+    perIteration: r.rows.map((x) => x.modelled.perIteration), compute: r.rows.map((x) => x.modelled.compute),
+    converged: r.rows.map((x) => x.converged), idPrefix: 'scale-',
+  });
+}
+
+/** A self-contained page: the plot, the table and the model's caution. */
+export function scaleReportHtml(r: ScaleReport, file: string): string {
+  return `<!doctype html>
+<html lang="en"><head><meta charset="utf-8"><title>slabbench scale: ${esc(file)}</title>
+<style>body{font-family:system-ui,sans-serif;margin:24px;color:#222}pre{font-size:12px;background:#f6f6f6;padding:8px}</style></head>
+<body><h1>Scaling forecast: ${esc(file)}</h1>
+<p>The iterations are exact (the partitioned algebra carried out on one core). The time is a model
+(α–β: Hockney 1994) on an example target, not a measurement of a real cluster; check decisions on the machine itself.</p>
+${scaleReportSvg(r, file)}
+<pre>${esc(formatScaleReport(r))}</pre>
+</body></html>
+`;
+}
+
 export function registerScale(program: Command): void {
   const cmd = program
     .command('scale')
@@ -89,7 +117,8 @@ export function registerScale(program: Command): void {
     .option('--rhs <file>', 'right-hand side (Matrix Market vector); default b = A·1')
     .option('--block-size <n>', 'block size when there is no layout (default: detected from the pattern)')
     .option('--layout <file>', 'layout file to use instead of NAME.layout.json')
-    .option('--json <file>', 'write the forecast as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)');
+    .option('--json <file>', 'write the forecast as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)')
+    .option('--html <file>', 'also write a self-contained HTML page with the plot (iterations and modelled time against P) and the table');
   for (const field of RECIPE_FIELDS) {
     cmd.addOption(new Option(`--${RECIPE_FLAGS[field]} <value>`, `recipe: as in solve; ${describeRecipeField(field)}`).hideHelp());
   }
@@ -106,12 +135,14 @@ example, not a measured machine; it forecasts, it does not measure a cluster.
 Examples:
   $ slabbench scale duct.mtx --max-parts 16 --precond block-ilu0
   $ slabbench scale tank.mtx --max-parts 32 --precond schwarz --overlap 1 --subdomain-precond block-ilu0
+  $ slabbench scale duct.mtx --max-parts 8 --precond schwarz --overlap 2 --html duct-scale.html
   $ slabbench scale room.mtx --max-parts 8 --precond schwarz --schwarz-kind additive --subdomain-precond exact --latency 5e-6 --json -
 
 Exit codes: 0 every P solved, 1 some P unsolved or failed, 2 bad input or option, 3 internal error.`);
   cmd.action(async (file: string, opts: ScaleCommandOptions) => {
     const report = await runScaleCommand(file, opts);
     const json = jsonNonFiniteAsNull(report);
+    if (opts.html !== undefined) await writeFileAtomic(opts.html, scaleReportHtml(report, file));
     if (opts.json === '-') process.stdout.write(`${json}\n`);
     else {
       if (opts.json !== undefined) await writeFileAtomic(opts.json, `${json}\n`);

@@ -1,4 +1,7 @@
 import { describe, expect, it } from 'vitest';
+import { mkdtempSync, readFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { runCli } from './cli-helpers.js';
 
 const corridor = 'matrices/ci/ci-corridor.mtx.gz';
@@ -14,8 +17,12 @@ describe('slabbench scale', () => {
   });
 
   it('prints a table; bad options exit 2 with one line', async () => {
-    const t = await runCli(['scale', corridor, '--max-parts', '2', '--precond', 'block-jacobi', '--latency', '1e-5']);
+    const html = join(mkdtempSync(join(tmpdir(), 'scale-')), 'f.html');
+    const t = await runCli(['scale', corridor, '--max-parts', '2', '--precond', 'block-jacobi', '--latency', '1e-5', '--html', html]);
     expect(t.code).toBe(0);
+    const page = readFileSync(html, 'utf8');
+    expect(page).toContain('data-plot="scale"');
+    expect(page).toContain('not a measurement of a real cluster');
     expect(t.stdout).toMatch(/model µs \/ it/);
     expect(t.stdout).toMatch(/not a measurement/);
     for (const bad of [['--max-parts', '0'], ['--max-parts', '2', '--latency', '-1'], ['--max-parts', '2', '--parts', '2', '--precond', 'schwarz'], ['--max-parts', '100000']]) {
