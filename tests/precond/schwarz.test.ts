@@ -110,9 +110,9 @@ describe('schwarz (one-level restricted / additive Schwarz on a block-graph part
 
   it('options: validated with field paths and flags; schwarz fields elsewhere are errors', () => {
     expect(() => parseRecipe({ preconditioner: 'schwarz', overlap: 3 }, 's.json: recipes[0]')).toThrow(/s\.json: recipes\[0\]\.overlap: expected an integer from 0 to 2, got 3/);
-    expect(() => parseRecipe({ preconditioner: 'block-ilu0', parts: 4 }, 's.json: recipes[1]')).toThrow(/recipes\[1\]\.parts: only used by preconditioner schwarz/);
+    expect(() => parseRecipe({ preconditioner: 'block-ilu0', parts: 4 }, 's.json: recipes[1]')).toThrow(/recipes\[1\]\.parts: has no effect with gmres \+ block-ilu0 \(read only by schwarz\)/);
     expect(() => parseRecipe({ preconditioner: 'schwarz', subdomain: 'slab' }, 'w')).toThrow(/w\.subdomain: expected one of/);
-    expect(() => recipeFromOptions({ precond: 'ilu0', overlap: '1' })).toThrow(/--overlap: only used by preconditioner schwarz/);
+    expect(() => recipeFromOptions({ precond: 'ilu0', overlap: '1' })).toThrow(/--overlap: has no effect with gmres \+ ilu0 \(read only by schwarz\)/);
     const r = recipeFromOptions({ precond: 'schwarz', parts: '8', overlap: '2', schwarzKind: 'additive', subdomainPrecond: 'direct' });
     expect([r.parts, r.overlap, r.schwarzKind, r.subdomain]).toEqual([8, 2, 'additive', 'direct']);
     const a = upwindChain(6);
