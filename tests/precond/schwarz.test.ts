@@ -134,3 +134,27 @@ describe('schwarz (one-level restricted / additive Schwarz on a block-graph part
     for (let i = 0; i < 32; i++) expect(z[0][i]).toBeCloseTo(z[1][i], 11);
   });
 });
+
+describe('schwarz and direct work counts by hand (work model, src/solvers/work.ts)', () => {
+  it('schwarz, 2 parts, overlap 0, exact, on diag(2, 4) (bs 1): 2 flops and 176 bytes per apply', () => {
+    const a: Bsr = { nBlockRows: 2, nBlockCols: 2, bs: 1, rowPtr: Int32Array.of(0, 1, 2), colInd: Int32Array.of(0, 1), values: Float64Array.of(2, 4) };
+    const M = createPreconditioner(systemOf(a), recipe({ preconditioner: 'schwarz', parts: 2, overlap: 0, subdomain: 'exact' }));
+    expect(M.setup()).toEqual({ ok: true });
+    const z = new Float64Array(2);
+    M.apply(Float64Array.of(2, 4), z);
+    expect(Array.from(z)).toEqual([1, 1]);
+    // per part (m = 1): gather 2·8 + 4, copy 16, LU solve 1 flop and 8 + 4 + 16 bytes, write-back 2·8 + 2·4
+    const w = M.work().apply;
+    expect([w.flops, w.bytes, w.preconditionerApplies]).toEqual([2, 2 * (20 + 16 + 28 + 24), 1]);
+  });
+
+  it('direct on diag(2, 4) (bs 1): apply = two permutes, two empty sweeps, two 1×1 mat-vecs', () => {
+    const a: Bsr = { nBlockRows: 2, nBlockCols: 2, bs: 1, rowPtr: Int32Array.of(0, 1, 2), colInd: Int32Array.of(0, 1), values: Float64Array.of(2, 4) };
+    const M = createPreconditioner(systemOf(a), recipe({ preconditioner: 'direct' }));
+    expect(M.setup()).toEqual({ ok: true });
+    M.apply(Float64Array.of(2, 4), new Float64Array(2));
+    // permute: 2·2·8 + 2·4 = 40 (twice); sweep over 0 blocks: 4·3 + 2·2·8 = 44 (twice); mat-vec 2 flops, 8 + 16 bytes (twice)
+    const w = M.work().apply;
+    expect([w.flops, w.bytes]).toEqual([4, 2 * 40 + 2 * 44 + 2 * 24]);
+  });
+});
