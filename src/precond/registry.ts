@@ -12,6 +12,7 @@ import { createBlockGs } from './block-gs.js';
 import { createIlu0 } from './ilu0.js';
 import { createBlockIlu0 } from './block-ilu0.js';
 import { createSlab } from './slab.js';
+import { createAir } from './air.js';
 
 /** Creates a preconditioner (cheap: checks options; the heavy work happens in setup()). */
 export type PreconditionerFactory = (system: SystemMatrix, recipe: Recipe) => Preconditioner;
@@ -53,3 +54,4 @@ registerPreconditioner('block-gs', createBlockGs);
 registerPreconditioner('ilu0', createIlu0);
 registerPreconditioner('block-ilu0', createBlockIlu0);
 registerPreconditioner('slab', createSlab);
+registerPreconditioner('air', createAir);

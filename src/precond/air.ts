@@ -1,0 +1,413 @@
+/**
+ * AIR: reduction-based algebraic multigrid with approximate ideal restriction (ℓAIR), on the
+ * block graph of a BSR matrix (each bs×bs element block one node). Sources:
+ * Manteuffel, Ruge & Southworth, "Nonsymmetric algebraic multigrid based on local approximate
+ * ideal restriction (ℓAIR)", SIAM J. Sci. Comput. 40(6), 2018; Manteuffel, Münzenmaier, Ruge &
+ * Southworth, "Nonsymmetric reduction-based algebraic multigrid", SIAM J. Sci. Comput. 41(5),
+ * 2019; Sivas, Southworth & Rhebergen, SIAM J. Sci. Comput. 43(5), 2021 (space-time HDG).
+ *
+ * Setup, per level l with matrix A_l (A_0 = the input, not copied):
+ *   strength graph (air-setup.ts strengthGraph) → first-pass Ruge–Stüben C/F splitting →
+ *   restriction R = [Z I] from local ideal-restriction solves on distance-d F neighbourhoods →
+ *   prolongation P = [0; I] (injection) or [W; I] (one-point) → A_{l+1} = R A_l P.
+ * Coarsening stops when a level has at most `coarsest` scalar unknowns, when `maxLevels` levels
+ * exist, or when a splitting keeps no C point or more than 90% of the points as C. The coarsest
+ * level is solved by dense LU with partial pivoting when it has at most DENSE_LIMIT unknowns, else
+ * by COARSEST_SWEEPS block Jacobi sweeps.
+ *
+ * Apply (one cycle from a zero guess; V: one coarse visit per level, W: two):
+ *   [pre-relaxation] → r = b − A x → b_c = R r → coarse cycle(s) → x += P x_c → post-relaxation.
+ * Relaxation is block Jacobi (ω = 1, explicit inverses of the diagonal blocks) restricted to the
+ * F points or the C points, in the order of the pattern ('ffc' = F, F, then C), `sweeps` times.
+ * A fixed number of cycles of fixed linear steps: a fixed linear operator (variable: false).
+ */
+import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
+import type { AirOptions, Recipe } from '../solvers/recipe.js';
+import { DEFAULT_AIR_OPTIONS } from '../solvers/recipe.js';
+import type { Bsr } from '../sparse/types.js';
+import type { BufferBytes } from '../solvers/types.js';
+import { bsrBytes, bsrSpmvKernel } from '../sparse/bsr.js';
+import { diagonalBlockIndex } from '../sparse/blocks.js';
+import { checkApplyArgs, checkReady, factorBlock, nonFinite, zeroPivot } from './common.js';
+import { PIVOT_RTOL, allFinite, blockMatVecSub, blockMaxAbs, denseFlops, luFactor, luInverse, luSolve } from './dense.js';
+import {
+  C_POINT, F_POINT, airRestriction, galerkin, onePointProlongation, pointsOfType, prolongationMatrix,
+  restrictionMatrix, rugeStubenSplitting, strengthGraph, transposeGraph, type OnePoint, type Restriction,
+} from './air-setup.js';
+
+/** The coarsest level is factored densely up to this many scalar unknowns (a 2048² LU is 32 MiB, ~6 GFlop). */
+export const DENSE_LIMIT = 2048;
+/** Block Jacobi sweeps on a coarsest level too large for the dense LU. */
+export const COARSEST_SWEEPS = 10;
+/** Coarsening stops when a splitting keeps more than this share of the points as C. */
+export const STALL_RATIO = 0.9;
+
+export function createAir(system: SystemMatrix, recipe: Recipe): Preconditioner {
+  return new AirPreconditioner(system, { ...DEFAULT_AIR_OPTIONS, ...(recipe.air ?? {}) });
+}
+
+interface Level {
+  a: Bsr;
+  nb: number;
+  /** fine → coarse index (C points) or −1 (F points). */
+  coarseOf: Int32Array;
+  cPoints: Int32Array;
+  fPoints: Int32Array;
+  z: Restriction | null;
+  w: OnePoint | null;
+  /** D⁻¹ per block row (explicit inverses; rows that relaxation never visits stay zero). */
+  dinv: Float64Array;
+  /** Work vectors: right-hand side, solution, residual (level 0 uses the caller's r and z for b and x). */
+  b: Float64Array;
+  x: Float64Array;
+  r: Float64Array;
+  setupSeconds: number;
+  setupFlops: number;
+}
+
+type Step = 0 | 1; // F_POINT, C_POINT
+
+function pattern(p: string): Step[] {
+  return p === 'none' ? [] : [...p].map((ch) => (ch === 'c' ? C_POINT : F_POINT) as Step);
+}
+
+export class AirPreconditioner implements Preconditioner {
+  readonly name = 'air';
+  readonly variable = false;
+  readonly n: number;
+  private levels: Level[] = [];
+  private coarse: { kind: 'lu' | 'jacobi' | 'block-diagonal'; lu: Float64Array; piv: Int32Array } = { kind: 'lu', lu: new Float64Array(0), piv: new Int32Array(0) };
+  private ready = false;
+  private readonly post: Step[];
+  private readonly pre: Step[];
+  private coarsestSeconds = 0;
+  private coarsestFlops = 0;
+  private stopReason = '';
+
+  constructor(private readonly system: SystemMatrix, readonly options: AirOptions) {
+    this.n = system.bsr.nBlockRows * system.bsr.bs;
+    this.post = pattern(options.relaxation);
+    this.pre = pattern(options.preRelaxation);
+  }
+
+  setup(): SetupOutcome {
+    this.ready = false;
+    this.levels = [];
+    const o = this.options;
+    const bs = this.system.bsr.bs;
+    const bb = bs * bs;
+    let a = this.system.bsr;
+    // fineOf[l][i] = block row of the input matrix that coarse point i of level l stands for
+    let fineOf: Int32Array | null = null;
+    const needC = this.post.includes(C_POINT) || this.pre.includes(C_POINT);
+    for (let l = 0; ; l++) {
+      const t0 = performance.now();
+      const nb = a.nBlockRows;
+      const atCoarsest = l + 1 >= o.maxLevels || nb * bs <= o.coarsest;
+      const diag = diagonalBlockIndex(a);
+      if (!allFinite(a.values, 0, a.values.length)) {
+        return nonFinite(this.name, firstNonFinite(a, fineOf), `the level ${l} matrix`);
+      }
+      let type: Uint8Array | null = null;
+      let cPoints: Int32Array = new Int32Array(0), fPoints: Int32Array = new Int32Array(0);
+      let stop = atCoarsest ? (l + 1 >= o.maxLevels ? 'maxLevels' : 'coarsest size') : '';
+      let s = null;
+      if (!stop) {
+        s = strengthGraph(a, o.strength);
+        type = rugeStubenSplitting(s, transposeGraph(s, nb), nb);
+        cPoints = pointsOfType(type, C_POINT);
+        fPoints = pointsOfType(type, F_POINT);
+        if (cPoints.length === 0) stop = 'no C points';
+        else if (cPoints.length > STALL_RATIO * nb) stop = 'coarsening stalled';
+      }
+      if (stop) {
+        this.stopReason = stop;
+        const level = this.makeLevel(a, nb, new Int32Array(0), new Int32Array(0), new Int32Array(0), bs);
+        level.setupSeconds = (performance.now() - t0) / 1000;
+        this.levels.push(level);
+        const fail = this.setupCoarsest(level, diag, fineOf, stop === 'no C points');
+        if (fail) return fail;
+        this.coarsestSeconds = (performance.now() - t0) / 1000;
+        break;
+      }
+      const coarseOf = new Int32Array(nb).fill(-1);
+      for (let c = 0; c < cPoints.length; c++) coarseOf[cPoints[c]] = c;
+      const level = this.makeLevel(a, nb, coarseOf, cPoints, fPoints, bs);
+      // diagonal inverses for the relaxed points
+      let flops = 0;
+      const piv = new Int32Array(bs);
+      const work = new Float64Array(bb);
+      for (let i = 0; i < nb; i++) {
+        if (type![i] === C_POINT && !needC) continue;
+        const d = diag[i];
+        if (d >= 0) work.set(a.values.subarray(d * bb, d * bb + bb)); else work.fill(0);
+        const fail = factorBlock(this.name, mapRow(fineOf, i), work, 0, bs, piv, 0, 0);
+        if (fail && !fail.ok) return { ...fail, message: `${fail.message} (level ${l} diagonal block)` };
+        luInverse(work, 0, piv, 0, bs, level.dinv, i * bb);
+        flops += denseFlops.lu(bs) + denseFlops.inverse(bs);
+      }
+      level.z = airRestriction(a, s!, type!, cPoints, o.distance, diag);
+      flops += level.z.flops;
+      let p: Bsr | null = null;
+      if (o.prolongation === 'one-point') {
+        level.w = onePointProlongation(a, s!, type!, coarseOf, level.dinv);
+        p = prolongationMatrix(level.w, coarseOf, nb, cPoints.length, bs);
+      }
+      const r = restrictionMatrix(level.z, cPoints, nb, bs);
+      const ac = galerkin(r, a, coarseOf, cPoints.length, p);
+      flops += 2 * bs * bb * (r.rowPtr[r.nBlockRows] * (a.rowPtr[nb] / Math.max(1, nb)));
+      level.setupFlops = flops;
+      level.setupSeconds = (performance.now() - t0) / 1000;
+      this.levels.push(level);
+      const nextFine = new Int32Array(cPoints.length);
+      for (let c = 0; c < cPoints.length; c++) nextFine[c] = fineOf ? fineOf[cPoints[c]] : cPoints[c];
+      fineOf = nextFine;
+      a = ac;
+    }
+    this.ready = true;
+    return { ok: true };
+  }
+
+  private makeLevel(a: Bsr, nb: number, coarseOf: Int32Array, cPoints: Int32Array, fPoints: Int32Array, bs: number): Level {
+    const n = nb * bs;
+    const first = this.levels.length === 0;
+    return {
+      a, nb, coarseOf, cPoints, fPoints, z: null, w: null,
+      dinv: new Float64Array(cPoints.length > 0 ? nb * bs * bs : 0),
+      b: first ? new Float64Array(0) : new Float64Array(n),
+      x: first ? new Float64Array(0) : new Float64Array(n),
+      r: new Float64Array(n),
+      setupSeconds: 0, setupFlops: 0,
+    };
+  }
+
+  private setupCoarsest(level: Level, diag: Int32Array, fineOf: Int32Array | null, blockDiagonal: boolean): SetupOutcome | null {
+    const { a, nb } = level;
+    const bs = a.bs, bb = bs * bs;
+    const n = nb * bs;
+    if (n <= DENSE_LIMIT && !blockDiagonal) {
+      const lu = new Float64Array(n * n);
+      for (let i = 0; i < nb; i++) {
+        for (let p = a.rowPtr[i]; p < a.rowPtr[i + 1]; p++) {
+          const j = a.colInd[p];
+          for (let r = 0; r < bs; r++) for (let c = 0; c < bs; c++) lu[(i * bs + r) * n + j * bs + c] = a.values[p * bb + r * bs + c];
+        }
+      }
+      const piv = new Int32Array(n);
+      const norm = blockMaxAbs(lu, 0, n);
+      const k = luFactor(lu, 0, n, piv, 0, PIVOT_RTOL * norm);
+      this.coarsestFlops = (2 * n * n * n) / 3;
+      if (k >= 0) {
+        const row = mapRow(fineOf, Math.floor(k / bs));
+        return zeroPivot(this.name, row, norm === 0
+          ? `the coarsest matrix (level ${this.levels.length - 1}, ${n} unknowns) is zero`
+          : `pivot ${k} of the dense LU of the coarsest matrix (level ${this.levels.length - 1}, ${n} unknowns) is ≤ ${PIVOT_RTOL}·${norm.toExponential(3)}`);
+      }
+      if (!allFinite(lu, 0, n * n)) return nonFinite(this.name, mapRow(fineOf, 0), 'the coarsest LU factors');
+      this.coarse = { kind: 'lu', lu, piv };
+      return null;
+    }
+    // block diagonal (no C point: no off-diagonal block at all): one exact block Jacobi step;
+    // too large for a dense LU: COARSEST_SWEEPS block Jacobi sweeps
+    level.dinv = new Float64Array(nb * bb);
+    const piv = new Int32Array(bs);
+    const work = new Float64Array(bb);
+    for (let i = 0; i < nb; i++) {
+      const d = diag[i];
+      if (d >= 0) work.set(a.values.subarray(d * bb, d * bb + bb)); else work.fill(0);
+      const fail = factorBlock(this.name, mapRow(fineOf, i), work, 0, bs, piv, 0, 0);
+      if (fail && !fail.ok) return { ...fail, message: `${fail.message} (coarsest level diagonal block)` };
+      luInverse(work, 0, piv, 0, bs, level.dinv, i * bb);
+    }
+    this.coarsestFlops = nb * (denseFlops.lu(bs) + denseFlops.inverse(bs));
+    this.coarse = { kind: blockDiagonal ? 'block-diagonal' : 'jacobi', lu: new Float64Array(0), piv: new Int32Array(0) };
+    return null;
+  }
+
+  apply(r: Float64Array, z: Float64Array): void {
+    checkApplyArgs(this.name, this.n, r, z);
+    checkReady(this.name, this.ready);
+    z.fill(0);
+    this.cycle(0, r, z, true);
+  }
+
+  /** One cycle on level l for A_l x = b; x holds the initial guess (zero when zeroGuess). */
+  private cycle(l: number, b: Float64Array, x: Float64Array, zeroGuess: boolean): void {
+    const L = this.levels[l];
+    const { a, nb } = L;
+    const bs = a.bs, bb = bs * bs, n = nb * bs;
+    if (l === this.levels.length - 1) {
+      this.coarsestSolve(L, b, x, zeroGuess);
+      return;
+    }
+    let zero = zeroGuess;
+    for (let s = 0; s < this.options.sweeps && this.pre.length > 0; s++) {
+      for (const step of this.pre) { this.relax(L, b, x, step, zero); zero = false; }
+    }
+    // r = b − A x
+    const res = L.r;
+    if (zero) res.set(b);
+    else {
+      bsrSpmvKernel(nb, bs, a.rowPtr, a.colInd, a.values, x, res);
+      for (let i = 0; i < n; i++) res[i] = b[i] - res[i];
+    }
+    // b_c = R r = r_C + Z r_F
+    const next = this.levels[l + 1];
+    const bc = next.b, xc = next.x;
+    const { cPoints } = L;
+    const zr = L.z!;
+    for (let c = 0; c < cPoints.length; c++) {
+      const i = cPoints[c];
+      for (let q = 0; q < bs; q++) bc[c * bs + q] = res[i * bs + q];
+      for (let p = zr.rowPtr[c]; p < zr.rowPtr[c + 1]; p++) {
+        // bc_c += Z_ck r_k  (blockMatVecSub with −Z would need a copy; accumulate directly)
+        const k = zr.colInd[p], zo = p * bb;
+        for (let u = 0; u < bs; u++) {
+          let sum = 0;
+          for (let v = 0; v < bs; v++) sum += zr.values[zo + u * bs + v] * res[k * bs + v];
+          bc[c * bs + u] += sum;
+        }
+      }
+    }
+    xc.fill(0);
+    const visits = this.options.cycle === 'W' ? 2 : 1;
+    for (let t = 0; t < visits; t++) this.cycle(l + 1, bc, xc, t === 0);
+    // x += P x_c
+    for (let c = 0; c < cPoints.length; c++) {
+      const i = cPoints[c];
+      for (let q = 0; q < bs; q++) x[i * bs + q] += xc[c * bs + q];
+    }
+    if (L.w) {
+      const { col, values } = L.w;
+      for (const f of L.fPoints) {
+        const c = col[f];
+        if (c < 0) continue;
+        const fo = f * bb;
+        for (let u = 0; u < bs; u++) {
+          let sum = 0;
+          for (let v = 0; v < bs; v++) sum += values[fo + u * bs + v] * xc[c * bs + v];
+          x[f * bs + u] += sum;
+        }
+      }
+    }
+    for (let s = 0; s < this.options.sweeps; s++) for (const step of this.post) this.relax(L, b, x, step, false);
+  }
+
+  /** One block Jacobi sweep on the F points (step F) or C points (step C): x_i += D_ii⁻¹ (b − A x)_i, all residuals from the old x. */
+  private relax(L: Level, b: Float64Array, x: Float64Array, step: Step, zeroGuess: boolean): void {
+    const { a } = L;
+    const bs = a.bs, bb = bs * bs;
+    const pts = step === F_POINT ? L.fPoints : L.cPoints;
+    const t = L.r;
+    const { rowPtr, colInd, values } = a;
+    for (const i of pts) {
+      const io = i * bs;
+      for (let q = 0; q < bs; q++) t[io + q] = b[io + q];
+      if (zeroGuess) continue;
+      for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) blockMatVecSub(values, p * bb, bs, x, colInd[p] * bs, t, io);
+    }
+    for (const i of pts) {
+      const io = i * bs;
+      addScaledBlock(L.dinv, i * bb, bs, t, io, x, io);
+    }
+  }
+
+  private coarsestSolve(L: Level, b: Float64Array, x: Float64Array, zeroGuess: boolean): void {
+    const { a, nb } = L;
+    const bs = a.bs, bb = bs * bs, n = nb * bs;
+    const res = L.r;
+    if (zeroGuess) res.set(b);
+    else {
+      bsrSpmvKernel(nb, bs, a.rowPtr, a.colInd, a.values, x, res);
+      for (let i = 0; i < n; i++) res[i] = b[i] - res[i];
+    }
+    if (this.coarse.kind === 'lu') {
+      luSolve(this.coarse.lu, 0, this.coarse.piv, 0, n, res, 0);
+      for (let i = 0; i < n; i++) x[i] += res[i];
+      return;
+    }
+    const sweeps = this.coarse.kind === 'block-diagonal' ? 1 : COARSEST_SWEEPS;
+    for (let s = 0; s < sweeps; s++) {
+      if (s > 0 || !zeroGuess) {
+        bsrSpmvKernel(nb, bs, a.rowPtr, a.colInd, a.values, x, res);
+        for (let i = 0; i < n; i++) res[i] = b[i] - res[i];
+      }
+      for (let i = 0; i < nb; i++) addScaledBlock(L.dinv, i * bb, bs, res, i * bs, x, i * bs);
+    }
+  }
+
+  memory(): BufferBytes {
+    const out: BufferBytes = {};
+    this.levels.forEach((L, l) => {
+      if (l > 0) out[`level ${l} matrix`] = bsrBytes(L.a);
+      if (L.z) out[`level ${l} restriction Z`] = L.z.rowPtr.byteLength + L.z.colInd.byteLength + L.z.values.byteLength;
+      if (L.w) out[`level ${l} prolongation W`] = L.w.col.byteLength + L.w.values.byteLength;
+      if (L.dinv.byteLength > 0) out[`level ${l} diagonal inverses`] = L.dinv.byteLength;
+      if (L.cPoints.length > 0) out[`level ${l} splitting`] = L.coarseOf.byteLength + L.cPoints.byteLength + L.fPoints.byteLength;
+      out[`level ${l} vectors`] = L.b.byteLength + L.x.byteLength + L.r.byteLength;
+    });
+    if (this.coarse.lu.byteLength > 0) {
+      out['coarsest dense LU'] = this.coarse.lu.byteLength;
+      out['coarsest pivots'] = this.coarse.piv.byteLength;
+    }
+    return out;
+  }
+
+  stats(): Record<string, unknown> {
+    const levels = this.levels;
+    const nnz0 = levels.length > 0 ? levels[0].a.rowPtr[levels[0].nb] : 0;
+    const nb0 = levels.length > 0 ? levels[0].nb : 0;
+    let sumNnz = 0, sumRows = 0;
+    const mem = this.memory();
+    const perLevel = levels.map((L, l) => {
+      const nnz = L.a.rowPtr[L.nb];
+      sumNnz += nnz; sumRows += L.nb;
+      let bytes = 0;
+      for (const [k, v] of Object.entries(mem)) if (k.startsWith(`level ${l} `)) bytes += v;
+      if (l === levels.length - 1) bytes += (mem['coarsest dense LU'] ?? 0) + (mem['coarsest pivots'] ?? 0);
+      return {
+        level: l, blockRows: L.nb, nnzBlocks: nnz, cPoints: L.cPoints.length, fPoints: L.fPoints.length,
+        restrictionBlocks: L.z ? L.z.rowPtr[L.z.rowPtr.length - 1] : 0,
+        largestLocalSystem: L.z ? L.z.largestSystem : 0,
+        localSystemFallbacks: L.z ? L.z.fallbacks : 0,
+        setupSeconds: L.setupSeconds, bytes,
+      };
+    });
+    let setupFlops = this.coarsestFlops;
+    for (const L of levels) setupFlops += L.setupFlops;
+    return {
+      ...this.options,
+      levels: levels.length,
+      operatorComplexity: nnz0 > 0 ? sumNnz / nnz0 : 0,
+      gridComplexity: nb0 > 0 ? sumRows / nb0 : 0,
+      coarsestSolve: this.coarse.kind === 'lu' ? 'dense LU'
+        : this.coarse.kind === 'block-diagonal' ? 'block diagonal: diagonal-block inverses' : `${COARSEST_SWEEPS} block Jacobi sweeps`,
+      coarseningStopped: this.stopReason,
+      coarsestSetupSeconds: this.coarsestSeconds,
+      perLevel,
+      setupFlops,
+    };
+  }
+}
+
+/** x[xo..] += A t[to..] for a bs×bs row-major block. */
+function addScaledBlock(a: Float64Array, ao: number, bs: number, t: Float64Array, to: number, x: Float64Array, xo: number): void {
+  for (let u = 0; u < bs; u++) {
+    let sum = 0;
+    const ro = ao + u * bs;
+    for (let v = 0; v < bs; v++) sum += a[ro + v] * t[to + v];
+    x[xo + u] += sum;
+  }
+}
+
+function mapRow(fineOf: Int32Array | null, i: number): number {
+  return fineOf ? fineOf[i] : i;
+}
+
+function firstNonFinite(a: Bsr, fineOf: Int32Array | null): number {
+  const bb = a.bs * a.bs;
+  for (let i = 0; i < a.nBlockRows; i++) {
+    for (let p = a.rowPtr[i]; p < a.rowPtr[i + 1]; p++) if (!allFinite(a.values, p * bb, bb)) return mapRow(fineOf, i);
+  }
+  return 0;
+}
