@@ -29,7 +29,7 @@ import type { BufferBytes } from '../solvers/types.js';
 import { bsrBytes, bsrSpmvKernel } from '../sparse/bsr.js';
 import { diagonalBlockIndex } from '../sparse/blocks.js';
 import { checkApplyArgs, checkReady, factorBlock, nonFinite, zeroPivot } from './common.js';
-import { PIVOT_RTOL, allFinite, blockMatVecSub, blockMaxAbs, denseFlops, luFactor, luInverse, luSolve } from './dense.js';
+import { PIVOT_RTOL, allFinite, blockMatVec, blockMatVecSub, blockMaxAbs, denseFlops, luFactor, luInverse, luSolve } from './dense.js';
 import {
   C_POINT, F_POINT, airRestriction, galerkin, onePointProlongation, pointsOfType, prolongationMatrix,
   restrictionMatrix, rugeStubenSplitting, strengthGraph, transposeGraph, type OnePoint, type Restriction,
@@ -83,6 +83,10 @@ export class AirPreconditioner implements Preconditioner {
   private coarsestSeconds = 0;
   private coarsestFlops = 0;
   private stopReason = '';
+  /** Block-diagonal scaling: D⁻¹ blocks of the input and the scaled right-hand side buffer. */
+  private scaleInv: Float64Array = new Float64Array(0);
+  private scaled: Float64Array = new Float64Array(0);
+  private scalingSeconds = 0;
 
   constructor(private readonly system: SystemMatrix, readonly options: AirOptions) {
     this.n = system.bsr.nBlockRows * system.bsr.bs;
@@ -97,6 +101,17 @@ export class AirPreconditioner implements Preconditioner {
     const bs = this.system.bsr.bs;
     const bb = bs * bs;
     let a = this.system.bsr;
+    this.scaleInv = new Float64Array(0);
+    this.scaled = new Float64Array(0);
+    if (o.scaling === 'block-diagonal') {
+      const t0 = performance.now();
+      const scaled = scaleByBlockDiagonal(this.name, a);
+      if ('fail' in scaled) return scaled.fail;
+      this.scaleInv = scaled.dinv;
+      this.scaled = new Float64Array(this.n);
+      a = scaled.matrix;
+      this.scalingSeconds = (performance.now() - t0) / 1000;
+    }
     // fineOf[l][i] = block row of the input matrix that coarse point i of level l stands for
     let fineOf: Int32Array | null = null;
     const needC = this.post.includes(C_POINT) || this.pre.includes(C_POINT);
@@ -228,7 +243,14 @@ export class AirPreconditioner implements Preconditioner {
     checkApplyArgs(this.name, this.n, r, z);
     checkReady(this.name, this.ready);
     z.fill(0);
-    this.cycle(0, r, z, true);
+    if (this.scaleInv.length > 0) {
+      // M⁻¹ r = AIR(D⁻¹A)⁻¹ (D⁻¹ r)
+      const bs = this.system.bsr.bs, bb = bs * bs, nb = this.system.bsr.nBlockRows;
+      for (let i = 0; i < nb; i++) blockMatVec(this.scaleInv, i * bb, bs, r, i * bs, this.scaled, i * bs);
+      this.cycle(0, this.scaled, z, true);
+    } else {
+      this.cycle(0, r, z, true);
+    }
   }
 
   /** One cycle on level l for A_l x = b; x holds the initial guess (zero when zeroGuess). */
@@ -338,8 +360,12 @@ export class AirPreconditioner implements Preconditioner {
 
   memory(): BufferBytes {
     const out: BufferBytes = {};
+    if (this.scaleInv.length > 0) {
+      out['block-diagonal scaling inverses'] = this.scaleInv.byteLength;
+      out['scaled right-hand side'] = this.scaled.byteLength;
+    }
     this.levels.forEach((L, l) => {
-      if (l > 0) out[`level ${l} matrix`] = bsrBytes(L.a);
+      if (l > 0 || this.scaleInv.length > 0) out[`level ${l} matrix${l === 0 ? ' (scaled copy D⁻¹A)' : ''}`] = bsrBytes(L.a);
       if (L.z) out[`level ${l} restriction Z`] = L.z.rowPtr.byteLength + L.z.colInd.byteLength + L.z.values.byteLength;
       if (L.w) out[`level ${l} prolongation W`] = L.w.col.byteLength + L.w.values.byteLength;
       if (L.dinv.byteLength > 0) out[`level ${l} diagonal inverses`] = L.dinv.byteLength;
@@ -384,6 +410,7 @@ export class AirPreconditioner implements Preconditioner {
         : this.coarse.kind === 'block-diagonal' ? 'block diagonal: diagonal-block inverses' : `${COARSEST_SWEEPS} block Jacobi sweeps`,
       coarseningStopped: this.stopReason,
       coarsestSetupSeconds: this.coarsestSeconds,
+      scalingSeconds: this.scalingSeconds,
       perLevel,
       setupFlops,
     };
@@ -410,4 +437,35 @@ function firstNonFinite(a: Bsr, fineOf: Int32Array | null): number {
     for (let p = a.rowPtr[i]; p < a.rowPtr[i + 1]; p++) if (!allFinite(a.values, p * bb, bb)) return mapRow(fineOf, i);
   }
   return 0;
+}
+
+/**
+ * D⁻¹A with D the block diagonal of A (row i of blocks multiplied by A_ii⁻¹), and the inverses.
+ * A zero pivot or a non-finite diagonal block fails naming the block row.
+ */
+function scaleByBlockDiagonal(name: string, a: Bsr): { matrix: Bsr; dinv: Float64Array } | { fail: SetupOutcome } {
+  const { nBlockRows: nb, bs, rowPtr, colInd, values } = a;
+  const bb = bs * bs;
+  const diag = diagonalBlockIndex(a);
+  const dinv = new Float64Array(nb * bb);
+  const work = new Float64Array(bb);
+  const piv = new Int32Array(bs);
+  const out = new Float64Array(values.length);
+  for (let i = 0; i < nb; i++) {
+    if (diag[i] >= 0) work.set(values.subarray(diag[i] * bb, diag[i] * bb + bb)); else work.fill(0);
+    const fail = factorBlock(name, i, work, 0, bs, piv, 0, 0);
+    if (fail) return { fail };
+    luInverse(work, 0, piv, 0, bs, dinv, i * bb);
+    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
+      const o = p * bb;
+      for (let r = 0; r < bs; r++) {
+        for (let c = 0; c < bs; c++) {
+          let sum = 0;
+          for (let t = 0; t < bs; t++) sum += dinv[i * bb + r * bs + t] * values[o + t * bs + c];
+          out[o + r * bs + c] = sum;
+        }
+      }
+    }
+  }
+  return { matrix: { nBlockRows: nb, nBlockCols: a.nBlockCols, bs, rowPtr, colInd, values: out }, dinv };
 }

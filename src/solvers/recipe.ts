@@ -318,6 +318,8 @@ export interface AirOptions {
   /** Coarsening stops at a level with at most this many scalar unknowns. */
   coarsest: number;
   cycle: 'V' | 'W';
+  /** 'block-diagonal': AIR is built on D⁻¹A (D = block diagonal of A) and applied to D⁻¹r; 'none': on A. */
+  scaling: 'block-diagonal' | 'none';
 }
 
 export const DEFAULT_AIR_OPTIONS: Readonly<AirOptions> = Object.freeze({
@@ -330,6 +332,7 @@ export const DEFAULT_AIR_OPTIONS: Readonly<AirOptions> = Object.freeze({
   maxLevels: 25,
   coarsest: 256,
   cycle: 'V',
+  scaling: 'block-diagonal',
 });
 
 const AIR_SPECS: Record<keyof AirOptions, FieldSpec> = {
@@ -342,6 +345,7 @@ const AIR_SPECS: Record<keyof AirOptions, FieldSpec> = {
   maxLevels: { kind: 'int', min: 1, max: 50 },
   coarsest: { kind: 'int', min: 1, max: 2048 },
   cycle: { kind: 'enum', values: AIR_CYCLES },
+  scaling: { kind: 'enum', values: ['block-diagonal', 'none'] },
 };
 
 export const AIR_FIELDS: readonly (keyof AirOptions)[] = Object.keys(AIR_SPECS) as (keyof AirOptions)[];
@@ -357,6 +361,7 @@ export const AIR_FLAGS: Readonly<Record<keyof AirOptions, string>> = {
   maxLevels: 'air-max-levels',
   coarsest: 'air-coarsest',
   cycle: 'air-cycle',
+  scaling: 'air-scaling',
 };
 
 export function describeAirField(field: keyof AirOptions): string {
