@@ -12,7 +12,7 @@
  */
 import type { Bsr } from '../sparse/types.js';
 import { bsrMultiply } from '../sparse/bsr-product.js';
-import { blockFrobenius, luFactor, luSolve, PIVOT_RTOL, blockMaxAbs, allFinite } from './dense.js';
+import { blockFrobenius, blockGemm, luFactor, luSolve, PIVOT_RTOL, blockMaxAbs, allFinite } from './dense.js';
 
 /** Strong connections of each block row (diagonal excluded), CSR-like on the block graph. */
 export interface StrengthGraph {
@@ -338,14 +338,8 @@ export function onePointProlongation(
     }
     if (best < 0) continue;
     col[f] = coarseOf[colInd[best]];
-    const o = best * bb, d = f * bb;
-    for (let r = 0; r < bs; r++) {
-      for (let q = 0; q < bs; q++) {
-        let sum = 0;
-        for (let t = 0; t < bs; t++) sum += dinv[d + r * bs + t] * values[o + t * bs + q];
-        w[d + r * bs + q] = -sum;
-      }
-    }
+    blockGemm(w, f * bb, dinv, f * bb, values, best * bb, bs);
+    for (let p = f * bb; p < f * bb + bb; p++) w[p] = -w[p];
   }
   return { col, values: w };
 }

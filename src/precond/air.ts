@@ -29,7 +29,7 @@ import type { BufferBytes } from '../solvers/types.js';
 import { bsrBytes, bsrSpmvKernel } from '../sparse/bsr.js';
 import { diagonalBlockIndex } from '../sparse/blocks.js';
 import { checkApplyArgs, checkReady, factorBlock, nonFinite, zeroPivot } from './common.js';
-import { PIVOT_RTOL, allFinite, blockMatVec, blockMatVecSub, blockMaxAbs, denseFlops, luFactor, luInverse, luSolve } from './dense.js';
+import { PIVOT_RTOL, allFinite, blockGemm, blockMatVec, blockMatVecSub, blockMaxAbs, denseFlops, luFactor, luInverse, luSolve } from './dense.js';
 import {
   C_POINT, F_POINT, airRestriction, galerkin, onePointProlongation, pointsOfType, prolongationMatrix,
   restrictionMatrix, rugeStubenSplitting, strengthGraph, transposeGraph, type OnePoint, type Restriction,
@@ -456,16 +456,7 @@ function scaleByBlockDiagonal(name: string, a: Bsr): { matrix: Bsr; dinv: Float6
     const fail = factorBlock(name, i, work, 0, bs, piv, 0, 0);
     if (fail) return { fail };
     luInverse(work, 0, piv, 0, bs, dinv, i * bb);
-    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) {
-      const o = p * bb;
-      for (let r = 0; r < bs; r++) {
-        for (let c = 0; c < bs; c++) {
-          let sum = 0;
-          for (let t = 0; t < bs; t++) sum += dinv[i * bb + r * bs + t] * values[o + t * bs + c];
-          out[o + r * bs + c] = sum;
-        }
-      }
-    }
+    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) blockGemm(out, p * bb, dinv, i * bb, values, p * bb, bs);
   }
   return { matrix: { nBlockRows: nb, nBlockCols: a.nBlockCols, bs, rowPtr, colInd, values: out }, dinv };
 }

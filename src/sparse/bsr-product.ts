@@ -71,16 +71,26 @@ export function bsrMultiply(a: Bsr, b: Bsr, colMap?: Int32Array, nOutCols?: numb
   return { nBlockRows: m, nBlockCols: nOut, bs, rowPtr, colInd, values };
 }
 
-/** c[co..] += A·B for row-major bs×bs blocks (i-k-j loop order: contiguous inner loops). */
+/**
+ * c[co..] += A·B for row-major bs×bs blocks: i-k-j loop order (contiguous inner loops), four k
+ * per pass so each update of c serves four products (the shape of blockGemm in dense.ts).
+ */
 export function blockGemmAdd(
   c: Float64Array, co: number, a: Float64Array, ao: number, b: Float64Array, bo: number, bs: number,
 ): void {
   if (bs === 1) { c[co] += a[ao] * b[bo]; return; }
+  const k4 = bs & ~3;
   for (let i = 0; i < bs; i++) {
     const ci = co + i * bs;
-    for (let k = 0; k < bs; k++) {
-      const aik = a[ao + i * bs + k];
-      if (aik === 0) continue;
+    const ai = ao + i * bs;
+    let k = 0;
+    for (; k < k4; k += 4) {
+      const a0 = a[ai + k], a1 = a[ai + k + 1], a2 = a[ai + k + 2], a3 = a[ai + k + 3];
+      const b0 = bo + k * bs, b1 = b0 + bs, b2 = b1 + bs, b3 = b2 + bs;
+      for (let j = 0; j < bs; j++) c[ci + j] += a0 * b[b0 + j] + a1 * b[b1 + j] + a2 * b[b2 + j] + a3 * b[b3 + j];
+    }
+    for (; k < bs; k++) {
+      const aik = a[ai + k];
       const bk = bo + k * bs;
       for (let j = 0; j < bs; j++) c[ci + j] += aik * b[bk + j];
     }
