@@ -63,6 +63,9 @@ interface Level {
   r: Float64Array;
   setupSeconds: number;
   setupFlops: number;
+  /** Stored blocks in the F rows and in the C rows (relaxation reads them). */
+  fBlocks: number;
+  cBlocks: number;
 }
 
 type Step = 0 | 1; // F_POINT, C_POINT
@@ -172,6 +175,10 @@ export class AirPreconditioner implements Preconditioner {
       const ac = galerkin(r, a, coarseOf, cPoints.length, p);
       flops += 2 * bs * bb * (r.rowPtr[r.nBlockRows] * (a.rowPtr[nb] / Math.max(1, nb)));
       level.setupFlops = flops;
+      for (let i = 0; i < nb; i++) {
+        const k = a.rowPtr[i + 1] - a.rowPtr[i];
+        if (type![i] === C_POINT) level.cBlocks += k; else level.fBlocks += k;
+      }
       level.setupSeconds = (performance.now() - t0) / 1000;
       this.levels.push(level);
       const nextFine = new Int32Array(cPoints.length);
@@ -192,7 +199,7 @@ export class AirPreconditioner implements Preconditioner {
       b: first ? new Float64Array(0) : new Float64Array(n),
       x: first ? new Float64Array(0) : new Float64Array(n),
       r: new Float64Array(n),
-      setupSeconds: 0, setupFlops: 0,
+      setupSeconds: 0, setupFlops: 0, fBlocks: 0, cBlocks: 0,
     };
   }
 
@@ -358,6 +365,63 @@ export class AirPreconditioner implements Preconditioner {
     }
   }
 
+  /**
+   * Flops and bytes of one application, from the kernel formulas (compulsory traffic, common
+   * practice): a bs×bs block mat-vec is 2bs² flops and reads bs²·8 + 4 bytes (block + column index);
+   * a residual SpMV reads every block of A_l once; a relaxation step reads the blocks of its rows and
+   * their D⁻¹ blocks; restriction reads Z, one-point prolongation W; the coarsest dense LU solve is
+   * 2n² flops over n²·8 bytes. Vector traffic is counted as 3 vectors per SpMV/relaxation pass.
+   * W-cycles visit level l 2^l times. Zero before a successful setup.
+   */
+  cycleWork(): { flops: number; bytes: number } {
+    if (!this.ready) return { flops: 0, bytes: 0 };
+    const bs = this.system.bsr.bs, bb = bs * bs;
+    const blockBytes = bb * 8 + 4;
+    const gamma = this.options.cycle === 'W' ? 2 : 1;
+    const count = (p: Step[], t: Step): number => p.filter((x) => x === t).length * this.options.sweeps;
+    let flops = 0, bytes = 0;
+    if (this.scaleInv.length > 0) {
+      const nb = this.system.bsr.nBlockRows;
+      flops += nb * 2 * bb; bytes += nb * bb * 8 + 2 * this.n * 8;
+    }
+    let visits = 1;
+    this.levels.forEach((L, l) => {
+      const n = L.nb * bs;
+      const nnzb = L.a.rowPtr[L.nb];
+      const spmv = { flops: 2 * bb * nnzb, bytes: nnzb * blockBytes + (L.nb + 1) * 4 + 3 * n * 8 };
+      let f = 0, b = 0;
+      // W: of the visits to a level below 0, half start from the first visit's result (nonzero guess)
+      const nonzeroShare = l > 0 && gamma === 2 ? 0.5 : 0;
+      if (l === this.levels.length - 1) {
+        if (this.coarse.kind === 'lu') { f = 2 * n * n; b = n * n * 8 + n * 4 + 2 * n * 8; }
+        else {
+          const sweeps = this.coarse.kind === 'block-diagonal' ? 1 : COARSEST_SWEEPS;
+          f = sweeps * (spmv.flops + 2 * bb * L.nb); b = sweeps * (spmv.bytes + L.nb * bb * 8);
+        }
+        // a second W visit starts from a nonzero guess: one more residual
+        f += nonzeroShare * spmv.flops; b += nonzeroShare * spmv.bytes;
+      } else {
+        const nF = L.fPoints.length, nC = L.cPoints.length;
+        const relax = (blocks: number, rows: number): { flops: number; bytes: number } =>
+          ({ flops: 2 * bb * (blocks + rows), bytes: blocks * blockBytes + rows * bb * 8 + 3 * rows * bs * 8 });
+        const rf = relax(L.fBlocks, nF), rc = relax(L.cBlocks, nC);
+        const nf = count(this.post, F_POINT) + count(this.pre, F_POINT);
+        const ncs = count(this.post, C_POINT) + count(this.pre, C_POINT);
+        f += nf * rf.flops + ncs * rc.flops;
+        b += nf * rf.bytes + ncs * rc.bytes;
+        // residual: skipped on a zero-guess first visit without pre-relaxation
+        const residuals = this.pre.length > 0 ? 1 : nonzeroShare;
+        f += residuals * spmv.flops; b += residuals * spmv.bytes;
+        const zBlocks = L.z ? L.z.rowPtr[L.z.rowPtr.length - 1] : 0;
+        f += 2 * bb * zBlocks; b += zBlocks * blockBytes + nC * 4;
+        if (L.w) { f += 2 * bb * nF; b += nF * (bb * 8 + 4); }
+      }
+      flops += visits * f; bytes += visits * b;
+      visits *= gamma;
+    });
+    return { flops, bytes };
+  }
+
   memory(): BufferBytes {
     const out: BufferBytes = {};
     if (this.scaleInv.length > 0) {
@@ -413,6 +477,8 @@ export class AirPreconditioner implements Preconditioner {
       scalingSeconds: this.scalingSeconds,
       perLevel,
       setupFlops,
+      cycleFlops: this.cycleWork().flops,
+      cycleBytes: this.cycleWork().bytes,
     };
   }
 }

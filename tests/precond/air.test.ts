@@ -202,6 +202,32 @@ describe('air: statistics and memory', () => {
   });
 });
 
+describe('air: work of one application (kernel formulas)', () => {
+  it('zero before setup; an extra F step adds 2bs² flops per stored block and per D⁻¹ block of the F rows of each non-coarsest level; W costs more than V', () => {
+    const a = triangularGrid(10, 2, 13);
+    const base: Partial<AirOptions> = { coarsest: 8, relaxation: 'f' };
+    const Mf = new AirPreconditioner(systemOf(a), { ...DEFAULT_AIR_OPTIONS, ...base });
+    expect(Mf.cycleWork()).toEqual({ flops: 0, bytes: 0 });
+    expect(Mf.setup()).toEqual({ ok: true });
+    const Mff = new AirPreconditioner(systemOf(a), { ...DEFAULT_AIR_OPTIONS, ...base, relaxation: 'ff' });
+    expect(Mff.setup()).toEqual({ ok: true });
+    // the same hierarchy (relaxation does not enter the setup of an F-only pattern)
+    expect((Mff.stats() as { perLevel: unknown }).perLevel.length).toBe((Mf.stats() as { perLevel: unknown[] }).perLevel.length);
+    // one more F sweep per non-coarsest level: Σ_l 2bs²(blocks in F rows + F rows), counted from A_l directly
+    let extra = 0;
+    const levels = (Mf as unknown as { levels: Array<{ a: Bsr; fPoints: Int32Array }> }).levels;
+    for (let l = 0; l < levels.length - 1; l++) {
+      const { a: al, fPoints } = levels[l];
+      for (const f of fPoints) extra += 2 * 4 * (al.rowPtr[f + 1] - al.rowPtr[f] + 1);
+    }
+    expect(Mff.cycleWork().flops - Mf.cycleWork().flops).toBeCloseTo(extra, 6);
+    const Mw = new AirPreconditioner(systemOf(a), { ...DEFAULT_AIR_OPTIONS, ...base, cycle: 'W' });
+    expect(Mw.setup()).toEqual({ ok: true });
+    expect(Mw.cycleWork().flops).toBeGreaterThan(Mf.cycleWork().flops);
+    expect(Mw.cycleWork().bytes).toBeGreaterThan(Mf.cycleWork().bytes);
+  });
+});
+
 describe('air on upwind DG advection with cycles (periodic in space), refined in space and time', () => {
   // Published behaviour: ℓAIR-preconditioned GMRES iteration counts stay nearly constant under
   // refinement of upwind DG advection (Manteuffel, Münzenmaier, Ruge & Southworth, SIAM J. Sci.
