@@ -212,7 +212,7 @@ describe('air: work of one application (kernel formulas)', () => {
     const Mff = new AirPreconditioner(systemOf(a), { ...DEFAULT_AIR_OPTIONS, ...base, relaxation: 'ff' });
     expect(Mff.setup()).toEqual({ ok: true });
     // the same hierarchy (relaxation does not enter the setup of an F-only pattern)
-    expect((Mff.stats() as { perLevel: unknown }).perLevel.length).toBe((Mf.stats() as { perLevel: unknown[] }).perLevel.length);
+    expect((Mff.stats() as { perLevel: unknown[] }).perLevel.length).toBe((Mf.stats() as { perLevel: unknown[] }).perLevel.length);
     // one more F sweep per non-coarsest level: Σ_l 2bs²(blocks in F rows + F rows), counted from A_l directly
     let extra = 0;
     const levels = (Mf as unknown as { levels: Array<{ a: Bsr; fPoints: Int32Array }> }).levels;
