@@ -12,6 +12,8 @@
  */
 import type { Bsr } from '../sparse/types.js';
 import { bsrMultiply } from '../sparse/bsr-product.js';
+import type { WorkCounts } from '../solvers/types.js';
+import { addWork, denseWork, zeroWork } from '../solvers/work.js';
 import { blockFrobenius, blockGemm, luFactor, luSolve, PIVOT_RTOL, blockMaxAbs, allFinite } from './dense.js';
 
 /** Strong connections of each block row (diagonal excluded), CSR-like on the block graph. */
@@ -168,7 +170,8 @@ export interface Restriction {
   fallbacks: number;
   /** Largest local system (scalar rows). */
   largestSystem: number;
-  flops: number;
+  /** Work of the local solves (dense LU of each local system, bs solves), work.ts formulas. */
+  work: WorkCounts;
 }
 
 /**
@@ -194,7 +197,8 @@ export function airRestriction(
   let frontier: number[] = [], nextFrontier: number[] = [];
   const hood: number[] = [];
   let mat = new Float64Array(0), rhs = new Float64Array(0), piv = new Int32Array(0);
-  let fallbacks = 0, largest = 0, flops = 0;
+  let fallbacks = 0, largest = 0;
+  const work = zeroWork();
   const tmp = new Float64Array(bb), tmpPiv = new Int32Array(bs), inv = new Float64Array(bb);
   for (let c = 0; c < nc; c++) {
     const i = cPoints[c];
@@ -256,7 +260,8 @@ export function airRestriction(
     }
     const norm = blockMaxAbs(mat, 0, m);
     const bad = luFactor(mat, 0, m, piv, 0, PIVOT_RTOL * norm) >= 0 || !allFinite(mat, 0, m * m);
-    flops += (2 * m * m * m) / 3 + 2 * m * m * bs;
+    addWork(work, denseWork.lu(m));
+    addWork(work, denseWork.luSolve(m), bs);
     const zo = zPtr[c] * bb;
     if (!bad) {
       for (let r = 0; r < bs; r++) {
@@ -292,7 +297,7 @@ export function airRestriction(
   const nz = zPtr[nc];
   return {
     rowPtr: zPtr, colInd: zCol.slice(0, nz), values: zVal.slice(0, nz * bb),
-    fallbacks, largestSystem: largest, flops,
+    fallbacks, largestSystem: largest, work,
   };
 }
 
@@ -389,9 +394,21 @@ export function prolongationMatrix(w: OnePoint, coarseOf: Int32Array, nb: number
  * Galerkin coarse operator A_c = R A P. Injection (P = [0; I]): A_c = (R A) restricted to the C
  * columns, formed in one product with a column selection. One-point: (R A) P with both products.
  */
-export function galerkin(r: Bsr, a: Bsr, coarseOf: Int32Array, nc: number, p: Bsr | null): Bsr {
-  if (!p) return bsrMultiply(r, a, coarseOf, nc);
-  return bsrMultiply(bsrMultiply(r, a), p);
+export function galerkin(r: Bsr, a: Bsr, coarseOf: Int32Array, nc: number, p: Bsr | null): { ac: Bsr; blockProducts: number } {
+  if (!p) return { ac: bsrMultiply(r, a, coarseOf, nc), blockProducts: productCount(r, a, coarseOf) };
+  const ra = bsrMultiply(r, a);
+  return { ac: bsrMultiply(ra, p), blockProducts: productCount(r, a) + productCount(ra, p) };
+}
+
+/** Number of bs×bs block products bsrMultiply(a, b, colMap) performs. */
+export function productCount(a: Bsr, b: Bsr, colMap?: Int32Array): number {
+  let n = 0;
+  for (let p = 0; p < a.rowPtr[a.nBlockRows]; p++) {
+    const k = a.colInd[p];
+    if (!colMap) { n += b.rowPtr[k + 1] - b.rowPtr[k]; continue; }
+    for (let q = b.rowPtr[k]; q < b.rowPtr[k + 1]; q++) if (colMap[b.colInd[q]] >= 0) n++;
+  }
+  return n;
 }
 
 /** Sorted ascending list of indices with the given type. */

@@ -25,11 +25,12 @@ import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { AirOptions, Recipe } from '../solvers/recipe.js';
 import { DEFAULT_AIR_OPTIONS } from '../solvers/recipe.js';
 import type { Bsr } from '../sparse/types.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
+import { addWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { bsrBytes, bsrSpmvKernel } from '../sparse/bsr.js';
 import { diagonalBlockIndex } from '../sparse/blocks.js';
 import { checkApplyArgs, checkReady, factorBlock, nonFinite, zeroPivot } from './common.js';
-import { PIVOT_RTOL, allFinite, blockGemm, blockMatVec, blockMatVecSub, blockMaxAbs, denseFlops, luFactor, luInverse, luSolve } from './dense.js';
+import { PIVOT_RTOL, allFinite, blockGemm, blockMatVec, blockMatVecSub, blockMaxAbs, luFactor, luInverse, luSolve } from './dense.js';
 import {
   C_POINT, F_POINT, airRestriction, galerkin, onePointProlongation, pointsOfType, prolongationMatrix,
   restrictionMatrix, rugeStubenSplitting, strengthGraph, transposeGraph, type OnePoint, type Restriction,
@@ -86,6 +87,8 @@ export class AirPreconditioner implements Preconditioner {
   private coarsestSeconds = 0;
   private coarsestFlops = 0;
   private stopReason = '';
+  private setupWork: WorkCounts = zeroWork();
+  private applies = 0;
   /** Block-diagonal scaling: D⁻¹ blocks of the input and the scaled right-hand side buffer. */
   private scaleInv: Float64Array = new Float64Array(0);
   private scaled: Float64Array = new Float64Array(0);
@@ -100,6 +103,8 @@ export class AirPreconditioner implements Preconditioner {
   setup(): SetupOutcome {
     this.ready = false;
     this.levels = [];
+    this.setupWork = zeroWork();
+    this.applies = 0;
     const o = this.options;
     const bs = this.system.bsr.bs;
     const bb = bs * bs;
@@ -111,6 +116,9 @@ export class AirPreconditioner implements Preconditioner {
       const scaled = scaleByBlockDiagonal(this.name, a);
       if ('fail' in scaled) return scaled.fail;
       this.scaleInv = scaled.dinv;
+      const nbs = a.nBlockRows;
+      addWork(this.setupWork, addWork(denseWork.factorBlock(bs, 0), denseWork.inverse(bs)), nbs);
+      addWork(this.setupWork, denseWork.gemm(bs), a.rowPtr[nbs]);
       this.scaled = new Float64Array(this.n);
       a = scaled.matrix;
       this.scalingSeconds = (performance.now() - t0) / 1000;
@@ -151,8 +159,9 @@ export class AirPreconditioner implements Preconditioner {
       const coarseOf = new Int32Array(nb).fill(-1);
       for (let c = 0; c < cPoints.length; c++) coarseOf[cPoints[c]] = c;
       const level = this.makeLevel(a, nb, coarseOf, cPoints, fPoints, bs);
+      // strength: one Frobenius norm per stored block
+      const lw = scaledWork(kernel(2 * bb, bb * 8), a.rowPtr[nb]);
       // diagonal inverses for the relaxed points
-      let flops = 0;
       const piv = new Int32Array(bs);
       const work = new Float64Array(bb);
       for (let i = 0; i < nb; i++) {
@@ -162,19 +171,23 @@ export class AirPreconditioner implements Preconditioner {
         const fail = factorBlock(this.name, mapRow(fineOf, i), work, 0, bs, piv, 0, 0);
         if (fail && !fail.ok) return { ...fail, message: `${fail.message} (level ${l} diagonal block)` };
         luInverse(work, 0, piv, 0, bs, level.dinv, i * bb);
-        flops += denseFlops.lu(bs) + denseFlops.inverse(bs);
+        addWork(lw, denseWork.factorBlock(bs, 0));
+        addWork(lw, denseWork.inverse(bs));
       }
       level.z = airRestriction(a, s!, type!, cPoints, o.distance, diag);
-      flops += level.z.flops;
+      addWork(lw, level.z.work);
       let p: Bsr | null = null;
       if (o.prolongation === 'one-point') {
         level.w = onePointProlongation(a, s!, type!, coarseOf, level.dinv);
         p = prolongationMatrix(level.w, coarseOf, nb, cPoints.length, bs);
+        addWork(lw, denseWork.gemm(bs), fPoints.length);
       }
       const r = restrictionMatrix(level.z, cPoints, nb, bs);
-      const ac = galerkin(r, a, coarseOf, cPoints.length, p);
-      flops += 2 * bs * bb * (r.rowPtr[r.nBlockRows] * (a.rowPtr[nb] / Math.max(1, nb)));
-      level.setupFlops = flops;
+      const { ac, blockProducts } = galerkin(r, a, coarseOf, cPoints.length, p);
+      // each block product of the Galerkin products is a C += A·B (the cost of a C −= A·B)
+      addWork(lw, denseWork.gemmSub(bs), blockProducts);
+      addWork(this.setupWork, lw);
+      level.setupFlops = lw.flops;
       for (let i = 0; i < nb; i++) {
         const k = a.rowPtr[i + 1] - a.rowPtr[i];
         if (type![i] === C_POINT) level.cBlocks += k; else level.fBlocks += k;
@@ -218,7 +231,9 @@ export class AirPreconditioner implements Preconditioner {
       const piv = new Int32Array(n);
       const norm = blockMaxAbs(lu, 0, n);
       const k = luFactor(lu, 0, n, piv, 0, PIVOT_RTOL * norm);
-      this.coarsestFlops = (2 * n * n * n) / 3;
+      const lw = addWork(denseWork.lu(n), kernel(0, a.rowPtr[nb] * bb * 8 + n * n * 8));
+      addWork(this.setupWork, lw);
+      this.coarsestFlops = lw.flops;
       if (k >= 0) {
         const row = mapRow(fineOf, Math.floor(k / bs));
         return zeroPivot(this.name, row, norm === 0
@@ -241,7 +256,9 @@ export class AirPreconditioner implements Preconditioner {
       if (fail && !fail.ok) return { ...fail, message: `${fail.message} (coarsest level diagonal block)` };
       luInverse(work, 0, piv, 0, bs, level.dinv, i * bb);
     }
-    this.coarsestFlops = nb * (denseFlops.lu(bs) + denseFlops.inverse(bs));
+    const lw = scaledWork(addWork(denseWork.factorBlock(bs, 0), denseWork.inverse(bs)), nb);
+    addWork(this.setupWork, lw);
+    this.coarsestFlops = lw.flops;
     this.coarse = { kind: blockDiagonal ? 'block-diagonal' : 'jacobi', lu: new Float64Array(0), piv: new Int32Array(0) };
     return null;
   }
@@ -249,6 +266,7 @@ export class AirPreconditioner implements Preconditioner {
   apply(r: Float64Array, z: Float64Array): void {
     checkApplyArgs(this.name, this.n, r, z);
     checkReady(this.name, this.ready);
+    this.applies++;
     z.fill(0);
     if (this.scaleInv.length > 0) {
       // M⁻¹ r = AIR(D⁻¹A)⁻¹ (D⁻¹ r)
@@ -370,7 +388,8 @@ export class AirPreconditioner implements Preconditioner {
    * practice): a bs×bs block mat-vec is 2bs² flops and reads bs²·8 + 4 bytes (block + column index);
    * a residual SpMV reads every block of A_l once; a relaxation step reads the blocks of its rows and
    * their D⁻¹ blocks; restriction reads Z, one-point prolongation W; the coarsest dense LU solve is
-   * 2n² flops over n²·8 bytes. Vector traffic is counted as 3 vectors per SpMV/relaxation pass.
+   * src/solvers/work.ts's luSolve(n) plus the residual copy and the update. Vector traffic is
+   * counted as 3 vectors per SpMV/relaxation pass.
    * W-cycles visit level l 2^l times. Zero before a successful setup.
    */
   cycleWork(): { flops: number; bytes: number } {
@@ -382,7 +401,8 @@ export class AirPreconditioner implements Preconditioner {
     let flops = 0, bytes = 0;
     if (this.scaleInv.length > 0) {
       const nb = this.system.bsr.nBlockRows;
-      flops += nb * 2 * bb; bytes += nb * bb * 8 + 2 * this.n * 8;
+      const w = scaledWork(denseWork.matVec(bs), nb);
+      flops += w.flops; bytes += w.bytes;
     }
     let visits = 1;
     this.levels.forEach((L, l) => {
@@ -393,7 +413,11 @@ export class AirPreconditioner implements Preconditioner {
       // W: of the visits to a level below 0, half start from the first visit's result (nonzero guess)
       const nonzeroShare = l > 0 && gamma === 2 ? 0.5 : 0;
       if (l === this.levels.length - 1) {
-        if (this.coarse.kind === 'lu') { f = 2 * n * n; b = n * n * 8 + n * 4 + 2 * n * 8; }
+        if (this.coarse.kind === 'lu') {
+          // residual copy, LU solve, x += correction
+          const w = addWork(addWork(vectorWork.copy(n), denseWork.luSolve(n)), kernel(n, 3 * n * 8));
+          f = w.flops; b = w.bytes;
+        }
         else {
           const sweeps = this.coarse.kind === 'block-diagonal' ? 1 : COARSEST_SWEEPS;
           f = sweeps * (spmv.flops + 2 * bb * L.nb); b = sweeps * (spmv.bytes + L.nb * bb * 8);
@@ -420,6 +444,21 @@ export class AirPreconditioner implements Preconditioner {
       visits *= gamma;
     });
     return { flops, bytes };
+  }
+
+  /**
+   * Cumulative work (README "Work model"): setup from the kernel formulas of src/solvers/work.ts
+   * (Frobenius norms, diagonal-block factorizations and inverses, the ℓAIR local LUs and solves,
+   * one-point blocks, every block product of the Galerkin products, the coarsest dense LU); apply =
+   * applications × cycleWork(). The cycle's row passes over A_l are counted in flops and bytes,
+   * not as matvecs (they are not applications of the operator A).
+   */
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    const c = this.cycleWork();
+    return {
+      setup: { ...this.setupWork },
+      apply: { ...scaledWork(kernel(c.flops, c.bytes), this.applies), preconditionerApplies: this.applies },
+    };
   }
 
   memory(): BufferBytes {
@@ -463,8 +502,7 @@ export class AirPreconditioner implements Preconditioner {
         setupSeconds: L.setupSeconds, bytes,
       };
     });
-    let setupFlops = this.coarsestFlops;
-    for (const L of levels) setupFlops += L.setupFlops;
+    const setupFlops = this.setupWork.flops;
     return {
       ...this.options,
       levels: levels.length,

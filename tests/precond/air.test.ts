@@ -13,7 +13,8 @@ import { bsrSpmv, bsrToCsr } from '../../src/sparse/bsr.js';
 import { UserError } from '../../src/util/errors.js';
 import { generateSystem, parseGeneratorParams } from '../../src/dg/generate.js';
 import { isFailure } from '../../src/precond/common.js';
-import { maxAbsDiff, randomBsr, randomVector, systemOf } from './helpers.js';
+import { maxAbsDiff, randomBsr, randomVector, systemOf, systemOfCsr } from './helpers.js';
+import { tridiag } from '../sparse/model-matrices.js';
 
 function airRecipe(air: Partial<AirOptions> = {}, over: Partial<Recipe> = {}): Recipe {
   return { ...DEFAULT_RECIPE, name: 'air-test', preconditioner: 'air', air: { ...DEFAULT_AIR_OPTIONS, ...air }, ...over };
@@ -225,6 +226,22 @@ describe('air: work of one application (kernel formulas)', () => {
     expect(Mw.setup()).toEqual({ ok: true });
     expect(Mw.cycleWork().flops).toBeGreaterThan(Mf.cycleWork().flops);
     expect(Mw.cycleWork().bytes).toBeGreaterThan(Mf.cycleWork().bytes);
+  });
+});
+
+describe('air: work counts (README "Work model")', () => {
+  it('a matrix at or below the coarsest size: scaling plus one dense LU, by hand', () => {
+    // tridiag(−1, 4, −1), n = 3, bs 1, 7 stored entries; level 0 is the coarsest (3 ≤ 256 unknowns)
+    const M = createPreconditioner(systemOfCsr(tridiag(3, -1, 4, -1)), airRecipe());
+    expect(M.setup()).toEqual({ ok: true });
+    // setup: D⁻¹ per row (LU of a 1×1 block 1 fl + inverse 2 fl) = 9; D⁻¹A: 7 products of 2 fl = 14;
+    // dense LU of the 3×3 coarsest matrix: 3 reciprocals + 3 multipliers + 2·(2² + 1²) = 16
+    expect(M.work().setup.flops).toBe(9 + 14 + 16);
+    M.apply(randomVector(3, 1), new Float64Array(3));
+    M.apply(randomVector(3, 2), new Float64Array(3));
+    // apply: D⁻¹ r (3 block mat-vecs of 2 fl = 6) + LU solve (2n² − n = 15) + x += correction (3) = 24
+    // bytes: D⁻¹ r 3·(8 + 16) = 72; copy 48; LU solve 72 + 12 + 48 = 132; update 72 → 324
+    expect(M.work().apply).toEqual({ preconditionerApplies: 2, matvecs: 0, innerIterations: 0, flops: 48, bytes: 648 });
   });
 });
 
