@@ -6,7 +6,7 @@ import { createPreconditioner } from '../../src/precond/registry.js';
 import { AirPreconditioner } from '../../src/precond/air.js';
 import { rugeStubenSplitting, strengthGraph, transposeGraph, C_POINT, F_POINT } from '../../src/precond/air-setup.js';
 import {
-  DEFAULT_AIR_OPTIONS, DEFAULT_RECIPE, parseRecipe, recipeFromOptions, type AirOptions, type Recipe,
+  DEFAULT_AIR_OPTIONS, DEFAULT_RECIPE, parseRecipe, recipeFromOptions, recordedRecipe, type AirOptions, type Recipe,
 } from '../../src/solvers/recipe.js';
 import { solveSystem } from '../../src/solvers/run-recipe.js';
 import { bsrSpmv, bsrToCsr } from '../../src/sparse/bsr.js';
@@ -60,6 +60,15 @@ describe('air: options (suite files and command line)', () => {
     expect(() => parseRecipe({ preconditioner: 'air', air: { thresh: 0.2 } }, 'r')).toThrow(/r\.air: unknown field "thresh"/);
     expect(() => parseRecipe({ preconditioner: 'air', air: [1] }, 'r')).toThrow(/r\.air: expected an object/);
     expect(() => parseRecipe({ preconditioner: 'block-jacobi', air: {} }, 'r')).toThrow('r.air: AIR options are only used by preconditioner air');
+  });
+
+  it('air reads no top-level preconditioner field: a shift or sweeps with air is refused; results record the air object', () => {
+    expect(() => parseRecipe({ preconditioner: 'air', shift: 0.1 }, 'r')).toThrow(/^r\.shift: has no effect with gmres \+ air/);
+    expect(() => parseRecipe({ preconditioner: 'air', sweeps: 2 }, 'r')).toThrow(/^r\.sweeps: has no effect with gmres \+ air/);
+    expect(() => recipeFromOptions({ precond: 'air', shift: '0.1' })).toThrow(/--shift: has no effect with gmres \+ air/);
+    const rec = recordedRecipe(parseRecipe({ preconditioner: 'air', air: { distance: 1 } }, 'r'));
+    expect(rec.air).toEqual({ ...DEFAULT_AIR_OPTIONS, distance: 1 });
+    expect(rec.shift).toBeUndefined();
   });
 
   it('an inner slab recipe can use air with its own options', () => {
