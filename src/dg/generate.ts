@@ -11,6 +11,7 @@ import type { Physics, PhysicsContext, PhysicsDefinition, PhysicsName } from './
 import { show } from './physics/fields.js';
 import { ELEMENT_ORDERINGS, orderElements, type ElementOrdering } from './ordering.js';
 import { assembleDg, prepareDiscretization, type Discretization, type ProgressSink } from './assemble.js';
+import { scaleToAdmissible } from './positivity.js';
 import { projectFunction } from './projection.js';
 import { writeCaseFiles } from './write-case.js';
 
@@ -228,6 +229,8 @@ export function generateWithDiscretization(
   const { mesh, physics, tables, ordering } = disc;
   let state: Float64Array | null = null;
   if (physics.state) state = projectFunction(mesh, params.order, physics.nEquations, ordering.inv, physics.state);
+  // a projected discontinuous state can undershoot (negative pressure): scale those elements
+  const scaledElements = state && physics.kind === 'nonlinear-system' ? scaleToAdmissible(disc, physics, state) : 0;
   const { bsr, residual } = assembleDg(disc, state, { onProgress });
   for (let i = 0; i < residual.length; i++) residual[i] = -residual[i];
   const slabOffsets: number[] = Array.from(mesh.slabOffsets);
@@ -251,7 +254,7 @@ export function generateWithDiscretization(
       finalTime: resolved.finalTime,
       quadratureDegree: 2 * params.order + physics.extraQuadratureDegree(params.order),
       system: physics.state ? 'Newton step: Jacobian at the projected state, rhs = -residual' : 'linear: DG operator, rhs = data terms',
-      physicsSummary: physics.summary,
+      physicsSummary: physics.kind === 'nonlinear-system' ? { ...physics.summary, stateScaledElements: scaledElements } : physics.summary,
       params: { ...params },
     },
   };
