@@ -14,6 +14,7 @@ import { createBlockIluk } from './block-iluk.js';
 import { createBlockIlu0 } from './block-ilu0.js';
 import { createSlab } from './slab.js';
 import { createAir } from './air.js';
+import { createPMultigrid } from './p-multigrid.js';
 
 /** Creates a preconditioner (cheap: checks options; the heavy work happens in setup()). */
 export type PreconditionerFactory = (system: SystemMatrix, recipe: Recipe) => Preconditioner;
@@ -76,3 +77,4 @@ registerPreconditioner('block-ilu0', createBlockIlu0, { uses: ['ordering', 'shif
 registerPreconditioner('block-iluk', createBlockIluk, { uses: ['fillLevel', 'ordering', 'shift'] });
 registerPreconditioner('slab', createSlab, { uses: ['inner', 'shift'] });
 registerPreconditioner('air', createAir, { uses: ['air'] });
+registerPreconditioner('p-multigrid', createPMultigrid, { uses: ['pMultigrid'] });
