@@ -12,6 +12,7 @@ import { show } from './physics/fields.js';
 import { ELEMENT_ORDERINGS, orderElements, type ElementOrdering } from './ordering.js';
 import { assembleDg, prepareDiscretization, type Discretization, type ProgressSink } from './assemble.js';
 import { scaleToAdmissible } from './positivity.js';
+import { nonzeroBlockPattern, triangularStructure } from '../sparse/structure.js';
 import { projectFunction } from './projection.js';
 import { writeCaseFiles } from './write-case.js';
 
@@ -237,6 +238,7 @@ export function generateWithDiscretization(
   const layout: Layout = {
     blockSize: disc.bs,
     slabOffsets,
+    modes: { nEquations: physics.nEquations, arrangement: 'equation-major', degrees: Array.from(tables.basis.degrees) },
     provenance: {
       generator: 'slabbench generate',
       slabbenchVersion: VERSION,
@@ -274,14 +276,18 @@ export function generateWithDiscretization(
 
 /** Generate and write NAME.mtx, NAME.rhs.mtx and NAME.layout.json into outDir. */
 export async function writeGeneratedCase(
-  params: GeneratorParams, outDir: string, name: string, onProgress?: ProgressSink,
-): Promise<{ mtx: string; rhs: string; layout: string }> {
+  params: GeneratorParams, outDir: string, name: string, onProgress?: ProgressSink, opts: { gzip?: boolean } = {},
+): Promise<{ mtx: string; rhs: string; layout: string; triangularUnderPermutation: boolean }> {
   if (!/^[A-Za-z0-9][A-Za-z0-9._-]*$/.test(name)) {
     throw new UserError(`case name '${name}': use letters, digits, '.', '_' and '-' (it becomes a file name)`);
   }
   const system = generateSystem(params, onProgress);
   mkdirSync(outDir, { recursive: true });
-  const paths = { mtx: join(outDir, `${name}.mtx`), rhs: join(outDir, `${name}.rhs.mtx`), layout: join(outDir, `${name}.layout.json`) };
+  const paths = {
+    mtx: join(outDir, `${name}.mtx${opts.gzip ? '.gz' : ''}`), rhs: join(outDir, `${name}.rhs.mtx`), layout: join(outDir, `${name}.layout.json`),
+  };
   await writeCaseFiles(paths, system, name);
-  return paths;
+  // a matrix whose numerically nonzero block graph has no cycles is solved by one sweep: say so
+  const triangularUnderPermutation = triangularStructure(nonzeroBlockPattern(system.bsr)).triangularUnderPermutation;
+  return { ...paths, triangularUnderPermutation };
 }

@@ -15,6 +15,8 @@ import { createBlockIlu0 } from './block-ilu0.js';
 import { createSlab } from './slab.js';
 import { createSchwarz } from './schwarz.js';
 import { createDirect } from './direct.js';
+import { createAir } from './air.js';
+import { createPMultigrid } from './p-multigrid.js';
 
 /** Creates a preconditioner (cheap: checks options; the heavy work happens in setup()). */
 export type PreconditionerFactory = (system: SystemMatrix, recipe: Recipe) => Preconditioner;
@@ -78,3 +80,5 @@ registerPreconditioner('block-iluk', createBlockIluk, { uses: ['fillLevel', 'ord
 registerPreconditioner('slab', createSlab, { uses: ['inner', 'shift'] });
 registerPreconditioner('schwarz', createSchwarz, { uses: ['parts', 'overlap', 'schwarzKind', 'subdomain', 'partitionSlabs', 'shift', 'ordering', 'blockInverse', 'sweep', 'omega', 'sweeps', 'fillLevel'] });
 registerPreconditioner('direct', createDirect, { uses: ['shift'] });
+registerPreconditioner('air', createAir, { uses: ['air'] });
+registerPreconditioner('p-multigrid', createPMultigrid, { uses: ['pMultigrid'] });
