@@ -12,6 +12,7 @@ import { show } from './physics/fields.js';
 import { ELEMENT_ORDERINGS, orderElements, type ElementOrdering } from './ordering.js';
 import { assembleDg, prepareDiscretization, type Discretization, type ProgressSink } from './assemble.js';
 import { scaleToAdmissible } from './positivity.js';
+import { addPseudoTimeTerm } from './pseudo-time.js';
 import { nonzeroBlockPattern, triangularStructure } from '../sparse/structure.js';
 import { projectFunction } from './projection.js';
 import { writeCaseFiles } from './write-case.js';
@@ -45,6 +46,8 @@ export interface GeneratorParams {
    * parameters of earlier cases stay as they were.
    */
   dropZeroBlocks?: boolean;
+  /** Pseudo-time term M/Δτ added to the diagonal blocks, Δτ = pseudoCfl·h_K/λ (absent: none). */
+  pseudoCfl?: number;
   /** Physics-specific fields (velocity, diffusivity, soundSpeed, meanFlow, travelling, direction, initial, state, inflow). */
   [field: string]: unknown;
 }
@@ -53,7 +56,7 @@ export const MAX_ORDER = 4;
 export const MAX_ORDER_3D = 3;
 const COMMON_FIELDS = [
   'physics', 'dim', 'order', 'cells', 'extent', 'slabs', 'layersPerSlab', 'cfl', 'slabThickness',
-  'periodic', 'shear', 'jitter', 'seed', 'ordering', 'dropZeroBlocks',
+  'periodic', 'shear', 'jitter', 'seed', 'ordering', 'dropZeroBlocks', 'pseudoCfl',
 ];
 /** Largest generated value array (entries), checked before anything is allocated. */
 export const MAX_GENERATED_VALUES = 1.5e9;
@@ -134,12 +137,17 @@ export function parseGeneratorParams(obj: unknown, where: string, label?: FieldL
   }
   const dropZeroBlocks = raw.dropZeroBlocks ?? false;
   if (typeof dropZeroBlocks !== 'boolean') fail('dropZeroBlocks', `expected true or false, got ${show(dropZeroBlocks)}`);
+  const pseudoCfl = raw.pseudoCfl;
+  if (pseudoCfl !== undefined && !(typeof pseudoCfl === 'number' && Number.isFinite(pseudoCfl) && pseudoCfl > 0)) {
+    fail('pseudoCfl', `expected a number > 0 (the pseudo-time CFL number), got ${show(pseudoCfl)}`);
+  }
   const ctx: PhysicsContext = { dim: d, extent, periodic, label: name };
   const physicsFields = def.normalize(raw, ctx);
   const params: GeneratorParams = {
     physics: def.name, dim: d, order: order as number, cells, extent, slabs: slabs as number,
     layersPerSlab: layersPerSlab as number, cfl, slabThickness, periodic, shear, jitter: jitter as number,
-    seed: seed as number, ordering: ordering as ElementOrdering, ...(dropZeroBlocks ? { dropZeroBlocks: true } : {}), ...physicsFields,
+    seed: seed as number, ordering: ordering as ElementOrdering, ...(dropZeroBlocks ? { dropZeroBlocks: true } : {}),
+    ...(pseudoCfl !== undefined ? { pseudoCfl: pseudoCfl as number } : {}), ...physicsFields,
   };
   // Everything that depends on the physics: slab thickness, shear, sizes, expressions over [0, T].
   resolveGenerator(params, name);
@@ -244,6 +252,8 @@ export function generateWithDiscretization(
   const { residual } = assembled;
   for (let i = 0; i < residual.length; i++) residual[i] = -residual[i];
   const full = assembled.bsr as Bsr;
+  // the pseudo-time term goes on the diagonal blocks of the face pattern (always kept when dropping)
+  const pseudoTime = params.pseudoCfl !== undefined ? addPseudoTimeTerm(disc, full, params.pseudoCfl) : null;
   const zeroOnFacePattern = countZeroBlocks(full);
   const bsr = params.dropZeroBlocks === true ? dropZeroBlocks(full) : full;
   const zeroKept = bsr === full ? zeroOnFacePattern : countZeroBlocks(bsr);
@@ -274,6 +284,7 @@ export function generateWithDiscretization(
         ? `numerical: the ${zeroOnFacePattern} off-diagonal blocks of the face pattern whose entries are all exactly zero are dropped`
         : 'full face pattern: one block per element pair sharing a face, zero or not',
       droppedZeroBlocks: full.colInd.length - bsr.colInd.length,
+      ...(pseudoTime ? { pseudoTime: { cfl: params.pseudoCfl, minDtau: pseudoTime.minDtau, maxDtau: pseudoTime.maxDtau, term: 'M/dtau added to the diagonal blocks; rhs unchanged' } } : {}),
       physicsSummary: physics.kind === 'nonlinear-system' ? { ...physics.summary, stateScaledElements: scaledElements } : physics.summary,
       params: { ...params },
     },
