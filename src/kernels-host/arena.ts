@@ -95,6 +95,18 @@ export function kernelI32(n: number): Int32Array {
 export function kernelCopyF64(src: Float64Array): Float64Array { const v = kernelF64(src.length); v.set(src); return v; }
 export function kernelCopyI32(src: Int32Array): Int32Array { const v = kernelI32(src.length); v.set(src); return v; }
 
+/**
+ * Run fn and hand the active arena's space it allocated back afterwards (for buffers that live
+ * only during fn, e.g. the slab preconditioner's per-slab inner factors). fn's arrays must not be
+ * used after it returns.
+ */
+export function withScratch<T>(fn: () => T): T {
+  const a = current;
+  if (a === null) return fn();
+  const mark = a.mark();
+  try { return fn(); } finally { if (current === a) a.release(mark); }
+}
+
 type Arr = Float64Array | Int32Array;
 
 /**

@@ -17,6 +17,7 @@ import { UserError } from '../util/errors.js';
 import { checkApplyArgs, checkReady, factorBlock } from './common.js';
 import { blockMatVec, blockMatVecSub, denseFlops, luInverse, luSolve } from './dense.js';
 import { diagonalIndex, invertPermutation, orderingPermutation } from './block-tools.js';
+import { allInArena, kernelCopyI32, kernelF64, kernelI32, ptr, wasmFor } from '../kernels-host/arena.js';
 
 export function createBlockGs(system: SystemMatrix, recipe: Recipe): Preconditioner {
   if (!(recipe.omega > 0 && recipe.omega < 2)) {
@@ -59,14 +60,15 @@ class BlockGsPreconditioner implements Preconditioner {
 
   setup(): SetupOutcome {
     const a = this.system.bsr;
-    this.perm = orderingPermutation(a, this.ordering, this.system.slabOffsets);
-    this.inv = this.perm ? invertPermutation(this.perm) : null;
+    const perm = orderingPermutation(a, this.ordering, this.system.slabOffsets);
+    this.perm = perm ? kernelCopyI32(perm) : null;
+    this.inv = perm ? kernelCopyI32(invertPermutation(perm)) : null;
     const { nBlockRows: nb, bs, values } = a;
     const bb = bs * bs;
     const diag = diagonalIndex(a);
-    this.diagFactors = new Float64Array(nb * bb);
-    this.pivots = new Int32Array(this.mode === 'lu' ? nb * bs : bs);
-    this.t = new Float64Array(this.mode === 'lu' ? bs : 2 * bs + bb);
+    this.diagFactors = kernelF64(nb * bb);
+    this.pivots = kernelI32(this.mode === 'lu' ? nb * bs : bs);
+    this.t = kernelF64(this.mode === 'lu' ? bs : 2 * bs + bb);
     for (let step = 0; step < nb; step++) {
       const I = this.perm ? this.perm[step] : step;
       const fo = step * bb;
@@ -106,6 +108,11 @@ class BlockGsPreconditioner implements Preconditioner {
     const t = this.t, f = this.diagFactors, piv = this.pivots, perm = this.perm, inv = this.inv;
     const omega = this.omega;
     const lu = this.mode === 'lu';
+    if (allInArena([rowPtr, colInd, values, rhs, x, t, f, piv, perm, inv])) {
+      wasmFor(x)!.blockGsSweep(nb, bs, ptr(rowPtr), ptr(colInd), ptr(values), perm ? ptr(perm) : 0, inv ? ptr(inv) : 0,
+        ptr(f), ptr(piv), lu ? 1 : 0, ptr(rhs), ptr(x), ptr(t), forward ? 1 : 0, first ? 1 : 0, omega);
+      return;
+    }
     const tIn = lu ? 0 : bs; // with inverses, t[0..bs) holds the result and t[bs..2bs) the residual
     for (let i = 0; i < nb; i++) {
       const step = forward ? i : nb - 1 - i;

@@ -10,6 +10,7 @@ import type { BufferBytes } from '../solvers/types.js';
 import { checkApplyArgs, checkReady, factorBlock } from './common.js';
 import { blockMatVec, denseFlops, luInverse, luSolve } from './dense.js';
 import { diagonalIndex } from './block-tools.js';
+import { kernelF64, kernelI32, ptr, wasmFor } from '../kernels-host/arena.js';
 
 export function createBlockJacobi(system: SystemMatrix, recipe: Recipe): Preconditioner {
   return new BlockJacobiPreconditioner(system, recipe.blockInverse, recipe.shift);
@@ -37,9 +38,9 @@ class BlockJacobiPreconditioner implements Preconditioner {
     const { nBlockRows: nb, bs, values } = a;
     const bb = bs * bs;
     const diag = diagonalIndex(a);
-    this.factors = new Float64Array(nb * bb);
-    this.pivots = new Int32Array(this.mode === 'lu' ? nb * bs : bs);
-    this.work = new Float64Array(this.mode === 'lu' ? 0 : bb);
+    this.factors = kernelF64(nb * bb);
+    this.pivots = kernelI32(this.mode === 'lu' ? nb * bs : bs);
+    this.work = kernelF64(this.mode === 'lu' ? 0 : bb);
     for (let I = 0; I < nb; I++) {
       const fo = I * bb;
       const src = this.mode === 'lu' ? this.factors : this.work;
@@ -61,6 +62,12 @@ class BlockJacobiPreconditioner implements Preconditioner {
     checkReady(this.name, this.ready);
     const { nBlockRows: nb, bs } = this.system.bsr;
     const bb = bs * bs;
+    const k = wasmFor(this.factors, this.pivots, r, z);
+    if (k !== null) {
+      if (this.mode === 'lu') { z.set(r); k.blockDiagonalLuSolve(nb, bs, ptr(this.factors), ptr(this.pivots), ptr(z)); }
+      else k.blockDiagonalApply(nb, bs, ptr(this.factors), ptr(r), ptr(z));
+      return;
+    }
     if (this.mode === 'lu') {
       z.set(r);
       for (let I = 0; I < nb; I++) luSolve(this.factors, I * bb, this.pivots, I * bs, bs, z, I * bs);

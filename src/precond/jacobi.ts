@@ -7,6 +7,7 @@ import type { Recipe } from '../solvers/recipe.js';
 import type { BufferBytes } from '../solvers/types.js';
 import { checkApplyArgs, checkReady } from './common.js';
 import { PIVOT_RTOL } from './dense.js';
+import { kernelF64, ptr, wasmFor } from '../kernels-host/arena.js';
 
 export function createJacobi(system: SystemMatrix, recipe: Recipe): Preconditioner {
   return new JacobiPreconditioner(system, recipe.shift);
@@ -26,7 +27,7 @@ class JacobiPreconditioner implements Preconditioner {
     const { rowPtr, colInd, values } = this.system.csr;
     const bs = this.system.bsr.bs;
     const n = this.n;
-    this.invDiag = new Float64Array(n);
+    this.invDiag = kernelF64(n);
     for (let i = 0; i < n; i++) {
       let d = NaN, rowMax = 0, found = false;
       for (let k = rowPtr[i]; k < rowPtr[i + 1]; k++) {
@@ -56,6 +57,8 @@ class JacobiPreconditioner implements Preconditioner {
     checkApplyArgs(this.name, this.n, r, z);
     checkReady(this.name, this.ready);
     const d = this.invDiag;
+    const k = wasmFor(d, r, z);
+    if (k !== null) { k.hadamard(this.n, ptr(d), ptr(r), ptr(z)); return; }
     for (let i = 0; i < this.n; i++) z[i] = d[i] * r[i];
   }
 

@@ -35,6 +35,7 @@ import { permuteBsr } from '../sparse/permute.js';
 import { stronglyConnectedBlocks } from '../sparse/structure.js';
 import { bsrOperator } from '../solvers/operator.js';
 import { krylovSolve } from '../solvers/krylov.js';
+import { kernelF64, kernelI32, withScratch } from '../kernels-host/arena.js';
 import { checkApplyArgs, checkReady, totalBytes } from './common.js';
 import { blockMatVecSub } from './dense.js';
 import { gatherBlocks, scatterBlocks, validSlabOffsets } from './block-tools.js';
@@ -123,13 +124,15 @@ export class SlabPreconditioner implements Preconditioner {
       maxBlocks = Math.max(maxBlocks, blocks);
     }
     this.aboveDiagonal = above;
-    this.sRowPtr = new Int32Array(maxRows + 1);
-    this.sColInd = new Int32Array(maxBlocks);
-    this.sValues = new Float64Array(maxBlocks * bb);
-    this.rhs = new Float64Array(maxRows * bs);
-    this.sol = new Float64Array(maxRows * bs);
-    this.rp = new Float64Array(this.perm ? this.n : 0);
-    this.xp = new Float64Array(this.perm ? this.n : 0);
+    // kernel memory when the solve has one (src/kernels-host); each slab's inner factors and Krylov
+    // buffers are scratch, handed back after the slab (withScratch)
+    this.sRowPtr = kernelI32(maxRows + 1);
+    this.sColInd = kernelI32(maxBlocks);
+    this.sValues = kernelF64(maxBlocks * bb);
+    this.rhs = kernelF64(maxRows * bs);
+    this.sol = kernelF64(maxRows * bs);
+    this.rp = kernelF64(this.perm ? this.n : 0);
+    this.xp = kernelF64(this.perm ? this.n : 0);
     this.lastIterations = new Int32Array(nSlabs);
     this.sumIterations = new Float64Array(nSlabs);
     // numeric check: every slab's inner preconditioner, one at a time
@@ -137,8 +140,11 @@ export class SlabPreconditioner implements Preconditioner {
     this.peakInnerBuffers = {};
     for (let s = 0; s < nSlabs; s++) {
       const slab = this.extractSlab(s);
-      const M = createPreconditioner(slabSystem(slab), this.inner);
-      const out = M.setup();
+      const { out, mem } = withScratch(() => {
+        const M = createPreconditioner(slabSystem(slab), this.inner);
+        const o = M.setup();
+        return { out: o, mem: o.ok ? M.memory() : {} };
+      });
       if (!out.ok) {
         const local = out.blockRow ?? 0;
         const blockRow = this.originalBlockRow(this.offsets[s] + local);
@@ -147,7 +153,6 @@ export class SlabPreconditioner implements Preconditioner {
           message: `slab: ${what} in block row ${blockRow} (slab ${s}, its local block row ${local}) in the inner ` +
             `${this.inner.preconditioner} setup` + (out.reason === 'zero-pivot' ? '; a diagonal shift (recipe shift > 0) avoids it' : '') };
       }
-      const mem = M.memory();
       const bytes = totalBytes(mem);
       if (bytes > this.peakInnerBytes) { this.peakInnerBytes = bytes; this.peakInnerBuffers = mem; }
     }
@@ -207,6 +212,15 @@ export class SlabPreconditioner implements Preconditioner {
         }
       }
       const slab = this.extractSlab(s);
+      withScratch(() => this.solveSlab(s, slab, rhs, sol));
+      x.set(sol, lo * bs);
+    }
+    if (this.perm) scatterBlocks(x, this.perm, bs, z);
+  }
+
+  /** Slab s: its inner preconditioner from the current values, then the inner solve into sol. */
+  private solveSlab(s: number, slab: Bsr, rhs: Float64Array, sol: Float64Array): void {
+    {
       const M = createPreconditioner(slabSystem(slab), this.inner);
       const out = M.setup();
       sol.fill(0);
@@ -225,9 +239,7 @@ export class SlabPreconditioner implements Preconditioner {
           if (res.reason !== 'max-iterations') this.noteFailure(`slab ${s}: inner ${res.method} stopped with ${res.reason}`);
         }
       }
-      x.set(sol, lo * bs);
     }
-    if (this.perm) scatterBlocks(x, this.perm, bs, z);
   }
 
   private noteFailure(msg: string): void {

@@ -2,7 +2,7 @@ import type { Bsr, Csr } from '../sparse/types.js';
 import { csrSpmvKernel } from '../sparse/csr.js';
 import { bsrSpmvKernel } from '../sparse/bsr.js';
 import type { BufferBytes, LinearOperator } from './types.js';
-import { norm2 } from './vector.js';
+import { norm2, subtractFrom } from './vector.js';
 
 /** A matrix seen as an operator, with the bytes its arrays hold (for the memory report). */
 export interface MatrixOperator extends LinearOperator {
@@ -55,7 +55,7 @@ export function bsrOperator(a: Bsr): MatrixOperator {
 export function residualInto(A: LinearOperator, b: Float64Array, x: Float64Array, r: Float64Array): number {
   const n = A.n;
   A.apply(x, r);
-  for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
+  subtractFrom(n, b, r);
   return norm2(n, r);
 }
 
