@@ -8,6 +8,7 @@ import {
 import { solveSystem } from '../solvers/run-recipe.js';
 import type { SolveResult } from '../solvers/types.js';
 import { EXIT, fileError, optionError } from '../util/errors.js';
+import { parseKernelChoice } from '../solvers/kernel-plan.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
 import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
 
@@ -36,6 +37,7 @@ interface SolveCommandOptions {
   blockSize?: string;
   layout?: string;
   json?: string;
+  kernels?: string;
   [recipeOption: string]: unknown;
 }
 
@@ -89,6 +91,7 @@ export function formatSolveReport(rep: SolveReport): string {
   row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
     + (t.preconditionerApplications > 0 ? ` (${t.preconditionerApplications} preconditioner application${t.preconditionerApplications === 1 ? '' : 's'}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
   const mem = rep.memory;
+  if (rep.kernels) row('kernels', rep.kernels === 'wasm' ? 'WebAssembly' : `TypeScript${rep.kernelsNote ? ` (${rep.kernelsNote})` : ''}`);
   row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
   if (rep.ritz && rep.ritz.re.length > 0) {
     const re = rep.ritz.re;
@@ -111,6 +114,7 @@ function variableSlab(r: Recipe): boolean {
 
 export async function runSolve(file: string, opts: SolveCommandOptions): Promise<SolveReport> {
   const recipe = recipeFromOptions(opts);
+  const kernels = opts.kernels === undefined ? undefined : parseKernelChoice(opts.kernels);
   const blockSize = opts.blockSize === undefined ? undefined : parseBlockSize(opts.blockSize);
   const sys: LoadedSystem = await loadSystem(file, { blockSize, layoutPath: opts.layout });
   const n = sys.csr.nRows;
@@ -134,7 +138,7 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
       if (now - last > 250) { last = now; process.stderr.write(`\r  iteration ${it}, relative residual ${num(rel)}   `); }
     }
     : undefined;
-  const { result, x } = solveSystem(sys, b, recipe, { onIteration });
+  const { result, x } = solveSystem(sys, b, recipe, { onIteration, kernels });
   if (progress && last > 0) process.stderr.write('\r\x1b[K');
   const report: SolveReport = {
     schema: 'slabbench-solve/1',
@@ -162,7 +166,8 @@ export function registerSolve(program: Command): void {
     .option('--rhs <file>', 'right-hand side (Matrix Market vector or n×1 matrix); default b = A·1, so the exact solution is all ones')
     .option('--block-size <n>', 'block size when there is no layout (default: detected from the pattern)')
     .option('--layout <file>', 'layout file to use instead of NAME.layout.json')
-    .option('--json <file>', 'write the full result as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)');
+    .option('--json <file>', 'write the full result as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)')
+    .option('--kernels <set>', 'kernel set: wasm (WebAssembly), typescript, or auto = wasm when the solve fits one 4 GiB WebAssembly memory (default auto, or SLABBENCH_KERNELS)');
   for (const field of RECIPE_FIELDS) {
     cmd.option(`--${RECIPE_FLAGS[field]} <value>`, `${FIELD_HELP[field]}; ${describeRecipeField(field)}`);
   }

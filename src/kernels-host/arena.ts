@@ -22,6 +22,8 @@ export class KernelArena {
   private top = BASE;
   /** Bytes asked for that did not fit (allocated on the JavaScript heap instead). */
   spilledBytes = 0;
+  /** Kernel calls handed to WebAssembly so far (the tests check that a path really dispatched). */
+  dispatched = 0;
 
   constructor(bytes: number) {
     const pages = Math.ceil((bytes + BASE) / WASM_PAGE_BYTES);
@@ -121,6 +123,7 @@ export function wasmFor(a: Arr, b?: Arr, c?: Arr, d?: Arr): KernelExports | null
   if (b !== undefined && b.buffer !== buf) return null;
   if (c !== undefined && c.buffer !== buf) return null;
   if (d !== undefined && d.buffer !== buf) return null;
+  A.dispatched++;
   return A.k;
 }
 
@@ -129,6 +132,7 @@ export function allInArena(arrays: ReadonlyArray<Arr | null | undefined>): boole
   const A = current;
   if (A === null) return false;
   for (const a of arrays) if (a && a.buffer !== A.buffer) return false;
+  A.dispatched++;
   return true;
 }
 

@@ -104,7 +104,9 @@ function moveMatrix(system: SystemMatrix, arena: KernelArena, withCsr: boolean):
  * Decide the kernel set for one solve and, for 'wasm', set up (or reuse) the system's kernel
  * memory, move the matrix into it and make it the active arena until finish().
  */
-export function planKernels(system: SystemMatrix, recipe: Recipe, choice: KernelChoice): KernelPlan {
+export function planKernels(
+  system: SystemMatrix, recipe: Recipe, choice: KernelChoice, limitBytes = MAX_KERNEL_MEMORY_BYTES - (1 << 16),
+): KernelPlan {
   const none = (note?: string): KernelPlan => ({
     kernels: 'typescript', note, memoryBytes: 0, adopt: (v) => v, finish: () => ({ spilledBytes: 0, usedBytes: 0 }),
   });
@@ -120,8 +122,8 @@ export function planKernels(system: SystemMatrix, recipe: Recipe, choice: Kernel
   const inArena = cached !== undefined && system.bsr.values.buffer === cached.arena.buffer &&
     (!withCsr || system.csr.values.buffer === cached.arena.buffer);
   if (!(cached !== undefined && inArena && cached.arena.bytes - cached.matrixMark >= need - matrix)) {
-    if (need > MAX_KERNEL_MEMORY_BYTES - (1 << 16)) {
-      const msg = `the solve needs ${(need / 2 ** 30).toFixed(2)} GiB of kernel memory, more than the 4 GiB one WebAssembly memory holds`;
+    if (need > limitBytes) {
+      const msg = `the solve needs ${(need / 2 ** 30).toFixed(2)} GiB of kernel memory, more than the ${(limitBytes / 2 ** 30).toFixed(2)} GiB one WebAssembly memory may hold`;
       if (choice === 'wasm') throw new UserError(`option --kernels wasm: ${msg}`);
       return none(msg);
     }
