@@ -4,8 +4,8 @@ import type { RunRecord } from '../run/results-types.js';
  * Ranking rule (one matrix at a time):
  *  1. Converged runs first, fastest total time (setup + solve seconds) first; equal times are
  *     broken by fewer iterations.
- *  2. Then runs that stopped without converging (iteration limit, divergence, breakdown,
- *     preconditioner failure, non-finite values), smallest final TRUE relative residual first
+ *  2. Then runs that stopped without meeting a target (outcome unsolved or failed: iteration-budget,
+ *     residual-growth, method-breakdown, preconditioner-error, non-finite-value), smallest final TRUE relative residual first
  *     (a NaN residual counts as worst).
  *  3. Then runs that could not start (no result, only an error).
  * Remaining ties are broken by recipe name so the order never depends on input order.

@@ -51,7 +51,7 @@ describe('solveSystem: WebAssembly kernels against TypeScript kernels', () => {
         expect(w.result.kernelsNote).toBeUndefined();
         expect(w.result.kernelMemoryBytes).toBeGreaterThan(0);
         expect(t.result.kernels).toBe('typescript');
-        expect(w.result.reason).toBe(t.result.reason);
+        expect(w.result.cause).toBe(t.result.cause);
         expect(w.result.iterations).toBe(t.result.iterations);
         expect(w.result.history).toEqual(t.result.history);
         expect(firstDifference(w.x, t.x)).toBeUndefined();
