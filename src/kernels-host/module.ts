@@ -38,7 +38,8 @@ export interface KernelExports {
   blockDiagonalApply(nb: number, bs: number, f: number, r: number, z: number): void;
   blockDiagonalLuSolve(nb: number, bs: number, f: number, piv: number, z: number): void;
   blockGsSweep(nb: number, bs: number, rowPtr: number, colInd: number, values: number, perm: number, inv: number,
-    f: number, piv: number, lu: number, rhs: number, x: number, t: number, forward: number, first: number, omega: number): void;
+    f: number, piv: number, lu: number, rhs: number, x: number, t: number, forward: number, first: number, omega: number,
+    prefix: number, prefixMode: number): void;
   iluPointSweeps(n: number, rowPtr: number, colInd: number, lu: number, diag: number, r: number, z: number): void;
   gatherBlocks(n: number, x: number, perm: number, bs: number, out: number): void;
   scatterBlocks(n: number, x: number, perm: number, bs: number, out: number): void;

@@ -43,11 +43,13 @@ export function blockDiagonalLuSolve(nb: i32, bs: i32, f: usize, piv: usize, z: 
 /**
  * One block Gauss–Seidel / SOR sweep (sweepOnce in src/precond/block-gs.ts). perm/inv = 0 for the
  * natural order; lu: diagonal factors are LU (with pivots) rather than inverses; t workspace of
- * bs (lu) or 2·bs values.
+ * bs (lu) or 2·bs values. prefixMode 1 (forward, natural order): store each row's partial sum after
+ * its blocks left of the diagonal in prefix; 2 (the backward sweep after it): start from it.
  */
 export function blockGsSweep(
   nb: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, perm: usize, inv: usize,
   f: usize, piv: usize, lu: bool, rhs: usize, x: usize, t: usize, forward: bool, first: bool, omega: f64,
+  prefix: usize, prefixMode: i32,
 ): void {
   const bb = bs * bs;
   const tIn: usize = lu ? t : f64Ptr(t, bs);
@@ -55,9 +57,21 @@ export function blockGsSweep(
     const step = forward ? i : nb - 1 - i;
     const I = perm != 0 ? i32At(perm, step) : step;
     const xo = f64Ptr(x, I * bs);
-    memory.copy(tIn, f64Ptr(rhs, I * bs), <usize>bs << 3);
     const end = i32At(rowPtr, I + 1);
-    for (let k = i32At(rowPtr, I); k < end; k++) {
+    let k = i32At(rowPtr, I);
+    if (prefixMode == 2) {
+      memory.copy(tIn, f64Ptr(prefix, I * bs), <usize>bs << 3);
+      while (k < end && i32At(colInd, k) <= I) k++;
+    } else {
+      memory.copy(tIn, f64Ptr(rhs, I * bs), <usize>bs << 3);
+      if (prefixMode == 1) {
+        for (; k < end && i32At(colInd, k) < I; k++) {
+          matVecInto(f64Ptr(values, k * bb), bs, f64Ptr(x, i32At(colInd, k) * bs), tIn, true);
+        }
+        memory.copy(f64Ptr(prefix, I * bs), tIn, <usize>bs << 3);
+      }
+    }
+    for (; k < end; k++) {
       const J = i32At(colInd, k);
       if (J == I) continue;
       if (first) {

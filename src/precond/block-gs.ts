@@ -29,6 +29,8 @@ export function createBlockGs(system: SystemMatrix, recipe: Recipe): Preconditio
   return new BlockGsPreconditioner(system, recipe);
 }
 
+const PREFIX_NONE = 0, PREFIX_STORE = 1, PREFIX_USE = 2;
+
 class BlockGsPreconditioner implements Preconditioner {
   readonly name = 'block-gs';
   readonly variable = false;
@@ -39,6 +41,8 @@ class BlockGsPreconditioner implements Preconditioner {
   private diagFactors: Float64Array = new Float64Array(0);
   private pivots: Int32Array = new Int32Array(0);
   private t: Float64Array = new Float64Array(0);
+  /** Symmetric sweeps, natural order: row partial sums after the blocks left of the diagonal. */
+  private prefix: Float64Array = new Float64Array(0);
   private ready = false;
   private setupFlops = 0;
   private readonly sweep: SweepDirection;
@@ -69,6 +73,7 @@ class BlockGsPreconditioner implements Preconditioner {
     this.diagFactors = kernelF64(nb * bb);
     this.pivots = kernelI32(this.mode === 'lu' ? nb * bs : bs);
     this.t = kernelF64(this.mode === 'lu' ? bs : 2 * bs + bb);
+    this.prefix = kernelF64(this.sweep === 'symmetric' && this.perm === null ? nb * bs : 0);
     for (let step = 0; step < nb; step++) {
       const I = this.perm ? this.perm[step] : step;
       const fo = step * bb;
@@ -91,9 +96,14 @@ class BlockGsPreconditioner implements Preconditioner {
     checkReady(this.name, this.ready);
     z.fill(0);
     let first = true;
+    // symmetric sweeps in the natural order: the forward sweep keeps each row's partial sum after
+    // its blocks left of the diagonal (prefix), and the backward sweep starts from it instead of
+    // subtracting those blocks again (the same x values, the same operations in the same order, so
+    // the same result, reading A's lower blocks once per symmetric sweep instead of twice)
+    const reuse = this.prefix.length > 0;
     for (let s = 0; s < this.sweeps; s++) {
-      if (this.sweep !== 'backward') { this.sweepOnce(r, z, true, first); first = false; }
-      if (this.sweep !== 'forward') { this.sweepOnce(r, z, false, first); first = false; }
+      if (this.sweep !== 'backward') { this.sweepOnce(r, z, true, first, reuse ? PREFIX_STORE : PREFIX_NONE); first = false; }
+      if (this.sweep !== 'forward') { this.sweepOnce(r, z, false, first, reuse ? PREFIX_USE : PREFIX_NONE); first = false; }
     }
   }
 
@@ -102,15 +112,17 @@ class BlockGsPreconditioner implements Preconditioner {
    * from x = 0 the blocks not yet visited are zero, so only the already-visited side of each row is
    * used (forward: earlier steps; backward: later steps).
    */
-  private sweepOnce(rhs: Float64Array, x: Float64Array, forward: boolean, first: boolean): void {
+  private sweepOnce(rhs: Float64Array, x: Float64Array, forward: boolean, first: boolean, prefixMode: number): void {
     const { nBlockRows: nb, bs, rowPtr, colInd, values } = this.system.bsr;
     const bb = bs * bs;
     const t = this.t, f = this.diagFactors, piv = this.pivots, perm = this.perm, inv = this.inv;
     const omega = this.omega;
     const lu = this.mode === 'lu';
-    if (allInArena([rowPtr, colInd, values, rhs, x, t, f, piv, perm, inv])) {
+    const prefix = this.prefix;
+    if (allInArena([rowPtr, colInd, values, rhs, x, t, f, piv, perm, inv, prefix])) {
       wasmFor(x)!.blockGsSweep(nb, bs, ptr(rowPtr), ptr(colInd), ptr(values), perm ? ptr(perm) : 0, inv ? ptr(inv) : 0,
-        ptr(f), ptr(piv), lu ? 1 : 0, ptr(rhs), ptr(x), ptr(t), forward ? 1 : 0, first ? 1 : 0, omega);
+        ptr(f), ptr(piv), lu ? 1 : 0, ptr(rhs), ptr(x), ptr(t), forward ? 1 : 0, first ? 1 : 0, omega,
+        prefixMode === PREFIX_NONE ? 0 : ptr(prefix), prefixMode);
       return;
     }
     const tIn = lu ? 0 : bs; // with inverses, t[0..bs) holds the result and t[bs..2bs) the residual
@@ -118,8 +130,19 @@ class BlockGsPreconditioner implements Preconditioner {
       const step = forward ? i : nb - 1 - i;
       const I = perm ? perm[step] : step;
       const xo = I * bs;
-      for (let q = 0; q < bs; q++) t[tIn + q] = rhs[xo + q];
-      for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
+      let k = rowPtr[I];
+      const end = rowPtr[I + 1];
+      if (prefixMode === PREFIX_USE) {
+        for (let q = 0; q < bs; q++) t[tIn + q] = prefix[xo + q];
+        while (k < end && colInd[k] <= I) k++;
+      } else {
+        for (let q = 0; q < bs; q++) t[tIn + q] = rhs[xo + q];
+        if (prefixMode === PREFIX_STORE) {
+          for (; k < end && colInd[k] < I; k++) blockMatVecSub(values, k * bb, bs, x, colInd[k] * bs, t, tIn);
+          for (let q = 0; q < bs; q++) prefix[xo + q] = t[tIn + q];
+        }
+      }
+      for (; k < end; k++) {
         const J = colInd[k];
         if (J === I) continue;
         if (first) {
@@ -140,7 +163,7 @@ class BlockGsPreconditioner implements Preconditioner {
     m[this.mode === 'lu' ? 'factors (diagonal-block LU)' : 'inverse blocks'] = this.diagFactors.byteLength;
     if (this.mode === 'lu') m.pivots = this.pivots.byteLength;
     if (this.perm && this.inv) m['visiting order and its inverse'] = this.perm.byteLength + this.inv.byteLength;
-    m.workspace = this.t.byteLength + (this.mode === 'lu' ? 0 : this.pivots.byteLength);
+    m.workspace = this.t.byteLength + this.prefix.byteLength + (this.mode === 'lu' ? 0 : this.pivots.byteLength);
     return m;
   }
 
