@@ -300,11 +300,48 @@ export function luInverse(lu: usize, piv: usize, bs: i32, out: usize): void {
   }
 }
 
-/** C −= A·B (sign −1) or C += A·B after zeroing C (gemm), i-k-j order with k unrolled by 4. */
+/**
+ * C −= A·B (sign −1) or C += A·B after zeroing C (gemm), i-k-j order with k unrolled by 4, as in
+ * TypeScript. Rows of C are taken two at a time for the k-groups of four, so each v128 load of B
+ * serves two rows; every entry still gets the same operations in the same order.
+ */
 @inline function gemmInto(c: usize, a: usize, b: usize, bs: i32, subtract: bool): void {
   const rowBytes = <usize>bs << 3;
   const k4 = bs & ~3;
-  for (let i = 0; i < bs; i++) {
+  let i0 = 0;
+  for (; i0 + 1 < bs && k4 > 0; i0 += 2) {
+    const ci = c + (<usize>i0) * rowBytes, ai = a + (<usize>i0) * rowBytes;
+    const cj = ci + rowBytes, aj = ai + rowBytes;
+    for (let k = 0; k < k4; k += 4) {
+      const a0 = f64At(ai, k), a1 = f64At(ai, k + 1), a2 = f64At(ai, k + 2), a3 = f64At(ai, k + 3);
+      const e0 = f64At(aj, k), e1 = f64At(aj, k + 1), e2 = f64At(aj, k + 2), e3 = f64At(aj, k + 3);
+      const v0 = f64x2.splat(a0), v1 = f64x2.splat(a1), v2 = f64x2.splat(a2), v3 = f64x2.splat(a3);
+      const w0 = f64x2.splat(e0), w1 = f64x2.splat(e1), w2 = f64x2.splat(e2), w3 = f64x2.splat(e3);
+      const b0 = b + (<usize>k) * rowBytes, b1 = b0 + rowBytes, b2 = b1 + rowBytes, b3 = b2 + rowBytes;
+      let j = 0;
+      for (; j + 1 < bs; j += 2) {
+        const p0 = pairAt(b0, j), p1 = pairAt(b1, j), p2 = pairAt(b2, j), p3 = pairAt(b3, j);
+        const s = f64x2.add(f64x2.add(f64x2.add(f64x2.mul(v0, p0), f64x2.mul(v1, p1)), f64x2.mul(v2, p2)), f64x2.mul(v3, p3));
+        const t = f64x2.add(f64x2.add(f64x2.add(f64x2.mul(w0, p0), f64x2.mul(w1, p1)), f64x2.mul(w2, p2)), f64x2.mul(w3, p3));
+        v128.store(ci + (<usize>j << 3), subtract ? f64x2.sub(pairAt(ci, j), s) : f64x2.add(pairAt(ci, j), s));
+        v128.store(cj + (<usize>j << 3), subtract ? f64x2.sub(pairAt(cj, j), t) : f64x2.add(pairAt(cj, j), t));
+      }
+      if (j < bs) {
+        const q0 = f64At(b0, j), q1 = f64At(b1, j), q2 = f64At(b2, j), q3 = f64At(b3, j);
+        const s = a0 * q0 + a1 * q1 + a2 * q2 + a3 * q3;
+        const t = e0 * q0 + e1 * q1 + e2 * q2 + e3 * q3;
+        setF64(ci, j, subtract ? f64At(ci, j) - s : f64At(ci, j) + s);
+        setF64(cj, j, subtract ? f64At(cj, j) - t : f64At(cj, j) + t);
+      }
+    }
+    for (let k = k4; k < bs; k++) {
+      const bk = b + (<usize>k) * rowBytes;
+      const aik = f64At(ai, k), ajk = f64At(aj, k);
+      if (subtract) { rowUpdate(ci, bk, aik, 0, bs); rowUpdate(cj, bk, ajk, 0, bs); }
+      else { rowUpdate(ci, bk, -aik, 0, bs); rowUpdate(cj, bk, -ajk, 0, bs); }
+    }
+  }
+  for (let i = i0; i < bs; i++) {
     const ci = c + (<usize>i) * rowBytes, ai = a + (<usize>i) * rowBytes;
     let k = 0;
     for (; k < k4; k += 4) {
