@@ -220,24 +220,22 @@ export class SlabPreconditioner implements Preconditioner {
 
   /** Slab s: its inner preconditioner from the current values, then the inner solve into sol. */
   private solveSlab(s: number, slab: Bsr, rhs: Float64Array, sol: Float64Array): void {
-    {
-      const M = createPreconditioner(slabSystem(slab), this.inner);
-      const out = M.setup();
-      sol.fill(0);
-      if (!out.ok) {
-        // cannot happen after a successful setup() on the same values; poison the result so the
-        // outer solver stops with 'non-finite-value' rather than continuing on a wrong correction
-        this.noteFailure(`slab ${s}: ${out.message}`);
-        sol.fill(NaN);
-      } else {
-        const res = krylovSolve(bsrOperator(slab), rhs, sol, this.inner, M, { ritz: false });
-        this.lastIterations[s] = res.iterations;
-        this.sumIterations[s] += res.iterations;
-        this.totalIterations += res.iterations;
-        if (!res.converged && this.variable) {
-          this.innerNotConverged++;
-          if (res.cause !== 'iteration-budget') this.noteFailure(`slab ${s}: inner ${res.method} stopped with ${res.cause}`);
-        }
+    const M = createPreconditioner(slabSystem(slab), this.inner);
+    const out = M.setup();
+    sol.fill(0);
+    if (!out.ok) {
+      // cannot happen after a successful setup() on the same values; poison the result so the
+      // outer solver stops with 'non-finite-value' rather than continuing on a wrong correction
+      this.noteFailure(`slab ${s}: ${out.message}`);
+      sol.fill(NaN);
+    } else {
+      const res = krylovSolve(bsrOperator(slab), rhs, sol, this.inner, M, { ritz: false });
+      this.lastIterations[s] = res.iterations;
+      this.sumIterations[s] += res.iterations;
+      this.totalIterations += res.iterations;
+      if (!res.converged && this.variable) {
+        this.innerNotConverged++;
+        if (res.cause !== 'iteration-budget') this.noteFailure(`slab ${s}: inner ${res.method} stopped with ${res.cause}`);
       }
     }
   }
