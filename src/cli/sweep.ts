@@ -6,6 +6,7 @@ import { EXIT, optionError, UserError } from '../util/errors.js';
 import { KERNELS_ENV, parseKernelChoice } from '../solvers/kernel-plan.js';
 import { readSuite } from '../run/suite.js';
 import { parseShard } from '../run/shard.js';
+import { planSweep, formatSweepPlan } from '../run/plan.js';
 import { runSweep, HISTORY_FILE } from '../run/sweep.js';
 import { readHistory } from '../run/history.js';
 import { ProgressBar } from '../run/progress.js';
@@ -42,6 +43,7 @@ interface SweepCliOptions {
   report: boolean;
   quiet?: boolean;
   json?: boolean;
+  dryRun?: boolean;
   kernels?: string;
 }
 
@@ -88,6 +90,7 @@ export function registerSweep(program: Command, deps: SweepCommandDeps = REAL_DE
     .option('--kernels <set>', 'kernel set for every solve: wasm, typescript, or auto = wasm when a solve fits one 4 GiB WebAssembly memory (default auto, or SLABBENCH_KERNELS)')
     .addOption(new Option('-q, --quiet', 'print nothing but errors').conflicts('json'))
     .option('--json', 'print a JSON summary on stdout (nothing else goes to stdout)')
+    .option('--dry-run', 'list the matrix × recipe pairs the sweep would run (grids expanded, selection and shard applied) and stop; nothing is generated, solved or written')
     .addHelpText('after', `
 A run that does not converge is a result, not an error: sweep exits 0 when every pair ran.
 Exit codes: 0 all pairs ran; 2 bad input (suite, option, or a pair that could not start — the
@@ -100,12 +103,26 @@ Examples:
   slabbench sweep my-suite.json --only-matrix duct-pulse --only-recipe gmres-block-ilu0-downstream,fgmres-slab
   slabbench sweep my-suite.json --shard 2/4 --out shard-2   # then: slabbench merge shard-*/results.json --out all
   slabbench sweep matrices/ci/suite.json --out .ci-results --quiet
-  slabbench sweep --json | jq '.winners'`)
-    .action(async (suiteArg: string | undefined, opts: SweepCliOptions) => {
+  slabbench sweep --json | jq '.winners'
+  slabbench sweep my-suite.json --dry-run            # which pairs, after grids ("restart": [10, 30, 60]) expand`)
+    .action(async (suiteArg: string | undefined, opts: SweepCliOptions, cmd: Command) => {
+      if (opts.dryRun) {
+        // Everything else only shapes a run that --dry-run does not start: refuse it rather than ignore it.
+        const allowed = new Set(['dryRun', 'shard', 'onlyMatrix', 'onlyRecipe', 'json']);
+        for (const o of cmd.options) {
+          const key = o.attributeName();
+          if (!allowed.has(key) && cmd.getOptionValueSource(key) === 'cli') throw optionError(o.long ?? key, 'has no effect with --dry-run, which runs nothing');
+        }
+      }
       const shard = opts.shard !== undefined ? parseShard(opts.shard) : undefined;
       const { parsers, builder, depsModule } = await deps.load();
       const suitePath = suiteArg ?? demoSuitePath();
       const suite = readSuite(suitePath, parsers);
+      if (opts.dryRun) {
+        const plan = planSweep(suite, { shard, onlyMatrix: opts.onlyMatrix, onlyRecipe: opts.onlyRecipe });
+        process.stdout.write(opts.json ? `${JSON.stringify(plan, null, 1)}\n` : formatSweepPlan(plan));
+        return;
+      }
       const quiet = opts.quiet === true || opts.json === true;
       const bar = !opts.quiet && process.stderr.isTTY ? new ProgressBar(process.stderr) : undefined;
       const ac = new AbortController();

@@ -28,7 +28,8 @@ import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { Recipe } from '../solvers/recipe.js';
 import { DEFAULT_INNER_RECIPE } from '../solvers/recipe.js';
 import type { Bsr, Csr } from '../sparse/types.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
+import { addWork, kernel, vectorWork, zeroWork } from '../solvers/work.js';
 import { UserError } from '../util/errors.js';
 import { bsrToCsr } from '../sparse/bsr.js';
 import { permuteBsr } from '../sparse/permute.js';
@@ -82,6 +83,13 @@ export class SlabPreconditioner implements Preconditioner {
   private totalIterations = 0;
   private innerNotConverged = 0;
   private innerFailures: string[] = [];
+  // work counts (README "Work model")
+  private setupWork: WorkCounts = zeroWork();
+  private applyWork: WorkCounts = zeroWork();
+  /** Per apply, everything but the inner setups and solves (fixed by the pattern). */
+  private applyFixed: WorkCounts = zeroWork();
+  /** Per slab: bytes of extractSlab (the slab's column indices scanned, its diagonal part copied). */
+  private extractBytes: Float64Array = new Float64Array(0);
 
   constructor(private readonly system: SystemMatrix, readonly inner: Recipe) {
     this.a = system.bsr;
@@ -106,23 +114,41 @@ export class SlabPreconditioner implements Preconditioner {
       this.perm = identity ? null : comp.order;
       this.a = this.perm ? permuteBsr(a0, this.perm) : a0;
     }
+    this.setupWork = zeroWork();
+    this.applyWork = zeroWork();
+    // the permuted copy: values and indices read and written once
+    if (this.perm) addWork(this.setupWork, kernel(0, 2 * (8 * a0.bs * a0.bs + 4) * a0.colInd.length + 2 * 4 * (nb + 1)));
     const { bs, rowPtr, colInd } = this.a;
     const bb = bs * bs;
     const nSlabs = this.offsets.length - 1;
     let maxRows = 0, maxBlocks = 0, above = 0;
+    this.extractBytes = new Float64Array(nSlabs);
+    const fixed = this.perm ? addWork(vectorWork.permute(nb, bs), vectorWork.permute(nb, bs)) : zeroWork();
     for (let s = 0; s < nSlabs; s++) {
       const lo = this.offsets[s], hi = this.offsets[s + 1];
-      let blocks = 0;
+      let blocks = 0, left = 0;
       for (let I = lo; I < hi; I++) {
         for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
           const J = colInd[k];
           if (J >= lo && J < hi) blocks++;
           else if (J >= hi) above++;
+          else left++;
         }
       }
+      const rowBlocks = rowPtr[hi] - rowPtr[lo], len = (hi - lo) * bs;
+      this.extractBytes[s] = 4 * rowBlocks + 4 * (hi - lo + 1) + (16 * bb + 8) * blocks;
+      // per apply: rhs ← r_s; rhs −= A_st z_t over the blocks left of the slab (their values, every
+      // column index of the slab's rows, rhs read and written, the earlier part of z read); the slab
+      // extracted; sol ← 0; z_s ← sol
+      addWork(fixed, vectorWork.copy(len));
+      addWork(fixed, kernel(2 * bb * left, 8 * bb * left + 4 * rowBlocks + 4 * (hi - lo + 1) + 16 * len + 8 * lo * bs));
+      addWork(fixed, kernel(0, this.extractBytes[s]));
+      addWork(fixed, vectorWork.fill(len));
+      addWork(fixed, vectorWork.copy(len));
       maxRows = Math.max(maxRows, hi - lo);
       maxBlocks = Math.max(maxBlocks, blocks);
     }
+    this.applyFixed = fixed;
     this.aboveDiagonal = above;
     // kernel memory when the solve has one (src/kernels-host); each slab's inner factors and Krylov
     // buffers are scratch, handed back after the slab (withScratch)
@@ -143,6 +169,8 @@ export class SlabPreconditioner implements Preconditioner {
       const { out, mem } = withScratch(() => {
         const M = createPreconditioner(slabSystem(slab), this.inner);
         const o = M.setup();
+        addWork(this.setupWork, kernel(0, this.extractBytes[s]));
+        addWork(this.setupWork, M.work().setup);
         return { out: o, mem: o.ok ? M.memory() : {} };
       });
       if (!out.ok) {
@@ -197,6 +225,8 @@ export class SlabPreconditioner implements Preconditioner {
     let rr = r, x = z;
     if (this.perm) { gatherBlocks(r, this.perm, bs, this.rp); rr = this.rp; x = this.xp; }
     this.applications++;
+    addWork(this.applyWork, this.applyFixed);
+    this.applyWork.preconditionerApplies++;
     const nSlabs = this.offsets.length - 1;
     for (let s = 0; s < nSlabs; s++) {
       const lo = this.offsets[s], hi = this.offsets[s + 1];
@@ -222,6 +252,7 @@ export class SlabPreconditioner implements Preconditioner {
   private solveSlab(s: number, slab: Bsr, rhs: Float64Array, sol: Float64Array): void {
     const M = createPreconditioner(slabSystem(slab), this.inner);
     const out = M.setup();
+    addWork(this.applyWork, M.work().setup);
     sol.fill(0);
     if (!out.ok) {
       // cannot happen after a successful setup() on the same values; poison the result so the
@@ -230,6 +261,9 @@ export class SlabPreconditioner implements Preconditioner {
       sol.fill(NaN);
     } else {
       const res = krylovSolve(bsrOperator(slab), rhs, sol, this.inner, M, { ritz: false });
+      // the inner solve's work (its products, vector operations, preconditioner applies), and its iterations
+      addWork(this.applyWork, res.work.solve);
+      this.applyWork.innerIterations += res.iterations;
       this.lastIterations[s] = res.iterations;
       this.sumIterations[s] += res.iterations;
       this.totalIterations += res.iterations;
@@ -238,6 +272,17 @@ export class SlabPreconditioner implements Preconditioner {
         if (res.cause !== 'iteration-budget') this.noteFailure(`slab ${s}: inner ${res.method} stopped with ${res.cause}`);
       }
     }
+  }
+
+  /**
+   * Work model: setup = the permuted copy (when reordered), and per slab the extraction of its
+   * diagonal part and its inner preconditioner's setup; apply = per application the gather and
+   * scatter (when reordered) and per slab the right-hand side with the blocks left of the slab,
+   * the extraction, the inner setup and the inner solve (all of its work; innerIterations counts its
+   * iterations). Building the CSR view a point inner preconditioner asks for is not counted.
+   */
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    return { setup: { ...this.setupWork }, apply: { ...this.applyWork } };
   }
 
   private noteFailure(msg: string): void {

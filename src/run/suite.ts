@@ -16,6 +16,7 @@ import { UserError } from '../util/errors.js';
 import { SUITE_SCHEMA } from './results-types.js';
 import type { SuiteParsers } from './deps.js';
 import { readJsonFile } from '../util/json-file.js';
+import { expandRecipeGrid, gridRecipeName } from './recipe-grid.js';
 
 /** Names become file names (cache, reports) and CSV cells: keep them plain. */
 export const NAME_PATTERN = /^[A-Za-z0-9][A-Za-z0-9._+-]{0,79}$/;
@@ -61,6 +62,18 @@ export interface Suite {
   recipes: Recipe[];
   /** Identity of the parsed content (see ResultsDoc.suite.fingerprint). */
   fingerprint: string;
+  /** Recipes that were parameter grids (a field given as a list), when there were any. */
+  grids?: SuiteGrid[];
+}
+
+/** One grid recipe of the suite file and the recipes it expanded to. */
+export interface SuiteGrid {
+  /** Position in the file's `recipes` array. */
+  recipeIndex: number;
+  /** The fields given as lists, in file order. */
+  fields: string[];
+  /** Names of the expanded recipes, in expansion order (last listed field fastest). */
+  recipes: string[];
 }
 
 const TOP_KEYS = new Set(['schema', 'description', 'matrices', 'recipes', '$comment']);
@@ -140,9 +153,9 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
     if (hasFile === hasGen) fail(at, 'expected exactly one of "file" (a Matrix Market file) or "generate" (generator parameters)');
     if (hasFile) {
       for (const k of Object.keys(m)) if (!FILE_KEYS.has(k)) fail(`${at}.${k}`, `unknown key for a file matrix (expected ${[...FILE_KEYS].join(', ')})`);
-      if (typeof m.file !== 'string' || m.file === '') fail(`${at}.file`, `expected a path to a .mtx or .mtx.gz file, got ${describe(m.file)}`);
+      if (typeof m.file !== 'string' || m.file === '') fail(`${at}.file`, `expected a path to a .mtx, .mtx.gz or .npz file, got ${describe(m.file)}`);
       const f = m.file as string;
-      if (!/\.mtx(\.gz)?$/i.test(f)) fail(`${at}.file`, `expected a path ending in .mtx or .mtx.gz, got ${describe(f)}`);
+      if (!/\.(mtx(\.gz)?|npz)$/i.test(f)) fail(`${at}.file`, `expected a path ending in .mtx, .mtx.gz or .npz, got ${describe(f)}`);
       if (m.rhs !== undefined && (typeof m.rhs !== 'string' || m.rhs === '')) fail(`${at}.rhs`, `expected a path to a Matrix Market vector, got ${describe(m.rhs)}`);
       if (m.blockSize !== undefined && !(Number.isInteger(m.blockSize) && (m.blockSize as number) >= 1 && (m.blockSize as number) <= 4096)) {
         fail(`${at}.blockSize`, `expected an integer from 1 to 4096, got ${describe(m.blockSize)}`);
@@ -172,15 +185,32 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
 
   const recipes: Recipe[] = [];
   const recipeNames = new Map<string, number>();
+  const grids: SuiteGrid[] = [];
   rawRecipes.forEach((r, i) => {
     const at = `recipes[${i}]`;
     if (!isPlainObject(r)) return fail(at, `expected an object, got ${describe(r)}`);
-    if (r.name !== undefined && typeof r.name !== 'string') fail(`${at}.name`, `expected a string, got ${describe(r.name)}`);
-    const recipe = parsers.parseRecipe(r, `${file}: ${at}`);
-    // Without a name the recipe parser's default ("krylov-preconditioner") names it; duplicates are still errors.
-    const name = checkName(r.name ?? recipe.name, `${at}.name`, recipeNames, 'recipe');
-    recipeNames.set(name, i);
-    recipes.push({ ...recipe, name });
+    if (r.name !== undefined && typeof r.name !== 'string' && !Array.isArray(r.name)) fail(`${at}.name`, `expected a string, got ${describe(r.name)}`);
+    // A field given as a list is a parameter grid: one recipe per value (src/run/recipe-grid.ts).
+    const points = expandRecipeGrid(r, `${file}: ${at}`);
+    const names: string[] = [];
+    for (const point of points) {
+      let recipe: Recipe;
+      try {
+        recipe = parsers.parseRecipe(point.raw, `${file}: ${at}`);
+      } catch (e) {
+        if (point.values.length === 0 || !(e instanceof UserError)) throw e;
+        throw new UserError(`${e.message} (grid point ${point.values.map(([k, v]) => `${k} = ${JSON.stringify(v)}`).join(', ')})`, e.exitCode);
+      }
+      // Without a name the recipe parser's default ("krylov-preconditioner") names it; duplicates are still errors.
+      const base = (r.name as string | undefined) ?? recipe.name;
+      const name = checkName(gridRecipeName(base, point.values), `${at}.name`, recipeNames, 'recipe');
+      recipeNames.set(name, i);
+      recipes.push({ ...recipe, name });
+      names.push(name);
+    }
+    if (points.length > 1 || points[0]!.values.length > 0) {
+      grids.push({ recipeIndex: i, fields: points[0]!.values.map(([k]) => k), recipes: names });
+    }
     return undefined;
   });
 
@@ -190,7 +220,9 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
       : { name: m.name, generate: m.generateRaw }),
     recipes,
   }));
-  return { path: file, dir, description: top.description as string | undefined, matrices, recipes, fingerprint };
+  const suite: Suite = { path: file, dir, description: top.description as string | undefined, matrices, recipes, fingerprint };
+  if (grids.length > 0) suite.grids = grids;
+  return suite;
 }
 
 /** Read, parse and validate a suite file; also checks that every referenced file exists. */

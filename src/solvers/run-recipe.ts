@@ -10,6 +10,7 @@ import { buildResult, meterPreconditioner, peakRssBytes, relative, secondsSince,
 import { norm2 } from './vector.js';
 import { kernelChoiceFromEnv, planKernels, type KernelChoice } from './kernel-plan.js';
 import { kernelF64 } from '../kernels-host/arena.js';
+import { addWork, vectorWork, zeroWork } from './work.js';
 
 export interface SolveSystemOptions {
   /** Initial guess (copied; default zeros). */
@@ -91,6 +92,7 @@ function solveOn(
     result = krylovSolve(A, b, x, recipe, M, { onIteration: opts.onIteration });
   }
   result.timing.setupSeconds = setupSeconds;
+  if (M) result.work.setup = { ...M.work().setup };
   const mem = result.memory;
   mem.buffers.matrix = { ...A.bytes };
   mem.matrixBytes = sumBytes(A.bytes);
@@ -111,8 +113,10 @@ function setupFailure(
 ): SolveResult {
   const n = A.n;
   const r = kernelF64(n);
-  const rNorm = residualInto(A, b, x, r);
+  const counts = zeroWork();
+  const rNorm = residualInto(A, b, x, r, counts);
   const base = recipe.relativeTo === 'rhs' ? norm2(n, b) : rNorm;
+  if (recipe.relativeTo === 'rhs') addWork(counts, vectorWork.norm2(n));
   const failure: { message: string; blockRow?: number } = { message: outcome.message };
   if (outcome.blockRow !== undefined) failure.blockRow = outcome.blockRow;
   return buildResult({
@@ -122,6 +126,6 @@ function setupFailure(
     watched: recipe.side === 'left' && recipe.krylov === 'gmres' ? 'left-preconditioned' : 'plain',
     relativeTo: recipe.relativeTo, referenceNorm: base, trueReferenceNorm: base, trueResidualNorm: rNorm,
     residualChecks: [], residualMismatch: false, solveSeconds: 0, meter: meterPreconditioner(undefined),
-    krylov: {}, work: {}, failure,
+    krylov: {}, work: {}, counts, failure,
   });
 }
