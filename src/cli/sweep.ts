@@ -1,3 +1,4 @@
+import { plural } from '../report/format.js';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -12,8 +13,7 @@ import { readHistory } from '../run/history.js';
 import { ProgressBar } from '../run/progress.js';
 import type { HistoryEntry, ResultsDoc } from '../run/results-types.js';
 import type { CaseBuilder, SuiteParsers } from '../run/deps.js';
-import { renderRankedTables, shouldUseColor } from '../report/table.js';
-import { rankRuns } from '../report/rank.js';
+import { rankMatrix, renderRankedTables, shouldUseColor } from '../report/table.js';
 import { writeReport } from '../report/html.js';
 
 /** The demo suite shipped with the package (resolved from the installed code, not the working folder). */
@@ -57,7 +57,11 @@ function summary(doc: ResultsDoc, files: Record<string, string | undefined>, int
     converged: doc.runs.filter((r) => r.result?.converged).length,
     notConverged: doc.runs.filter((r) => r.result && !r.result.converged).length,
     errors: doc.runs.filter((r) => r.error !== undefined).length,
-    winners: [...byMatrix].map(([matrix, runs]) => ({ matrix, recipe: rankRuns(runs).find((x) => x.winner)?.run.recipe ?? null })),
+    // a matrix missing some of the sweep's recipes names no winner (null) and lists what is missing
+    winners: [...byMatrix].map(([matrix, runs]) => {
+      const { ranked, missing } = rankMatrix(doc, matrix, runs);
+      return { matrix, recipe: ranked.find((x) => x.winner)?.run.recipe ?? null, ...(missing.length ? { missingRecipes: missing } : {}) };
+    }),
   };
 }
 
@@ -136,7 +140,8 @@ Examples:
         outcome = await runSweep({
           suite, outDir: opts.out, jobs: opts.jobs, shard, onlyMatrix: opts.onlyMatrix, onlyRecipe: opts.onlyRecipe,
           cacheDir: opts.cache, builder, depsModule, signal: ac.signal, warmup: opts.warmup === true,
-          onProgress: bar ? (d, t, label) => bar.update(d, t, label) : undefined,
+          onProgress: bar ? (d, t) => bar.update(d, t, '') : undefined,
+          onStatus: bar ? (label) => bar.status(label) : undefined,
           log: opts.quiet ? undefined : (line) => { bar?.finish(); process.stderr.write(`${line}\n`); },
         });
       } finally {
@@ -167,10 +172,10 @@ Examples:
         process.stdout.write(`\nresults: ${files.results} (+ ${files.csv}${reportPath ? `, ${reportPath}` : ''})\n`);
       }
       if (interrupted) {
-        throw new UserError(`interrupted: ${doc.runs.length} finished run(s) kept in ${files.results}`, EXIT.interrupted);
+        throw new UserError(`interrupted: ${plural(doc.runs.length, 'finished run')} kept in ${files.results}`, EXIT.interrupted);
       }
       if (errors > 0) {
-        throw new UserError(`${errors} of ${doc.runs.length} run(s) could not start (see "error" in ${files.results}); the others ran`, EXIT.badInput);
+        throw new UserError(`${errors} of ${plural(doc.runs.length, 'run')} could not start (see "error" in ${files.results}); the others ran`, EXIT.badInput);
       }
     });
 }

@@ -3,7 +3,7 @@
  * while consecutive tasks use the same one), build the right-hand side, call solveSystem.
  * Solver and preconditioner failures are results (a reason); only a run that cannot start is an error.
  */
-import type { Recipe } from '../solvers/recipe.js';
+import { recordedRecipe, type Recipe } from '../solvers/recipe.js';
 import { csrSpmv } from '../sparse/csr.js';
 import { UserError } from '../util/errors.js';
 import type { RunDeps, LoadedForRun } from './deps.js';
@@ -84,7 +84,7 @@ export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache
     cache.last = await load(m, deps);
   }
   const loaded = cache.last;
-  const base = { matrix: m.name, recipe: task.recipe.name, recipeParams: task.recipe };
+  const base = { matrix: m.name, recipe: task.recipe.name, recipeParams: recordedRecipe(task.recipe) };
   if (loaded.error !== undefined || !loaded.system || !loaded.b) {
     return { id: task.id, record: { ...base, error: loaded.error ?? 'matrix not loaded' } };
   }
