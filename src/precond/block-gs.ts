@@ -231,7 +231,8 @@ class BlockGsPreconditioner implements Preconditioner {
     m[this.mode === 'lu' ? 'factors (diagonal-block LU)' : 'inverse blocks'] = this.diagFactors.byteLength;
     if (this.mode === 'lu') m.pivots = this.pivots.byteLength;
     if (this.perm && this.inv) m['visiting order and its inverse'] = this.perm.byteLength + this.inv.byteLength;
-    m.workspace = this.t.byteLength + this.prefix.byteLength + (this.mode === 'lu' ? 0 : this.pivots.byteLength);
+    m.workspace = this.t.byteLength + (this.mode === 'lu' ? 0 : this.pivots.byteLength);
+    if (this.prefix.length > 0) m['row prefixes (symmetric sweeps)'] = this.prefix.byteLength;
     return m;
   }
 
