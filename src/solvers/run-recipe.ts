@@ -5,7 +5,7 @@ import type { Recipe } from './recipe.js';
 import type { SolveResult } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { bsrOperator, csrOperator, residualInto, type MatrixOperator } from './operator.js';
-import { krylovSolve } from './krylov.js';
+import { checkVariablePreconditioner, krylovSolve } from './krylov.js';
 import { buildResult, meterPreconditioner, peakRssBytes, relative, secondsSince, sumBytes } from './result.js';
 import { norm2 } from './vector.js';
 import { kernelChoiceFromEnv, planKernels, type KernelChoice } from './kernel-plan.js';
@@ -76,6 +76,7 @@ function solveOn(
   if (recipe.preconditioner !== 'none') {
     const created: Preconditioner = createPreconditioner(system, recipe);
     M = created;
+    checkVariablePreconditioner(recipe, created); // before the setup work
     try {
       outcome = created.setup();
     } catch (e) {
