@@ -6,6 +6,7 @@ import { readMatrixMarketVector } from '../sparse/matrix-market.js';
 import { csrSpmv } from '../sparse/csr.js';
 import {
   RECIPE_FIELDS, RECIPE_FLAGS, describeRecipeField, recipeFromOptions, recordedRecipe, type Recipe, type RecordedRecipe,
+  AIR_FIELDS, AIR_FLAGS, describeAirField, type AirOptions,
   PMG_FLAGS, PMG_COARSE_PREFIX, PMG_CYCLES, PMG_SMOOTHERS,
 } from '../solvers/recipe.js';
 import { solveSystem } from '../solvers/run-recipe.js';
@@ -14,6 +15,20 @@ import { EXIT, fileError, optionError } from '../util/errors.js';
 import { parseKernelChoice } from '../solvers/kernel-plan.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
 import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull, plural } from '../report/format.js';
+
+/** What each AIR option means (--precond air; the accepted values come from the recipe validator). */
+const AIR_HELP: Record<keyof AirOptions, string> = {
+  strength: 'AIR strength threshold θ on Frobenius block norms, relative to the row\'s largest off-diagonal block (default 0.25)',
+  distance: 'AIR restriction neighbourhood: F points within this many strong connections (default 2)',
+  prolongation: 'AIR prolongation: one-point (W = −A_ff⁻¹A_fc, strongest C neighbour) or injection (default one-point)',
+  relaxation: 'AIR post-relaxation: block Jacobi sweeps on F and C points in this order (default ffc)',
+  preRelaxation: 'AIR pre-relaxation pattern, or none (default none)',
+  sweeps: 'AIR repetitions of the relaxation pattern per level (default 1)',
+  maxLevels: 'AIR most levels, coarsest included (default 25)',
+  coarsest: 'AIR stops coarsening at a level with at most this many unknowns; solved by dense LU (default 256)',
+  cycle: 'AIR cycle (default V)',
+  scaling: 'AIR on D⁻¹A (block-diagonal) or on A (none) (default block-diagonal)',
+};
 
 /** What each recipe option means (the accepted values come from the recipe validator). */
 const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
@@ -75,6 +90,10 @@ function recipeText(r: RecordedRecipe): string {
   if (r.preconditioner === 'block-gs') pc += ` (${r.sweep} ×${r.sweeps}, ω ${r.omega}, ${r.ordering}, ${diagonal})`;
   if (r.preconditioner === 'block-ilu0') pc += ` (${r.ordering})`;
   if (r.preconditioner === 'slab' && r.inner) pc += ` [inner: ${recipeText(r.inner)}, rtol ${r.inner.rtol}]`;
+  if (r.preconditioner === 'air' && r.air) {
+    const a = r.air;
+    pc += ` (${a.cycle}-cycle, θ ${a.strength}, distance ${a.distance}, ${a.prolongation}, ${a.preRelaxation === 'none' ? '' : `pre ${a.preRelaxation}, `}post ${a.relaxation} ×${a.sweeps}, coarsest ≤ ${a.coarsest}, scaling ${a.scaling})`;
+  }
   if (r.preconditioner === 'p-multigrid' && r.pMultigrid) {
     const o = r.pMultigrid;
     const s = o.smoother;
@@ -109,6 +128,10 @@ export function formatSolveReport(rep: SolveReport): string {
   const t = rep.timing;
   row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
     + (t.preconditionerApplications > 0 ? ` (${plural(t.preconditionerApplications, 'preconditioner application')}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
+  const ps = rep.preconditionerStats as { levels?: number; operatorComplexity?: number; gridComplexity?: number; perLevel?: Array<{ blockRows: number }> } | undefined;
+  if (rep.recipe.preconditioner === 'air' && ps && ps.levels !== undefined && ps.perLevel) {
+    row('levels', `${ps.levels} (block rows ${ps.perLevel.map((l) => l.blockRows).join(' / ')}); operator complexity ${num(ps.operatorComplexity ?? 0)}, grid complexity ${num(ps.gridComplexity ?? 0)}`);
+  }
   const su = rep.work.setup;
   row('work', `setup ${num(su.flops)} flops, ${bytes(su.bytes)} moved; solve ${num(sw.flops)} flops, ${bytes(sw.bytes)} moved (work model, README)`);
   const mem = rep.memory;
@@ -212,6 +235,10 @@ export function registerSolve(program: Command): void {
     // listed once in the help text below rather than sixteen times
     cmd.addOption(new Option(`--inner-${RECIPE_FLAGS[field]} <value>`, `slab inner recipe: as --${RECIPE_FLAGS[field]}`).hideHelp());
   }
+  for (const field of AIR_FIELDS) {
+    cmd.option(`--${AIR_FLAGS[field]} <value>`, `${AIR_HELP[field]}; ${describeAirField(field)}`);
+    cmd.addOption(new Option(`--inner-${AIR_FLAGS[field]} <value>`, `slab inner recipe: as --${AIR_FLAGS[field]}`).hideHelp());
+  }
   const pmgHelp: Array<[string, string]> = [
     [`--${PMG_FLAGS.levels} <list>`, 'p-multigrid: polynomial degrees of the levels, finest first, e.g. 2,1,0 (default p, p−1, …, 0)'],
     [`--${PMG_FLAGS.cycle} <value>`, `p-multigrid: cycle, one of ${PMG_CYCLES.join(', ')} (default v)`],
@@ -255,6 +282,8 @@ Examples:
   $ slabbench solve corridor.mtx --krylov none --precond block-gs --sweep symmetric --omega 1.2
   $ slabbench solve channel.mtx --krylov fgmres --precond slab --inner-krylov gmres --inner-precond block-ilu0 --inner-rtol 1e-6
   $ slabbench solve room.mtx --precond ilu0 --json - | jq .iterations
+  $ slabbench solve tank.mtx --precond air --air-strength 0.25 --air-distance 2 --air-relax ffc
+  $ slabbench solve tank.mtx --krylov fgmres --precond slab --inner-precond air --inner-krylov gmres --inner-air-distance 1
   $ slabbench solve duct.mtx --krylov fgmres --precond p-multigrid --pmg-levels 2,1,0 --pmg-cycle w
   $ slabbench solve duct.mtx --precond p-multigrid --pmg-smoother block-jacobi --pmg-smoother-omega 0.7 --pmg-coarse-krylov none --pmg-coarse-rtol 0 --pmg-coarse-max-iters 4
 
