@@ -49,6 +49,11 @@ const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   maxIterations: 'maximum inner iterations in total, whatever the restart (default 1000)',
   divergence: 'stop (residual-growth) when ‖r‖ > divergence · reference norm (default 1e10)',
   relativeTo: 'reference norm: ‖b‖ (rhs) or the starting residual ‖r₀‖ (start-residual); default rhs',
+  parts: 'schwarz: number of parts of the block graph (default 4)',
+  overlap: 'schwarz: overlap in block layers (default 1)',
+  schwarzKind: 'schwarz: restricted or plain additive combination (default restricted)',
+  subdomain: 'schwarz: subdomain solve, a preconditioner name or exact (default block-ilu0)',
+  partitionSlabs: 'schwarz: parts across slabs or each inside one slab (default across)',
 };
 
 interface SolveCommandOptions {

@@ -6,7 +6,7 @@ import { preconditionerUses } from '../precond/registry.js';
  */
 export type KrylovName = 'gmres' | 'fgmres' | 'bicgstab' | 'none';
 export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk' | 'slab'
-  | 'p-multigrid' | 'air';
+  | 'p-multigrid' | 'air' | 'schwarz' | 'direct';
 export type SweepDirection = 'forward' | 'backward' | 'symmetric';
 export type OrderingName = 'natural' | 'rcm' | 'downstream' | 'mdf';
 export type PreconditionSide = 'right' | 'left';
@@ -16,8 +16,18 @@ export type BlockInverse = 'lu' | 'inverse';
 export const KRYLOV_NAMES: readonly KrylovName[] = ['gmres', 'fgmres', 'bicgstab', 'none'];
 export const PRECONDITIONER_NAMES: readonly PreconditionerName[] = [
   'none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab',
-  'p-multigrid', 'air',
+  'p-multigrid', 'air', 'schwarz', 'direct',
 ];
+/** Schwarz: restricted (Cai & Sarkis 1999) or plain additive combination of subdomain solves. */
+export type SchwarzKind = 'restricted' | 'additive';
+export const SCHWARZ_KINDS: readonly SchwarzKind[] = ['restricted', 'additive'];
+/** Schwarz subdomain solve: a registered preconditioner (one application) or 'exact' (dense LU). */
+export type SubdomainSolver = Exclude<PreconditionerName, 'schwarz' | 'slab'> | 'exact';
+export const SUBDOMAIN_SOLVERS: readonly SubdomainSolver[] = [
+  ...PRECONDITIONER_NAMES.filter((n): n is Exclude<PreconditionerName, 'schwarz' | 'slab'> => n !== 'schwarz' && n !== 'slab'), 'exact',
+];
+export type PartitionSlabsMode = 'across' | 'within';
+export const PARTITION_SLABS: readonly PartitionSlabsMode[] = ['across', 'within'];
 export const SWEEP_DIRECTIONS: readonly SweepDirection[] = ['forward', 'backward', 'symmetric'];
 export const ORDERING_NAMES: readonly OrderingName[] = ['natural', 'rcm', 'downstream', 'mdf'];
 
@@ -57,6 +67,16 @@ export interface Recipe {
   relativeTo: 'rhs' | 'start-residual';
   /** Slab preconditioner: how each slab is solved. */
   inner?: Recipe;
+  /** Schwarz: number of parts (default 4). */
+  parts?: number;
+  /** Schwarz: overlap in block layers, 0–2 (default 1). */
+  overlap?: number;
+  /** Schwarz: restricted (default) or additive. */
+  schwarzKind?: SchwarzKind;
+  /** Schwarz subdomain solve (default block-ilu0); the other recipe fields reach it unchanged. */
+  subdomain?: SubdomainSolver;
+  /** Schwarz partition: across slabs (default) or every part inside one slab. */
+  partitionSlabs?: PartitionSlabsMode;
   /** AIR preconditioner options (filled with DEFAULT_AIR_OPTIONS when preconditioner is air). */
   air?: AirOptions;
   /** p-multigrid preconditioner: levels, cycle, smoother, coarse solve (defaults: DEFAULT_P_MULTIGRID). */
@@ -129,6 +149,11 @@ const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   maxIterations: { kind: 'int', min: 0, max: 1e9 },
   divergence: { kind: 'number', min: 1, minOpen: true },
   relativeTo: { kind: 'enum', values: RELATIVE_TO },
+  parts: { kind: 'int', min: 1, max: 1 << 20 },
+  overlap: { kind: 'int', min: 0, max: 2 },
+  schwarzKind: { kind: 'enum', values: SCHWARZ_KINDS },
+  subdomain: { kind: 'enum', values: SUBDOMAIN_SOLVERS },
+  partitionSlabs: { kind: 'enum', values: PARTITION_SLABS },
 };
 
 function describeSpec(s: FieldSpec): string {
@@ -325,6 +350,11 @@ export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   maxIterations: 'max-iters',
   divergence: 'divergence',
   relativeTo: 'relative-to',
+  parts: 'parts',
+  overlap: 'overlap',
+  schwarzKind: 'schwarz-kind',
+  subdomain: 'subdomain-precond',
+  partitionSlabs: 'partition-slabs',
 };
 
 /** commander's camelCase key for a flag ("max-iters" → "maxIters", "inner-precond" → "innerPrecond"). */
