@@ -12,6 +12,7 @@ import {
 import { solveSystem } from '../solvers/run-recipe.js';
 import type { SolveResult } from '../solvers/types.js';
 import { EXIT, fileError, optionError } from '../util/errors.js';
+import { parseKernelChoice } from '../solvers/kernel-plan.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
 import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull, plural } from '../report/format.js';
 
@@ -60,6 +61,7 @@ interface SolveCommandOptions {
   blockSize?: string;
   layout?: string;
   json?: string;
+  kernels?: string;
   allowNonFinite?: boolean;
   [recipeOption: string]: unknown;
 }
@@ -138,6 +140,7 @@ export function formatSolveReport(rep: SolveReport): string {
   const su = rep.work.setup;
   row('work', `setup ${num(su.flops)} flops, ${bytes(su.bytes)} moved; solve ${num(sw.flops)} flops, ${bytes(sw.bytes)} moved (work model, README)`);
   const mem = rep.memory;
+  if (rep.kernels) row('kernels', rep.kernels === 'wasm' ? 'WebAssembly' : `TypeScript${rep.kernelsNote ? ` (${rep.kernelsNote})` : ''}`);
   row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
   const pmg = rep.recipe.preconditioner === 'p-multigrid' ? rep.preconditionerStats as { levels?: Array<{ degree: number; rows: number }>; coarseSolves?: number; coarseIterationsTotal?: number } | undefined : undefined;
   if (pmg?.levels) {
@@ -176,6 +179,7 @@ export function checkWritablePath(path: string, option: string): void {
 
 export async function runSolve(file: string, opts: SolveCommandOptions): Promise<SolveReport> {
   const recipe = recipeFromOptions(opts);
+  const kernels = opts.kernels === undefined ? undefined : parseKernelChoice(opts.kernels);
   const blockSize = opts.blockSize === undefined ? undefined : parseBlockSize(opts.blockSize);
   if (opts.json !== undefined && opts.json !== '-') checkWritablePath(opts.json, '--json');
   const allowNonFinite = opts.allowNonFinite === true;
@@ -197,7 +201,7 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
       if (now - last > 250) { last = now; process.stderr.write(`\r  iteration ${it}, relative residual ${num(rel)}   `); }
     }
     : undefined;
-  const { result, x } = solveSystem(sys, b, recipe, { onIteration, lastUse: true });
+  const { result, x } = solveSystem(sys, b, recipe, { onIteration, lastUse: true, kernels });
   if (progress && last > 0) process.stderr.write('\r\x1b[K');
   const report: SolveReport = {
     schema: 'slabbench-solve/1',
@@ -226,6 +230,7 @@ export function registerSolve(program: Command): void {
     .option('--block-size <n>', 'block size when there is no layout (default: detected from the pattern)')
     .option('--layout <file>', 'layout file to use instead of NAME.layout.json')
     .option('--json <file>', 'write the full result as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)')
+    .option('--kernels <set>', 'kernel set: wasm (WebAssembly), typescript, or auto = wasm when the solve fits one 4 GiB WebAssembly memory (default auto, or SLABBENCH_KERNELS)')
     .option('--allow-non-finite', 'accept NaN and ±Inf entries in the matrix and right-hand side (the solve then stops with cause non-finite-value)');
   for (const field of RECIPE_FIELDS) {
     cmd.option(`--${RECIPE_FLAGS[field]} <value>`, `${FIELD_HELP[field]}; ${describeRecipeField(field)}`);

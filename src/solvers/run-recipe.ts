@@ -9,6 +9,8 @@ import { checkVariablePreconditioner, krylovSolve } from './krylov.js';
 import { buildResult, meterPreconditioner, peakRssBytes, relative, secondsSince, sumBytes } from './result.js';
 import { norm2 } from './vector.js';
 import { isMatrixStore, type MatrixFormat } from '../sparse/system.js';
+import { kernelChoiceFromEnv, planKernels, type KernelChoice } from './kernel-plan.js';
+import { kernelF64 } from '../kernels-host/arena.js';
 import { addWork, vectorWork, zeroWork } from './work.js';
 
 export interface SolveSystemOptions {
@@ -21,7 +23,11 @@ export interface SolveSystemOptions {
    * CSR whose blocks are partially filled, which it otherwise keeps to rebuild the exact pattern.
    */
   lastUse?: boolean;
+  /** Kernel set (default: SLABBENCH_KERNELS, else auto = WebAssembly when it fits); see kernel-plan.ts. */
+  kernels?: KernelChoice;
 }
+
+const notesShown = new Set<string>();
 
 /** Preconditioners that run on the scalar CSR pattern; every other one reads the BSR view. */
 const POINT_PRECONDITIONERS: ReadonlySet<string> = new Set(['jacobi', 'ilu0']);
@@ -62,11 +68,37 @@ export function solveSystem(
 ): { result: SolveResult; x: Float64Array } {
   const format = matrixFormatFor(recipe, blockSizeOf(system));
   if (isMatrixStore(system)) system.keepOnly(format, { lastUse: opts.lastUse === true });
+  const n0 = system.n ?? system.bsr.nBlockRows * system.bsr.bs;
+  if (b.length !== n0) throw new UserError(`right-hand side has length ${b.length}, expected ${n0} (the matrix size)`);
+  if (opts.x0 && opts.x0.length !== n0) throw new UserError(`initial guess has length ${opts.x0.length}, expected ${n0}`);
+  const choice = opts.kernels ?? kernelChoiceFromEnv();
+  const plan = planKernels(system, recipe, choice, format);
+  if (plan.note !== undefined && !notesShown.has(plan.note)) {
+    notesShown.add(plan.note);
+    process.stderr.write(`slabbench: kernels: TypeScript (${plan.note})\n`);
+  }
+  try {
+    const bk = plan.adopt(b);
+    const x = opts.x0 ? plan.adopt(opts.x0) : kernelF64(n0);
+    const result = solveOn(system, bk, x, recipe, opts, format);
+    // the caller's copy of x: kernel memory is reused by the next solve
+    const xOut = plan.memoryBytes > 0 ? Float64Array.from(x) : x;
+    const used = plan.finish();
+    result.kernels = plan.kernels;
+    if (plan.note !== undefined) result.kernelsNote = plan.note;
+    else if (used.spilledBytes > 0) result.kernelsNote = `${used.spilledBytes} bytes did not fit kernel memory; kernels on those arrays ran in TypeScript`;
+    if (plan.memoryBytes > 0) result.kernelMemoryBytes = plan.memoryBytes;
+    return { result, x: xOut };
+  } finally {
+    plan.finish();
+  }
+}
+
+/** The solve itself, on the kernel set planned by solveSystem (x holds x₀ and gets the solution). */
+function solveOn(
+  system: SystemMatrix, b: Float64Array, x: Float64Array, recipe: Recipe, opts: SolveSystemOptions, format: MatrixFormat,
+): SolveResult {
   const A = systemOperator(system, format);
-  const n = A.n;
-  if (b.length !== n) throw new UserError(`right-hand side has length ${b.length}, expected ${n} (the matrix size)`);
-  if (opts.x0 && opts.x0.length !== n) throw new UserError(`initial guess has length ${opts.x0.length}, expected ${n}`);
-  const x = opts.x0 ? Float64Array.from(opts.x0) : new Float64Array(n);
 
   let M: Preconditioner | undefined;
   let outcome: SetupOutcome = { ok: true };
@@ -106,7 +138,7 @@ export function solveSystem(
     if (stats) result.preconditionerStats = stats;
   }
   mem.peakBytes = Math.max(mem.peakBytes, peakRssBytes());
-  return { result, x };
+  return result;
 }
 
 /** Result of a run whose preconditioner setup failed: no iterations, x = x₀, the residual of x₀. */
@@ -115,7 +147,7 @@ function setupFailure(
   outcome: Extract<SetupOutcome, { ok: false }>,
 ): SolveResult {
   const n = A.n;
-  const r = new Float64Array(n);
+  const r = kernelF64(n);
   const counts = zeroWork();
   const rNorm = residualInto(A, b, x, r, counts);
   const base = recipe.relativeTo === 'rhs' ? norm2(n, b) : rNorm;

@@ -219,8 +219,10 @@ export function matrixStore(csr0: Csr, bs: number, nBlocks: number = bsrBlockCou
       return { nBlockRows: nb, nBlockCols: nb, bs, rowPtr, colInd, values: new Float64Array(0) };
     },
   };
-  Object.defineProperty(store, 'csr', { get: getCsr, enumerable: true });
-  Object.defineProperty(store, 'bsr', { get: getBsr, enumerable: true });
+  // setters: the kernel plan (src/solvers/kernel-plan.ts) replaces the held arrays by copies in
+  // WebAssembly memory; the store then holds those (and counts them) instead
+  Object.defineProperty(store, 'csr', { get: getCsr, set: (v: Csr) => { csr = v; }, enumerable: true });
+  Object.defineProperty(store, 'bsr', { get: getBsr, set: (v: Bsr) => { bsr = v; }, enumerable: true });
   return store as unknown as MatrixStore;
 }
 
