@@ -3,7 +3,7 @@ import { join, resolve } from 'node:path';
 import type { HistoryEntry, ResultsDoc, RunRecord } from '../run/results-types.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
 import { runsByMatrix, recipeOrder, type MatrixRuns } from './group.js';
-import { rankRuns } from './rank.js';
+import { rankMatrix, rankOptionsFor, rankRuns, verdictLine, type RankOptions } from './rank.js';
 import { matrixSummary, MISMATCH_MARK, rowCells, WINNER_MARK } from './table.js';
 import { LIMITS_STATEMENT } from './limits.js';
 import { esc } from './svg/common.js';
@@ -75,8 +75,9 @@ figcaption a { color: var(--accent); }
 footer { color: var(--muted); font-size: 12px; }
 `;
 
-function tableHtml(runs: RunRecord[]): string {
-  const ranked = rankRuns(runs);
+function tableHtml(runs: RunRecord[], rankOpts: RankOptions = {}): string {
+  const ranking = rankMatrix(runs, rankOpts);
+  const ranked = ranking.ranked;
   const heads = ['rank', 'recipe', 'iterations', 'restarts', 'stop reason', 'true rel. residual', 'setup s', 'solve s', 'memory'];
   const textCols = new Set([1, 4]);
   let s = '<div class="table-wrap"><table class="ranked"><thead><tr>';
@@ -93,8 +94,7 @@ function tableHtml(runs: RunRecord[]): string {
   }
   s += '</tbody></table></div>';
   const notes: string[] = ['memory = preconditioner + Krylov basis bytes (the matrix itself is not included)'];
-  const winner = ranked.find((r) => r.winner);
-  notes.unshift(winner ? `${WINNER_MARK} winner: ${winner.run.recipe} — converged with the least setup + solve time` : 'no recipe converged on this matrix');
+  notes.unshift(verdictLine(ranking, WINNER_MARK), ...ranking.notes);
   if (ranked.some((r) => r.run.result?.residualMismatch)) notes.push(`${MISMATCH_MARK} recursive and true residual disagree by more than 10×`);
   for (const r of ranked) {
     const why = r.run.error ?? r.run.result?.failure?.message;
@@ -204,7 +204,7 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
       + `<h2>${esc(g.matrix)}</h2>`
       + `<p class="summary">${esc(matrixSummary(g.info))}${source ? ` · ${esc(source)}` : ''}${g.info?.note ? ` · ${esc(g.info.note)}` : ''}</p>`
       + '<h3>Ranking</h3>'
-      + tableHtml(g.runs)
+      + tableHtml(g.runs, rankOptionsFor(results))
       + '<h3>Plots</h3><div class="plots">'
       + figure(res, 'Relative residual against iteration for every recipe (log scale). The dashed level is the common rtol when all recipes share one. Steep, straight descent is good; flat stretches are stagnation; jumps every cycle show GMRES restarts.')
       + figure(ritz, 'Ritz values of the first GMRES cycle: estimates of the eigenvalues of the preconditioned operator. Values gathered tightly around 1 and away from 0 mean fast convergence.')

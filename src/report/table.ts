@@ -1,7 +1,7 @@
 import pc from 'picocolors';
 import type { MatrixInfo, ResultsDoc } from '../run/results-types.js';
 import { runsByMatrix } from './group.js';
-import { rankRuns, type RankedRun } from './rank.js';
+import { rankMatrix, rankOptionsFor, verdictLine, type RankedRun } from './rank.js';
 import { formatBytes, formatCount, formatResidual, formatSeconds } from './format.js';
 
 /** Colour only for a terminal, and never when NO_COLOR is set (https://no-color.org convention). */
@@ -18,6 +18,8 @@ export function recipeBytes(r: RankedRun): number | undefined {
 
 export const WINNER_MARK = '★';
 export const MISMATCH_MARK = '†';
+/** After a shared rank: tied within the sweep's timing noise (src/report/rank.ts). */
+export const TIE_MARK = '=';
 
 interface Column {
   title: string;
@@ -39,7 +41,7 @@ const COLUMNS: Column[] = [
 /** Cells of one ranked row as plain text (shared with the HTML table). */
 export function rowCells(r: RankedRun): string[] {
   const res = r.run.result;
-  const rank = `${r.rank}${r.winner ? ` ${WINNER_MARK}` : ''}`;
+  const rank = `${r.rank}${r.tied ? TIE_MARK : ''}${r.winner ? ` ${WINNER_MARK}` : ''}`;
   if (!res) return [rank, r.run.recipe, '–', '–', 'not run', '–', '–', '–', '–'];
   const resid = formatResidual(res.trueRelativeResidual) + (res.residualMismatch ? MISMATCH_MARK : '');
   const bytes = recipeBytes(r);
@@ -82,7 +84,8 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean 
   const c = pc.createColors(opts.color === true);
   const blocks: string[] = [];
   for (const g of runsByMatrix(results)) {
-    const ranked = rankRuns(g.runs);
+    const ranking = rankMatrix(g.runs, rankOptionsFor(results));
+    const ranked = ranking.ranked;
     const rows = ranked.map(rowCells);
     const widths = COLUMNS.map((col, j) => Math.max([...col.title].length, ...rows.map((r) => [...r[j]].length)));
     const lines: string[] = [];
@@ -99,10 +102,8 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean 
     });
     if (ranked.length === 0) lines.push('  (no runs)');
     const notes: string[] = ['memory = preconditioner + Krylov basis bytes (the matrix itself not included)'];
-    const winner = ranked.find((r) => r.winner);
-    notes.push(winner
-      ? `${WINNER_MARK} winner: ${winner.run.recipe} (converged, least setup + solve time)`
-      : 'no recipe converged on this matrix');
+    notes.push(verdictLine(ranking, WINNER_MARK), ...ranking.notes);
+    if (ranked.some((r) => r.tied)) notes.push(`${TIE_MARK} shares its rank (within noise, see the timing protocol in README)`);
     if (ranked.some((r) => r.run.result?.residualMismatch)) {
       notes.push(`${MISMATCH_MARK} recursive residual and true residual disagree by more than 10×`);
     }
