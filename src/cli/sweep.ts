@@ -12,7 +12,7 @@ import type { HistoryEntry, ResultsDoc } from '../run/results-types.js';
 import type { CaseBuilder, SuiteParsers } from '../run/deps.js';
 import { renderRankedTables, shouldUseColor } from '../report/table.js';
 import { RANK_BY, rankMatrix, rankOptionsFor, type RankBy } from '../report/rank.js';
-import { MAX_REPEATS } from '../run/suite.js';
+import { parseRepeats } from './timing-options.js';
 import { timingNoise } from '../run/timing.js';
 import { MAX_LABEL_LENGTH } from '../run/history.js';
 import { writeReport } from '../report/html.js';
@@ -25,13 +25,6 @@ export function demoSuitePath(): string {
 function parseJobs(v: string): number {
   const n = Number(v);
   if (!/^\s*\d+\s*$/.test(v) || !Number.isInteger(n) || n < 1 || n > 256) throw optionError('--jobs', `expected an integer from 1 to 256, got "${v}"`);
-  return n;
-}
-
-/** --repeats: an integer from 1 to MAX_REPEATS (shared with solve). */
-export function parseRepeats(v: string): number {
-  const n = Number(v);
-  if (!/^\s*\d+\s*$/.test(v) || !Number.isInteger(n) || n < 1 || n > MAX_REPEATS) throw optionError('--repeats', `expected an integer from 1 to ${MAX_REPEATS}, got "${v}"`);
   return n;
 }
 
