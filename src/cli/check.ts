@@ -62,7 +62,7 @@ export function registerCheck(program: Command): void {
     .option('--update', 'accept these results as the new baseline (written atomically); exit 0')
     .option('--json', 'print the comparison as JSON on stdout instead of the table')
     .addHelpText('after', `
-Checked per matrix × recipe: the stop reason must match; iterations exact unless a slack is given;
+Checked per matrix × recipe: the cause must match; iterations exact unless a slack is given;
 the final true relative residual ≤ max(rtol, baseline × residual factor); counted buffer bytes (matrix,
 preconditioner, Krylov basis, work — not RSS) within the memory percentage; work counters (per phase:
 matvecs, preconditioner applications, inner iterations, flops, bytes moved) exact unless --work-percent.

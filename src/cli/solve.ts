@@ -18,7 +18,7 @@ import { parseRepeats } from './timing-options.js';
 const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   krylov: 'iterative method; none = stationary iteration x ← x + ω M⁻¹(b − Ax) (default gmres)',
   restart: 'GMRES/FGMRES basis vectors per cycle (default 30)',
-  side: 'GMRES preconditioning side: right monitors ‖b − Ax‖, left monitors ‖M⁻¹(b − Ax)‖ (default right)',
+  side: 'GMRES preconditioning side: right watches ‖b − Ax‖, left watches ‖M⁻¹(b − Ax)‖ (default right)',
   orthogonalization: 'Gram–Schmidt variant: mgs = modified, cgs2 = classical with one reorthogonalization (default mgs)',
   preconditioner: 'preconditioner (default none)',
   sweep: 'block Gauss–Seidel sweep direction; symmetric = forward then backward (default forward)',
@@ -27,11 +27,11 @@ const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   sweeps: 'block Gauss–Seidel sweeps per application (default 1)',
   shift: 'diagonal shift added before factorizing; 0 = a zero pivot fails the run (default 0)',
   blockInverse: 'diagonal blocks of block-jacobi and block-gs: inverse (explicit inverses, one block mat-vec per apply) or lu (LU factors with partial pivoting, two triangular solves per apply); default inverse',
-  rtol: 'stop when the monitored ‖r‖ ≤ rtol · baseline norm (default 1e-8)',
-  atol: 'or when the monitored ‖r‖ ≤ atol; 0 disables (default 0)',
+  rtol: 'stop when the watched ‖r‖ ≤ rtol · reference norm (default 1e-8)',
+  atol: 'or when the watched ‖r‖ ≤ atol; 0 disables (default 0)',
   maxIterations: 'maximum inner iterations in total, whatever the restart (default 1000)',
-  divergence: 'stop as diverged when ‖r‖ > divergence · baseline norm (default 1e10)',
-  baseline: 'relative to ‖b‖ (rhs) or to the initial residual (default rhs)',
+  divergence: 'stop (residual-growth) when ‖r‖ > divergence · reference norm (default 1e10)',
+  relativeTo: 'reference norm: ‖b‖ (rhs) or the starting residual ‖r₀‖ (start-residual); default rhs',
 };
 
 interface SolveCommandOptions {
@@ -85,11 +85,11 @@ export function formatSolveReport(rep: SolveReport): string {
   const m = rep.matrix;
   lines.push(`${m.file}: ${m.n} × ${m.n}, ${m.nnz} nonzeros, block size ${m.bs} (${m.blockSizeSource})${m.nSlabs ? `, ${m.nSlabs} slabs` : ''}`);
   row('recipe', `${recipeText(rep.recipe)}; rtol ${rep.recipe.rtol}${rep.recipe.atol ? `, atol ${rep.recipe.atol}` : ''}, at most ${rep.recipe.maxIterations} iterations`);
-  row('result', `${rep.reason} after ${rep.iterations} iteration${rep.iterations === 1 ? '' : 's'} (${rep.restarts} restart${rep.restarts === 1 ? '' : 's'})`);
+  row('result', `${rep.outcome} (${rep.cause}) after ${rep.iterations} iteration${rep.iterations === 1 ? '' : 's'} (${rep.restarts} restart${rep.restarts === 1 ? '' : 's'})`);
   if (rep.failure) row('failure', `${rep.failure.message}${rep.failure.blockRow !== undefined ? ` [block row ${rep.failure.blockRow}]` : ''}`);
-  const base = rep.baseline === 'rhs' ? '‖b‖' : '‖r₀‖';
-  const monitored = rep.monitored === 'true' ? 'true residual' : 'preconditioned residual ‖M⁻¹r‖';
-  row('residual', `true ‖b − Ax‖/${base} = ${num(rep.trueRelativeResidual)}; monitored: ${monitored}, last ${num(rep.history[rep.history.length - 1])}`);
+  const base = rep.relativeTo === 'rhs' ? '‖b‖' : '‖r₀‖';
+  const watched = rep.watched === 'plain' ? 'plain residual ‖b − Ax‖' : 'left-preconditioned residual ‖M⁻¹r‖';
+  row('residual', `true ‖b − Ax‖/${base} = ${num(rep.trueRelativeResidual)}; watched: ${watched}, last ${num(rep.history[rep.history.length - 1])}`);
   if (rep.residualMismatch) row('warning', 'a recursive residual estimate and the recomputed residual disagreed by more than 10× (see residualChecks)');
   if (rep.errorVsOnes) row('error', `b = A·1: max |x − 1| = ${num(rep.errorVsOnes.max)}, ‖x − 1‖/‖1‖ = ${num(rep.errorVsOnes.relative2)}`);
   const t = rep.timing;
@@ -199,12 +199,12 @@ export function registerSolve(program: Command): void {
     cmd.addOption(new Option(`--inner-${RECIPE_FLAGS[field]} <value>`, `slab inner recipe: as --${RECIPE_FLAGS[field]}`).hideHelp());
   }
   cmd.addHelpText('after', `
-Inner recipe (--precond slab only): every recipe option above, from --krylov to --baseline, has an
+Inner recipe (--precond slab only): every recipe option above, from --krylov to --relative-to, has an
 --inner-… twin (--inner-krylov, --inner-precond, --inner-rtol, --inner-max-iters, …) that sets how
 each slab is solved; inner defaults: gmres(30) + block-ilu0, rtol 1e-10, at most 500 iterations.
 
-Stopping: converged when ‖b − Ax‖ ≤ rtol·‖b‖ (x₀ = 0) under right preconditioning (the default);
-with --side left the preconditioned residual ‖M⁻¹(b − Ax)‖ ≤ rtol·‖M⁻¹b‖ is monitored instead.
+Stopping: solved when ‖b − Ax‖ ≤ rtol·‖b‖ (x₀ = 0) under right preconditioning (the default);
+with --side left the left-preconditioned residual ‖M⁻¹(b − Ax)‖ ≤ rtol·‖M⁻¹b‖ is watched instead.
 The true residual is recomputed at every restart and at the end and reported either way.
 
 Examples:
@@ -216,8 +216,8 @@ Examples:
   $ slabbench solve room.mtx --precond ilu0 --json - | jq .iterations
   $ slabbench solve duct.mtx --precond block-ilu0 --repeats 5 --json - | jq .repeats.median
 
-Exit codes: 0 converged, 1 not converged (iteration limit, diverged, breakdown, non-finite,
-preconditioner failed), 2 unreadable or malformed input or bad option, 3 internal error.`);
+Exit codes: 0 solved, 1 unsolved or failed (iteration-budget, residual-growth, method-breakdown,
+non-finite-value, preconditioner-error), 2 unreadable or malformed input or bad option, 3 internal error.`);
   cmd.action(async (file: string, opts: SolveCommandOptions) => {
     const report = await runSolve(file, opts);
     if (opts.json === '-') {

@@ -166,7 +166,7 @@ in OUT/results.json with "status": "interrupted").
 Examples:
   slabbench sweep                                   # the demo suite: generate, sweep, rank, report
   slabbench sweep my-suite.json --out runs/today --jobs 2
-  slabbench sweep my-suite.json --only-matrix duct-pulse --only-recipe gmres-bilu0,fgmres-slab
+  slabbench sweep my-suite.json --only-matrix duct-pulse --only-recipe gmres-block-ilu0-downstream,fgmres-slab
   slabbench sweep my-suite.json --repeats 5 --rank-by modeled --target-bandwidth 200 --target-flops 50
   slabbench sweep my-suite.json --shard 2/4 --out shard-2   # then: slabbench merge shard-*/results.json --out all
   slabbench sweep matrices/ci/suite.json --out .ci-results --quiet

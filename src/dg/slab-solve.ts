@@ -22,7 +22,7 @@ export interface SlabSolveOutcome {
 }
 
 export const REFINE_RECIPE: Recipe = {
-  ...DEFAULT_RECIPE, name: 'refine-gmres-bilu0', krylov: 'gmres', preconditioner: 'block-ilu0',
+  ...DEFAULT_RECIPE, name: 'refine-gmres-block-ilu0', krylov: 'gmres', preconditioner: 'block-ilu0',
   restart: 60, rtol: 1e-12, maxIterations: 5000,
 };
 

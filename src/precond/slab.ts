@@ -212,7 +212,7 @@ export class SlabPreconditioner implements Preconditioner {
       sol.fill(0);
       if (!out.ok) {
         // cannot happen after a successful setup() on the same values; poison the result so the
-        // outer solver stops with 'non-finite' rather than continuing on a wrong correction
+        // outer solver stops with 'non-finite-value' rather than continuing on a wrong correction
         this.noteFailure(`slab ${s}: ${out.message}`);
         sol.fill(NaN);
       } else {
@@ -222,7 +222,7 @@ export class SlabPreconditioner implements Preconditioner {
         this.totalIterations += res.iterations;
         if (!res.converged && this.variable) {
           this.innerNotConverged++;
-          if (res.reason !== 'max-iterations') this.noteFailure(`slab ${s}: inner ${res.method} stopped with ${res.reason}`);
+          if (res.cause !== 'iteration-budget') this.noteFailure(`slab ${s}: inner ${res.method} stopped with ${res.cause}`);
         }
       }
       x.set(sol, lo * bs);

@@ -40,8 +40,8 @@ function commonRtol(runs: RunRecord[]): number | undefined {
   const set = new Set(runs.filter((r) => r.result).map((r) => r.recipeParams?.rtol));
   if (set.size !== 1) return undefined;
   const v = [...set][0];
-  const sameBaseline = new Set(runs.filter((r) => r.result).map((r) => r.result!.baseline)).size === 1;
-  return typeof v === 'number' && v > 0 && sameBaseline ? v : undefined;
+  const sameReference = new Set(runs.filter((r) => r.result).map((r) => r.result!.relativeTo)).size === 1;
+  return typeof v === 'number' && v > 0 && sameReference ? v : undefined;
 }
 
 const CSS = `
@@ -64,7 +64,7 @@ table.ranked th { text-align: right; font-weight: 600; color: var(--muted); bord
 table.ranked td { text-align: right; border-bottom: 1px solid var(--line); padding: 5px 8px; white-space: nowrap; }
 table.ranked th.text, table.ranked td.text { text-align: left; }
 table.ranked tr.winner td { background: var(--win); font-weight: 600; }
-table.ranked tr.failed td.reason { color: #a3202f; }
+table.ranked tr.failed td.cause { color: #a3202f; }
 .table-wrap { overflow-x: auto; }
 .notes { font-size: 12px; color: var(--muted); margin: 0 0 8px; padding-left: 18px; }
 .plots { display: flex; flex-wrap: wrap; gap: 14px; align-items: flex-start; }
@@ -78,7 +78,7 @@ footer { color: var(--muted); font-size: 12px; }
 function tableHtml(runs: RunRecord[], rankOpts: RankOptions = {}): string {
   const ranking = rankMatrix(runs, rankOpts);
   const ranked = ranking.ranked;
-  const heads = ['rank', 'recipe', 'iterations', 'restarts', 'stop reason', 'true rel. residual', 'setup s', 'solve s', 'memory'];
+  const heads = ['rank', 'recipe', 'iterations', 'restarts', 'cause', 'true rel. residual', 'setup s', 'solve s', 'memory'];
   const textCols = new Set([1, 4]);
   let s = '<div class="table-wrap"><table class="ranked"><thead><tr>';
   heads.forEach((h, j) => { s += `<th${textCols.has(j) ? ' class="text"' : ''}>${esc(h)}</th>`; });
@@ -87,7 +87,7 @@ function tableHtml(runs: RunRecord[], rankOpts: RankOptions = {}): string {
     const cls = r.winner ? 'winner' : r.converged ? '' : 'failed';
     s += `<tr${cls ? ` class="${cls}"` : ''} data-recipe="${esc(r.run.recipe)}">`;
     rowCells(r).forEach((c, j) => {
-      const klass = [textCols.has(j) ? 'text' : '', j === 4 ? 'reason' : ''].filter(Boolean).join(' ');
+      const klass = [textCols.has(j) ? 'text' : '', j === 4 ? 'cause' : ''].filter(Boolean).join(' ');
       s += `<td${klass ? ` class="${klass}"` : ''}>${esc(c)}</td>`;
     });
     s += '</tr>';
@@ -129,7 +129,7 @@ function historyFigures(groups: MatrixRuns[], history: HistoryEntry[], color: (n
         const r = e.runs.find((q) => q.matrix === m && q.recipe === name);
         iterations.push(r ? r.iterations : NaN);
         seconds.push(r ? r.setupSeconds + r.solveSeconds : NaN);
-        converged.push(r ? r.reason.startsWith('converged') : false);
+        converged.push(r ? r.outcome === 'solved' : false);
       }
       return { name, colorIndex: color(name), iterations, seconds, converged };
     });
@@ -179,7 +179,7 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
           name: r.recipe,
           history: r.result!.history,
           colorIndex: color(r.recipe),
-          note: `${r.result!.iterations} it${r.result!.converged ? '' : `, ${r.result!.reason}`}`,
+          note: `${r.result!.iterations} it${r.result!.converged ? '' : `, ${r.result!.cause}`}`,
         })),
       }),
     };

@@ -6,7 +6,7 @@ import { relativeSpread, timingNoise } from '../run/timing.js';
  * The one ranking rule (one matrix at a time); sweep, report and check call it.
  *
  *  1. Converged runs first. "Converged" means the solver said so AND the final TRUE relative
- *     residual ‖b − Ax‖/‖b‖ (or /‖r₀‖) meets the recipe's rtol (or its atol), whatever the monitored
+ *     residual ‖b − Ax‖/‖b‖ (or /‖r₀‖) meets the recipe's rtol (or its atol), whatever the watched
  *     norm said: a left-preconditioned run that met rtol in ‖M⁻¹r‖ but not in ‖r‖ ranks as not
  *     converged (`trueResidualMissed`).
  *     Converged runs are ordered by the cost named by `by`:
@@ -15,7 +15,8 @@ import { relativeSpread, timingNoise } from '../run/timing.js';
  *       work        bytes moved, setup + solve (work counters), then flops;
  *       iterations  inner iterations.
  *     Equal costs are broken by fewer iterations, then by recipe name.
- *  2. Then runs that stopped without converging, smallest final true relative residual first (NaN last).
+ *  2. Then runs that stopped without meeting a target (outcome unsolved or failed) or met it only in the
+ *     watched norm, smallest final true relative residual first (NaN last).
  *  3. Then runs that could not start (no result, only an error).
  *
  * Ties (time only; the other costs are exact, so only equal values tie): a converged run shares the
@@ -94,7 +95,7 @@ export function convergedByTrueResidual(run: RunRecord): boolean {
   const rel = r.trueRelativeResidual;
   const p = run.recipeParams;
   if (rel <= p.rtol) return true;
-  const base = r.trueBaselineNorm ?? r.baselineNorm;
+  const base = r.trueReferenceNorm ?? r.referenceNorm;
   return p.atol > 0 && rel * base <= p.atol;
 }
 
@@ -185,7 +186,7 @@ export function rankMatrix(runs: RunRecord[], opts: RankOptions = {}): MatrixRan
     const ok = convergedByTrueResidual(run);
     const missed = run.result.converged && !ok;
     if (missed) {
-      notes.push(`${run.recipe}: the solver reported convergence (${run.result.monitored === 'true' ? 'monitored residual' : 'monitored preconditioned residual'}) `
+      notes.push(`${run.recipe}: the solver reported convergence (${run.result.watched === 'plain' ? 'watched residual' : 'watched left-preconditioned residual'}) `
         + `but the true relative residual ${run.result.trueRelativeResidual.toExponential(2)} misses rtol ${run.recipeParams.rtol}: ranked as not converged`);
     }
     if (!ok) { failed.push(run); continue; }

@@ -31,7 +31,7 @@ const COLUMNS: Column[] = [
   { title: 'recipe', align: 'left' },
   { title: 'iters', align: 'right' },
   { title: 'restarts', align: 'right' },
-  { title: 'stop reason', align: 'left' },
+  { title: 'cause', align: 'left' },
   { title: 'true rel. res.', align: 'right' },
   { title: 'setup s', align: 'right' },
   { title: 'solve s', align: 'right' },
@@ -50,7 +50,7 @@ export function rowCells(r: RankedRun): string[] {
     r.run.recipe,
     String(res.iterations),
     String(res.restarts),
-    res.reason,
+    res.cause,
     resid,
     formatSeconds(res.timing.setupSeconds),
     formatSeconds(res.timing.solveSeconds),
@@ -78,7 +78,7 @@ function pad(s: string, width: number, align: 'left' | 'right'): string {
 
 /**
  * One ranked table per matrix for the terminal. Memory is preconditioner + Krylov bytes.
- * With `color`, the winner row is green and stop reasons other than convergence are red.
+ * With `color`, the winner row is green and causes other than a met target are red.
  */
 export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean } = {}): string {
   const c = pc.createColors(opts.color === true);

@@ -1,11 +1,11 @@
 /**
  * Regression check of a results document against a stored baseline (itself a results document).
  *
- * Per matrix × recipe pair: the stop reason must match; iterations may grow by at most the allowed slack
+ * Per matrix × recipe pair: the cause must match; iterations may grow by at most the allowed slack
  * (exact by default); the work counters (matvecs, preconditioner applications, inner iterations, flops,
  * bytes moved, per phase) may grow by at most workPercent (exact by default); the final true relative
  * residual must stay ≤ max(rtol, baseline · residualFactor); counted buffer bytes (matrix + preconditioner
- * + Krylov + work, never RSS) within memoryPercent. Iterations, reasons, work counters and byte counts are
+ * + Krylov + work, never RSS) within memoryPercent. Iterations, causes, work counters and byte counts are
  * deterministic for one code version, so the default check is machine-independent.
  *
  * Time only when asked, always as medians of the timed repeats (setup + solve seconds):
@@ -17,7 +17,7 @@
  */
 import { readFileSync } from 'node:fs';
 import pc from 'picocolors';
-import { isConverged, type StopReason } from '../solvers/types.js';
+import { isSolved, type Cause } from '../solvers/types.js';
 import { UserError } from '../util/errors.js';
 import type { MatrixInfo, ResultsDoc, RunRecord } from './results-types.js';
 import { bufferBytes } from './results.js';
@@ -146,7 +146,7 @@ export function allowedIterations(base: number, t: Tolerance): number {
 export type Verdict = 'pass' | 'improved' | 'regressed' | 'missing' | 'new' | 'error';
 
 export interface RunNumbers {
-  reason: StopReason | 'error';
+  cause: Cause | 'error';
   iterations?: number;
   residual?: number;
   bytes?: number;
@@ -195,11 +195,11 @@ export interface CheckOptions {
 
 function numbers(r: RunRecord): RunNumbers {
   const res = r.result;
-  if (!res) return { reason: 'error' };
+  if (!res) return { cause: 'error' };
   const spread = relativeSpread(r.repeats);
   const work = workCounts(res);
   return {
-    reason: res.reason,
+    cause: res.cause,
     iterations: res.iterations,
     residual: res.trueRelativeResidual,
     bytes: bufferBytes(r),
@@ -301,9 +301,9 @@ export function compareWithBaseline(current: ResultsDoc, baseline: ResultsDoc, o
     const br = b.result;
     const cr = c.result;
     let improved = false;
-    if (br.reason !== cr.reason) {
-      if (!isConverged(br.reason) && isConverged(cr.reason)) { improved = true; row.notes.push(`reason ${br.reason} → ${cr.reason}`); }
-      else row.problems.push(`reason ${br.reason} → ${cr.reason}`);
+    if (br.cause !== cr.cause) {
+      if (!isSolved(br.cause) && isSolved(cr.cause)) { improved = true; row.notes.push(`cause ${br.cause} → ${cr.cause}`); }
+      else row.problems.push(`cause ${br.cause} → ${cr.cause}`);
     }
     const allowed = allowedIterations(br.iterations, tol);
     if (cr.iterations > allowed) {
@@ -370,15 +370,15 @@ function pad(s: string, w: number, right = false): string {
 /** The diff table (plain text; colour only when asked, i.e. when stdout is a terminal). */
 export function renderCheckTable(out: CheckOutcome, opts: { color?: boolean } = {}): string {
   const c = opts.color ? pc : { red: (s: string) => s, green: (s: string) => s, yellow: (s: string) => s, bold: (s: string) => s, dim: (s: string) => s };
-  const header = ['matrix', 'recipe', 'iterations', 'reason', 'true residual (baseline)', 'buffer bytes', 'work', ...(out.timeCompared ? ['time (allowed)'] : []), 'verdict'];
+  const header = ['matrix', 'recipe', 'iterations', 'cause', 'true residual (baseline)', 'buffer bytes', 'work', ...(out.timeCompared ? ['time (allowed)'] : []), 'verdict'];
   const rows = out.rows.map((r) => {
     const it = r.base?.iterations === r.now?.iterations ? `${r.now?.iterations ?? '—'}` : `${r.base?.iterations ?? '—'} → ${r.now?.iterations ?? '—'}`;
-    const reason = r.base?.reason === r.now?.reason ? `${r.now?.reason ?? '—'}` : `${r.base?.reason ?? '—'} → ${r.now?.reason ?? '—'}`;
+    const cause = r.base?.cause === r.now?.cause ? `${r.now?.cause ?? '—'}` : `${r.base?.cause ?? '—'} → ${r.now?.cause ?? '—'}`;
     const res = `${fmtNum(r.now?.residual)} (${fmtNum(r.base?.residual)})`;
     const bytes = r.base?.bytes === r.now?.bytes ? fmtBytes(r.now?.bytes) : `${fmtBytes(r.base?.bytes)} → ${fmtBytes(r.now?.bytes)}`;
     const time = r.timeRatio === undefined ? '—' : `×${r.timeRatio.toFixed(2)} (≤ ×${r.timeLimit!.toFixed(2)})`;
     const work = !r.base?.work || !r.now?.work ? '—' : r.workChanges?.length ? `${r.workChanges.length} changed` : 'same';
-    return [r.matrix, r.recipe, it, reason, res, bytes, work, ...(out.timeCompared ? [time] : []), r.verdict];
+    return [r.matrix, r.recipe, it, cause, res, bytes, work, ...(out.timeCompared ? [time] : []), r.verdict];
   });
   const widths = header.map((h, i) => Math.max([...h].length, ...rows.map((r) => [...r[i]].length)));
   const lines: string[] = [];
@@ -431,7 +431,7 @@ export function junitXml(out: CheckOutcome, opts: { suiteName?: string; timestam
     }
     const detail = [
       `iterations: ${r.base?.iterations ?? '-'} -> ${r.now?.iterations ?? '-'}`,
-      `reason: ${r.base?.reason ?? '-'} -> ${r.now?.reason ?? '-'}`,
+      `cause: ${r.base?.cause ?? '-'} -> ${r.now?.cause ?? '-'}`,
       `true relative residual: ${fmtNum(r.base?.residual)} -> ${fmtNum(r.now?.residual)}`,
       `buffer bytes: ${r.base?.bytes ?? '-'} -> ${r.now?.bytes ?? '-'}`,
       ...(r.workChanges?.length ? [`work: ${r.workChanges.join(', ')}`] : []),

@@ -6,7 +6,8 @@
 import { appendFileSync, existsSync, openSync, readSync, closeSync, fstatSync, readFileSync } from 'node:fs';
 import { fileError, UserError } from '../util/errors.js';
 import type { HistoryEntry, ResultsDoc } from './results-types.js';
-import { bufferBytes } from './results.js';
+import { bufferBytes, causeFromV1Reason } from './results.js';
+import { outcomeOf } from '../solvers/types.js';
 import { runWork } from './probe.js';
 
 /**
@@ -57,7 +58,8 @@ export function historyEntry(doc: ResultsDoc, opts: { label?: string; previous?:
     runs.push({
       matrix: run.matrix,
       recipe: run.recipe,
-      reason: r.reason,
+      outcome: r.outcome,
+      cause: r.cause,
       iterations: r.iterations,
       // JSON has no NaN/Infinity and the field is a number: a non-finite residual (diverged run) is stored
       // as the largest double, which plots as "off the top" and keeps the line valid.
@@ -108,6 +110,18 @@ export function appendHistory(path: string, entry: HistoryEntry): void {
   appendFileSync(path, `${prefix}${JSON.stringify(entry)}\n`);
 }
 
+/**
+ * Lines written before causes replaced stop reasons carry `reason`: rename it to `cause` (with
+ * its outcome) in place. A line with `cause` is left alone.
+ */
+function upgradeHistoryRun(r: Record<string, unknown>): void {
+  if (r.cause !== undefined || typeof r.reason !== 'string') return;
+  const cause = causeFromV1Reason(r.reason);
+  r.cause = cause ?? r.reason;
+  r.outcome = cause ? outcomeOf(cause) : 'failed';
+  delete r.reason;
+}
+
 function checkEntry(v: unknown): string | undefined {
   if (typeof v !== 'object' || v === null || Array.isArray(v)) return 'expected a JSON object';
   const e = v as Record<string, unknown>;
@@ -120,7 +134,8 @@ function checkEntry(v: unknown): string | undefined {
   for (let i = 0; i < e.runs.length; i++) {
     const r = e.runs[i] as Record<string, unknown>;
     if (typeof r !== 'object' || r === null) return `runs[${i}]: expected an object`;
-    for (const k of ['matrix', 'recipe', 'reason']) if (typeof r[k] !== 'string') return `runs[${i}].${k}: expected a string`;
+    upgradeHistoryRun(r);
+    for (const k of ['matrix', 'recipe', 'outcome', 'cause']) if (typeof r[k] !== 'string') return `runs[${i}].${k}: expected a string`;
     for (const k of ['iterations', 'trueRelativeResidual', 'setupSeconds', 'solveSeconds', 'peakBytes']) {
       if (typeof r[k] !== 'number') return `runs[${i}].${k}: expected a number`;
     }

@@ -1,7 +1,9 @@
 import type { Recipe } from '../solvers/recipe.js';
 import type { SolveResult } from '../solvers/types.js';
 
-export const RESULTS_SCHEMA = 'slabbench-results/1' as const;
+export const RESULTS_SCHEMA = 'slabbench-results/2' as const;
+/** The earlier schema, still read (converted on reading by validateResults). */
+export const RESULTS_SCHEMA_V1 = 'slabbench-results/1' as const;
 export const SUITE_SCHEMA = 'slabbench-suite/1' as const;
 
 /** Coarse picture of the block pattern: counts of stored blocks per cell of a cells×cells grid. */
@@ -110,6 +112,8 @@ export interface ParallelNote {
 
 export interface ResultsDoc {
   schema: typeof RESULTS_SCHEMA;
+  /** Set on reading a version-1 document (converted in memory; such runs carry no `work` counts). */
+  convertedFrom?: typeof RESULTS_SCHEMA_V1;
   slabbench: string;
   commit?: string;
   node: string;
@@ -164,7 +168,10 @@ export interface HistoryEntry {
   runs: Array<{
     matrix: string;
     recipe: string;
-    reason: string;
+    /** SolveResult.outcome. Lines written before it existed are upgraded from `reason` on reading. */
+    outcome: string;
+    /** SolveResult.cause (was `reason`). */
+    cause: string;
     iterations: number;
     trueRelativeResidual: number;
     setupSeconds: number;

@@ -11,7 +11,8 @@ import type { Bsr } from '../sparse/types.js';
 import { writeFileAtomicSync } from '../util/atomic-write.js';
 import { UserError } from '../util/errors.js';
 import { VERSION } from '../version.js';
-import { RESULTS_SCHEMA, type MatrixInfo, type ResultsDoc, type RunRecord } from './results-types.js';
+import { CAUSES, outcomeOf, type Cause } from '../solvers/types.js';
+import { RESULTS_SCHEMA, RESULTS_SCHEMA_V1, type MatrixInfo, type ResultsDoc, type RunRecord } from './results-types.js';
 
 /** Folder holding slabbench's package.json (src/run and dist/run are both two levels down). */
 function packageRoot(): string {
@@ -85,7 +86,7 @@ export function bufferBytes(r: RunRecord): number | undefined {
 
 export const CSV_COLUMNS = [
   'matrix', 'recipe', 'krylov', 'preconditioner', 'ordering', 'restart', 'rtol',
-  'reason', 'converged', 'iterations', 'restarts', 'trueRelativeResidual',
+  'outcome', 'cause', 'converged', 'iterations', 'restarts', 'trueRelativeResidual',
   'setupSeconds', 'solveSeconds', 'matrixBytes', 'preconditionerBytes', 'krylovBytes', 'workBytes',
   'bufferBytes', 'peakBytes', 'error',
 ] as const;
@@ -105,7 +106,7 @@ export function resultsCsv(doc: ResultsDoc): string {
     const row: Record<(typeof CSV_COLUMNS)[number], unknown> = {
       matrix: run.matrix, recipe: run.recipe, krylov: p.krylov, preconditioner: p.preconditioner,
       ordering: p.ordering, restart: p.restart, rtol: p.rtol,
-      reason: r?.reason ?? 'error', converged: r ? r.converged : false, iterations: r?.iterations,
+      outcome: r?.outcome ?? 'error', cause: r?.cause ?? 'error', converged: r ? r.converged : false, iterations: r?.iterations,
       restarts: r?.restarts, trueRelativeResidual: r?.trueRelativeResidual,
       setupSeconds: r?.timing.setupSeconds, solveSeconds: r?.timing.solveSeconds,
       matrixBytes: r?.memory.matrixBytes, preconditionerBytes: r?.memory.preconditionerBytes,
@@ -138,7 +139,7 @@ const NON_FINITE: Record<string, number> = { NaN: Number.NaN, Infinity: Number.P
 /** Numbers written as "NaN"/"Infinity" by resultsJson come back as numbers in the numeric result fields. */
 function reviveNumbers(r: Record<string, unknown> | undefined): void {
   if (!r) return;
-  for (const k of ['trueRelativeResidual', 'baselineNorm']) {
+  for (const k of ['trueRelativeResidual', 'referenceNorm', 'trueReferenceNorm']) {
     const v = r[k];
     if (typeof v === 'string' && v in NON_FINITE) r[k] = NON_FINITE[v];
   }
@@ -171,7 +172,13 @@ export function validateResults(obj: unknown, path: string): ResultsDoc {
   const fail = (what: string): never => { throw new UserError(`${path}: ${what}`); };
   if (typeof obj !== 'object' || obj === null || Array.isArray(obj)) return fail('expected a results document (JSON object)');
   const d = obj as Record<string, unknown>;
-  if (d.schema !== RESULTS_SCHEMA) fail(`schema: expected "${RESULTS_SCHEMA}", got ${JSON.stringify(d.schema)}`);
+  if (d.schema !== RESULTS_SCHEMA && d.schema !== RESULTS_SCHEMA_V1) {
+    const newer = typeof d.schema === 'string' && /^slabbench-results\/\d+$/.test(d.schema)
+      && Number(d.schema.split('/')[1]) > Number(RESULTS_SCHEMA.split('/')[1]);
+    fail(`schema ${JSON.stringify(d.schema)} is not a results version this slabbench reads (it reads "${RESULTS_SCHEMA}" and converts "${RESULTS_SCHEMA_V1}")`
+      + (newer ? '; the file was written by a newer slabbench' : '; regenerate it with `slabbench sweep`'));
+  }
+  const fromV1 = d.schema === RESULTS_SCHEMA_V1;
   if (!Array.isArray(d.runs)) fail('runs: expected an array');
   if (!Array.isArray(d.matrices)) fail('matrices: expected an array');
   if (typeof d.parameters !== 'object' || d.parameters === null) fail('parameters: expected an object');
@@ -182,18 +189,97 @@ export function validateResults(obj: unknown, path: string): ResultsDoc {
     if (typeof run.matrix !== 'string') fail(`runs[${i}].matrix: expected a string`);
     if (typeof run.recipe !== 'string') fail(`runs[${i}].recipe: expected a string`);
     if (typeof run.recipeParams !== 'object' || run.recipeParams === null) fail(`runs[${i}].recipeParams: expected an object`);
+    if (fromV1) upgradeRecipeV1(run.recipeParams as Record<string, unknown>);
     if (run.result === undefined && typeof run.error !== 'string') fail(`runs[${i}]: expected "result" or "error"`);
     if (run.result !== undefined) {
       const res = run.result as Record<string, unknown>;
       if (typeof res !== 'object' || res === null) fail(`runs[${i}].result: expected an object`);
-      if (typeof res.reason !== 'string') fail(`runs[${i}].result.reason: expected a string`);
+      if (fromV1) {
+        if (typeof res.reason !== 'string') fail(`runs[${i}].result.reason: expected a string`);
+        const problem = upgradeResultV1(res);
+        if (problem) fail(`runs[${i}].result.${problem}`);
+      }
+      if (typeof res.cause !== 'string' || !(CAUSES as readonly string[]).includes(res.cause)) {
+        fail(`runs[${i}].result.cause: expected one of ${CAUSES.join(', ')}, got ${JSON.stringify(res.cause)}`);
+      }
+      if (res.outcome !== outcomeOf(res.cause as Cause)) {
+        fail(`runs[${i}].result.outcome: expected "${outcomeOf(res.cause as Cause)}" for cause ${res.cause}, got ${JSON.stringify(res.outcome)}`);
+      }
       if (typeof res.iterations !== 'number') fail(`runs[${i}].result.iterations: expected a number`);
       if (typeof res.memory !== 'object' || res.memory === null) fail(`runs[${i}].result.memory: expected an object`);
       if (typeof res.timing !== 'object' || res.timing === null) fail(`runs[${i}].result.timing: expected an object`);
       reviveNumbers(res);
     }
   });
+  if (fromV1) {
+    d.schema = RESULTS_SCHEMA;
+    d.convertedFrom = RESULTS_SCHEMA_V1;
+  }
   return obj as ResultsDoc;
+}
+
+// ---- reading version-1 documents ----------------------------------------------------------------
+
+/** Version-1 stop reasons and the causes that replaced them. */
+const V1_REASONS: Readonly<Record<string, Cause>> = {
+  'converged-rtol': 'relative-target',
+  'converged-atol': 'absolute-target',
+  'max-iterations': 'iteration-budget',
+  diverged: 'residual-growth',
+  breakdown: 'method-breakdown',
+  'non-finite': 'non-finite-value',
+  'preconditioner-failed': 'preconditioner-error',
+};
+
+/** The cause for a version-1 stop reason (undefined when it was not one). */
+export function causeFromV1Reason(reason: string): Cause | undefined {
+  return Object.prototype.hasOwnProperty.call(V1_REASONS, reason) ? V1_REASONS[reason] : undefined;
+}
+
+const V1_WATCHED: Readonly<Record<string, string>> = { true: 'plain', preconditioned: 'left-preconditioned' };
+const V1_RELATIVE_TO: Readonly<Record<string, string>> = { rhs: 'rhs', 'initial-residual': 'start-residual' };
+
+/** Rename key `from` to `to` in place (keeping the value), when present. */
+function renameKey(o: Record<string, unknown>, from: string, to: string, map?: Readonly<Record<string, string>>): string | undefined {
+  if (!(from in o)) return undefined;
+  const v = o[from];
+  delete o[from];
+  if (map) {
+    if (typeof v !== 'string' || !Object.prototype.hasOwnProperty.call(map, v)) {
+      return `${from}: expected one of ${Object.keys(map).join(', ')} (version 1), got ${JSON.stringify(v)}`;
+    }
+    o[to] = map[v];
+  } else o[to] = v;
+  return undefined;
+}
+
+/** Version-1 recipe: `baseline` became `relativeTo` ('initial-residual' → 'start-residual'). */
+function upgradeRecipeV1(r: Record<string, unknown>): void {
+  if (typeof r.baseline === 'string' && r.baseline in V1_RELATIVE_TO) r.baseline = V1_RELATIVE_TO[r.baseline];
+  renameKey(r, 'baseline', 'relativeTo');
+  if (typeof r.inner === 'object' && r.inner !== null) upgradeRecipeV1(r.inner as Record<string, unknown>);
+}
+
+/**
+ * Version-1 SolveResult → version 2, in place: reason → cause + outcome, monitored → watched,
+ * baseline → relativeTo, baselineNorm → referenceNorm, trueBaselineNorm → trueReferenceNorm,
+ * residualChecks[].monitoredValue → watchedValue. Returns a problem text, or undefined.
+ */
+function upgradeResultV1(res: Record<string, unknown>): string | undefined {
+  const cause = causeFromV1Reason(res.reason as string);
+  if (!cause) return `reason: expected one of ${Object.keys(V1_REASONS).join(', ')} (version 1), got ${JSON.stringify(res.reason)}`;
+  delete res.reason;
+  res.cause = cause;
+  res.outcome = outcomeOf(cause);
+  const problem = renameKey(res, 'monitored', 'watched', V1_WATCHED)
+    ?? renameKey(res, 'baseline', 'relativeTo', V1_RELATIVE_TO);
+  if (problem) return problem;
+  renameKey(res, 'baselineNorm', 'referenceNorm');
+  renameKey(res, 'trueBaselineNorm', 'trueReferenceNorm');
+  if (Array.isArray(res.residualChecks)) {
+    for (const c of res.residualChecks) if (typeof c === 'object' && c !== null) renameKey(c as Record<string, unknown>, 'monitoredValue', 'watchedValue');
+  }
+  return undefined;
 }
 
 export function newResultsDoc(init: {

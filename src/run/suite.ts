@@ -4,7 +4,7 @@
  *   { "schema": "slabbench-suite/1", "description": "…",
  *     "matrices": [ { "name": "duct-pulse", "note": "invented scenario", "generate": { …generator parameters… } },
  *                   { "name": "mine", "file": "A.mtx", "rhs": "b.mtx", "blockSize": 6 } ],
- *     "recipes":  [ { "name": "gmres-bilu0", "krylov": "gmres", "preconditioner": "block-ilu0", … } ] }
+ *     "recipes":  [ { "name": "gmres-block-ilu0", "krylov": "gmres", "preconditioner": "block-ilu0", … } ] }
  *
  * Paths are relative to the suite file. Every error is one line naming the file and the field path.
  */

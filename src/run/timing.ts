@@ -48,10 +48,7 @@ export function summarizeRepeats(
 }
 
 function stopText(r: SolveResult): string {
-  // Field names of the stop description, whichever the result carries.
-  const o = r as unknown as Record<string, unknown>;
-  const parts = ['outcome', 'cause', 'reason'].filter((k) => typeof o[k] === 'string').map((k) => String(o[k]));
-  return parts.join('/');
+  return `${r.outcome}/${r.cause}`;
 }
 
 function sameNumber(a: number, b: number): boolean {

@@ -1,4 +1,5 @@
-import type { LinearOperator, ResidualCheck, SolveResult, StopReason } from './types.js';
+import type { LinearOperator, ResidualCheck, SolveResult, Cause } from './types.js';
+import { isSolved } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
 import { residualInto, startResidual } from './operator.js';
@@ -10,7 +11,7 @@ import { axpy, dot, norm2 } from './vector.js';
  * BiCGStab with right preconditioning (van der Vorst, SIAM J. Sci. Stat. Comput. 13(2), 1992,
  * Alg. "preconditioned Bi-CGSTAB"; Barrett et al., Templates, 1994, Fig. 2.10).
  *
- * One iteration = two operator and two preconditioner applications. The monitored residual is the
+ * One iteration = two operator and two preconditioner applications. The watched residual is the
  * recursively updated r, which equals b − A x up to rounding (right preconditioning). When it says
  * "converged" the true residual is recomputed; if that does not confirm, the method starts again
  * from the true residual (a new shadow vector) and `restarts` counts those re-starts. Breakdown:
@@ -42,28 +43,28 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
   let iterations = 0;
   let restarts = 0;
   let failure: { message: string; blockRow?: number } | undefined;
-  const rule: StopRule = { rtol: opts.rtol, atol: opts.atol, divergence: opts.divergence, baselineNorm: 0 };
+  const rule: StopRule = { rtol: opts.rtol, atol: opts.atol, divergence: opts.divergence, referenceNorm: 0 };
   let trueNorm = 0;
 
-  const finish = (reason: StopReason): SolveResult => buildResult({
-    method, M, reason, iterations, restarts, history, monitored: 'true', baseline: opts.baseline,
-    baselineNorm: rule.baselineNorm, trueBaselineNorm: rule.baselineNorm, trueResidualNorm: trueNorm,
+  const finish = (cause: Cause): SolveResult => buildResult({
+    method, M, cause, iterations, restarts, history, watched: 'plain', relativeTo: opts.relativeTo,
+    referenceNorm: rule.referenceNorm, trueReferenceNorm: rule.referenceNorm, trueResidualNorm: trueNorm,
     residualChecks, residualMismatch, solveSeconds: secondsSince(t0), meter, krylov, work, failure,
   });
   const stopMonitor = (): SolveResult => {
     failure = { message: 'stopped by the onIteration monitor' };
-    return finish('max-iterations');
+    return finish('iteration-budget');
   };
 
-  const start = startResidual(A, b, x, r, opts.baseline);
+  const start = startResidual(A, b, x, r, opts.relativeTo);
   trueNorm = start.trueNorm;
   if (start.stop) { history.push(trueNorm); return finish(start.stop); }
-  rule.baselineNorm = start.trueBase;
-  let rel = relative(trueNorm, rule.baselineNorm);
+  rule.referenceNorm = start.trueBase;
+  let rel = relative(trueNorm, rule.referenceNorm);
   history.push(rel);
   let vote: Vote = combineVotes(residualVote(rule, trueNorm), monitorVote(opts.onIteration, 0, rel));
-  if (isStop(vote)) return vote === 'max-iterations' ? stopMonitor() : finish(vote);
-  if (opts.maxIterations === 0) return finish('max-iterations');
+  if (isStop(vote)) return vote === 'iteration-budget' ? stopMonitor() : finish(vote);
+  if (opts.maxIterations === 0) return finish('iteration-budget');
 
   for (;;) {
     // (re)start from the residual in r
@@ -76,8 +77,8 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
     while (iterations < opts.maxIterations) {
       const rhoNew = dot(n, rHat, r);
       if (rhoNew === 0 || !Number.isFinite(rhoNew)) {
-        vote = Number.isFinite(rhoNew) ? 'breakdown' : 'non-finite';
-        failure = vote === 'breakdown' ? { message: 'bicgstab: (r̂, r) = 0' } : undefined;
+        vote = Number.isFinite(rhoNew) ? 'method-breakdown' : 'non-finite-value';
+        failure = vote === 'method-breakdown' ? { message: 'bicgstab: (r̂, r) = 0' } : undefined;
         break;
       }
       const beta = (rhoNew / rho) * (alpha / omega);
@@ -86,21 +87,21 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
       A.apply(pHat, v);
       const rv = dot(n, rHat, v);
       if (rv === 0 || !Number.isFinite(rv)) {
-        vote = Number.isFinite(rv) ? 'breakdown' : 'non-finite';
-        failure = vote === 'breakdown' ? { message: 'bicgstab: (r̂, A M⁻¹ p) = 0' } : undefined;
+        vote = Number.isFinite(rv) ? 'method-breakdown' : 'non-finite-value';
+        failure = vote === 'method-breakdown' ? { message: 'bicgstab: (r̂, A M⁻¹ p) = 0' } : undefined;
         break;
       }
       alpha = rhoNew / rv;
       for (let i = 0; i < n; i++) s[i] = r[i] - alpha * v[i];
       const sNorm = norm2(n, s);
       const sVote = residualVote(rule, sNorm);
-      if (sVote === 'converged-rtol' || sVote === 'converged-atol') {
+      if (sVote === 'relative-target' || sVote === 'absolute-target') {
         // half step suffices: x ← x + α p̂ (counts as an iteration)
         axpy(n, alpha, pHat, x);
         r.set(s);
         rNorm = sNorm;
         iterations++;
-        rel = relative(rNorm, rule.baselineNorm);
+        rel = relative(rNorm, rule.referenceNorm);
         history.push(rel);
         vote = combineVotes(sVote, monitorVote(opts.onIteration, iterations, rel));
         break;
@@ -115,24 +116,24 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
       rho = rhoNew;
       rNorm = norm2(n, r);
       iterations++;
-      rel = relative(rNorm, rule.baselineNorm);
+      rel = relative(rNorm, rule.referenceNorm);
       history.push(rel);
       vote = combineVotes(residualVote(rule, rNorm), monitorVote(opts.onIteration, iterations, rel));
-      if (!Number.isFinite(omega)) vote = 'non-finite';
+      if (!Number.isFinite(omega)) vote = 'non-finite-value';
       if (isStop(vote)) break;
-      if (omega === 0) { vote = 'breakdown'; failure = { message: 'bicgstab: ω = 0 (stagnation)' }; break; }
+      if (omega === 0) { vote = 'method-breakdown'; failure = { message: 'bicgstab: ω = 0 (stagnation)' }; break; }
     }
-    const estimate = relative(rNorm, rule.baselineNorm);
+    const estimate = relative(rNorm, rule.referenceNorm);
     trueNorm = residualInto(A, b, x, r);
-    const trueRel = relative(trueNorm, rule.baselineNorm);
+    const trueRel = relative(trueNorm, rule.referenceNorm);
     residualChecks.push({ iteration: iterations, estimate, trueValue: trueRel });
     if (residualsDisagree(estimate, trueRel, opts.rtol)) residualMismatch = true;
-    if (!Number.isFinite(trueNorm)) return finish('non-finite');
-    if (vote === 'max-iterations') return stopMonitor();
-    if (isStop(vote) && !vote.startsWith('converged')) return finish(vote);
+    if (!Number.isFinite(trueNorm)) return finish('non-finite-value');
+    if (vote === 'iteration-budget') return stopMonitor();
+    if (isStop(vote) && !isSolved(vote)) return finish(vote);
     const trueVote = residualVote(rule, trueNorm);
     if (isStop(trueVote)) return finish(trueVote);
-    if (iterations >= opts.maxIterations) return finish('max-iterations');
+    if (iterations >= opts.maxIterations) return finish('iteration-budget');
     // recursive residual claimed convergence the true residual does not confirm: start again
     restarts++;
   }

@@ -1,5 +1,6 @@
 import { UserError } from '../util/errors.js';
-import type { LinearOperator, ResidualCheck, SolveResult, StopReason } from './types.js';
+import type { LinearOperator, ResidualCheck, SolveResult, Cause } from './types.js';
+import { isSolved } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
 import { residualInto, startResidual } from './operator.js';
@@ -24,15 +25,15 @@ const MAX_BASIS_ENTRIES = 2 ** 32 - 1;
  * algorithm as in Saad, Iterative Methods for Sparse Linear Systems, 2nd ed. 2003, Alg. 6.9/9.5/9.6).
  *
  * - x holds x₀ on entry and the solution on return; b is never modified.
- * - Right preconditioning (default): minimizes ‖b − A x‖, so the monitored residual is the true one
- *   up to rounding. Left: minimizes ‖M⁻¹(b − A x)‖, and that preconditioned norm is monitored.
+ * - Right preconditioning (default): minimizes ‖b − A x‖, so the watched residual is the plain one
+ *   up to rounding. Left: minimizes ‖M⁻¹(b − A x)‖, and that left-preconditioned norm is watched.
  * - Flexible (opts.flexible): right only, stores Z_j = M⁻¹ v_j, so M may change between applications.
  * - Modified Gram–Schmidt (default) or classical Gram–Schmidt with one reorthogonalization ('cgs2',
  *   Giraud, Langou & Rozložník 2005); Givens rotations on the Hessenberg matrix.
  * - At each restart and at the end the true residual ‖b − A x‖ is recomputed and recorded beside the
  *   recursive estimate; the next cycle starts from the recomputed residual.
  * - maxIterations counts inner iterations in total; restarts counts cycles begun after the first.
- * Never throws for numerical trouble: it ends with a StopReason.
+ * Never throws for numerical trouble: it ends with a Cause.
  */
 export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts: KrylovOptions): SolveResult {
   const flexible = opts.flexible === true;
@@ -80,14 +81,14 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
   let restarts = 0;
   let ritz: { re: number[]; im: number[] } | undefined;
   let failure: { message: string; blockRow?: number } | undefined;
-  const rule: StopRule = { rtol: opts.rtol, atol: opts.atol, divergence: opts.divergence, baselineNorm: 0 };
+  const rule: StopRule = { rtol: opts.rtol, atol: opts.atol, divergence: opts.divergence, referenceNorm: 0 };
   let trueBase = 0;
   let trueNorm = 0;
   let ritzMs = 0;
 
-  const finish = (reason: StopReason): SolveResult => buildResult({
-    method, M, reason, iterations, restarts, history, monitored: left ? 'preconditioned' : 'true',
-    baseline: opts.baseline, baselineNorm: rule.baselineNorm, trueBaselineNorm: trueBase,
+  const finish = (cause: Cause): SolveResult => buildResult({
+    method, M, cause, iterations, restarts, history, watched: left ? 'left-preconditioned' : 'plain',
+    relativeTo: opts.relativeTo, referenceNorm: rule.referenceNorm, trueReferenceNorm: trueBase,
     trueResidualNorm: trueNorm, residualChecks, residualMismatch, solveSeconds: secondsSince(t0 + ritzMs), meter,
     krylov, work, ritz, failure,
   });
@@ -95,38 +96,38 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
 
   // ---- iteration 0 ----
   const x0Zero = isZero(n, x);
-  const start = startResidual(A, b, x, r, opts.baseline);
+  const start = startResidual(A, b, x, r, opts.relativeTo);
   trueNorm = start.trueNorm;
   if (start.stop) { history.push(trueNorm); return finish(start.stop); }
   trueBase = start.trueBase;
-  // beta: the monitored residual norm; the cycle's first basis vector is built in vs[0].
+  // beta: the watched residual norm; the cycle's first basis vector is built in vs[0].
   let beta: number;
   if (left) {
     meter.apply(r, vs[0]);
     beta = norm2(n, vs[0]);
-    if (opts.baseline === 'rhs') {
-      if (x0Zero) rule.baselineNorm = beta;
-      else { meter.apply(b, w); rule.baselineNorm = norm2(n, w); }
-    } else rule.baselineNorm = beta;
-    if (rule.baselineNorm === 0 && Number.isFinite(beta) && trueNorm > 0) {
+    if (opts.relativeTo === 'rhs') {
+      if (x0Zero) rule.referenceNorm = beta;
+      else { meter.apply(b, w); rule.referenceNorm = norm2(n, w); }
+    } else rule.referenceNorm = beta;
+    if (rule.referenceNorm === 0 && Number.isFinite(beta) && trueNorm > 0) {
       history.push(Infinity);
       failure = { message: 'the preconditioner maps the residual to zero' };
-      return finish('breakdown');
+      return finish('method-breakdown');
     }
   } else {
     vs[0].set(r);
     beta = trueNorm;
-    rule.baselineNorm = trueBase;
+    rule.referenceNorm = trueBase;
   }
-  let rel = relative(beta, rule.baselineNorm);
+  let rel = relative(beta, rule.referenceNorm);
   history.push(rel);
   let vote = combineVotes(residualVote(rule, beta), monitorVote(opts.onIteration, 0, rel));
-  if (!Number.isFinite(trueNorm)) vote = 'non-finite';
+  if (!Number.isFinite(trueNorm)) vote = 'non-finite-value';
   if (isStop(vote)) {
-    if (vote === 'max-iterations') failure = { message: 'stopped by the onIteration monitor' };
+    if (vote === 'iteration-budget') failure = { message: 'stopped by the onIteration monitor' };
     return finish(vote);
   }
-  if (opts.maxIterations === 0) return finish('max-iterations');
+  if (opts.maxIterations === 0) return finish('iteration-budget');
 
   // ---- cycles ----
   for (let cycle = 0; ; cycle++) {
@@ -185,10 +186,10 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
       iterations++;
       k = j + 1;
       estimate = Math.abs(g[j + 1]);
-      rel = relative(estimate, rule.baselineNorm);
+      rel = relative(estimate, rule.referenceNorm);
       history.push(rel);
       cycleVote = combineVotes(residualVote(rule, estimate), monitorVote(opts.onIteration, iterations, rel));
-      if (!Number.isFinite(wNorm0) || !Number.isFinite(d)) cycleVote = 'non-finite';
+      if (!Number.isFinite(wNorm0) || !Number.isFinite(d)) cycleVote = 'non-finite-value';
       if (isStop(cycleVote) || happy || iterations >= opts.maxIterations) break;
     }
 
@@ -198,10 +199,10 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
       ritz = ritzValues(Hraw, ldh, k);
       ritzMs = performance.now() - tr;
     }
-    if (cycleVote === 'non-finite') {
+    if (cycleVote === 'non-finite-value') {
       // keep x from the cycle start: this cycle's basis holds NaN/Inf
       trueNorm = residualInto(A, b, x, r);
-      return finish('non-finite');
+      return finish('non-finite-value');
     }
     // y ← R⁻¹ g (R = rotated H, upper triangular k×k)
     let singularAt = -1;
@@ -215,7 +216,7 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     if (singularAt >= 0) {
       trueNorm = residualInto(A, b, x, r);
       failure = { message: `${method}: the Hessenberg matrix is singular at step ${iterations - k + singularAt + 1} (operator singular on the Krylov space)` };
-      return finish('breakdown');
+      return finish('method-breakdown');
     }
     // x ← x + (preconditioned) basis · y
     if (Z) {
@@ -231,30 +232,30 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
 
     // true residual beside the recursive estimate; the next cycle starts from it
     trueNorm = residualInto(A, b, x, r);
-    let monitoredNow = trueNorm;
+    let watchedNow = trueNorm;
     const check: ResidualCheck = {
       iteration: iterations, estimate: rel, trueValue: relative(trueNorm, trueBase),
     };
     if (left) {
       meter.apply(r, vs[0]);
-      monitoredNow = norm2(n, vs[0]);
-      check.monitoredValue = relative(monitoredNow, rule.baselineNorm);
+      watchedNow = norm2(n, vs[0]);
+      check.watchedValue = relative(watchedNow, rule.referenceNorm);
     } else {
       vs[0].set(r);
     }
     residualChecks.push(check);
-    if (residualsDisagree(rel, relative(monitoredNow, rule.baselineNorm), opts.rtol)) residualMismatch = true;
+    if (residualsDisagree(rel, relative(watchedNow, rule.referenceNorm), opts.rtol)) residualMismatch = true;
 
-    if (isStop(cycleVote) && !cycleVote.startsWith('converged')) {
-      if (cycleVote === 'max-iterations') failure = { message: 'stopped by the onIteration monitor' };
-      return finish(Number.isFinite(trueNorm) ? cycleVote : 'non-finite');
+    if (isStop(cycleVote) && !isSolved(cycleVote)) {
+      if (cycleVote === 'iteration-budget') failure = { message: 'stopped by the onIteration monitor' };
+      return finish(Number.isFinite(trueNorm) ? cycleVote : 'non-finite-value');
     }
     // the recomputed residual decides: a recursive "converged" it does not confirm means continue
-    const recomputedVote = residualVote(rule, monitoredNow);
-    if (!Number.isFinite(trueNorm)) return finish('non-finite');
+    const recomputedVote = residualVote(rule, watchedNow);
+    if (!Number.isFinite(trueNorm)) return finish('non-finite-value');
     if (isStop(recomputedVote)) return finish(recomputedVote);
-    if (iterations >= opts.maxIterations) return finish('max-iterations');
-    beta = monitoredNow;
+    if (iterations >= opts.maxIterations) return finish('iteration-budget');
+    beta = watchedNow;
     restarts++;
   }
 }

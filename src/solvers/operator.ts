@@ -1,7 +1,7 @@
 import type { Bsr, Csr } from '../sparse/types.js';
 import { csrSpmvKernel } from '../sparse/csr.js';
 import { bsrSpmvKernel } from '../sparse/bsr.js';
-import type { BufferBytes, LinearOperator } from './types.js';
+import type { BufferBytes, LinearOperator, RelativeTo } from './types.js';
 import { norm2 } from './vector.js';
 
 /** A matrix seen as an operator, with the bytes its arrays hold (for the memory report). */
@@ -60,20 +60,20 @@ export function residualInto(A: LinearOperator, b: Float64Array, x: Float64Array
 }
 
 /**
- * Iteration 0, the same for every method. A non-finite b stops as 'non-finite' (trueNorm NaN);
- * b = 0 sets x = 0 and stops as 'converged-rtol' (trueNorm 0: the solution of a nonsingular
+ * Iteration 0, the same for every method. A non-finite b stops as 'non-finite-value' (trueNorm NaN);
+ * b = 0 sets x = 0 and stops as 'relative-target' (trueNorm 0: the solution of a nonsingular
  * system, 0/0 taken as 0). Otherwise r ← b − A x, and trueBase is the unpreconditioned norm the
  * relative residuals divide by (‖b‖ or ‖r₀‖).
  */
 export function startResidual(
-  A: LinearOperator, b: Float64Array, x: Float64Array, r: Float64Array, baseline: 'rhs' | 'initial-residual',
-): { stop: 'non-finite' | 'converged-rtol'; trueNorm: number } | { stop: undefined; trueNorm: number; trueBase: number } {
+  A: LinearOperator, b: Float64Array, x: Float64Array, r: Float64Array, relativeTo: RelativeTo,
+): { stop: 'non-finite-value' | 'relative-target'; trueNorm: number } | { stop: undefined; trueNorm: number; trueBase: number } {
   const bNorm = norm2(A.n, b);
-  if (!Number.isFinite(bNorm)) return { stop: 'non-finite', trueNorm: NaN };
+  if (!Number.isFinite(bNorm)) return { stop: 'non-finite-value', trueNorm: NaN };
   if (bNorm === 0) {
     x.fill(0);
-    return { stop: 'converged-rtol', trueNorm: 0 };
+    return { stop: 'relative-target', trueNorm: 0 };
   }
   const trueNorm = residualInto(A, b, x, r);
-  return { stop: undefined, trueNorm, trueBase: baseline === 'rhs' ? bNorm : trueNorm };
+  return { stop: undefined, trueNorm, trueBase: relativeTo === 'rhs' ? bNorm : trueNorm };
 }

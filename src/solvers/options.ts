@@ -1,7 +1,7 @@
 import type { Preconditioner } from '../precond/types.js';
 import { UserError } from '../util/errors.js';
 import type { Orthogonalization, PreconditionSide, Recipe } from './recipe.js';
-import type { ResidualBaseline } from './types.js';
+import type { RelativeTo } from './types.js';
 
 /** Options shared by every iterative solver (gmres, bicgstab, stationary). */
 export interface KrylovOptions {
@@ -9,18 +9,18 @@ export interface KrylovOptions {
   M?: Preconditioner;
   /** GMRES/FGMRES basis size per cycle (ignored by BiCGStab and stationary). */
   restart: number;
-  /** GMRES only: 'right' (monitors the true residual) or 'left' (monitors ‖M⁻¹(b − Ax)‖). */
+  /** GMRES only: 'right' (watches the plain residual ‖b − Ax‖) or 'left' (watches ‖M⁻¹(b − Ax)‖). */
   side: PreconditionSide;
   orthogonalization: Orthogonalization;
-  /** Converged when the monitored ‖r‖ ≤ rtol · baseline norm … */
+  /** Solved when the watched ‖r‖ ≤ rtol · reference norm … */
   rtol: number;
   /** … or when ‖r‖ ≤ atol (0 disables). */
   atol: number;
   /** Total inner iterations, whatever the restart. */
   maxIterations: number;
-  /** Diverged when ‖r‖ > divergence · baseline norm. */
+  /** Stops on residual growth when ‖r‖ > divergence · reference norm. */
   divergence: number;
-  baseline: ResidualBaseline;
+  relativeTo: RelativeTo;
   /** GMRES: flexible variant (FGMRES, right preconditioning only, stores Z = M⁻¹V). */
   flexible?: boolean;
   /** Stationary iteration step factor ω in x ← x + ω M⁻¹(b − A x). Default 1. */
@@ -28,8 +28,8 @@ export interface KrylovOptions {
   /** GMRES: compute Ritz values of the first cycle (default true). */
   ritz?: boolean;
   /**
-   * Called at iteration 0 and after every iteration with the monitored relative residual.
-   * Returning true asks the solver to stop: the run ends with reason 'max-iterations' and
+   * Called at iteration 0 and after every iteration with the watched relative residual.
+   * Returning true asks the solver to stop: the run ends with cause 'iteration-budget' and
    * failure.message "stopped by the onIteration monitor".
    */
   onIteration?(iteration: number, relativeResidual: number): boolean | void;
@@ -46,7 +46,7 @@ export function krylovOptionsFromRecipe(recipe: Recipe, M?: Preconditioner): Kry
     atol: recipe.atol,
     maxIterations: recipe.maxIterations,
     divergence: recipe.divergence,
-    baseline: recipe.baseline,
+    relativeTo: recipe.relativeTo,
     flexible: recipe.krylov === 'fgmres',
     omega: recipe.omega,
   };
@@ -69,8 +69,8 @@ export function checkKrylovOptions(method: string, o: KrylovOptions): void {
     throw bad(method, 'maxIterations', `expected an integer ≥ 0, got ${o.maxIterations}`);
   }
   if (!(o.divergence > 1)) throw bad(method, 'divergence', `expected a number > 1, got ${o.divergence}`);
-  if (o.baseline !== 'rhs' && o.baseline !== 'initial-residual') {
-    throw bad(method, 'baseline', `expected rhs or initial-residual, got ${String(o.baseline)}`);
+  if (o.relativeTo !== 'rhs' && o.relativeTo !== 'start-residual') {
+    throw bad(method, 'relativeTo', `expected rhs or start-residual, got ${String(o.relativeTo)}`);
   }
   if (o.omega !== undefined && (!(o.omega > 0) || !Number.isFinite(o.omega))) {
     throw bad(method, 'omega', `expected a finite number > 0, got ${o.omega}`);

@@ -40,15 +40,16 @@ export interface Recipe {
   shift: number;
   /** Block-jacobi diagonal block solve: LU with partial pivoting, or explicit inverse. */
   blockInverse: BlockInverse;
-  /** Stop when ‖r‖ ≤ rtol · baselineNorm … */
+  /** Stop when ‖r‖ ≤ rtol · reference norm (‖b‖ or ‖r₀‖, see relativeTo) … */
   rtol: number;
   /** … or when ‖r‖ ≤ atol (absolute). 0 disables. */
   atol: number;
   /** Maximum total iterations (inner Krylov steps, or stationary steps), whatever the restart. */
   maxIterations: number;
-  /** Stop as diverged when ‖r‖ > divergence · baselineNorm. */
+  /** Stop (residual-growth) when ‖r‖ > divergence · reference norm. */
   divergence: number;
-  baseline: 'rhs' | 'initial-residual';
+  /** What relative residuals divide by: ‖b‖ ('rhs') or ‖r₀‖ ('start-residual'). */
+  relativeTo: 'rhs' | 'start-residual';
   /** Slab preconditioner: how each slab is solved. */
   inner?: Recipe;
 }
@@ -70,7 +71,7 @@ export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
   atol: 0,
   maxIterations: 1000,
   divergence: 1e10,
-  baseline: 'rhs',
+  relativeTo: 'rhs',
 });
 
 // ---------------------------------------------------------------------------------------------
@@ -81,7 +82,7 @@ export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
 export const BLOCK_INVERSES: readonly BlockInverse[] = ['lu', 'inverse'];
 export const PRECONDITION_SIDES: readonly PreconditionSide[] = ['right', 'left'];
 export const ORTHOGONALIZATIONS: readonly Orthogonalization[] = ['mgs', 'cgs2'];
-export const BASELINES: readonly Recipe['baseline'][] = ['rhs', 'initial-residual'];
+export const RELATIVE_TO: readonly Recipe['relativeTo'][] = ['rhs', 'start-residual'];
 
 /** Inner recipe a slab preconditioner uses when none is given: GMRES(30) + block ILU(0) to 1e-10. */
 export const DEFAULT_INNER_RECIPE: Readonly<Recipe> = Object.freeze({
@@ -116,7 +117,7 @@ const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   atol: { kind: 'number', min: 0, minOpen: false },
   maxIterations: { kind: 'int', min: 0, max: 1e9 },
   divergence: { kind: 'number', min: 1, minOpen: true },
-  baseline: { kind: 'enum', values: BASELINES },
+  relativeTo: { kind: 'enum', values: RELATIVE_TO },
 };
 
 function describeSpec(s: FieldSpec): string {
@@ -222,7 +223,7 @@ export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   atol: 'atol',
   maxIterations: 'max-iters',
   divergence: 'divergence',
-  baseline: 'baseline',
+  relativeTo: 'relative-to',
 };
 
 /** commander's camelCase key for a flag ("max-iters" → "maxIters", "inner-precond" → "innerPrecond"). */

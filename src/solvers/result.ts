@@ -1,8 +1,8 @@
 import type { Preconditioner } from '../precond/types.js';
 import type {
-  BufferBytes, MonitoredNorm, ResidualBaseline, ResidualCheck, SolveMemory, SolveResult, StopReason,
+  BufferBytes, Cause, RelativeTo, ResidualCheck, SolveMemory, SolveResult, WatchedNorm,
 } from './types.js';
-import { isConverged } from './types.js';
+import { isSolved, outcomeOf } from './types.js';
 
 /** Peak resident set size of this process so far, in bytes (maxRSS is reported in kilobytes). */
 export function peakRssBytes(): number {
@@ -27,7 +27,7 @@ export function secondsSince(t0: number): number {
 export interface PreconditionerMeter {
   applications: number;
   seconds: number;
-  /** Set when M.apply threw: the run then ends as 'preconditioner-failed' with this message. */
+  /** Set when M.apply threw: the run then ends as 'preconditioner-error' with this message. */
   failure?: string;
   apply(r: Float64Array, z: Float64Array): void;
 }
@@ -35,7 +35,7 @@ export interface PreconditionerMeter {
 /**
  * An apply() that throws (an inner solve gone wrong, say) must not escape to the user as a stack
  * trace: the meter records the message and fills z with NaN, so the solver stops at once as
- * non-finite, and buildResult reports 'preconditioner-failed' with the message.
+ * non-finite, and buildResult reports 'preconditioner-error' with the message.
  */
 export function meterPreconditioner(M: Preconditioner | undefined): PreconditionerMeter {
   const meter: PreconditionerMeter = {
@@ -68,14 +68,14 @@ export function emptyMemory(): SolveMemory {
 export interface SolverOutcome {
   method: string;
   M?: Preconditioner;
-  reason: StopReason;
+  cause: Cause;
   iterations: number;
   restarts: number;
   history: number[];
-  monitored: MonitoredNorm;
-  baseline: ResidualBaseline;
-  baselineNorm: number;
-  trueBaselineNorm: number;
+  watched: WatchedNorm;
+  relativeTo: RelativeTo;
+  referenceNorm: number;
+  trueReferenceNorm: number;
   /** ‖b − A x‖ for the x returned. */
   trueResidualNorm: number;
   residualChecks: ResidualCheck[];
@@ -88,7 +88,7 @@ export interface SolverOutcome {
   failure?: { message: string; blockRow?: number };
 }
 
-/** Relative value with 0/0 = 0 (a zero residual against a zero baseline is exact). */
+/** Relative value with 0/0 = 0 (a zero residual against a zero reference is exact). */
 export function relative(value: number, base: number): number {
   if (base === 0) return value === 0 ? 0 : Infinity;
   return value / base;
@@ -96,7 +96,7 @@ export function relative(value: number, base: number): number {
 
 export function buildResult(o: SolverOutcome): SolveResult {
   if (o.meter.failure !== undefined) {
-    o = { ...o, reason: 'preconditioner-failed', failure: { message: o.meter.failure } };
+    o = { ...o, cause: 'preconditioner-error', failure: { message: o.meter.failure } };
   }
   const memory = emptyMemory();
   memory.buffers.krylov = o.krylov;
@@ -107,16 +107,17 @@ export function buildResult(o: SolverOutcome): SolveResult {
   const result: SolveResult = {
     method: o.method,
     preconditioner: o.M ? o.M.name : 'none',
-    converged: isConverged(o.reason),
-    reason: o.reason,
+    converged: isSolved(o.cause),
+    outcome: outcomeOf(o.cause),
+    cause: o.cause,
     iterations: o.iterations,
     restarts: o.restarts,
     history: o.history,
-    monitored: o.monitored,
-    baseline: o.baseline,
-    baselineNorm: o.baselineNorm,
-    trueRelativeResidual: relative(o.trueResidualNorm, o.trueBaselineNorm),
-    trueBaselineNorm: o.trueBaselineNorm,
+    watched: o.watched,
+    relativeTo: o.relativeTo,
+    referenceNorm: o.referenceNorm,
+    trueRelativeResidual: relative(o.trueResidualNorm, o.trueReferenceNorm),
+    trueReferenceNorm: o.trueReferenceNorm,
     residualChecks: o.residualChecks,
     residualMismatch: o.residualMismatch,
     timing: {

@@ -25,7 +25,7 @@ export function systemOperator(system: SystemMatrix): MatrixOperator {
  * Solve A x = b with a recipe: create the preconditioner through the registry, set it up (timed),
  * run the recipe's method (timed), and fill the memory report (matrix bytes of the operator actually
  * used, preconditioner bytes from M.memory(), Krylov basis and work vectors, peak RSS) and the
- * preconditioner's statistics. Solver and preconditioner failures become stop reasons; only an
+ * preconditioner's statistics. Solver and preconditioner failures become causes; only an
  * invalid recipe (or a recipe the matrix cannot serve) throws a UserError. b is never modified.
  */
 export function solveSystem(
@@ -80,15 +80,15 @@ function setupFailure(
   const n = A.n;
   const r = new Float64Array(n);
   const rNorm = residualInto(A, b, x, r);
-  const base = recipe.baseline === 'rhs' ? norm2(n, b) : rNorm;
+  const base = recipe.relativeTo === 'rhs' ? norm2(n, b) : rNorm;
   const failure: { message: string; blockRow?: number } = { message: outcome.message };
   if (outcome.blockRow !== undefined) failure.blockRow = outcome.blockRow;
   return buildResult({
     method: recipe.krylov === 'none' ? 'stationary' : recipe.krylov,
-    M, reason: outcome.reason === 'non-finite' ? 'non-finite' : 'preconditioner-failed',
+    M, cause: outcome.reason === 'non-finite' ? 'non-finite-value' : 'preconditioner-error',
     iterations: 0, restarts: 0, history: [relative(rNorm, base)],
-    monitored: recipe.side === 'left' && recipe.krylov === 'gmres' ? 'preconditioned' : 'true',
-    baseline: recipe.baseline, baselineNorm: base, trueBaselineNorm: base, trueResidualNorm: rNorm,
+    watched: recipe.side === 'left' && recipe.krylov === 'gmres' ? 'left-preconditioned' : 'plain',
+    relativeTo: recipe.relativeTo, referenceNorm: base, trueReferenceNorm: base, trueResidualNorm: rNorm,
     residualChecks: [], residualMismatch: false, solveSeconds: 0, meter: meterPreconditioner(undefined),
     krylov: {}, work: {}, failure,
   });

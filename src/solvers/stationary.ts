@@ -1,4 +1,4 @@
-import type { LinearOperator, SolveResult, StopReason } from './types.js';
+import type { LinearOperator, SolveResult, Cause } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
 import { residualInto, startResidual } from './operator.js';
@@ -11,7 +11,7 @@ import { axpy } from './vector.js';
  * §4.1). With M = point/block Jacobi this is the Jacobi iteration, with M = a forward block
  * Gauss–Seidel sweep (relaxation inside M) it is block Gauss–Seidel/SOR, with symmetric sweeps SSOR.
  * Without M it is plain Richardson iteration. The residual b − A x is recomputed every step, so the
- * monitored residual is the true one. One iteration = one operator and one preconditioner application.
+ * watched residual is the plain one. One iteration = one operator and one preconditioner application.
  */
 export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, opts: KrylovOptions): SolveResult {
   const method = 'stationary';
@@ -30,21 +30,21 @@ export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, 
   const history: number[] = [];
   let iterations = 0;
   let failure: { message: string; blockRow?: number } | undefined;
-  const rule: StopRule = { rtol: opts.rtol, atol: opts.atol, divergence: opts.divergence, baselineNorm: 0 };
+  const rule: StopRule = { rtol: opts.rtol, atol: opts.atol, divergence: opts.divergence, referenceNorm: 0 };
   let trueNorm = 0;
 
-  const finish = (reason: StopReason): SolveResult => buildResult({
-    method, M, reason, iterations, restarts: 0, history, monitored: 'true', baseline: opts.baseline,
-    baselineNorm: rule.baselineNorm, trueBaselineNorm: rule.baselineNorm, trueResidualNorm: trueNorm,
-    residualChecks: [{ iteration: iterations, estimate: history[history.length - 1], trueValue: relative(trueNorm, rule.baselineNorm) }],
+  const finish = (cause: Cause): SolveResult => buildResult({
+    method, M, cause, iterations, restarts: 0, history, watched: 'plain', relativeTo: opts.relativeTo,
+    referenceNorm: rule.referenceNorm, trueReferenceNorm: rule.referenceNorm, trueResidualNorm: trueNorm,
+    residualChecks: [{ iteration: iterations, estimate: history[history.length - 1], trueValue: relative(trueNorm, rule.referenceNorm) }],
     residualMismatch: false, solveSeconds: secondsSince(t0), meter, krylov, work, failure,
   });
 
-  const start = startResidual(A, b, x, r, opts.baseline);
+  const start = startResidual(A, b, x, r, opts.relativeTo);
   trueNorm = start.trueNorm;
   if (start.stop) { history.push(trueNorm); return finish(start.stop); }
-  rule.baselineNorm = start.trueBase;
-  let rel = relative(trueNorm, rule.baselineNorm);
+  rule.referenceNorm = start.trueBase;
+  let rel = relative(trueNorm, rule.referenceNorm);
   history.push(rel);
   let vote: Vote = combineVotes(residualVote(rule, trueNorm), monitorVote(opts.onIteration, 0, rel));
   while (!isStop(vote) && iterations < opts.maxIterations) {
@@ -52,10 +52,10 @@ export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, 
     axpy(n, omega, z, x);
     trueNorm = residualInto(A, b, x, r);
     iterations++;
-    rel = relative(trueNorm, rule.baselineNorm);
+    rel = relative(trueNorm, rule.referenceNorm);
     history.push(rel);
     vote = combineVotes(residualVote(rule, trueNorm), monitorVote(opts.onIteration, iterations, rel));
   }
-  if (vote === 'max-iterations') failure = { message: 'stopped by the onIteration monitor' };
-  return finish(isStop(vote) ? vote : 'max-iterations');
+  if (vote === 'iteration-budget') failure = { message: 'stopped by the onIteration monitor' };
+  return finish(isStop(vote) ? vote : 'iteration-budget');
 }

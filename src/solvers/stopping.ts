@@ -1,25 +1,25 @@
-import type { StopReason } from './types.js';
+import type { Cause } from './types.js';
 
 /**
  * Stop rules and monitor voting, shared by every solver.
  *
  * Each monitor (residual test, divergence bound, user callback…) casts a vote; votes combine by
  * rank: a failure beats "continue", which beats a success, which beats an abstention. So a
- * recursive estimate that says "converged" while the recomputed true residual says "continue"
+ * recursive estimate that says "solved" while the recomputed true residual says "continue"
  * continues, and a non-finite value ends the run whatever else was voted.
  */
-export type Vote = 'abstain' | 'continue' | StopReason;
+export type Vote = 'abstain' | 'continue' | Cause;
 
 const RANK: Record<Vote, number> = {
   abstain: 0,
-  'converged-atol': 1,
-  'converged-rtol': 2,
+  'absolute-target': 1,
+  'relative-target': 2,
   continue: 3,
-  'max-iterations': 4,
-  diverged: 5,
-  breakdown: 6,
-  'preconditioner-failed': 7,
-  'non-finite': 8,
+  'iteration-budget': 4,
+  'residual-growth': 5,
+  'method-breakdown': 6,
+  'preconditioner-error': 7,
+  'non-finite-value': 8,
 };
 
 /** The winning vote of two (associative and commutative, so fold any number of votes). */
@@ -28,7 +28,7 @@ export function combineVotes(a: Vote, b: Vote): Vote {
 }
 
 /** True when the vote ends the run (a success or a failure). */
-export function isStop(v: Vote): v is StopReason {
+export function isStop(v: Vote): v is Cause {
   return v !== 'abstain' && v !== 'continue';
 }
 
@@ -37,18 +37,19 @@ export interface StopRule {
   atol: number;
   divergence: number;
   /** The norm relative residuals divide by (‖b‖ or ‖r₀‖, preconditioned under left preconditioning). */
-  baselineNorm: number;
+  referenceNorm: number;
 }
 
 /**
- * Vote on an absolute monitored residual norm: converged-rtol when ‖r‖ ≤ rtol·baseline, else
- * converged-atol when ‖r‖ ≤ atol, diverged when ‖r‖ > divergence·baseline, non-finite for NaN/Inf.
+ * Vote on an absolute watched residual norm: relative-target when ‖r‖ ≤ rtol·reference, else
+ * absolute-target when ‖r‖ ≤ atol, residual-growth when ‖r‖ > divergence·reference,
+ * non-finite-value for NaN/Inf.
  */
 export function residualVote(rule: StopRule, residualNorm: number): Vote {
-  if (!Number.isFinite(residualNorm)) return 'non-finite';
-  if (residualNorm <= rule.rtol * rule.baselineNorm) return 'converged-rtol';
-  if (residualNorm <= rule.atol) return 'converged-atol';
-  if (residualNorm > rule.divergence * rule.baselineNorm) return 'diverged';
+  if (!Number.isFinite(residualNorm)) return 'non-finite-value';
+  if (residualNorm <= rule.rtol * rule.referenceNorm) return 'relative-target';
+  if (residualNorm <= rule.atol) return 'absolute-target';
+  if (residualNorm > rule.divergence * rule.referenceNorm) return 'residual-growth';
   return 'continue';
 }
 
@@ -57,7 +58,7 @@ export function monitorVote(
   onIteration: ((it: number, rel: number) => boolean | void) | undefined, it: number, rel: number,
 ): Vote {
   if (!onIteration) return 'abstain';
-  return onIteration(it, rel) === true ? 'max-iterations' : 'abstain';
+  return onIteration(it, rel) === true ? 'iteration-budget' : 'abstain';
 }
 
 /**

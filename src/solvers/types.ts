@@ -9,29 +9,52 @@ export interface LinearOperator {
   apply(x: Float64Array, y: Float64Array): void;
 }
 
-/** Why a solve stopped. Exactly one per run. */
-export type StopReason =
-  | 'converged-rtol'
-  | 'converged-atol'
-  | 'max-iterations'
-  | 'diverged'
-  | 'breakdown'
-  | 'non-finite'
-  | 'preconditioner-failed';
+/**
+ * Why a solve stopped: exactly one cause per run.
+ * - relative-target: the watched ‖r‖ ≤ rtol · reference norm
+ * - absolute-target: the watched ‖r‖ ≤ atol
+ * - iteration-budget: the total inner-iteration limit was reached (or a caller's monitor asked to stop)
+ * - residual-growth: ‖r‖ > divergence · reference norm
+ * - method-breakdown: the method cannot continue (singular Hessenberg, BiCGStab's (r̂, r) = 0 …)
+ * - non-finite-value: NaN or Inf in b, the matrix, a preconditioner output or a residual
+ * - preconditioner-error: setup failed (zero pivot …) or an apply threw
+ */
+export type Cause =
+  | 'relative-target'
+  | 'absolute-target'
+  | 'iteration-budget'
+  | 'residual-growth'
+  | 'method-breakdown'
+  | 'non-finite-value'
+  | 'preconditioner-error';
 
-export const STOP_REASONS: readonly StopReason[] = [
-  'converged-rtol', 'converged-atol', 'max-iterations', 'diverged', 'breakdown', 'non-finite',
-  'preconditioner-failed',
+export const CAUSES: readonly Cause[] = [
+  'relative-target', 'absolute-target', 'iteration-budget', 'residual-growth', 'method-breakdown',
+  'non-finite-value', 'preconditioner-error',
 ];
 
-export function isConverged(reason: StopReason): boolean {
-  return reason === 'converged-rtol' || reason === 'converged-atol';
+/** The cause, coarsely: solved (a target met), unsolved (budget spent), failed (anything else). */
+export type Outcome = 'solved' | 'unsolved' | 'failed';
+
+export const OUTCOMES: readonly Outcome[] = ['solved', 'unsolved', 'failed'];
+
+export function outcomeOf(cause: Cause): Outcome {
+  if (cause === 'relative-target' || cause === 'absolute-target') return 'solved';
+  if (cause === 'iteration-budget') return 'unsolved';
+  return 'failed';
 }
 
-/** Which residual the stopping test watched. */
-export type MonitoredNorm = 'true' | 'preconditioned';
-/** What the relative residual is relative to. */
-export type ResidualBaseline = 'rhs' | 'initial-residual';
+export function isSolved(cause: Cause): boolean {
+  return outcomeOf(cause) === 'solved';
+}
+
+/**
+ * Which residual norm the stopping test watched: 'plain' = ‖b − Ax‖, 'left-preconditioned' =
+ * ‖M⁻¹(b − Ax)‖ (GMRES with side left).
+ */
+export type WatchedNorm = 'plain' | 'left-preconditioned';
+/** What relative residuals are relative to: ‖b‖ ('rhs') or ‖r₀‖ ('start-residual'). */
+export type RelativeTo = 'rhs' | 'start-residual';
 
 /** Bytes by named buffer. Keys are free-form names such as "values", "factors", "basis". */
 export type BufferBytes = Record<string, number>;
@@ -57,35 +80,37 @@ export interface SolveTiming {
 /** A true-residual check (at each restart and at the end) beside the recursive estimate. */
 export interface ResidualCheck {
   iteration: number;
-  estimate: number; // relative, as monitored
-  trueValue: number; // ‖b − A x‖ / baseline norm
-  /** Left preconditioning only: the recomputed monitored residual ‖M⁻¹(b − A x)‖ / baselineNorm. */
-  monitoredValue?: number;
+  estimate: number; // relative, as watched
+  trueValue: number; // ‖b − A x‖ / trueReferenceNorm
+  /** Left preconditioning only: the recomputed watched residual ‖M⁻¹(b − A x)‖ / referenceNorm. */
+  watchedValue?: number;
 }
 
 export interface SolveResult {
   /** 'gmres' | 'fgmres' | 'bicgstab' | 'stationary' */
   method: string;
   preconditioner: string;
+  /** outcome === 'solved'. */
   converged: boolean;
-  reason: StopReason;
+  outcome: Outcome;
+  cause: Cause;
   /** Inner iterations in total (one per Krylov vector / stationary step). */
   iterations: number;
   /** Completed restart cycles (GMRES); 0 for non-restarted methods. */
   restarts: number;
   /** Relative residual norms, history[0] = 1 at iteration 0, then one per iteration. */
   history: number[];
-  monitored: MonitoredNorm;
-  baseline: ResidualBaseline;
-  /** ‖b‖ or ‖r0‖, the norm the relative numbers divide by. */
-  baselineNorm: number;
-  /** ‖b − A x‖ / baselineNorm at the end, recomputed from scratch. */
+  watched: WatchedNorm;
+  relativeTo: RelativeTo;
+  /** ‖b‖ or ‖r0‖ (‖M⁻¹b‖ or ‖M⁻¹r0‖ when left-preconditioned), the norm the history divides by. */
+  referenceNorm: number;
+  /** ‖b − A x‖ / trueReferenceNorm at the end, recomputed from scratch. */
   trueRelativeResidual: number;
   /**
-   * The unpreconditioned norm trueRelativeResidual divides by (‖b‖ or ‖r0‖). Equals baselineNorm
-   * except under left preconditioning, where baselineNorm is ‖M⁻¹b‖ or ‖M⁻¹r0‖.
+   * The plain norm trueRelativeResidual divides by (‖b‖ or ‖r0‖). Equals referenceNorm except
+   * under left preconditioning, where referenceNorm is ‖M⁻¹b‖ or ‖M⁻¹r0‖.
    */
-  trueBaselineNorm?: number;
+  trueReferenceNorm?: number;
   residualChecks: ResidualCheck[];
   /** true when a recursive estimate and the true residual disagreed by more than a factor 10 (and above rtol). */
   residualMismatch: boolean;
@@ -93,7 +118,7 @@ export interface SolveResult {
   memory: SolveMemory;
   /** Ritz values from the first GMRES cycle's Hessenberg matrix (preconditioned spectrum estimate). */
   ritz?: { re: number[]; im: number[] };
-  /** When reason is 'preconditioner-failed' or 'breakdown': what and where. */
+  /** When cause is 'preconditioner-error' or 'method-breakdown' (or a monitor stop): what and where. */
   failure?: { message: string; blockRow?: number };
   /** Preconditioner-specific statistics, e.g. inner iterations per slab. */
   preconditionerStats?: Record<string, unknown>;

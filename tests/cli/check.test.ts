@@ -112,7 +112,7 @@ describe('slabbench check (CLI)', () => {
     writeFileSync(notResults, '{"schema": "something-else"}');
     let r = await runCli(['check', notResults, '--baseline', base]);
     expect(r.code).toBe(2);
-    expect(r.stderr).toBe(`slabbench: ${notResults}: schema: expected "slabbench-results/1", got "something-else"\n`);
+    expect(r.stderr).toBe(`slabbench: ${notResults}: schema "something-else" is not a results version this slabbench reads (it reads "slabbench-results/2" and converts "slabbench-results/1"); regenerate it with \`slabbench sweep\`\n`);
     const cut = readResults(first);
     cut.status = 'interrupted';
     const cutPath = join(t.dir, 'cut.json');

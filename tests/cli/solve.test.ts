@@ -35,9 +35,9 @@ describe('slabbench solve', () => {
   it('solves with b = A·1 by default, prints a short summary and exits 0', async () => {
     const r = await run(['solve', tri]);
     expect(r.code).toBe(0);
-    expect(r.out).toMatch(/converged-rtol after \d+ iterations \(0 restarts\)/);
+    expect(r.out).toMatch(/solved \(relative-target\) after \d+ iterations \(0 restarts\)/);
     expect(r.out).toMatch(/b = A·1: max \|x − 1\|/);
-    expect(r.out).toMatch(/monitored: true residual/);
+    expect(r.out).toMatch(/watched: plain residual ‖b − Ax‖/);
     expect(r.out).toMatch(/memory +matrix/);
   });
 
@@ -54,8 +54,8 @@ describe('slabbench solve', () => {
     const r = await run(['solve', tri, '--precond', 'ilu0', '--json', '-']);
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);
-    for (const key of ['iterations', 'restarts', 'converged', 'reason', 'history', 'trueRelativeResidual', 'monitored',
-      'baseline', 'baselineNorm', 'residualChecks', 'residualMismatch', 'timing', 'memory', 'matrix', 'recipe', 'rhs', 'errorVsOnes']) {
+    for (const key of ['iterations', 'restarts', 'converged', 'outcome', 'cause', 'history', 'trueRelativeResidual', 'watched',
+      'relativeTo', 'referenceNorm', 'trueReferenceNorm', 'residualChecks', 'residualMismatch', 'timing', 'memory', 'matrix', 'recipe', 'rhs', 'errorVsOnes']) {
       expect(doc).toHaveProperty(key);
     }
     expect(doc.schema).toBe('slabbench-solve/1');
@@ -83,13 +83,13 @@ describe('slabbench solve', () => {
   it('exits 1 when the run does not converge, and says why', async () => {
     const r = await run(['solve', tri, '--max-iters', '2']);
     expect(r.code).toBe(1);
-    expect(r.out).toMatch(/max-iterations after 2 iterations/);
+    expect(r.out).toMatch(/unsolved \(iteration-budget\) after 2 iterations/);
   });
 
-  it('a zero pivot is a reason (exit 1, block row named), not a crash; --shift lets it run', async () => {
+  it('a zero pivot is a cause (exit 1, block row named), not a crash; --shift lets it run', async () => {
     const r = await run(['solve', singular, '--precond', 'ilu0']);
     expect(r.code).toBe(1);
-    expect(r.out).toMatch(/preconditioner-failed after 0 iterations/);
+    expect(r.out).toMatch(/failed \(preconditioner-error\) after 0 iterations/);
     expect(r.out).toMatch(/block row 1/);
     const s = await run(['solve', singular, '--precond', 'ilu0', '--shift', '0.5']);
     expect(s.code).toBe(0);
@@ -148,7 +148,7 @@ describe('slabbench solve', () => {
     const r = await run(['solve', '--help']);
     expect(r.code).toBe(0);
     expect(r.out).toMatch(/Examples:/);
-    expect(r.out).toMatch(/Exit codes: 0 converged, 1 not converged/);
+    expect(r.out).toMatch(/Exit codes: 0 solved, 1 unsolved or failed/);
     expect(existsSync(tri)).toBe(true);
   });
 });

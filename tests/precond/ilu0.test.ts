@@ -122,10 +122,10 @@ describe('published ILU(0) + left-preconditioned GMRES example (J. Burkardt, MGM
     const x = new Float64Array(5);
     const res = gmres(csrOperator(A), b, x, {
       M, restart: 10, side: 'left', orthogonalization: 'mgs', rtol: 1e-12, atol: 0,
-      maxIterations: 10, divergence: 1e10, baseline: 'rhs',
+      maxIterations: 10, divergence: 1e10, relativeTo: 'rhs',
     });
     expect(res.iterations).toBe(2);
-    expect(res.history[1] * res.baselineNorm).toBeCloseTo(3.67696, 4);
+    expect(res.history[1] * res.referenceNorm).toBeCloseTo(3.67696, 4);
     expect(maxAbsDiff(x, [1, 2, 3, 4, 5])).toBeLessThan(1e-12);
   });
 });

@@ -61,7 +61,7 @@ function solve(a: Bsr, M: Preconditioner, flexible: boolean, rtol = 1e-10) {
   const x = new Float64Array(n);
   return gmres(bsrOperator(a), b, x, {
     M, restart: 50, side: 'right', orthogonalization: 'mgs', rtol, atol: 0, maxIterations: 200,
-    divergence: 1e10, baseline: 'rhs', flexible,
+    divergence: 1e10, relativeTo: 'rhs', flexible,
   });
 }
 

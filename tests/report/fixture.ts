@@ -2,7 +2,8 @@
 // realistic SolveResult objects (histories, Ritz values, memory, timing). Not a sweep output.
 import type { Bsr } from '../../src/sparse/types.js';
 import type { HistoryEntry, ResultsDoc, RunRecord } from '../../src/run/results-types.js';
-import type { SolveResult, StopReason } from '../../src/solvers/types.js';
+import type { SolveResult, Cause } from '../../src/solvers/types.js';
+import { isSolved, outcomeOf } from '../../src/solvers/types.js';
 import { DEFAULT_RECIPE, type Recipe } from '../../src/solvers/recipe.js';
 import { blockPattern } from '../../src/report/pattern.js';
 
@@ -50,16 +51,16 @@ function ritzCloud(count: number, center: number, radius: number, squash: number
 }
 
 function result(o: {
-  method: string; preconditioner: string; reason: StopReason; history: number[]; restarts: number;
+  method: string; preconditioner: string; cause: Cause; history: number[]; restarts: number;
   trueRes: number; setup: number; solve: number; precBytes: number; krylovBytes: number; matrixBytes: number;
   ritz?: { re: number[]; im: number[] }; mismatch?: boolean;
 }): SolveResult {
   const iterations = o.history.length - 1;
   return {
     method: o.method, preconditioner: o.preconditioner,
-    converged: o.reason === 'converged-rtol' || o.reason === 'converged-atol',
-    reason: o.reason, iterations, restarts: o.restarts, history: o.history,
-    monitored: 'preconditioned', baseline: 'rhs', baselineNorm: 3.75,
+    converged: isSolved(o.cause), outcome: outcomeOf(o.cause),
+    cause: o.cause, iterations, restarts: o.restarts, history: o.history,
+    watched: 'left-preconditioned', relativeTo: 'rhs', referenceNorm: 3.75,
     trueRelativeResidual: o.trueRes,
     residualChecks: [{ iteration: iterations, estimate: o.history[iterations], trueValue: o.trueRes }],
     residualMismatch: o.mismatch ?? false,
@@ -88,41 +89,41 @@ export function makeResults(): ResultsDoc {
   const runs: RunRecord[] = [
     {
       matrix: 'duct-pulse', recipe: 'gmres-bilu0', recipeParams: RECIPES.bilu,
-      result: result({ method: 'gmres', preconditioner: 'block-ilu0', reason: 'converged-rtol', history: geometricHistory(9, 0.11, 0.3),
+      result: result({ method: 'gmres', preconditioner: 'block-ilu0', cause: 'relative-target', history: geometricHistory(9, 0.11, 0.3),
         restarts: 0, trueRes: 6.1e-9, setup: 0.0042, solve: 0.0061, precBytes: 120_000, krylovBytes: 143_000, matrixBytes: 110_000,
         ritz: ritzCloud(9, 1, 0.35, 0.6) }),
     },
     {
       matrix: 'duct-pulse', recipe: 'gmres-bjacobi', recipeParams: RECIPES.bjac,
-      result: result({ method: 'gmres', preconditioner: 'block-jacobi', reason: 'converged-rtol', history: geometricHistory(37, 0.6, 0.2, 30),
+      result: result({ method: 'gmres', preconditioner: 'block-jacobi', cause: 'relative-target', history: geometricHistory(37, 0.6, 0.2, 30),
         restarts: 1, trueRes: 8.7e-9, setup: 0.0011, solve: 0.0213, precBytes: 56_000, krylovBytes: 143_000, matrixBytes: 110_000,
         ritz: ritzCloud(30, 0.9, 0.8, 0.9) }),
     },
     {
       matrix: 'duct-pulse', recipe: 'bicgstab-jacobi', recipeParams: RECIPES.bicg,
-      result: result({ method: 'bicgstab', preconditioner: 'jacobi', reason: 'converged-rtol', history: geometricHistory(58, 0.72, 0.5),
+      result: result({ method: 'bicgstab', preconditioner: 'jacobi', cause: 'relative-target', history: geometricHistory(58, 0.72, 0.5),
         restarts: 0, trueRes: 9.9e-9, setup: 0.0001, solve: 0.0188, precBytes: 4_600, krylovBytes: 36_800, matrixBytes: 110_000, mismatch: true }),
     },
     {
       matrix: 'tank-stir', recipe: 'gmres-bilu0', recipeParams: RECIPES.bilu,
-      result: result({ method: 'gmres', preconditioner: 'block-ilu0', reason: 'converged-rtol', history: geometricHistory(24, 0.45, 0.25),
+      result: result({ method: 'gmres', preconditioner: 'block-ilu0', cause: 'relative-target', history: geometricHistory(24, 0.45, 0.25),
         restarts: 0, trueRes: 7.4e-9, setup: 0.0031, solve: 0.0140, precBytes: 72_000, krylovBytes: 119_000, matrixBytes: 68_000,
         ritz: ritzCloud(24, 1.05, 0.7, 0.5) }),
     },
     {
       matrix: 'tank-stir', recipe: 'gmres-bjacobi', recipeParams: RECIPES.bjac,
-      result: result({ method: 'gmres', preconditioner: 'block-jacobi', reason: 'max-iterations', history: geometricHistory(120, 0.93, 0.1, 30),
+      result: result({ method: 'gmres', preconditioner: 'block-jacobi', cause: 'iteration-budget', history: geometricHistory(120, 0.93, 0.1, 30),
         restarts: 4, trueRes: 2.3e-4, setup: 0.0008, solve: 0.0902, precBytes: 15_400, krylovBytes: 119_000, matrixBytes: 68_000,
         ritz: ritzCloud(30, 0.7, 0.75, 1.1) }),
     },
     {
       matrix: 'tank-stir', recipe: 'bicgstab-jacobi', recipeParams: RECIPES.bicg,
-      result: result({ method: 'bicgstab', preconditioner: 'jacobi', reason: 'diverged', history: [1, 0.9, 2.5, 40, 900, 2.2e4],
+      result: result({ method: 'bicgstab', preconditioner: 'jacobi', cause: 'residual-growth', history: [1, 0.9, 2.5, 40, 900, 2.2e4],
         restarts: 0, trueRes: 1.9e4, setup: 0.0001, solve: 0.0009, precBytes: 3_840, krylovBytes: 30_700, matrixBytes: 68_000 }),
     },
   ];
   return {
-    schema: 'slabbench-results/1', slabbench: '0.1.0', commit: '3f2a9c1d8e7b6a5f4e3d2c1b0a9f8e7d6c5b4a39', node: 'v20.19.0',
+    schema: 'slabbench-results/2', slabbench: '0.1.0', commit: '3f2a9c1d8e7b6a5f4e3d2c1b0a9f8e7d6c5b4a39', node: 'v20.19.0',
     cpu: 'Invented CPU @ 2.0GHz', date: '2026-12-01T22:00:00.000Z',
     suite: { path: 'matrices/suite.json', description: 'Report test fixture <invented scenarios & "quotes">' },
     parameters: { jobs: 2 },
@@ -141,10 +142,10 @@ export function makeHistory(): HistoryEntry[] {
   return commits.map((commit, k) => ({
     date: `2026-11-${String(20 + k).padStart(2, '0')}T10:00:00Z`, commit, slabbench: '0.1.0',
     runs: [
-      { matrix: 'duct-pulse', recipe: 'gmres-bilu0', reason: 'converged-rtol', iterations: 9 + (k === 1 ? 2 : 0), trueRelativeResidual: 6e-9, setupSeconds: 0.004, solveSeconds: 0.006 + 0.001 * k, peakBytes: 8e7 },
-      { matrix: 'duct-pulse', recipe: 'gmres-bjacobi', reason: 'converged-rtol', iterations: 37, trueRelativeResidual: 8e-9, setupSeconds: 0.001, solveSeconds: 0.021, peakBytes: 8e7 },
-      ...(k >= 2 ? [{ matrix: 'duct-pulse', recipe: 'bicgstab-jacobi', reason: k === 2 ? 'max-iterations' : 'converged-rtol', iterations: 58, trueRelativeResidual: 9e-9, setupSeconds: 0.0001, solveSeconds: 0.019, peakBytes: 8e7 }] : []),
-      { matrix: 'tank-stir', recipe: 'gmres-bilu0', reason: 'converged-rtol', iterations: 24 - k, trueRelativeResidual: 7e-9, setupSeconds: 0.003, solveSeconds: 0.014, peakBytes: 8e7 },
+      { matrix: 'duct-pulse', recipe: 'gmres-bilu0', outcome: 'solved', cause: 'relative-target', iterations: 9 + (k === 1 ? 2 : 0), trueRelativeResidual: 6e-9, setupSeconds: 0.004, solveSeconds: 0.006 + 0.001 * k, peakBytes: 8e7 },
+      { matrix: 'duct-pulse', recipe: 'gmres-bjacobi', outcome: 'solved', cause: 'relative-target', iterations: 37, trueRelativeResidual: 8e-9, setupSeconds: 0.001, solveSeconds: 0.021, peakBytes: 8e7 },
+      ...(k >= 2 ? [{ matrix: 'duct-pulse', recipe: 'bicgstab-jacobi', outcome: k === 2 ? 'unsolved' : 'solved', cause: k === 2 ? 'iteration-budget' : 'relative-target', iterations: 58, trueRelativeResidual: 9e-9, setupSeconds: 0.0001, solveSeconds: 0.019, peakBytes: 8e7 }] : []),
+      { matrix: 'tank-stir', recipe: 'gmres-bilu0', outcome: 'solved', cause: 'relative-target', iterations: 24 - k, trueRelativeResidual: 7e-9, setupSeconds: 0.003, solveSeconds: 0.014, peakBytes: 8e7 },
     ],
   }));
 }

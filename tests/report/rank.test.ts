@@ -1,17 +1,18 @@
 import { describe, it, expect } from 'vitest';
 import { rankRuns } from '../../src/report/rank.js';
 import type { RunRecord } from '../../src/run/results-types.js';
-import type { StopReason } from '../../src/solvers/types.js';
+import { isSolved, outcomeOf, type Cause } from '../../src/solvers/types.js';
 import { makeResults } from './fixture.js';
 
 /** A run with only the fields the ranking reads filled meaningfully (the rest from the fixture). */
-function run(recipe: string, reason: StopReason, setup: number, solve: number, iterations: number, trueRes: number): RunRecord {
+function run(recipe: string, cause: Cause, setup: number, solve: number, iterations: number, trueRes: number): RunRecord {
   const base = makeResults().runs[0];
   const r = structuredClone(base);
   r.recipe = recipe;
   const res = r.result!;
-  res.reason = reason;
-  res.converged = reason.startsWith('converged');
+  res.cause = cause;
+  res.outcome = outcomeOf(cause);
+  res.converged = isSolved(cause);
   res.timing.setupSeconds = setup;
   res.timing.solveSeconds = solve;
   res.iterations = iterations;
@@ -22,14 +23,14 @@ function run(recipe: string, reason: StopReason, setup: number, solve: number, i
 describe('rankRuns', () => {
   it('puts converged runs first by setup + solve time, then the rest by true residual', () => {
     const runs = [
-      run('slow-ok', 'converged-rtol', 0.5, 1.0, 10, 1e-9), // total 1.5
-      run('stuck-close', 'max-iterations', 0.0, 0.1, 1000, 1e-5),
-      run('fast-ok', 'converged-rtol', 0.9, 0.2, 50, 1e-9), // total 1.1: wins despite more iterations
-      run('diverged', 'diverged', 0.0, 0.01, 5, 1e4),
-      run('stuck-far', 'max-iterations', 0.0, 0.1, 1000, 1e-2),
+      run('slow-ok', 'relative-target', 0.5, 1.0, 10, 1e-9), // total 1.5
+      run('stuck-close', 'iteration-budget', 0.0, 0.1, 1000, 1e-5),
+      run('fast-ok', 'relative-target', 0.9, 0.2, 50, 1e-9), // total 1.1: wins despite more iterations
+      run('residual-growth', 'residual-growth', 0.0, 0.01, 5, 1e4),
+      run('stuck-far', 'iteration-budget', 0.0, 0.1, 1000, 1e-2),
     ];
     const ranked = rankRuns(runs);
-    expect(ranked.map((r) => r.run.recipe)).toEqual(['fast-ok', 'slow-ok', 'stuck-close', 'stuck-far', 'diverged']);
+    expect(ranked.map((r) => r.run.recipe)).toEqual(['fast-ok', 'slow-ok', 'stuck-close', 'stuck-far', 'residual-growth']);
     expect(ranked.map((r) => r.rank)).toEqual([1, 2, 3, 4, 5]);
     expect(ranked.map((r) => r.winner)).toEqual([true, false, false, false, false]);
     expect(ranked[0].totalSeconds).toBeCloseTo(1.1, 12);
@@ -37,9 +38,9 @@ describe('rankRuns', () => {
 
   it('breaks equal total time by fewer iterations, then by recipe name', () => {
     const ranked = rankRuns([
-      run('b', 'converged-rtol', 0.25, 0.75, 30, 1e-9),
-      run('a-more-its', 'converged-atol', 0.5, 0.5, 31, 1e-9),
-      run('a', 'converged-rtol', 0.5, 0.5, 30, 1e-9),
+      run('b', 'relative-target', 0.25, 0.75, 30, 1e-9),
+      run('a-more-its', 'absolute-target', 0.5, 0.5, 31, 1e-9),
+      run('a', 'relative-target', 0.5, 0.5, 30, 1e-9),
     ]);
     expect(ranked.map((r) => r.run.recipe)).toEqual(['a', 'b', 'a-more-its']);
   });
@@ -48,8 +49,8 @@ describe('rankRuns', () => {
     const noResult: RunRecord = { matrix: 'm', recipe: 'broken', recipeParams: makeResults().runs[0].recipeParams, error: 'invalid recipe' };
     const ranked = rankRuns([
       noResult,
-      run('nan', 'non-finite', 0, 0.1, 3, NaN),
-      run('pf', 'preconditioner-failed', 0.1, 0, 0, 1),
+      run('nan', 'non-finite-value', 0, 0.1, 3, NaN),
+      run('pf', 'preconditioner-error', 0.1, 0, 0, 1),
     ]);
     expect(ranked.map((r) => r.run.recipe)).toEqual(['pf', 'nan', 'broken']);
     expect(ranked.some((r) => r.winner)).toBe(false);

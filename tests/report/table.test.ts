@@ -21,7 +21,7 @@ describe('renderRankedTables', () => {
       const cells = row.trim().split(/\s{2,}/);
       expect(cells).toContain(String(res.iterations));
       expect(cells).toContain(String(res.restarts));
-      expect(cells).toContain(res.reason);
+      expect(cells).toContain(res.cause);
       expect(row).toContain(formatResidual(res.trueRelativeResidual));
       expect(cells).toContain(formatSeconds(res.timing.setupSeconds));
       expect(cells).toContain(formatSeconds(res.timing.solveSeconds));

@@ -86,16 +86,17 @@ describe('baseline check', () => {
       .toEqual({ ...DEFAULT_TOLERANCE, memoryPercent: 7, residualFactor: 2 });
   });
 
-  it('reason, true residual, memory and (when asked) time', () => {
+  it('cause, true residual, memory and (when asked) time', () => {
     const cur = structuredClone(same);
     const r0 = cur.runs[0].result!;
-    r0.reason = 'max-iterations';
+    r0.cause = 'iteration-budget';
+    r0.outcome = 'unsolved';
     r0.converged = false;
     r0.trueRelativeResidual = 1e-3;
     cur.runs[2].result!.memory.krylovBytes *= 2;
     let out = compareWithBaseline(cur, base);
     expect(out.rows[0].problems).toEqual([
-      'reason converged-rtol → max-iterations',
+      'cause relative-target → iteration-budget',
       // Limit max(rtol, baseline × 10): the baseline residual is just below rtol = 1e-8.
       expect.stringMatching(/^true residual \S+ → 1\.00e-3 \(allowed ≤ \S+e-8\)$/),
     ]);

@@ -24,7 +24,7 @@ describe('history file', () => {
     expect(h[0].suiteChanged).toBeUndefined();
     expect(h[1].runs).toHaveLength(4);
     const run = o.doc.runs[0].result!;
-    expect(h[1].runs[0]).toMatchObject({ matrix: 'alpha', recipe: 'rich-1', reason: run.reason, iterations: run.iterations, peakBytes: run.memory.peakBytes });
+    expect(h[1].runs[0]).toMatchObject({ matrix: 'alpha', recipe: 'rich-1', outcome: run.outcome, cause: run.cause, iterations: run.iterations, peakBytes: run.memory.peakBytes });
     expect(h[1].runs[0].bufferBytes).toBe(run.memory.matrixBytes + run.memory.preconditionerBytes + run.memory.krylovBytes + run.memory.workBytes);
     expect(h[1].suite?.fingerprint).toBe(suite.fingerprint);
   });

@@ -20,7 +20,7 @@ describe('mergeResults', () => {
       shards.push({ path: `s${k}/results.json`, doc: o.doc });
     }
     const merged = mergeResults([shards[2], shards[0], shards[3], shards[1]]);
-    const key = (d: ResultsDoc) => d.runs.map((r) => [r.matrix, r.recipe, r.result?.iterations, r.result?.reason]);
+    const key = (d: ResultsDoc) => d.runs.map((r) => [r.matrix, r.recipe, r.result?.iterations, r.result?.cause]);
     expect(key(merged)).toEqual(key(whole));
     // Matrix info equals, except the file path (each sweep records it relative to its own output folder).
     const info = (d: ResultsDoc) => d.matrices.map(({ path: _p, ...rest }) => rest);

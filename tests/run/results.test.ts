@@ -46,7 +46,7 @@ describe('results document', () => {
     const run = doc.runs[0];
     expect(run.recipeParams).toMatchObject({ name: 'rich-1', krylov: 'none', preconditioner: 'jacobi', omega: 1, rtol: 1e-8, restart: 30 });
     const r = run.result!;
-    for (const k of ['method', 'preconditioner', 'converged', 'reason', 'iterations', 'restarts', 'history', 'trueRelativeResidual', 'timing', 'memory'] as const) {
+    for (const k of ['method', 'preconditioner', 'converged', 'outcome', 'cause', 'iterations', 'restarts', 'history', 'trueRelativeResidual', 'timing', 'memory'] as const) {
       expect(r[k], k).toBeDefined();
     }
     expect(r.history[0]).toBe(1);
@@ -61,7 +61,8 @@ describe('results document', () => {
     expect(lines).toHaveLength(withError.runs.length + 1);
     const first = lines[1].split(',');
     expect(first[CSV_COLUMNS.indexOf('iterations')]).toBe(String(doc.runs[0].result!.iterations));
-    expect(first[CSV_COLUMNS.indexOf('reason')]).toBe('converged-rtol');
+    expect(first[CSV_COLUMNS.indexOf('outcome')]).toBe('solved');
+    expect(first[CSV_COLUMNS.indexOf('cause')]).toBe('relative-target');
     expect(lines[lines.length - 1].endsWith(',"bad ""thing"", here"')).toBe(true);
     expect(lines[lines.length - 1]).toContain(',error,false,');
   });
@@ -79,7 +80,7 @@ describe('results document', () => {
 
   it('rejects documents that are not results, naming the field', () => {
     expect(() => validateResults([], 'r.json')).toThrow('r.json: expected a results document');
-    expect(() => validateResults({ schema: 'x' }, 'r.json')).toThrow('r.json: schema: expected "slabbench-results/1", got "x"');
+    expect(() => validateResults({ schema: 'x' }, 'r.json')).toThrow('r.json: schema "x" is not a results version this slabbench reads');
     const doc = JSON.parse(readFileSync(join(t.dir, 'o', 'results.json'), 'utf8'));
     delete doc.runs[0].result.iterations;
     expect(() => validateResults(doc, 'r.json')).toThrow('r.json: runs[0].result.iterations: expected a number');

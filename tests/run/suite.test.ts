@@ -143,7 +143,7 @@ describe('committed suites', () => {
     expect(demo.matrices.every((m) => m.note?.includes('invented'))).toBe(true);
     const ci = await loadSuite(fileURLToPath(new URL('../../matrices/ci/suite.json', import.meta.url)));
     expect(ci.matrices.map((m) => m.kind)).toEqual(['file', 'file', 'file']);
-    expect(ci.recipes.map((r) => r.name)).toEqual(['gmres-bjacobi', 'gmres-bgs-sym', 'gmres-bilu0-down', 'fgmres-slab-loose']);
+    expect(ci.recipes.map((r) => r.name)).toEqual(['gmres-block-jacobi', 'gmres-block-gs-symmetric', 'gmres-block-ilu0-downstream', 'fgmres-slab-loose']);
   });
 
   it('every demo case has a committed copy built from exactly its suite parameters', async () => {

@@ -11,7 +11,7 @@ import { FAKE_DEPS_URL, readTinySuite, tempDir, writeTinySuite } from './helpers
 /** Everything but the machine-dependent numbers (timing, RSS, date). */
 function stable(doc: ResultsDoc) {
   return doc.runs.map((r) => ({
-    matrix: r.matrix, recipe: r.recipe, reason: r.result?.reason, iterations: r.result?.iterations,
+    matrix: r.matrix, recipe: r.recipe, cause: r.result?.cause, iterations: r.result?.iterations,
     residual: r.result?.trueRelativeResidual, bytes: r.result?.memory.krylovBytes, error: r.error,
   }));
 }
@@ -147,9 +147,9 @@ describe('runSweep', () => {
       const p = writeTinySuite(dir.dir, { extraRecipes: [{ name: 'crash', krylov: 'none', preconditioner: 'jacobi' }] });
       const o = await runSweep({ suite: readTinySuite(p), outDir: join(dir.dir, 'o'), jobs: 1, builder: fake, depsModule: FAKE_DEPS_URL });
       const died = 'worker thread exited during the run (out of memory?)';
-      expect(o.doc.runs.map((r) => [r.matrix, r.recipe, r.error ?? r.result?.reason])).toEqual([
-        ['alpha', 'rich-1', 'converged-rtol'], ['alpha', 'rich-slow', 'converged-rtol'], ['alpha', 'crash', died],
-        ['beta', 'rich-1', 'converged-rtol'], ['beta', 'rich-slow', 'converged-rtol'], ['beta', 'crash', died]]);
+      expect(o.doc.runs.map((r) => [r.matrix, r.recipe, r.error ?? r.result?.cause])).toEqual([
+        ['alpha', 'rich-1', 'relative-target'], ['alpha', 'rich-slow', 'relative-target'], ['alpha', 'crash', died],
+        ['beta', 'rich-1', 'relative-target'], ['beta', 'rich-slow', 'relative-target'], ['beta', 'crash', died]]);
       expect(o.errors).toBe(2);
       expect(o.doc.matrices.map((m) => m.name)).toEqual(['alpha', 'beta']);
     } finally {

@@ -16,7 +16,7 @@ describe('bicgstab and fgmres on a non-symmetric convection–diffusion matrix',
     for (const M of [undefined, ilu0Double(A)]) {
       const x = new Float64Array(n);
       const r = bicgstab(csrOperator(A), b, x, opts({ M, rtol: 1e-9 }));
-      expect(r.reason).toBe('converged-rtol');
+      expect(r.cause).toBe('relative-target');
       expect(r.trueRelativeResidual).toBeLessThanOrEqual(1e-9);
       expect(maxAbsDiff(x, xStar)).toBeLessThan(1e-6);
       expect(r.history.length).toBe(r.iterations + 1);
@@ -47,14 +47,14 @@ describe('bicgstab and fgmres on a non-symmetric convection–diffusion matrix',
     // Derived: for A = [[0, 1], [−1, 0]], (r, A r) = 0 for every r, so α = ρ/(r̂, v) is undefined.
     const S = csrFromTriplets(2, [[0, 1, 1], [1, 0, -1]]);
     const r = bicgstab(csrOperator(S), Float64Array.from([1, 0]), new Float64Array(2), opts());
-    expect(r.reason).toBe('breakdown');
+    expect(r.cause).toBe('method-breakdown');
     expect(r.failure?.message).toMatch(/bicgstab/);
     expect(r.converged).toBe(false);
   });
 
   it('counts iterations against maxIterations', () => {
     const r = bicgstab(csrOperator(A), b, new Float64Array(n), opts({ maxIterations: 3 }));
-    expect(r.reason).toBe('max-iterations');
+    expect(r.cause).toBe('iteration-budget');
     expect(r.iterations).toBe(3);
     expect(r.residualChecks.at(-1)!.iteration).toBe(3);
   });

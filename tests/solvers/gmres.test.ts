@@ -23,8 +23,8 @@ describe('gmres: published and derived reference values', () => {
     b[19] = 21;
     const x = new Float64Array(20);
     const r = gmres(csrOperator(A), b, x, opts({ restart: 20 }));
-    expect(r.baselineNorm).toBe(21);
-    expect(r.monitored).toBe('true');
+    expect(r.referenceNorm).toBe(21);
+    expect(r.watched).toBe('plain');
     for (let k = 0; k < published.length; k++) {
       expect(Math.abs(r.history[k] * 21 - Number(published[k]))).toBeLessThanOrEqual(printedTolerance(published[k]));
     }
@@ -40,7 +40,7 @@ describe('gmres: published and derived reference values', () => {
     for (const restart of [20, 40]) {
       const x = new Float64Array(20);
       const r = gmres(csrOperator(A), b, x, opts({ restart, rtol: 1e-10 }));
-      expect(r.reason).toBe('converged-rtol');
+      expect(r.cause).toBe('relative-target');
       expect(r.iterations).toBe(20);
       expect(r.restarts).toBe(0);
       expect(r.history[19]).toBeGreaterThan(1e-3);
@@ -72,14 +72,14 @@ describe('gmres: published and derived reference values', () => {
     const b = Float64Array.from([14, 4, 12, 16, 27]);
     const x = new Float64Array(5);
     const r = gmres(csrOperator(A), b, x, opts({ side: 'left', M: ilu0Double(A) }));
-    expect(r.monitored).toBe('preconditioned');
+    expect(r.watched).toBe('left-preconditioned');
     expect(r.iterations).toBe(2);
-    expect(r.reason).toBe('converged-rtol');
-    expect(Math.abs(r.baselineNorm - 12.083)).toBeLessThan(0.5e-4);
-    expect(Math.abs(r.history[1] * r.baselineNorm - 3.67696)).toBeLessThan(0.5e-5);
-    expect(r.history[2] * r.baselineNorm).toBeLessThan(1e-13);
+    expect(r.cause).toBe('relative-target');
+    expect(Math.abs(r.referenceNorm - 12.083)).toBeLessThan(0.5e-4);
+    expect(Math.abs(r.history[1] * r.referenceNorm - 3.67696)).toBeLessThan(0.5e-5);
+    expect(r.history[2] * r.referenceNorm).toBeLessThan(1e-13);
     expect(maxAbsDiff(x, [1, 2, 3, 4, 5])).toBeLessThan(1e-13);
-    expect(r.trueBaselineNorm).toBeCloseTo(Math.hypot(14, 4, 12, 16, 27), 12);
+    expect(r.trueReferenceNorm).toBeCloseTo(Math.hypot(14, 4, 12, 16, 27), 12);
   });
 });
 
@@ -104,7 +104,7 @@ describe('gmres: properties', () => {
     const bb = csrMatVec(A, x);
     const r = gmres(csrOperator(A), bb, x, opts());
     expect(r.iterations).toBe(0);
-    expect(r.reason).toBe('converged-rtol');
+    expect(r.cause).toBe('relative-target');
     expect(r.history).toEqual([0]);
   });
 
@@ -125,12 +125,12 @@ describe('gmres: properties', () => {
 
   it('maxIterations counts inner iterations in total, whatever the restart', () => {
     const r = gmres(csrOperator(A), b, new Float64Array(n), opts({ restart: 5, maxIterations: 23 }));
-    expect(r.reason).toBe('max-iterations');
+    expect(r.cause).toBe('iteration-budget');
     expect(r.iterations).toBe(23);
     expect(r.history.length).toBe(24);
     expect(r.restarts).toBe(4); // cycles of 5, 5, 5, 5, 3
     expect(r.residualChecks.map((c) => c.iteration)).toEqual([5, 10, 15, 20, 23]);
-    // the monitored residual is the true one (right preconditioning): estimates match recomputations
+    // the watched residual is the plain one (right preconditioning): estimates match recomputations
     for (const c of r.residualChecks) expect(Math.abs(c.estimate - c.trueValue)).toBeLessThan(1e-10);
     expect(r.residualMismatch).toBe(false);
   });
@@ -152,7 +152,7 @@ describe('gmres: properties', () => {
     const D = csrFromTriplets(6, [0, 1, 2, 3, 4, 5].map((i) => [i, i, Math.floor(i / 2) + 1] as [number, number, number]));
     const x = new Float64Array(6);
     const r = gmres(csrOperator(D), new Float64Array(6).fill(1), x, opts({ rtol: 1e-13 }));
-    expect(r.reason).toBe('converged-rtol');
+    expect(r.cause).toBe('relative-target');
     expect(r.iterations).toBe(3);
     expect(maxAbsDiff(x, [1, 1, 0.5, 0.5, 1 / 3, 1 / 3])).toBeLessThan(1e-14);
   });
@@ -180,7 +180,7 @@ describe('gmres: properties', () => {
     const values = Float64Array.from(bad.values);
     values[7] = NaN;
     const r = gmres(csrOperator({ ...bad, values }), new Float64Array(16).fill(1), new Float64Array(16), opts());
-    expect(r.reason).toBe('non-finite');
+    expect(r.cause).toBe('non-finite-value');
     expect(r.converged).toBe(false);
   });
 
@@ -190,16 +190,16 @@ describe('gmres: properties', () => {
       apply(_r, z) { z.fill(Infinity); },
     };
     const r = gmres(csrOperator(A), b, new Float64Array(n), opts({ M: inf }));
-    expect(r.reason).toBe('non-finite');
+    expect(r.cause).toBe('non-finite-value');
   });
 
-  it('the onIteration monitor can stop a run; stopping is reported as max-iterations with a message', () => {
+  it('the onIteration monitor can stop a run; stopping is reported as iteration-budget with a message', () => {
     const seen: number[] = [];
     const r = gmres(csrOperator(A), b, new Float64Array(n), opts({
       onIteration: (it) => { seen.push(it); return it === 4; },
     }));
     expect(seen).toEqual([0, 1, 2, 3, 4]);
-    expect(r.reason).toBe('max-iterations');
+    expect(r.cause).toBe('iteration-budget');
     expect(r.failure?.message).toMatch(/onIteration/);
   });
 
@@ -223,7 +223,7 @@ describe('gmres: properties', () => {
 });
 
 describe('gmres: a preconditioner that throws', () => {
-  it('ends the run as preconditioner-failed with the message; nothing throws', () => {
+  it('ends the run as preconditioner-error with the message; nothing throws', () => {
     const A = tridiag(10, -1, 2, -1);
     let calls = 0;
     const M: Preconditioner = {
@@ -231,7 +231,7 @@ describe('gmres: a preconditioner that throws', () => {
       apply(r, z) { if (++calls === 3) throw new Error('inner solve exploded'); z.set(r); },
     };
     const r = gmres(csrOperator(A), new Float64Array(10).fill(1), new Float64Array(10), opts({ M }));
-    expect(r.reason).toBe('preconditioner-failed');
+    expect(r.cause).toBe('preconditioner-error');
     expect(r.failure?.message).toBe('fragile.apply: inner solve exploded');
     expect(r.converged).toBe(false);
   });

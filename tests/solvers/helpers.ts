@@ -106,6 +106,6 @@ export function ilu0Double(a: Csr): Preconditioner {
 export function opts(o: Partial<KrylovOptions> = {}): KrylovOptions {
   return {
     restart: 30, side: 'right', orthogonalization: 'mgs', rtol: 1e-10, atol: 0, maxIterations: 1000,
-    divergence: 1e10, baseline: 'rhs', ...o,
+    divergence: 1e10, relativeTo: 'rhs', ...o,
   };
 }

@@ -46,10 +46,10 @@ describe('solveSystem with the project preconditioners', () => {
     const { result, x } = solveSystem(pointSystem(csrFromTriplets(5, t)), b,
       recipe({ krylov: 'gmres', side: 'left', preconditioner: 'ilu0' }));
     expect(result.iterations).toBe(2);
-    expect(result.monitored).toBe('preconditioned');
-    expect(Math.abs(result.baselineNorm - 12.083)).toBeLessThan(0.5e-4);
-    expect(Math.abs(result.history[1] * result.baselineNorm - 3.67696)).toBeLessThan(0.5e-5);
-    expect(result.history[2] * result.baselineNorm).toBeLessThan(1e-13);
+    expect(result.watched).toBe('left-preconditioned');
+    expect(Math.abs(result.referenceNorm - 12.083)).toBeLessThan(0.5e-4);
+    expect(Math.abs(result.history[1] * result.referenceNorm - 3.67696)).toBeLessThan(0.5e-5);
+    expect(result.history[2] * result.referenceNorm).toBeLessThan(1e-13);
     expect(maxAbsDiff(x, [1, 2, 3, 4, 5])).toBeLessThan(1e-13);
   });
 
@@ -112,12 +112,12 @@ describe('solveSystem with the project preconditioners', () => {
     expect(point.result.memory.preconditionerBytes).toBe(0);
   });
 
-  it('a zero pivot ends the run as preconditioner-failed with the block row; a shift lets it run', () => {
+  it('a zero pivot ends the run as preconditioner-error with the block row; a shift lets it run', () => {
     // ILU(0) pivot of row 1 is 1 − 1·1/1 = 0 (hand-factored); the matrix itself is nonsingular (det = −1)
     const A = csrFromTriplets(3, [[0, 0, 1], [0, 1, 1], [1, 0, 1], [1, 1, 1], [1, 2, 1], [2, 1, 1], [2, 2, 2]]);
     const b = Float64Array.from([1, 2, 3]);
     const { result, x } = solveSystem(pointSystem(A), b, recipe({ preconditioner: 'ilu0' }));
-    expect(result.reason).toBe('preconditioner-failed');
+    expect(result.cause).toBe('preconditioner-error');
     expect(result.converged).toBe(false);
     expect(result.iterations).toBe(0);
     expect(result.history).toEqual([1]);
@@ -125,7 +125,7 @@ describe('solveSystem with the project preconditioners', () => {
     expect(result.failure?.message).toMatch(/pivot/);
     expect(Array.from(x)).toEqual([0, 0, 0]);
     const shifted = solveSystem(pointSystem(A), b, recipe({ preconditioner: 'ilu0', shift: 0.5, maxIterations: 50 }));
-    expect(shifted.result.reason).toBe('converged-rtol');
+    expect(shifted.result.cause).toBe('relative-target');
   });
 
   it('never modifies b or x0; rejects a wrong-length right-hand side with a UserError', () => {

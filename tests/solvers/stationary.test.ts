@@ -88,21 +88,21 @@ describe('stationary iteration: properties', () => {
 
   it('Richardson without a preconditioner diverges on T (eigenvalues of I − T reach −3): reason diverged', () => {
     const r = stationary(csrOperator(T), b, new Float64Array(10), opts({ divergence: 1e3 }));
-    expect(r.reason).toBe('diverged');
+    expect(r.cause).toBe('residual-growth');
     expect(r.history[r.history.length - 1]).toBeGreaterThan(1e3);
   });
 
-  it('absolute tolerance stops with converged-atol', () => {
+  it('absolute tolerance stops with absolute-target', () => {
     const r = stationary(csrOperator(T), b, new Float64Array(10), opts({ M: pointJacobi(T), rtol: 0, atol: 1e-3 }));
-    expect(r.reason).toBe('converged-atol');
-    expect(r.history[r.history.length - 1] * r.baselineNorm).toBeLessThanOrEqual(1e-3);
+    expect(r.cause).toBe('absolute-target');
+    expect(r.history[r.history.length - 1] * r.referenceNorm).toBeLessThanOrEqual(1e-3);
   });
 
-  it('initial-residual baseline: history[0] = 1 even from a nonzero x0', () => {
+  it('relativeTo start-residual: history[0] = 1 even from a nonzero x0', () => {
     const x = new Float64Array(10).fill(1);
-    const r = stationary(csrOperator(T), b, x, opts({ M: pointJacobi(T), baseline: 'initial-residual', maxIterations: 5 }));
+    const r = stationary(csrOperator(T), b, x, opts({ M: pointJacobi(T), relativeTo: 'start-residual', maxIterations: 5 }));
     expect(r.history[0]).toBe(1);
-    expect(r.baseline).toBe('initial-residual');
-    expect(r.reason).toBe('max-iterations');
+    expect(r.relativeTo).toBe('start-residual');
+    expect(r.cause).toBe('iteration-budget');
   });
 });

@@ -11,7 +11,7 @@ export interface ResidualSeries {
   history: number[];
   /** Palette index (fixed per recipe across all plots of a report). */
   colorIndex: number;
-  /** Shown in the legend, e.g. "12 it, converged-rtol". */
+  /** Shown in the legend, e.g. "120 it, iteration-budget". */
   note?: string;
 }
 
