@@ -5,6 +5,7 @@ import {
   blockDiagonalDominance, blocksAboveSlabDiagonal, blocksPerRow, detectBlockSize, stronglyConnectedBlocks,
   symmetryInfo, type BlockDominance, type BlockSizeDetection,
 } from '../sparse/structure.js';
+import { detectFieldMajor, type FieldMajorDetection } from '../sparse/field-major.js';
 import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
 
 /** Everything `inspect` reports; `--json` prints exactly this (non-finite numbers as null). */
@@ -25,6 +26,11 @@ export interface InspectReport {
     /** What pattern detection finds, whatever the source of bs. */
     detected: BlockSizeDetection;
   };
+  /**
+   * Set when the block size is known (layout, --block-size or the file) and the pattern looks
+   * field-major (all unknowns of equation 1, then equation 2, …): `convert --fields K` interleaves it.
+   */
+  fieldMajor: FieldMajorDetection | null;
   blocks: { nBlockRows: number; nBlocks: number; perRow: { min: number; mean: number; max: number } };
   dominance: BlockDominance;
   /** From the layout's slabOffsets; null without them. */
@@ -73,6 +79,8 @@ export function buildInspectReport(sys: LoadedSystem): InspectReport {
       fillRatio: sys.fillRatio,
       detected: sys.detection ?? detectBlockSize(csr),
     },
+    fieldMajor: sys.blockSizeSource === 'layout' || sys.blockSizeSource === 'option' || sys.blockSizeSource === 'file'
+      ? detectFieldMajor(csr, sys.bs) ?? null : null,
     blocks: { nBlockRows: bsr.nBlockRows, nBlocks: bsr.rowPtr[bsr.nBlockRows], perRow: blocksPerRow(bsr) },
     dominance: blockDiagonalDominance(bsr),
     slabs,
@@ -115,12 +123,17 @@ export function formatInspectReport(r: InspectReport): string {
   const b = r.blockSize;
   const source = b.source === 'layout' ? `from layout ${b.layoutFile}`
     : b.source === 'option' ? 'from --block-size'
+      : b.source === 'file' ? 'stored in the file (bsr blocks)'
       : b.source === 'detected' ? 'detected from the pattern' : 'no blocks found (scalar)';
   const det = b.detected;
   const detText = b.source === 'detected' || b.source === 'none' ? ''
     : `; pattern detection gives ${det.bs}`;
   const partial = det.bestPartial ? `; best partial fill: bs ${det.bestPartial.bs} at ${num(det.bestPartial.fillRatio, 4)}` : '';
   row('block size', `${b.bs} ${source}, fill ratio ${num(b.fillRatio, 4)}${detText}${partial}`);
+  if (r.fieldMajor !== null) {
+    const f = r.fieldMajor;
+    row('numbering', `looks field-major with ${f.nFields} fields (all unknowns of one equation, then the next): blocks fill ${num(f.fillRatioAsGiven, 3)} as given, ${num(f.fillRatioInterleaved, 3)} interleaved; rewrite with convert --fields ${f.nFields}`);
+  }
   const p = r.blocks.perRow;
   row('blocks', `${plural(r.blocks.nBlockRows, 'block row')}, ${plural(r.blocks.nBlocks, 'block')}; per block row min ${p.min}, mean ${num(p.mean)}, max ${p.max}`);
   const d = r.dominance;

@@ -169,9 +169,9 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
     if (hasFile === hasGen) fail(at, 'expected exactly one of "file" (a Matrix Market file) or "generate" (generator parameters)');
     if (hasFile) {
       for (const k of Object.keys(m)) if (!FILE_KEYS.has(k)) fail(`${at}.${k}`, `unknown key for a file matrix (expected ${[...FILE_KEYS].join(', ')})`);
-      if (typeof m.file !== 'string' || m.file === '') fail(`${at}.file`, `expected a path to a .mtx or .mtx.gz file, got ${describe(m.file)}`);
+      if (typeof m.file !== 'string' || m.file === '') fail(`${at}.file`, `expected a path to a .mtx, .mtx.gz or .npz file, got ${describe(m.file)}`);
       const f = m.file as string;
-      if (!/\.mtx(\.gz)?$/i.test(f)) fail(`${at}.file`, `expected a path ending in .mtx or .mtx.gz, got ${describe(f)}`);
+      if (!/\.(mtx(\.gz)?|npz)$/i.test(f)) fail(`${at}.file`, `expected a path ending in .mtx, .mtx.gz or .npz, got ${describe(f)}`);
       if (m.rhs !== undefined && (typeof m.rhs !== 'string' || m.rhs === '')) fail(`${at}.rhs`, `expected a path to a Matrix Market vector, got ${describe(m.rhs)}`);
       if (m.blockSize !== undefined && !(Number.isInteger(m.blockSize) && (m.blockSize as number) >= 1 && (m.blockSize as number) <= 4096)) {
         fail(`${at}.blockSize`, `expected an integer from 1 to 4096, got ${describe(m.blockSize)}`);

@@ -17,6 +17,7 @@ export function layoutPathFor(mtxPath: string): string {
   let base = mtxPath;
   if (/\.gz$/i.test(base)) base = base.slice(0, -3);
   if (/\.mtx$/i.test(base)) base = base.slice(0, -4);
+  else if (/\.npz$/i.test(base)) base = base.slice(0, -4);
   return `${base}.layout.json`;
 }
 

@@ -5,7 +5,8 @@ import { bsrBlockCount, csrToBsr } from './bsr.js';
 import { detectBlockSize, slabOffsetsProblem, type BlockSizeDetection } from './structure.js';
 import { UserError } from '../util/errors.js';
 
-export type BlockSizeSource = 'layout' | 'option' | 'detected' | 'none';
+/** 'file': the matrix file itself stores square blocks (a scipy bsr .npz). */
+export type BlockSizeSource = 'layout' | 'option' | 'file' | 'detected' | 'none';
 
 /** A system matrix as every command sees it. */
 export interface LoadedSystem {
@@ -45,7 +46,7 @@ const MAX_BLOCK_VALUES = MAX_INT32_INDEX;
  */
 export function systemFromMatrix(
   path: string, header: MatrixMarketHeader, csr: Csr,
-  opts: { blockSize?: number; layout?: Layout; layoutPath?: string } = {},
+  opts: { blockSize?: number; layout?: Layout; layoutPath?: string; fileBlockSize?: number } = {},
 ): LoadedSystem {
   if (header.object !== 'matrix') throw new UserError(`${path}: holds a vector, expected a matrix`);
   if (csr.nRows !== csr.nCols) throw new UserError(`${path}: matrix is ${csr.nRows}×${csr.nCols}, expected a square system matrix`);
@@ -70,6 +71,8 @@ export function systemFromMatrix(
     bs = layout.blockSize; source = 'layout'; from = ` (from ${layoutName})`;
   } else if (opts.blockSize !== undefined) {
     bs = opts.blockSize; source = 'option'; from = ' (from --block-size)';
+  } else if (opts.fileBlockSize !== undefined && opts.fileBlockSize > 1) {
+    bs = opts.fileBlockSize; source = 'file'; from = ' (the block size stored in the file)';
   } else {
     detection = detectBlockSize(csr);
     bs = detection.bs;
