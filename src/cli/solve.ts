@@ -85,7 +85,11 @@ export function formatSolveReport(rep: SolveReport): string {
   const m = rep.matrix;
   lines.push(`${m.file}: ${m.n} × ${m.n}, ${m.nnz} nonzeros, block size ${m.bs} (${m.blockSizeSource})${m.nSlabs ? `, ${m.nSlabs} slabs` : ''}`);
   row('recipe', `${recipeText(rep.recipe)}; rtol ${rep.recipe.rtol}${rep.recipe.atol ? `, atol ${rep.recipe.atol}` : ''}, at most ${rep.recipe.maxIterations} iterations`);
-  row('result', `${rep.outcome} (${rep.cause}) after ${rep.iterations} iteration${rep.iterations === 1 ? '' : 's'} (${rep.restarts} restart${rep.restarts === 1 ? '' : 's'})`);
+  const sw = rep.work.solve;
+  const plural = (k: number, one: string, many = `${one}s`): string => `${k} ${k === 1 ? one : many}`;
+  row('result', `${rep.outcome} (${rep.cause}) after ${plural(rep.iterations, 'iteration')} (${plural(rep.restarts, 'restart')}; `
+    + `${plural(sw.matvecs, 'matvec')}, ${plural(sw.preconditionerApplies, 'preconditioner apply', 'preconditioner applies')}`
+    + `${sw.innerIterations > 0 ? `, ${plural(sw.innerIterations, 'inner iteration')}` : ''})`);
   if (rep.failure) row('failure', `${rep.failure.message}${rep.failure.blockRow !== undefined ? ` [block row ${rep.failure.blockRow}]` : ''}`);
   const base = rep.relativeTo === 'rhs' ? '‖b‖' : '‖r₀‖';
   const watched = rep.watched === 'plain' ? 'plain residual ‖b − Ax‖' : 'left-preconditioned residual ‖M⁻¹r‖';
@@ -101,6 +105,8 @@ export function formatSolveReport(rep: SolveReport): string {
   if (rp && !rp.consistent) row('warning', `repeats differed, not deterministic: ${(rp.differences ?? []).join('; ')}`);
   row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
     + (t.preconditionerApplications > 0 ? ` (${t.preconditionerApplications} preconditioner application${t.preconditionerApplications === 1 ? '' : 's'}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
+  const su = rep.work.setup;
+  row('work', `setup ${num(su.flops)} flops, ${bytes(su.bytes)} moved; solve ${num(sw.flops)} flops, ${bytes(sw.bytes)} moved (work model, README)`);
   const mem = rep.memory;
   row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
   if (rep.ritz && rep.ritz.re.length > 0) {

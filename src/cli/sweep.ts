@@ -5,6 +5,7 @@ import { type Command, Option } from 'commander';
 import { EXIT, optionError, UserError } from '../util/errors.js';
 import { readSuite } from '../run/suite.js';
 import { parseShard } from '../run/shard.js';
+import { planSweep, formatSweepPlan } from '../run/plan.js';
 import { runSweep, HISTORY_FILE } from '../run/sweep.js';
 import { readHistory } from '../run/history.js';
 import { ProgressBar } from '../run/progress.js';
@@ -69,6 +70,7 @@ interface SweepCliOptions {
   report: boolean;
   quiet?: boolean;
   json?: boolean;
+  dryRun?: boolean;
 }
 
 function summary(doc: ResultsDoc, files: Record<string, string | undefined>, interrupted: boolean) {
@@ -152,6 +154,7 @@ export function registerSweep(program: Command, deps: SweepCommandDeps = REAL_DE
     .option('--no-report', 'do not write report.html and the .svg plots')
     .addOption(new Option('-q, --quiet', 'print nothing but errors').conflicts('json'))
     .option('--json', 'print a JSON summary on stdout (nothing else goes to stdout)')
+    .option('--dry-run', 'list the matrix × recipe pairs the sweep would run (grids expanded, selection and shard applied) and stop; nothing is generated, solved or written')
     .addHelpText('after', `
 Timing protocol: per pair one untimed warm-up solve, then --repeats timed solves (fresh setup and a
 garbage collection before each); tables state the median. Recipes whose timed ranges overlap or whose
@@ -170,12 +173,26 @@ Examples:
   slabbench sweep my-suite.json --repeats 5 --rank-by modeled --target-bandwidth 200 --target-flops 50
   slabbench sweep my-suite.json --shard 2/4 --out shard-2   # then: slabbench merge shard-*/results.json --out all
   slabbench sweep matrices/ci/suite.json --out .ci-results --quiet
-  slabbench sweep --json | jq '.winners'`)
+  slabbench sweep --json | jq '.winners'
+  slabbench sweep my-suite.json --dry-run            # which pairs, after grids ("restart": [10, 30, 60]) expand`)
     .action(async (suiteArg: string | undefined, opts: SweepCliOptions, cmd: Command) => {
+      if (opts.dryRun) {
+        // Everything else only shapes a run that --dry-run does not start: refuse it rather than ignore it.
+        const allowed = new Set(['dryRun', 'shard', 'onlyMatrix', 'onlyRecipe', 'json']);
+        for (const o of cmd.options) {
+          const key = o.attributeName();
+          if (!allowed.has(key) && cmd.getOptionValueSource(key) === 'cli') throw optionError(o.long ?? key, 'has no effect with --dry-run, which runs nothing');
+        }
+      }
       const shard = opts.shard !== undefined ? parseShard(opts.shard) : undefined;
       const { parsers, builder, depsModule } = await deps.load();
       const suitePath = suiteArg ?? demoSuitePath();
       const suite = readSuite(suitePath, parsers);
+      if (opts.dryRun) {
+        const plan = planSweep(suite, { shard, onlyMatrix: opts.onlyMatrix, onlyRecipe: opts.onlyRecipe });
+        process.stdout.write(opts.json ? `${JSON.stringify(plan, null, 1)}\n` : formatSweepPlan(plan));
+        return;
+      }
       const quiet = opts.quiet === true || opts.json === true;
       const bar = !opts.quiet && process.stderr.isTTY ? new ProgressBar(process.stderr) : undefined;
       const ac = new AbortController();

@@ -12,7 +12,8 @@
  */
 import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { BlockInverse, OrderingName, Recipe, SweepDirection } from '../solvers/recipe.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
+import { addWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { UserError } from '../util/errors.js';
 import { checkApplyArgs, checkReady, factorBlock } from './common.js';
 import { blockMatVec, blockMatVecSub, denseFlops, luInverse, luSolve } from './dense.js';
@@ -40,6 +41,9 @@ class BlockGsPreconditioner implements Preconditioner {
   private t: Float64Array = new Float64Array(0);
   private ready = false;
   private setupFlops = 0;
+  private applies = 0;
+  private setupWork: WorkCounts = zeroWork();
+  private applyWork: WorkCounts = zeroWork();
   private readonly sweep: SweepDirection;
   private readonly ordering: OrderingName;
   private readonly omega: number;
@@ -64,6 +68,18 @@ class BlockGsPreconditioner implements Preconditioner {
     const { nBlockRows: nb, bs, values } = a;
     const bb = bs * bs;
     const diag = diagonalIndex(a);
+    this.applies = 0;
+    // work model (as block-jacobi): diagonal search, then per block row attempted the block copied
+    // in (zero-filled when absent), factorBlock, and with inverses luInverse
+    const perRow = denseWork.factorBlock(bs, this.shift);
+    if (this.mode === 'inverse') addWork(perRow, denseWork.inverse(bs));
+    const work = (rows: number, present: number): WorkCounts => {
+      const w = kernel(0, 4 * (nb + 1) + 4 * a.colInd.length);
+      addWork(w, perRow, rows);
+      addWork(w, denseWork.copy(bs), present);
+      return addWork(w, kernel(0, 8 * bb), rows - present);
+    };
+    let present = 0;
     this.diagFactors = new Float64Array(nb * bb);
     this.pivots = new Int32Array(this.mode === 'lu' ? nb * bs : bs);
     this.t = new Float64Array(this.mode === 'lu' ? bs : 2 * bs + bb);
@@ -73,13 +89,16 @@ class BlockGsPreconditioner implements Preconditioner {
       const lu = this.mode === 'lu';
       const dst = lu ? this.diagFactors : this.t;
       const so = lu ? fo : 2 * bs;
+      if (diag[I] >= 0) present++;
       if (diag[I] >= 0) dst.set(values.subarray(diag[I] * bb, diag[I] * bb + bb), so);
       else dst.fill(0, so, so + bb);
       const fail = factorBlock(this.name, I, dst, so, bs, this.pivots, lu ? step * bs : 0, this.shift);
-      if (fail) return fail;
+      if (fail) { this.setupWork = work(step + 1, present); return fail; }
       if (!lu) luInverse(this.t, so, this.pivots, 0, bs, this.diagFactors, fo);
     }
     this.setupFlops = nb * (this.mode === 'lu' ? denseFlops.lu(bs) : denseFlops.inverse(bs));
+    this.setupWork = work(nb, present);
+    this.applyWork = this.applyModel(present);
     this.ready = true;
     return { ok: true };
   }
@@ -93,6 +112,49 @@ class BlockGsPreconditioner implements Preconditioner {
       if (this.sweep !== 'backward') { this.sweepOnce(r, z, true, first); first = false; }
       if (this.sweep !== 'forward') { this.sweepOnce(r, z, false, first); first = false; }
     }
+    this.applies++;
+  }
+
+  /**
+   * Work model of one apply: z ← 0, then per sweep pass (forward or backward): the off-diagonal
+   * blocks it uses (all of them, except in the first pass from zero: only the already-visited side)
+   * as block mat-vec subtractions, one diagonal solve per block row (luSolve or a block mat-vec with
+   * the inverse), 4 flops per entry for the relaxation when ω ≠ 1; bytes: row pointers, every
+   * column index of the block rows, the used blocks, the diagonal factors (and pivots), the visiting
+   * order (and its inverse in the first pass), the right-hand side and x read, x written.
+   */
+  private applyModel(diagonalPresent: number): WorkCounts {
+    const { nBlockRows: nb, bs, rowPtr, colInd } = this.system.bsr;
+    const bb = bs * bs, n = nb * bs;
+    const inv = this.inv;
+    let visitedBefore = 0, visitedAfter = 0; // off-diagonal blocks whose column is visited earlier / later
+    for (let I = 0; I < nb; I++) {
+      const sI = inv ? inv[I] : I;
+      for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
+        const J = colInd[k];
+        if (J === I) continue;
+        if ((inv ? inv[J] : J) < sI) visitedBefore++; else visitedAfter++;
+      }
+    }
+    const offDiagonal = colInd.length - diagonalPresent;
+    const lu = this.mode === 'lu';
+    const pass = (used: number, first: boolean): WorkCounts => {
+      const w = kernel(2 * bb * used, 4 * (nb + 1) + 4 * colInd.length + 8 * bb * used + 8 * bb * nb + (lu ? 4 * bs * nb : 0)
+        + (this.perm ? 4 * nb : 0) + (first && inv ? 4 * offDiagonal : 0) + 24 * n);
+      addWork(w, kernel((lu ? 2 * bb - bs : 2 * bb) * nb + (this.omega === 1 ? 0 : 4 * n), 0));
+      return w;
+    };
+    const total = vectorWork.fill(n);
+    let first = true;
+    for (let s = 0; s < this.sweeps; s++) {
+      if (this.sweep !== 'backward') { addWork(total, pass(first ? visitedBefore : offDiagonal, first)); first = false; }
+      if (this.sweep !== 'forward') { addWork(total, pass(first ? visitedAfter : offDiagonal, first)); first = false; }
+    }
+    return total;
+  }
+
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    return { setup: { ...this.setupWork }, apply: { ...scaledWork(this.applyWork, this.applies), preconditionerApplies: this.applies } };
   }
 
   /**

@@ -22,9 +22,10 @@
  */
 import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { OrderingName, Recipe } from '../solvers/recipe.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { checkApplyArgs, checkReady, factorBlock, nonFinite } from './common.js';
 import { allFinite, blockGemm, blockGemmSub, blockMatVec, blockMatVecSub, denseFlops, luInverse } from './dense.js';
+import { addWork, blockSweepWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { gatherBlocks, invertPermutation, orderingPermutation, scatterBlocks } from './block-tools.js';
 
 export function createBlockIlu0(system: SystemMatrix, recipe: Recipe): Preconditioner {
@@ -50,6 +51,8 @@ export class BlockIlu0Preconditioner implements Preconditioner {
   private t: Float64Array = new Float64Array(0);
   private ready = false;
   private setupFlops = 0;
+  private applies = 0;
+  private setupWork: WorkCounts = zeroWork();
 
   constructor(private readonly system: SystemMatrix, private readonly ordering: OrderingName, private readonly shift: number) {
     this.nb = system.bsr.nBlockRows;
@@ -63,6 +66,11 @@ export class BlockIlu0Preconditioner implements Preconditioner {
     this.perm = perm;
     const inv = perm ? invertPermutation(perm) : null;
     const bb = bs * bs;
+    this.applies = 0;
+    // work model: the symbolic pass reads the pattern (row pointers, column indices); the numeric
+    // pass is added per block row below. Orderings do no floating-point work and are not counted.
+    const sw = kernel(0, 4 * (nb + 1) + 4 * colInd.length);
+    this.setupWork = sw;
     // symbolic: per (renumbered) block row I, read from block row R = perm[I] of A: blocks left of,
     // on and right of the diagonal; the sweep-ordered layout; workspace
     const lowerPtr = new Int32Array(nb + 1);
@@ -104,7 +112,12 @@ export class BlockIlu0Preconditioner implements Preconditioner {
     for (let I = 0; I < nb; I++) {
       const R = perm ? perm[I] : I;
       const s = rowPtr[R], len = rowPtr[R + 1] - s;
+      // row I: scanned, its blocks gathered into the row buffer, and the row written out to the factors
+      // (L and U blocks copied, D⁻¹ by luInverse, then scanned); its column indices read twice
+      addWork(sw, kernel(0, 4 * 2 * len), 1);
+      addWork(sw, denseWork.scan(bs), len);
       if (!allFinite(values, s * bb, len * bb)) return nonFinite(this.name, R, 'the matrix blocks');
+      addWork(sw, denseWork.copy(bs), len);
       for (let p = 0; p < len; p++) { // insertion sort by renumbered column (rows are short; A's rows are sorted)
         const J = inv ? inv[colInd[s + p]] : colInd[s + p];
         let q = p;
@@ -123,15 +136,26 @@ export class BlockIlu0Preconditioner implements Preconditioner {
         work.set(row.subarray(p * bb, p * bb + bb), 0);
         blockGemm(row, p * bb, work, 0, upper, dK * bb, bs);
         flops += denseFlops.gemm(bs);
+        addWork(sw, denseWork.copy(bs));
+        addWork(sw, denseWork.gemm(bs));
+        let updates = 0;
         for (let q = uK; q < dK; q++) {
           const pos = iw[upperCol[q]];
-          if (pos >= 0) { blockGemmSub(row, pos * bb, row, p * bb, upper, q * bb, bs); flops += denseFlops.gemm(bs); }
+          if (pos >= 0) { blockGemmSub(row, pos * bb, row, p * bb, upper, q * bb, bs); flops += denseFlops.gemm(bs); updates++; }
         }
+        // the scan of row K's U part reads its column indices; each matching block is one C −= A·B
+        addWork(sw, kernel(0, 4 * (dK - uK)));
+        addWork(sw, denseWork.gemmSub(bs), updates);
       }
       for (let p = 0; p < len; p++) iw[cols[p]] = -1;
       work.set(row.subarray(dp * bb, dp * bb + bb), 0);
+      addWork(sw, denseWork.copy(bs));
+      addWork(sw, denseWork.factorBlock(bs, this.shift));
       const fail = factorBlock(this.name, R, work, 0, bs, piv, 0, this.shift);
       if (fail) return fail;
+      addWork(sw, denseWork.inverse(bs));
+      addWork(sw, denseWork.copy(bs), len - 1);
+      addWork(sw, denseWork.scan(bs), len);
       const uI = upperPtr[nb - 1 - I], dI = upperPtr[nb - I] - 1;
       luInverse(work, 0, piv, 0, bs, upper, dI * bb);
       upperCol[dI] = I;
@@ -172,6 +196,22 @@ export class BlockIlu0Preconditioner implements Preconditioner {
       blockMatVec(upper, dI * bb, bs, t, 0, y, yo);
     }
     if (this.perm) scatterBlocks(y, this.perm, bs, z);
+    this.applies++;
+  }
+
+  /**
+   * Work model of one apply: gather into the new order (or z ← r), the forward sweep over the L
+   * blocks, the backward sweep over the U blocks and the D⁻¹ blocks (one block mat-vec each; no
+   * column index is read for D⁻¹), the scatter back.
+   */
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    const { nb, bs } = this;
+    const once = this.perm ? vectorWork.permute(nb, bs) : vectorWork.copy(this.n);
+    addWork(once, blockSweepWork(nb, bs, this.lowerPtr[nb] ?? 0));
+    addWork(once, blockSweepWork(nb, bs, this.upperPtr[nb] ?? 0));
+    addWork(once, kernel(0, -4 * nb));
+    if (this.perm) addWork(once, vectorWork.permute(nb, bs));
+    return { setup: { ...this.setupWork }, apply: { ...scaledWork(once, this.applies), preconditionerApplies: this.applies } };
   }
 
   /**

@@ -6,7 +6,8 @@
  */
 import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { BlockInverse, Recipe } from '../solvers/recipe.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
+import { addWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { checkApplyArgs, checkReady, factorBlock } from './common.js';
 import { blockMatVec, denseFlops, luInverse, luSolve } from './dense.js';
 import { diagonalIndex } from './block-tools.js';
@@ -21,7 +22,9 @@ class BlockJacobiPreconditioner implements Preconditioner {
   readonly n: number;
   private factors: Float64Array = new Float64Array(0);
   private pivots: Int32Array = new Int32Array(0);
-  private work: Float64Array = new Float64Array(0);
+  private scratch: Float64Array = new Float64Array(0);
+  private applies = 0;
+  private setupWork: WorkCounts = zeroWork();
   private ready = false;
   private setupFlops = 0;
   constructor(
@@ -37,21 +40,35 @@ class BlockJacobiPreconditioner implements Preconditioner {
     const { nBlockRows: nb, bs, values } = a;
     const bb = bs * bs;
     const diag = diagonalIndex(a);
+    this.applies = 0;
+    // work model: the diagonal search (row pointers, column indices), then per block row attempted:
+    // the block copied in (or zero-filled when absent), factorBlock, and with inverses luInverse
+    const perRow = denseWork.factorBlock(bs, this.shift);
+    if (this.mode === 'inverse') addWork(perRow, denseWork.inverse(bs));
+    const work = (rows: number, present: number): WorkCounts => {
+      const w = kernel(0, 4 * (nb + 1) + 4 * a.colInd.length);
+      addWork(w, perRow, rows);
+      addWork(w, denseWork.copy(bs), present);
+      return addWork(w, kernel(0, 8 * bb), rows - present);
+    };
+    let present = 0;
     this.factors = new Float64Array(nb * bb);
     this.pivots = new Int32Array(this.mode === 'lu' ? nb * bs : bs);
-    this.work = new Float64Array(this.mode === 'lu' ? 0 : bb);
+    this.scratch = new Float64Array(this.mode === 'lu' ? 0 : bb);
     for (let I = 0; I < nb; I++) {
       const fo = I * bb;
-      const src = this.mode === 'lu' ? this.factors : this.work;
+      const src = this.mode === 'lu' ? this.factors : this.scratch;
       const so = this.mode === 'lu' ? fo : 0;
+      if (diag[I] >= 0) present++;
       if (diag[I] >= 0) src.set(values.subarray(diag[I] * bb, diag[I] * bb + bb), so);
       else src.fill(0, so, so + bb);
       const po = this.mode === 'lu' ? I * bs : 0;
       const fail = factorBlock(this.name, I, src, so, bs, this.pivots, po, this.shift);
-      if (fail) return fail;
-      if (this.mode === 'inverse') luInverse(this.work, 0, this.pivots, 0, bs, this.factors, fo);
+      if (fail) { this.setupWork = work(I + 1, present); return fail; }
+      if (this.mode === 'inverse') luInverse(this.scratch, 0, this.pivots, 0, bs, this.factors, fo);
     }
     this.setupFlops = nb * (this.mode === 'lu' ? denseFlops.lu(bs) : denseFlops.inverse(bs));
+    this.setupWork = work(nb, present);
     this.ready = true;
     return { ok: true };
   }
@@ -67,12 +84,22 @@ class BlockJacobiPreconditioner implements Preconditioner {
     } else {
       for (let I = 0; I < nb; I++) blockMatVec(this.factors, I * bb, bs, r, I * bs, z, I * bs);
     }
+    this.applies++;
+  }
+
+  /** Work model: lu: z ← r, then one luSolve per block row; inverse: one block mat-vec per block row. */
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    const { nBlockRows: nb, bs } = this.system.bsr;
+    const once = this.mode === 'lu'
+      ? addWork(vectorWork.copy(nb * bs), denseWork.luSolve(bs), nb)
+      : scaledWork(denseWork.matVec(bs), nb);
+    return { setup: { ...this.setupWork }, apply: { ...scaledWork(once, this.applies), preconditionerApplies: this.applies } };
   }
 
   memory(): BufferBytes {
     return this.mode === 'lu'
       ? { 'factors (diagonal-block LU)': this.factors.byteLength, pivots: this.pivots.byteLength }
-      : { 'inverse blocks': this.factors.byteLength, workspace: this.work.byteLength + this.pivots.byteLength };
+      : { 'inverse blocks': this.factors.byteLength, workspace: this.scratch.byteLength + this.pivots.byteLength };
   }
 
   stats(): Record<string, unknown> {

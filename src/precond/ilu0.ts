@@ -7,7 +7,8 @@
  */
 import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { Recipe } from '../solvers/recipe.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
+import { kernel, scaledWork, zeroWork } from '../solvers/work.js';
 import { checkApplyArgs, checkReady } from './common.js';
 import { PIVOT_RTOL } from './dense.js';
 
@@ -24,6 +25,8 @@ export class Ilu0Preconditioner implements Preconditioner {
   private diagPtr: Int32Array = new Int32Array(0);
   private ready = false;
   private setupFlops = 0;
+  private applies = 0;
+  private setupWork: WorkCounts = zeroWork();
 
   constructor(private readonly system: SystemMatrix, private readonly shift: number) {
     this.n = system.csr.nRows;
@@ -45,15 +48,31 @@ export class Ilu0Preconditioner implements Preconditioner {
     for (let i = 0; i < n; i++) {
       diag[i] = -1;
       for (let k = rowPtr[i]; k < rowPtr[i + 1]; k++) if (colInd[k] === i) { diag[i] = k; break; }
-      if (diag[i] < 0) return this.fail('zero-pivot', i, 'diagonal entry absent from the pattern');
+      if (diag[i] < 0) {
+        this.setupWork = kernel(0, 16 * values.length + 4 * rowPtr[i + 1] + 4 * (i + 2)); // the copy, the pattern scanned so far
+        return this.fail('zero-pivot', i, 'diagonal entry absent from the pattern');
+      }
     }
     const iw = new Int32Array(n).fill(-1);
     let flops = 0;
+    this.applies = 0;
+    // work model for rows 0..rows−1 (a failing row counts as attempted): the values copied, the
+    // diagonal search over the pattern, per row its entries read with their column indices (24 bytes
+    // per entry with the marker writes and resets) and one shift addition, per multiplier l = a/u
+    // one division (24 bytes), per update a −= l·u two flops (32 bytes: u, its column, the marker,
+    // a read and written); the update count is what the loop below counts in `flops`.
+    const work = (rows: number): WorkCounts => {
+      let multipliers = 0;
+      for (let i = 0; i < rows; i++) multipliers += Math.max(0, diag[i] - rowPtr[i]);
+      const updates = (flops - multipliers) / 2;
+      const len = rowPtr[rows] - rowPtr[0];
+      return kernel(flops + rows, 16 * values.length + 4 * colInd.length + 4 * (n + 1) + 24 * len + 24 * multipliers + 32 * updates);
+    };
     for (let i = 0; i < n; i++) {
       const s = rowPtr[i], e = rowPtr[i + 1];
       let rowMax = 0;
       for (let k = s; k < e; k++) {
-        if (!Number.isFinite(lu[k])) return this.fail('non-finite', i, 'non-finite matrix entry');
+        if (!Number.isFinite(lu[k])) { this.setupWork = work(i + 1); return this.fail('non-finite', i, 'non-finite matrix entry'); }
         if (k === diag[i]) lu[k] += this.shift;
         const v = Math.abs(lu[k]);
         if (v > rowMax) rowMax = v;
@@ -71,14 +90,16 @@ export class Ilu0Preconditioner implements Preconditioner {
       }
       for (let k = s; k < e; k++) iw[colInd[k]] = -1;
       const d = lu[diag[i]];
-      if (!Number.isFinite(d)) return this.fail('non-finite', i, 'non-finite pivot');
+      if (!Number.isFinite(d)) { this.setupWork = work(i + 1); return this.fail('non-finite', i, 'non-finite pivot'); }
       if (!(Math.abs(d) > PIVOT_RTOL * rowMax)) {
+        this.setupWork = work(i + 1);
         return this.fail('zero-pivot', i, `zero or tiny pivot ${d} (≤ ${PIVOT_RTOL}·${rowMax.toExponential(3)})`);
       }
     }
     this.factors = lu;
     this.diagPtr = diag;
     this.setupFlops = flops;
+    this.setupWork = work(n);
     this.ready = true;
     return { ok: true };
   }
@@ -98,6 +119,18 @@ export class Ilu0Preconditioner implements Preconditioner {
       for (let k = diag[i] + 1; k < rowPtr[i + 1]; k++) s -= lu[k] * z[colInd[k]];
       z[i] = s / lu[diag[i]];
     }
+    this.applies++;
+  }
+
+  /**
+   * Work model of one apply (forward then backward sweep): 2 flops and 12 bytes (value and column)
+   * per off-diagonal entry, a division and the pivot per row, the row pointers and diagonal
+   * positions read in both sweeps, r read, z read and written in each sweep.
+   */
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    const n = this.n, nnz = this.system.csr.colInd.length;
+    const once = kernel(2 * (nnz - n) + n, 12 * (nnz - n) + 8 * n + 2 * (4 * (n + 1) + 4 * n) + 40 * n);
+    return { setup: { ...this.setupWork }, apply: { ...scaledWork(once, this.applies), preconditionerApplies: this.applies } };
   }
 
   /** The pivots u_ii (for tests and inspection). */

@@ -4,7 +4,8 @@
  */
 import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { Recipe } from '../solvers/recipe.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
+import { kernel, scaledWork, zeroWork } from '../solvers/work.js';
 import { checkApplyArgs, checkReady } from './common.js';
 import { PIVOT_RTOL } from './dense.js';
 
@@ -18,6 +19,8 @@ class JacobiPreconditioner implements Preconditioner {
   readonly n: number;
   private invDiag: Float64Array = new Float64Array(0);
   private ready = false;
+  private applies = 0;
+  private setupWork: WorkCounts = zeroWork();
   constructor(private readonly system: SystemMatrix, private readonly shift: number) {
     this.n = system.csr.nRows;
   }
@@ -27,11 +30,18 @@ class JacobiPreconditioner implements Preconditioner {
     const bs = this.system.bsr.bs;
     const n = this.n;
     this.invDiag = new Float64Array(n);
+    this.applies = 0;
+    // work model for rows 0..rows−1: two passes over each row (values and column indices) and the
+    // row pointers, one shift addition and one reciprocal per row, the inverse diagonal written.
+    // A failing row counts as attempted.
+    const work = (rows: number): WorkCounts => kernel(2 * rows, 24 * (rowPtr[rows] - rowPtr[0]) + 8 * (rows + 1) + 8 * rows);
+    this.setupWork = work(n);
     for (let i = 0; i < n; i++) {
       let d = NaN, rowMax = 0, found = false;
       for (let k = rowPtr[i]; k < rowPtr[i + 1]; k++) {
         const v = values[k];
         if (!Number.isFinite(v)) {
+          this.setupWork = work(i + 1);
           return { ok: false, reason: 'non-finite', blockRow: Math.floor(i / bs),
             message: `jacobi: non-finite value in row ${i} (block row ${Math.floor(i / bs)})` };
         }
@@ -42,6 +52,7 @@ class JacobiPreconditioner implements Preconditioner {
         if (v > rowMax) rowMax = v;
       }
       if (!found || !(Math.abs(d) > PIVOT_RTOL * rowMax)) {
+        this.setupWork = work(i + 1);
         return { ok: false, reason: 'zero-pivot', blockRow: Math.floor(i / bs),
           message: `jacobi: zero or tiny diagonal entry in row ${i} (block row ${Math.floor(i / bs)})` +
             `${found ? '' : ', absent from the pattern'}; a diagonal shift (recipe shift > 0) avoids it` };
@@ -57,6 +68,15 @@ class JacobiPreconditioner implements Preconditioner {
     checkReady(this.name, this.ready);
     const d = this.invDiag;
     for (let i = 0; i < this.n; i++) z[i] = d[i] * r[i];
+    this.applies++;
+  }
+
+  /** Work model: setup as counted in setup(); apply: n multiplications, invDiag and r read, z written. */
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    return {
+      setup: { ...this.setupWork },
+      apply: { ...scaledWork(kernel(this.n, 24 * this.n), this.applies), preconditionerApplies: this.applies },
+    };
   }
 
   memory(): BufferBytes { return { 'inverse diagonal': this.invDiag.byteLength }; }

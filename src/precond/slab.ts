@@ -28,7 +28,8 @@ import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { Recipe } from '../solvers/recipe.js';
 import { DEFAULT_INNER_RECIPE } from '../solvers/recipe.js';
 import type { Bsr, Csr } from '../sparse/types.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
+import { addWork, kernel, vectorWork, zeroWork } from '../solvers/work.js';
 import { UserError } from '../util/errors.js';
 import { bsrToCsr } from '../sparse/bsr.js';
 import { permuteBsr } from '../sparse/permute.js';
@@ -81,6 +82,13 @@ export class SlabPreconditioner implements Preconditioner {
   private totalIterations = 0;
   private innerNotConverged = 0;
   private innerFailures: string[] = [];
+  // work counts (README "Work model")
+  private setupWork: WorkCounts = zeroWork();
+  private applyWork: WorkCounts = zeroWork();
+  /** Per apply, everything but the inner setups and solves (fixed by the pattern). */
+  private applyFixed: WorkCounts = zeroWork();
+  /** Per slab: bytes of extractSlab (the slab's column indices scanned, its diagonal part copied). */
+  private extractBytes: Float64Array = new Float64Array(0);
 
   constructor(private readonly system: SystemMatrix, readonly inner: Recipe) {
     this.a = system.bsr;
@@ -105,23 +113,41 @@ export class SlabPreconditioner implements Preconditioner {
       this.perm = identity ? null : comp.order;
       this.a = this.perm ? permuteBsr(a0, this.perm) : a0;
     }
+    this.setupWork = zeroWork();
+    this.applyWork = zeroWork();
+    // the permuted copy: values and indices read and written once
+    if (this.perm) addWork(this.setupWork, kernel(0, 2 * (8 * a0.bs * a0.bs + 4) * a0.colInd.length + 2 * 4 * (nb + 1)));
     const { bs, rowPtr, colInd } = this.a;
     const bb = bs * bs;
     const nSlabs = this.offsets.length - 1;
     let maxRows = 0, maxBlocks = 0, above = 0;
+    this.extractBytes = new Float64Array(nSlabs);
+    const fixed = this.perm ? addWork(vectorWork.permute(nb, bs), vectorWork.permute(nb, bs)) : zeroWork();
     for (let s = 0; s < nSlabs; s++) {
       const lo = this.offsets[s], hi = this.offsets[s + 1];
-      let blocks = 0;
+      let blocks = 0, left = 0;
       for (let I = lo; I < hi; I++) {
         for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
           const J = colInd[k];
           if (J >= lo && J < hi) blocks++;
           else if (J >= hi) above++;
+          else left++;
         }
       }
+      const rowBlocks = rowPtr[hi] - rowPtr[lo], len = (hi - lo) * bs;
+      this.extractBytes[s] = 4 * rowBlocks + 4 * (hi - lo + 1) + (16 * bb + 8) * blocks;
+      // per apply: rhs ← r_s; rhs −= A_st z_t over the blocks left of the slab (their values, every
+      // column index of the slab's rows, rhs read and written, the earlier part of z read); the slab
+      // extracted; sol ← 0; z_s ← sol
+      addWork(fixed, vectorWork.copy(len));
+      addWork(fixed, kernel(2 * bb * left, 8 * bb * left + 4 * rowBlocks + 4 * (hi - lo + 1) + 16 * len + 8 * lo * bs));
+      addWork(fixed, kernel(0, this.extractBytes[s]));
+      addWork(fixed, vectorWork.fill(len));
+      addWork(fixed, vectorWork.copy(len));
       maxRows = Math.max(maxRows, hi - lo);
       maxBlocks = Math.max(maxBlocks, blocks);
     }
+    this.applyFixed = fixed;
     this.aboveDiagonal = above;
     this.sRowPtr = new Int32Array(maxRows + 1);
     this.sColInd = new Int32Array(maxBlocks);
@@ -139,6 +165,8 @@ export class SlabPreconditioner implements Preconditioner {
       const slab = this.extractSlab(s);
       const M = createPreconditioner(slabSystem(slab), this.inner);
       const out = M.setup();
+      addWork(this.setupWork, kernel(0, this.extractBytes[s]));
+      addWork(this.setupWork, M.work().setup);
       if (!out.ok) {
         const local = out.blockRow ?? 0;
         const blockRow = this.originalBlockRow(this.offsets[s] + local);
@@ -192,6 +220,8 @@ export class SlabPreconditioner implements Preconditioner {
     let rr = r, x = z;
     if (this.perm) { gatherBlocks(r, this.perm, bs, this.rp); rr = this.rp; x = this.xp; }
     this.applications++;
+    addWork(this.applyWork, this.applyFixed);
+    this.applyWork.preconditionerApplies++;
     const nSlabs = this.offsets.length - 1;
     for (let s = 0; s < nSlabs; s++) {
       const lo = this.offsets[s], hi = this.offsets[s + 1];
@@ -209,6 +239,7 @@ export class SlabPreconditioner implements Preconditioner {
       const slab = this.extractSlab(s);
       const M = createPreconditioner(slabSystem(slab), this.inner);
       const out = M.setup();
+      addWork(this.applyWork, M.work().setup);
       sol.fill(0);
       if (!out.ok) {
         // cannot happen after a successful setup() on the same values; poison the result so the
@@ -217,6 +248,9 @@ export class SlabPreconditioner implements Preconditioner {
         sol.fill(NaN);
       } else {
         const res = krylovSolve(bsrOperator(slab), rhs, sol, this.inner, M, { ritz: false });
+        // the inner solve's work (its products, vector operations, preconditioner applies), and its iterations
+        addWork(this.applyWork, res.work.solve);
+        this.applyWork.innerIterations += res.iterations;
         this.lastIterations[s] = res.iterations;
         this.sumIterations[s] += res.iterations;
         this.totalIterations += res.iterations;
@@ -228,6 +262,17 @@ export class SlabPreconditioner implements Preconditioner {
       x.set(sol, lo * bs);
     }
     if (this.perm) scatterBlocks(x, this.perm, bs, z);
+  }
+
+  /**
+   * Work model: setup = the permuted copy (when reordered), and per slab the extraction of its
+   * diagonal part and its inner preconditioner's setup; apply = per application the gather and
+   * scatter (when reordered) and per slab the right-hand side with the blocks left of the slab,
+   * the extraction, the inner setup and the inner solve (all of its work; innerIterations counts its
+   * iterations). Building the CSR view a point inner preconditioner asks for is not counted.
+   */
+  work(): { setup: WorkCounts; apply: WorkCounts } {
+    return { setup: { ...this.setupWork }, apply: { ...this.applyWork } };
   }
 
   private noteFailure(msg: string): void {

@@ -1,5 +1,5 @@
 import type { Bsr, Csr } from '../sparse/types.js';
-import type { BufferBytes } from '../solvers/types.js';
+import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 
 /** The matrix as a preconditioner factory sees it. */
 export interface SystemMatrix {
@@ -30,6 +30,13 @@ export interface Preconditioner {
   apply(r: Float64Array, z: Float64Array): void;
   /** Bytes by named buffer (factors, pivots, permutation, workspace…). */
   memory(): BufferBytes;
+  /**
+   * Work done since setup() began, by the work model (src/solvers/work.ts): setup = the last
+   * setup() (a failed setup counts the block rows it attempted); apply = every apply() since,
+   * cumulative, with preconditionerApplies = the number of apply() calls plus any nested
+   * preconditioner applications, matvecs and innerIterations from nested solves (slab).
+   */
+  work(): { setup: WorkCounts; apply: WorkCounts };
   /** Optional statistics (inner iterations per slab, pivots shifted…). */
   stats?(): Record<string, unknown>;
 }

@@ -88,7 +88,9 @@ export const CSV_COLUMNS = [
   'matrix', 'recipe', 'krylov', 'preconditioner', 'ordering', 'restart', 'rtol',
   'outcome', 'cause', 'converged', 'iterations', 'restarts', 'trueRelativeResidual',
   'setupSeconds', 'solveSeconds', 'matrixBytes', 'preconditionerBytes', 'krylovBytes', 'workBytes',
-  'bufferBytes', 'peakBytes', 'error',
+  'bufferBytes', 'peakBytes',
+  'matvecs', 'preconditionerApplies', 'innerIterations', 'setupFlops', 'setupBytes', 'solveFlops', 'solveBytes',
+  'error',
 ] as const;
 
 function csvCell(v: unknown): string {
@@ -111,7 +113,11 @@ export function resultsCsv(doc: ResultsDoc): string {
       setupSeconds: r?.timing.setupSeconds, solveSeconds: r?.timing.solveSeconds,
       matrixBytes: r?.memory.matrixBytes, preconditionerBytes: r?.memory.preconditionerBytes,
       krylovBytes: r?.memory.krylovBytes, workBytes: r?.memory.workBytes, bufferBytes: bufferBytes(run),
-      peakBytes: r?.memory.peakBytes, error: run.error,
+      peakBytes: r?.memory.peakBytes,
+      matvecs: r?.work?.solve.matvecs, preconditionerApplies: r?.work?.solve.preconditionerApplies,
+      innerIterations: r?.work?.solve.innerIterations, setupFlops: r?.work?.setup.flops, setupBytes: r?.work?.setup.bytes,
+      solveFlops: r?.work?.solve.flops, solveBytes: r?.work?.solve.bytes,
+      error: run.error,
     };
     lines.push(CSV_COLUMNS.map((c) => csvCell(row[c])).join(','));
   }
@@ -207,6 +213,10 @@ export function validateResults(obj: unknown, path: string): ResultsDoc {
       }
       if (typeof res.iterations !== 'number') fail(`runs[${i}].result.iterations: expected a number`);
       if (typeof res.memory !== 'object' || res.memory === null) fail(`runs[${i}].result.memory: expected an object`);
+      if (res.work !== undefined) {
+        const problem = workProblem(res.work);
+        if (problem) fail(`runs[${i}].result.work${problem}`);
+      }
       if (typeof res.timing !== 'object' || res.timing === null) fail(`runs[${i}].result.timing: expected an object`);
       reviveNumbers(res);
     }
@@ -216,6 +226,22 @@ export function validateResults(obj: unknown, path: string): ResultsDoc {
     d.convertedFrom = RESULTS_SCHEMA_V1;
   }
   return obj as ResultsDoc;
+}
+
+const WORK_FIELDS = ['matvecs', 'preconditionerApplies', 'innerIterations', 'flops', 'bytes'] as const;
+
+/** Where a `work` value departs from { setup, solve } of WorkCounts (".solve.flops: …"), or undefined. */
+function workProblem(w: unknown): string | undefined {
+  if (typeof w !== 'object' || w === null) return ': expected an object { setup, solve }';
+  for (const phase of ['setup', 'solve'] as const) {
+    const p = (w as Record<string, unknown>)[phase];
+    if (typeof p !== 'object' || p === null) return `.${phase}: expected an object`;
+    for (const k of WORK_FIELDS) {
+      const v = (p as Record<string, unknown>)[k];
+      if (typeof v !== 'number' || !Number.isFinite(v) || v < 0) return `.${phase}.${k}: expected a finite number ≥ 0, got ${JSON.stringify(v)}`;
+    }
+  }
+  return undefined;
 }
 
 // ---- reading version-1 documents ----------------------------------------------------------------

@@ -16,6 +16,7 @@ import { UserError } from '../util/errors.js';
 import { SUITE_SCHEMA } from './results-types.js';
 import type { SuiteParsers } from './deps.js';
 import { readJsonFile } from '../util/json-file.js';
+import { expandRecipeGrid, gridRecipeName } from './recipe-grid.js';
 
 /** Names become file names (cache, reports) and CSV cells: keep them plain. */
 export const NAME_PATTERN = /^[A-Za-z0-9][A-Za-z0-9._+-]{0,79}$/;
@@ -63,6 +64,18 @@ export interface Suite {
   fingerprint: string;
   /** Suite-level timing protocol (command-line options override it). */
   timing?: SuiteTiming;
+  /** Recipes that were parameter grids (a field given as a list), when there were any. */
+  grids?: SuiteGrid[];
+}
+
+/** One grid recipe of the suite file and the recipes it expanded to. */
+export interface SuiteGrid {
+  /** Position in the file's `recipes` array. */
+  recipeIndex: number;
+  /** The fields given as lists, in file order. */
+  fields: string[];
+  /** Names of the expanded recipes, in expansion order (last listed field fastest). */
+  recipes: string[];
 }
 
 /** `"timing": { "repeats": R, "warmup": true|false }` in a suite file. */
@@ -201,15 +214,32 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
 
   const recipes: Recipe[] = [];
   const recipeNames = new Map<string, number>();
+  const grids: SuiteGrid[] = [];
   rawRecipes.forEach((r, i) => {
     const at = `recipes[${i}]`;
     if (!isPlainObject(r)) return fail(at, `expected an object, got ${describe(r)}`);
-    if (r.name !== undefined && typeof r.name !== 'string') fail(`${at}.name`, `expected a string, got ${describe(r.name)}`);
-    const recipe = parsers.parseRecipe(r, `${file}: ${at}`);
-    // Without a name the recipe parser's default ("krylov-preconditioner") names it; duplicates are still errors.
-    const name = checkName(r.name ?? recipe.name, `${at}.name`, recipeNames, 'recipe');
-    recipeNames.set(name, i);
-    recipes.push({ ...recipe, name });
+    if (r.name !== undefined && typeof r.name !== 'string' && !Array.isArray(r.name)) fail(`${at}.name`, `expected a string, got ${describe(r.name)}`);
+    // A field given as a list is a parameter grid: one recipe per value (src/run/recipe-grid.ts).
+    const points = expandRecipeGrid(r, `${file}: ${at}`);
+    const names: string[] = [];
+    for (const point of points) {
+      let recipe: Recipe;
+      try {
+        recipe = parsers.parseRecipe(point.raw, `${file}: ${at}`);
+      } catch (e) {
+        if (point.values.length === 0 || !(e instanceof UserError)) throw e;
+        throw new UserError(`${e.message} (grid point ${point.values.map(([k, v]) => `${k} = ${JSON.stringify(v)}`).join(', ')})`, e.exitCode);
+      }
+      // Without a name the recipe parser's default ("krylov-preconditioner") names it; duplicates are still errors.
+      const base = (r.name as string | undefined) ?? recipe.name;
+      const name = checkName(gridRecipeName(base, point.values), `${at}.name`, recipeNames, 'recipe');
+      recipeNames.set(name, i);
+      recipes.push({ ...recipe, name });
+      names.push(name);
+    }
+    if (points.length > 1 || points[0]!.values.length > 0) {
+      grids.push({ recipeIndex: i, fields: points[0]!.values.map(([k]) => k), recipes: names });
+    }
     return undefined;
   });
 
@@ -219,7 +249,9 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
       : { name: m.name, generate: m.generateRaw }),
     recipes,
   }));
-  return { path: file, dir, description: top.description as string | undefined, matrices, recipes, fingerprint, ...(timing ? { timing } : {}) };
+  const suite: Suite = { path: file, dir, description: top.description as string | undefined, matrices, recipes, fingerprint, ...(timing ? { timing } : {}) };
+  if (grids.length > 0) suite.grids = grids;
+  return suite;
 }
 
 /** Read, parse and validate a suite file; also checks that every referenced file exists. */

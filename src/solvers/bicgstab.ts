@@ -2,7 +2,8 @@ import type { LinearOperator, ResidualCheck, SolveResult, Cause } from './types.
 import { isSolved } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
-import { residualInto, startResidual } from './operator.js';
+import { applyWorkOf, residualInto, startResidual } from './operator.js';
+import { addWork, vectorWork, zeroWork } from './work.js';
 import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy, dot, norm2 } from './vector.js';
@@ -36,6 +37,8 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
   const work = {};
 
   const meter = meterPreconditioner(M);
+  const counts = zeroWork();
+  const Aw = applyWorkOf(A);
   const t0 = performance.now();
   const history: number[] = [];
   const residualChecks: ResidualCheck[] = [];
@@ -49,14 +52,14 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
   const finish = (cause: Cause): SolveResult => buildResult({
     method, M, cause, iterations, restarts, history, watched: 'plain', relativeTo: opts.relativeTo,
     referenceNorm: rule.referenceNorm, trueReferenceNorm: rule.referenceNorm, trueResidualNorm: trueNorm,
-    residualChecks, residualMismatch, solveSeconds: secondsSince(t0), meter, krylov, work, failure,
+    residualChecks, residualMismatch, solveSeconds: secondsSince(t0), meter, krylov, work, counts, failure,
   });
   const stopMonitor = (): SolveResult => {
     failure = { message: 'stopped by the onIteration monitor' };
     return finish('iteration-budget');
   };
 
-  const start = startResidual(A, b, x, r, opts.relativeTo);
+  const start = startResidual(A, b, x, r, opts.relativeTo, counts);
   trueNorm = start.trueNorm;
   if (start.stop) { history.push(trueNorm); return finish(start.stop); }
   rule.referenceNorm = start.trueBase;
@@ -72,10 +75,13 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
     let rho = 1, alpha = 1, omega = 1;
     p.fill(0);
     v.fill(0);
+    addWork(counts, vectorWork.copy(n));
+    addWork(counts, vectorWork.fill(n), 2);
     let rNorm = trueNorm;
     vote = 'continue';
     while (iterations < opts.maxIterations) {
       const rhoNew = dot(n, rHat, r);
+      addWork(counts, vectorWork.dot(n));
       if (rhoNew === 0 || !Number.isFinite(rhoNew)) {
         vote = Number.isFinite(rhoNew) ? 'method-breakdown' : 'non-finite-value';
         failure = vote === 'method-breakdown' ? { message: 'bicgstab: (r̂, r) = 0' } : undefined;
@@ -86,6 +92,9 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
       if (M) meter.apply(p, pHat);
       A.apply(pHat, v);
       const rv = dot(n, rHat, v);
+      addWork(counts, vectorWork.bicgstabDirection(n));
+      addWork(counts, Aw);
+      addWork(counts, vectorWork.dot(n));
       if (rv === 0 || !Number.isFinite(rv)) {
         vote = Number.isFinite(rv) ? 'method-breakdown' : 'non-finite-value';
         failure = vote === 'method-breakdown' ? { message: 'bicgstab: (r̂, A M⁻¹ p) = 0' } : undefined;
@@ -94,11 +103,15 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
       alpha = rhoNew / rv;
       for (let i = 0; i < n; i++) s[i] = r[i] - alpha * v[i];
       const sNorm = norm2(n, s);
+      addWork(counts, vectorWork.waxpy(n));
+      addWork(counts, vectorWork.norm2(n));
       const sVote = residualVote(rule, sNorm);
       if (sVote === 'relative-target' || sVote === 'absolute-target') {
         // half step suffices: x ← x + α p̂ (counts as an iteration)
         axpy(n, alpha, pHat, x);
         r.set(s);
+        addWork(counts, vectorWork.axpy(n));
+        addWork(counts, vectorWork.copy(n));
         rNorm = sNorm;
         iterations++;
         rel = relative(rNorm, rule.referenceNorm);
@@ -115,6 +128,12 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
       for (let i = 0; i < n; i++) r[i] = s[i] - omega * t[i];
       rho = rhoNew;
       rNorm = norm2(n, r);
+      // A ŝ, (t, t), (t, s), two updates of x, r ← s − ω t, ‖r‖ (ω's division is scalar)
+      addWork(counts, Aw);
+      addWork(counts, vectorWork.dot(n), 2);
+      addWork(counts, vectorWork.axpy(n), 2);
+      addWork(counts, vectorWork.waxpy(n));
+      addWork(counts, vectorWork.norm2(n));
       iterations++;
       rel = relative(rNorm, rule.referenceNorm);
       history.push(rel);
@@ -124,7 +143,7 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
       if (omega === 0) { vote = 'method-breakdown'; failure = { message: 'bicgstab: ω = 0 (stagnation)' }; break; }
     }
     const estimate = relative(rNorm, rule.referenceNorm);
-    trueNorm = residualInto(A, b, x, r);
+    trueNorm = residualInto(A, b, x, r, counts);
     const trueRel = relative(trueNorm, rule.referenceNorm);
     residualChecks.push({ iteration: iterations, estimate, trueValue: trueRel });
     if (residualsDisagree(estimate, trueRel, opts.rtol)) residualMismatch = true;

@@ -3,7 +3,8 @@ import type { LinearOperator, ResidualCheck, SolveResult, Cause } from './types.
 import { isSolved } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
-import { residualInto, startResidual } from './operator.js';
+import { applyWorkOf, residualInto, startResidual } from './operator.js';
+import { addWork, kernel, vectorWork, zeroWork } from './work.js';
 import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy, axpyDot, axpyNorm2, dot, isZero, norm2, scale } from './vector.js';
@@ -73,6 +74,9 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
   const work = bytesOf({ residual: r, product: w, preconditioned: z });
 
   const meter = meterPreconditioner(M);
+  // work counts: the solver's own products and vector operations (the preconditioner counts its own)
+  const counts = zeroWork();
+  const Aw = applyWorkOf(A);
   const t0 = performance.now();
   const history: number[] = [];
   const residualChecks: ResidualCheck[] = [];
@@ -90,13 +94,14 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     method, M, cause, iterations, restarts, history, watched: left ? 'left-preconditioned' : 'plain',
     relativeTo: opts.relativeTo, referenceNorm: rule.referenceNorm, trueReferenceNorm: trueBase,
     trueResidualNorm: trueNorm, residualChecks, residualMismatch, solveSeconds: secondsSince(t0 + ritzMs), meter,
-    krylov, work, ritz, failure,
+    krylov, work, counts, ritz, failure,
   });
 
 
   // ---- iteration 0 ----
   const x0Zero = isZero(n, x);
-  const start = startResidual(A, b, x, r, opts.relativeTo);
+  addWork(counts, vectorWork.scan(n));
+  const start = startResidual(A, b, x, r, opts.relativeTo, counts);
   trueNorm = start.trueNorm;
   if (start.stop) { history.push(trueNorm); return finish(start.stop); }
   trueBase = start.trueBase;
@@ -105,9 +110,10 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
   if (left) {
     meter.apply(r, vs[0]);
     beta = norm2(n, vs[0]);
+    addWork(counts, vectorWork.norm2(n));
     if (opts.relativeTo === 'rhs') {
       if (x0Zero) rule.referenceNorm = beta;
-      else { meter.apply(b, w); rule.referenceNorm = norm2(n, w); }
+      else { meter.apply(b, w); rule.referenceNorm = norm2(n, w); addWork(counts, vectorWork.norm2(n)); }
     } else rule.referenceNorm = beta;
     if (rule.referenceNorm === 0 && Number.isFinite(beta) && trueNorm > 0) {
       history.push(Infinity);
@@ -116,6 +122,7 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     }
   } else {
     vs[0].set(r);
+    addWork(counts, vectorWork.copy(n));
     beta = trueNorm;
     rule.referenceNorm = trueBase;
   }
@@ -132,6 +139,7 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
   // ---- cycles ----
   for (let cycle = 0; ; cycle++) {
     scale(n, 1 / beta, vs[0]);
+    addWork(counts, vectorWork.scale(n));
     g.fill(0);
     g[0] = beta;
     let k = 0;
@@ -145,8 +153,10 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
       else if (left) { A.apply(vj, z!); meter.apply(z!, next); }
       else if (Z) { meter.apply(vj, zs[j]); A.apply(zs[j], next); }
       else { meter.apply(vj, z!); A.apply(z!, next); }
+      addWork(counts, Aw);
       const hc = j * ldh;
       const wNorm0 = norm2(n, next);
+      addWork(counts, vectorWork.norm2(n));
       let hNext: number;
       if (opts.orthogonalization === 'mgs') {
         // modified Gram–Schmidt; each update is fused with the next dot product (same arithmetic)
@@ -157,6 +167,9 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
         }
         H[hc + j] = hij;
         hNext = axpyNorm2(n, -hij, vs[j], next);
+        addWork(counts, vectorWork.dot(n));
+        addWork(counts, vectorWork.axpyDot(n), j);
+        addWork(counts, vectorWork.axpyNorm2(n));
       } else {
         // classical Gram–Schmidt, twice ("twice is enough", Giraud, Langou & Rozložník 2005)
         for (let i = 0; i <= j; i++) H[hc + i] = 0;
@@ -165,11 +178,15 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
           for (let i = 0; i <= j; i++) { axpy(n, -hTmp[i], vs[i], next); H[hc + i] += hTmp[i]; }
         }
         hNext = norm2(n, next);
+        addWork(counts, vectorWork.dot(n), 2 * (j + 1));
+        addWork(counts, vectorWork.axpy(n), 2 * (j + 1));
+        addWork(counts, kernel(2 * (j + 1), 0)); // H += hTmp
+        addWork(counts, vectorWork.norm2(n));
       }
       H[hc + j + 1] = hNext;
       if (Hraw && cycle === 0) for (let i = 0; i <= j + 1; i++) Hraw[hc + i] = H[hc + i];
       const happy = !(hNext > HAPPY * wNorm0);
-      if (!happy) scale(n, 1 / hNext, next);
+      if (!happy) { scale(n, 1 / hNext, next); addWork(counts, vectorWork.scale(n)); }
       // previous rotations, then a new one that zeroes H[j+1, j]
       for (let i = 0; i < j; i++) {
         const a = H[hc + i], c = H[hc + i + 1];
@@ -183,6 +200,9 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
       H[hc + j + 1] = 0;
       g[j + 1] = -sn[j] * g[j];
       g[j] = cs[j] * g[j];
+      // Givens: 6 flops per earlier rotation applied; the new one: hypot (2 mul + 1 add), cs and sn
+      // (2 divisions unless d = 0), the two updates of g (2 mul)
+      addWork(counts, kernel(6 * j + 3 + (d === 0 ? 0 : 2) + 2, 0));
       iterations++;
       k = j + 1;
       estimate = Math.abs(g[j + 1]);
@@ -201,7 +221,7 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     }
     if (cycleVote === 'non-finite-value') {
       // keep x from the cycle start: this cycle's basis holds NaN/Inf
-      trueNorm = residualInto(A, b, x, r);
+      trueNorm = residualInto(A, b, x, r, counts);
       return finish('non-finite-value');
     }
     // y ← R⁻¹ g (R = rotated H, upper triangular k×k)
@@ -213,25 +233,31 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
       if (!(Math.abs(rii) > 0)) { singularAt = i; break; }
       y[i] = s / rii;
     }
+    // back substitution: row i has k−1−i multiply-subtracts and one division
+    addWork(counts, kernel(singularAt >= 0 ? (k - singularAt) * (k - singularAt) - 1 : k * k, 0));
     if (singularAt >= 0) {
-      trueNorm = residualInto(A, b, x, r);
+      trueNorm = residualInto(A, b, x, r, counts);
       failure = { message: `${method}: the Hessenberg matrix is singular at step ${iterations - k + singularAt + 1} (operator singular on the Krylov space)` };
       return finish('method-breakdown');
     }
     // x ← x + (preconditioned) basis · y
     if (Z) {
       for (let l = 0; l < k; l++) axpy(n, y[l], zs[l], x);
+      addWork(counts, vectorWork.axpy(n), k);
     } else if (M && !left) {
       w.fill(0);
       for (let l = 0; l < k; l++) axpy(n, y[l], vs[l], w);
       meter.apply(w, z!);
       axpy(n, 1, z!, x);
+      addWork(counts, vectorWork.fill(n));
+      addWork(counts, vectorWork.axpy(n), k + 1);
     } else {
       for (let l = 0; l < k; l++) axpy(n, y[l], vs[l], x);
+      addWork(counts, vectorWork.axpy(n), k);
     }
 
     // true residual beside the recursive estimate; the next cycle starts from it
-    trueNorm = residualInto(A, b, x, r);
+    trueNorm = residualInto(A, b, x, r, counts);
     let watchedNow = trueNorm;
     const check: ResidualCheck = {
       iteration: iterations, estimate: rel, trueValue: relative(trueNorm, trueBase),
@@ -239,9 +265,11 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     if (left) {
       meter.apply(r, vs[0]);
       watchedNow = norm2(n, vs[0]);
+      addWork(counts, vectorWork.norm2(n));
       check.watchedValue = relative(watchedNow, rule.referenceNorm);
     } else {
       vs[0].set(r);
+      addWork(counts, vectorWork.copy(n));
     }
     residualChecks.push(check);
     if (residualsDisagree(rel, relative(watchedNow, rule.referenceNorm), opts.rtol)) residualMismatch = true;

@@ -1,14 +1,16 @@
 import type { Bsr, Csr } from '../sparse/types.js';
 import { csrSpmvKernel } from '../sparse/csr.js';
 import { bsrSpmvKernel } from '../sparse/bsr.js';
-import type { BufferBytes, LinearOperator, RelativeTo } from './types.js';
+import type { BufferBytes, LinearOperator, RelativeTo, WorkCounts } from './types.js';
 import { norm2 } from './vector.js';
+import { addWork, kernel, sparseWork, vectorWork } from './work.js';
 
 /** A matrix seen as an operator, with the bytes its arrays hold (for the memory report). */
 export interface MatrixOperator extends LinearOperator {
   readonly format: 'csr' | 'bsr';
   /** Bytes by named array: rowPtr, colInd, values. */
   readonly bytes: BufferBytes;
+  readonly applyWork: WorkCounts;
 }
 
 function checkApply(name: string, n: number, x: Float64Array, y: Float64Array): void {
@@ -25,6 +27,7 @@ export function csrOperator(a: Csr): MatrixOperator {
   return {
     n,
     format: 'csr',
+    applyWork: sparseWork.csrSpmv(n, colInd.length),
     bytes: { rowPtr: rowPtr.byteLength, colInd: colInd.byteLength, values: values.byteLength },
     apply(x, y) {
       checkApply('csrOperator', n, x, y);
@@ -43,6 +46,7 @@ export function bsrOperator(a: Bsr): MatrixOperator {
   return {
     n,
     format: 'bsr',
+    applyWork: sparseWork.bsrSpmv(nBlockRows, bs, colInd.length),
     bytes: { rowPtr: rowPtr.byteLength, colInd: colInd.byteLength, values: values.byteLength },
     apply(x, y) {
       checkApply('bsrOperator', n, x, y);
@@ -51,11 +55,26 @@ export function bsrOperator(a: Bsr): MatrixOperator {
   };
 }
 
-/** r ← b − A x; returns ‖r‖₂ (the true residual every solver checks its estimate against). */
-export function residualInto(A: LinearOperator, b: Float64Array, x: Float64Array, r: Float64Array): number {
+/** The cost of one A.apply (A.applyWork, or matvecs 1 and nothing else when A does not say). */
+export function applyWorkOf(A: LinearOperator): WorkCounts {
+  return A.applyWork ?? { ...kernel(0, 0), matvecs: 1 };
+}
+
+/**
+ * r ← b − A x; returns ‖r‖₂ (the true residual every solver checks its estimate against).
+ * With `work`, adds its cost: one apply, the subtraction pass and the norm.
+ */
+export function residualInto(
+  A: LinearOperator, b: Float64Array, x: Float64Array, r: Float64Array, work?: WorkCounts,
+): number {
   const n = A.n;
   A.apply(x, r);
   for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
+  if (work) {
+    addWork(work, applyWorkOf(A));
+    addWork(work, vectorWork.subtractFrom(n));
+    addWork(work, vectorWork.norm2(n));
+  }
   return norm2(n, r);
 }
 
@@ -67,13 +86,16 @@ export function residualInto(A: LinearOperator, b: Float64Array, x: Float64Array
  */
 export function startResidual(
   A: LinearOperator, b: Float64Array, x: Float64Array, r: Float64Array, relativeTo: RelativeTo,
+  work?: WorkCounts,
 ): { stop: 'non-finite-value' | 'relative-target'; trueNorm: number } | { stop: undefined; trueNorm: number; trueBase: number } {
   const bNorm = norm2(A.n, b);
+  if (work) addWork(work, vectorWork.norm2(A.n));
   if (!Number.isFinite(bNorm)) return { stop: 'non-finite-value', trueNorm: NaN };
   if (bNorm === 0) {
     x.fill(0);
+    if (work) addWork(work, vectorWork.fill(A.n));
     return { stop: 'relative-target', trueNorm: 0 };
   }
-  const trueNorm = residualInto(A, b, x, r);
+  const trueNorm = residualInto(A, b, x, r, work);
   return { stop: undefined, trueNorm, trueBase: relativeTo === 'rhs' ? bNorm : trueNorm };
 }

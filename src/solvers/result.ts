@@ -2,7 +2,8 @@ import type { Preconditioner } from '../precond/types.js';
 import type {
   BufferBytes, Cause, RelativeTo, ResidualCheck, SolveMemory, SolveResult, WatchedNorm,
 } from './types.js';
-import { isSolved, outcomeOf } from './types.js';
+import { isSolved, outcomeOf, type WorkCounts } from './types.js';
+import { addWork, workDifference, zeroWork } from './work.js';
 
 /** Peak resident set size of this process so far, in bytes (maxRSS is reported in kilobytes). */
 export function peakRssBytes(): number {
@@ -29,6 +30,10 @@ export interface PreconditionerMeter {
   seconds: number;
   /** Set when M.apply threw: the run then ends as 'preconditioner-error' with this message. */
   failure?: string;
+  /** M.work().apply when the meter was made (the solve's share is the difference at the end). */
+  readonly applyWorkAtStart: WorkCounts;
+  /** M.work().apply now minus at start: the preconditioner's work during this solve. */
+  applyWorkSinceStart(): WorkCounts;
   apply(r: Float64Array, z: Float64Array): void;
 }
 
@@ -38,9 +43,12 @@ export interface PreconditionerMeter {
  * non-finite, and buildResult reports 'preconditioner-error' with the message.
  */
 export function meterPreconditioner(M: Preconditioner | undefined): PreconditionerMeter {
+  const applyWorkAtStart = M ? { ...M.work().apply } : zeroWork();
   const meter: PreconditionerMeter = {
     applications: 0,
     seconds: 0,
+    applyWorkAtStart,
+    applyWorkSinceStart: () => (M ? workDifference(M.work().apply, applyWorkAtStart) : zeroWork()),
     apply(r, z) {
       if (!M) { z.set(r); return; }
       const t0 = performance.now();
@@ -83,7 +91,10 @@ export interface SolverOutcome {
   solveSeconds: number;
   meter: PreconditionerMeter;
   krylov: BufferBytes;
+  /** Work-vector bytes (memory report). */
   work: BufferBytes;
+  /** The solver's own work (its products, vector operations, start and checks), preconditioner excluded. */
+  counts: WorkCounts;
   ritz?: { re: number[]; im: number[] };
   failure?: { message: string; blockRow?: number };
 }
@@ -127,6 +138,7 @@ export function buildResult(o: SolverOutcome): SolveResult {
       secondsPerPreconditionerApply: o.meter.applications > 0 ? o.meter.seconds / o.meter.applications : 0,
     },
     memory,
+    work: { setup: zeroWork(), solve: addWork({ ...o.counts }, o.meter.applyWorkSinceStart()) },
   };
   if (o.ritz) result.ritz = o.ritz;
   if (o.failure) result.failure = o.failure;

@@ -8,6 +8,7 @@ import { bsrOperator, csrOperator, residualInto, type MatrixOperator } from './o
 import { krylovSolve } from './krylov.js';
 import { buildResult, meterPreconditioner, peakRssBytes, relative, secondsSince, sumBytes } from './result.js';
 import { norm2 } from './vector.js';
+import { addWork, vectorWork, zeroWork } from './work.js';
 
 export interface SolveSystemOptions {
   /** Initial guess (copied; default zeros). */
@@ -59,6 +60,7 @@ export function solveSystem(
     result = krylovSolve(A, b, x, recipe, M, { onIteration: opts.onIteration });
   }
   result.timing.setupSeconds = setupSeconds;
+  if (M) result.work.setup = { ...M.work().setup };
   const mem = result.memory;
   mem.buffers.matrix = { ...A.bytes };
   mem.matrixBytes = sumBytes(A.bytes);
@@ -79,8 +81,10 @@ function setupFailure(
 ): SolveResult {
   const n = A.n;
   const r = new Float64Array(n);
-  const rNorm = residualInto(A, b, x, r);
+  const counts = zeroWork();
+  const rNorm = residualInto(A, b, x, r, counts);
   const base = recipe.relativeTo === 'rhs' ? norm2(n, b) : rNorm;
+  if (recipe.relativeTo === 'rhs') addWork(counts, vectorWork.norm2(n));
   const failure: { message: string; blockRow?: number } = { message: outcome.message };
   if (outcome.blockRow !== undefined) failure.blockRow = outcome.blockRow;
   return buildResult({
@@ -90,6 +94,6 @@ function setupFailure(
     watched: recipe.side === 'left' && recipe.krylov === 'gmres' ? 'left-preconditioned' : 'plain',
     relativeTo: recipe.relativeTo, referenceNorm: base, trueReferenceNorm: base, trueResidualNorm: rNorm,
     residualChecks: [], residualMismatch: false, solveSeconds: 0, meter: meterPreconditioner(undefined),
-    krylov: {}, work: {}, failure,
+    krylov: {}, work: {}, counts, failure,
   });
 }

@@ -2,6 +2,7 @@ import type { LinearOperator, SolveResult, Cause } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { checkKrylovOptions, checkVectors } from './options.js';
 import { residualInto, startResidual } from './operator.js';
+import { addWork, vectorWork, zeroWork } from './work.js';
 import { combineVotes, isStop, monitorVote, residualVote, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy } from './vector.js';
@@ -26,6 +27,7 @@ export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, 
   const krylov = {};
   const work = bytesOf({ residual: r, correction: z });
   const meter = meterPreconditioner(M);
+  const counts = zeroWork();
   const t0 = performance.now();
   const history: number[] = [];
   let iterations = 0;
@@ -37,10 +39,10 @@ export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, 
     method, M, cause, iterations, restarts: 0, history, watched: 'plain', relativeTo: opts.relativeTo,
     referenceNorm: rule.referenceNorm, trueReferenceNorm: rule.referenceNorm, trueResidualNorm: trueNorm,
     residualChecks: [{ iteration: iterations, estimate: history[history.length - 1], trueValue: relative(trueNorm, rule.referenceNorm) }],
-    residualMismatch: false, solveSeconds: secondsSince(t0), meter, krylov, work, failure,
+    residualMismatch: false, solveSeconds: secondsSince(t0), meter, krylov, work, counts, failure,
   });
 
-  const start = startResidual(A, b, x, r, opts.relativeTo);
+  const start = startResidual(A, b, x, r, opts.relativeTo, counts);
   trueNorm = start.trueNorm;
   if (start.stop) { history.push(trueNorm); return finish(start.stop); }
   rule.referenceNorm = start.trueBase;
@@ -49,8 +51,10 @@ export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, 
   let vote: Vote = combineVotes(residualVote(rule, trueNorm), monitorVote(opts.onIteration, 0, rel));
   while (!isStop(vote) && iterations < opts.maxIterations) {
     meter.apply(r, z);
+    if (!M) addWork(counts, vectorWork.copy(n)); // the meter copies r into z
     axpy(n, omega, z, x);
-    trueNorm = residualInto(A, b, x, r);
+    addWork(counts, vectorWork.axpy(n));
+    trueNorm = residualInto(A, b, x, r, counts);
     iterations++;
     rel = relative(trueNorm, rule.referenceNorm);
     history.push(rel);

@@ -7,6 +7,27 @@ export interface LinearOperator {
   readonly n: number;
   /** y ← A x. x and y must be different arrays of length n; x is never modified. */
   apply(x: Float64Array, y: Float64Array): void;
+  /**
+   * The cost of ONE apply by the work model (src/solvers/work.ts), matvecs 1; a constant formula of
+   * the matrix, not a running count. Solvers add it per apply they make. Absent for an operator
+   * that does not know its cost: its applications are still counted (matvecs), its flops and
+   * bytes are not.
+   */
+  readonly applyWork?: WorkCounts;
+}
+
+/**
+ * Exact, machine-independent work of one phase (README "Work model"): operator applications,
+ * preconditioner applications, iterations of nested (inner) solves, floating-point operations and
+ * bytes moved, each from its kernel's formula. Nested solves add all their work to the phase that
+ * ran them (an FGMRES + slab solve counts the inner GMRES products in matvecs).
+ */
+export interface WorkCounts {
+  matvecs: number;
+  preconditionerApplies: number;
+  innerIterations: number;
+  flops: number;
+  bytes: number;
 }
 
 /**
@@ -116,6 +137,12 @@ export interface SolveResult {
   residualMismatch: boolean;
   timing: SolveTiming;
   memory: SolveMemory;
+  /**
+   * Work counts by phase: setup = the preconditioner's setup (zeros without one); solve = the
+   * iterations, start and true-residual checks included, with every preconditioner application.
+   * Ritz values are a report and not counted. Results converted from schema version 1 lack it.
+   */
+  work: { setup: WorkCounts; solve: WorkCounts };
   /** Ritz values from the first GMRES cycle's Hessenberg matrix (preconditioned spectrum estimate). */
   ritz?: { re: number[]; im: number[] };
   /** When cause is 'preconditioner-error' or 'method-breakdown' (or a monitor stop): what and where. */

@@ -35,7 +35,8 @@ describe('slabbench solve', () => {
   it('solves with b = A·1 by default, prints a short summary and exits 0', async () => {
     const r = await run(['solve', tri]);
     expect(r.code).toBe(0);
-    expect(r.out).toMatch(/solved \(relative-target\) after \d+ iterations \(0 restarts\)/);
+    expect(r.out).toMatch(/solved \(relative-target\) after \d+ iterations \(0 restarts; \d+ matvecs, 0 preconditioner applies\)/);
+    expect(r.out).toMatch(/work +setup 0 flops, 0 B moved; solve \d/);
     expect(r.out).toMatch(/b = A·1: max \|x − 1\|/);
     expect(r.out).toMatch(/watched: plain residual ‖b − Ax‖/);
     expect(r.out).toMatch(/memory +matrix/);
@@ -55,7 +56,7 @@ describe('slabbench solve', () => {
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);
     for (const key of ['iterations', 'restarts', 'converged', 'outcome', 'cause', 'history', 'trueRelativeResidual', 'watched',
-      'relativeTo', 'referenceNorm', 'trueReferenceNorm', 'residualChecks', 'residualMismatch', 'timing', 'memory', 'matrix', 'recipe', 'rhs', 'errorVsOnes']) {
+      'relativeTo', 'referenceNorm', 'trueReferenceNorm', 'work', 'residualChecks', 'residualMismatch', 'timing', 'memory', 'matrix', 'recipe', 'rhs', 'errorVsOnes']) {
       expect(doc).toHaveProperty(key);
     }
     expect(doc.schema).toBe('slabbench-solve/1');

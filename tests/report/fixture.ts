@@ -70,6 +70,10 @@ function result(o: {
       peakBytes: 80 * 1024 * 1024,
       buffers: { matrix: { values: o.matrixBytes }, preconditioner: { factors: o.precBytes }, krylov: { basis: o.krylovBytes }, work: { r: 4096 } },
     },
+    work: {
+      setup: { matvecs: 0, preconditionerApplies: 0, innerIterations: 0, flops: 40 * o.precBytes, bytes: 3 * o.precBytes },
+      solve: { matvecs: iterations + 2, preconditionerApplies: iterations + 1, innerIterations: 0, flops: (iterations + 2) * o.matrixBytes / 6, bytes: (iterations + 2) * (o.matrixBytes + 2 * o.precBytes) },
+    },
     ...(o.ritz ? { ritz: o.ritz } : {}),
   };
 }

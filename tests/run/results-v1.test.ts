@@ -1,7 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { readResults, validateResults } from '../../src/run/results.js';
+import { readResults, resultsCsv, validateResults } from '../../src/run/results.js';
 import { readHistory } from '../../src/run/history.js';
 import { compareWithBaseline } from '../../src/run/baseline.js';
 import { RESULTS_SCHEMA } from '../../src/run/results-types.js';
@@ -102,6 +102,27 @@ describe('reading version-1 results documents', () => {
       ['gmres-atol', 'absolute-target', 'solved'],
     ]);
     for (const r of entry.runs) expect(r).not.toHaveProperty('reason');
+  });
+});
+
+describe('work counts in version-2 documents', () => {
+  it('are checked field by field when present, and carried in the CSV', () => {
+    const doc = JSON.parse(JSON.stringify(readResults(v1Path)));
+    doc.runs[0].result.work = { setup: { matvecs: 0, preconditionerApplies: 0, innerIterations: 0, flops: 10, bytes: 80 },
+      solve: { matvecs: 20, preconditionerApplies: 19, innerIterations: 0, flops: 1e6, bytes: 8e6 } };
+    const ok = validateResults(JSON.parse(JSON.stringify(doc)), 'r.json');
+    const lines = resultsCsv(ok).trim().split('\n');
+    const head = lines[0].split(',');
+    const first = lines[1].split(',');
+    expect(first[head.indexOf('matvecs')]).toBe('20');
+    expect(first[head.indexOf('preconditionerApplies')]).toBe('19');
+    expect(first[head.indexOf('setupFlops')]).toBe('10');
+    expect(first[head.indexOf('solveBytes')]).toBe('8000000');
+    expect(lines[2].split(',')[head.indexOf('matvecs')]).toBe(''); // converted from version 1: no counts
+    doc.runs[0].result.work.solve.flops = -1;
+    expect(() => validateResults(doc, 'r.json')).toThrow('r.json: runs[0].result.work.solve.flops: expected a finite number ≥ 0, got -1');
+    doc.runs[0].result.work = { setup: {} };
+    expect(() => validateResults(doc, 'r.json')).toThrow('r.json: runs[0].result.work.setup.matvecs: expected a finite number ≥ 0, got undefined');
   });
 });
 

@@ -3,7 +3,7 @@ import { gmres } from '../../src/solvers/gmres.js';
 import { csrOperator } from '../../src/solvers/operator.js';
 import type { Preconditioner } from '../../src/precond/types.js';
 import {
-  convectionDiffusion, csrFromTriplets, exactInverse, ilu0Double, csrMatVec, maxAbsDiff, opts, tridiag,
+  convectionDiffusion, csrFromTriplets, exactInverse, ilu0Double, csrMatVec, maxAbsDiff, noWork, opts, tridiag,
 } from './helpers.js';
 
 /** Half a unit in the last printed digit of a published number. */
@@ -161,7 +161,7 @@ describe('gmres: properties', () => {
     // M alternates between two different diagonal scalings (a variable preconditioner).
     let calls = 0;
     const vary: Preconditioner = {
-      name: 'alternating', n, variable: true, setup: () => ({ ok: true }), memory: () => ({}),
+      name: 'alternating', n, variable: true, setup: () => ({ ok: true }), memory: () => ({}), work: noWork,
       apply(r0, z) { calls++; const s = calls % 2 ? 0.25 : 0.1; for (let i = 0; i < n; i++) z[i] = r0[i] * (s + (i % 3) * 0.05); },
     };
     const xf = new Float64Array(n);
@@ -186,7 +186,7 @@ describe('gmres: properties', () => {
 
   it('a preconditioner returning Inf ends the run as non-finite', () => {
     const inf: Preconditioner = {
-      name: 'inf', n, variable: false, setup: () => ({ ok: true }), memory: () => ({}),
+      name: 'inf', n, variable: false, setup: () => ({ ok: true }), memory: () => ({}), work: noWork,
       apply(_r, z) { z.fill(Infinity); },
     };
     const r = gmres(csrOperator(A), b, new Float64Array(n), opts({ M: inf }));
@@ -227,7 +227,7 @@ describe('gmres: a preconditioner that throws', () => {
     const A = tridiag(10, -1, 2, -1);
     let calls = 0;
     const M: Preconditioner = {
-      name: 'fragile', n: 10, variable: false, setup: () => ({ ok: true }), memory: () => ({}),
+      name: 'fragile', n: 10, variable: false, setup: () => ({ ok: true }), memory: () => ({}), work: noWork,
       apply(r, z) { if (++calls === 3) throw new Error('inner solve exploded'); z.set(r); },
     };
     const r = gmres(csrOperator(A), new Float64Array(10).fill(1), new Float64Array(10), opts({ M }));

@@ -3,6 +3,12 @@ import { Matrix, inverse } from 'ml-matrix';
 import type { Csr } from '../../src/sparse/types.js';
 import type { Preconditioner } from '../../src/precond/types.js';
 import type { KrylovOptions } from '../../src/solvers/options.js';
+import { zeroWork } from '../../src/solvers/work.js';
+
+/** work() of a test double that does not model its cost (zeros). */
+export function noWork(): ReturnType<Preconditioner['work']> {
+  return { setup: zeroWork(), apply: zeroWork() };
+}
 
 export { convectionDiffusion, csrFromTriplets, csrMatVec, poisson2d, tridiag } from '../sparse/model-matrices.js';
 export { maxAbsDiff } from '../sparse/random-sparse.js';
@@ -29,6 +35,7 @@ export function exactInverse(a: Csr): Preconditioner {
       }
     },
     memory: () => ({ inverse: flat.byteLength }),
+    work: noWork,
   };
 }
 
@@ -41,6 +48,7 @@ export function pointJacobi(a: Csr): Preconditioner {
     name: 'jacobi-double', n, variable: false, setup: () => ({ ok: true }),
     apply(r, z) { for (let i = 0; i < n; i++) z[i] = r[i] / d[i]; },
     memory: () => ({ diagonal: d.byteLength }),
+    work: noWork,
   };
 }
 
@@ -62,6 +70,7 @@ export function forwardSor(a: Csr, omega: number): Preconditioner {
       }
     },
     memory: () => ({}),
+    work: noWork,
   };
 }
 
@@ -99,6 +108,7 @@ export function ilu0Double(a: Csr): Preconditioner {
       }
     },
     memory: () => ({ factors: lu.byteLength }),
+    work: noWork,
   };
 }
 
