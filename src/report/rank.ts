@@ -279,14 +279,29 @@ const COST_WORDS: Record<RankBy, string> = {
   iterations: 'iterations',
 };
 
+/** A cost value with its unit, three significant digits. */
+export function costText(by: RankBy, cost: number): string {
+  if (!Number.isFinite(cost)) return '–';
+  const sig = (x: number): string => String(Number(x.toPrecision(3)));
+  if (by === 'iterations') return `${cost} iterations`;
+  if (by === 'work') return cost >= 1e9 ? `${sig(cost / 1e9)} GB` : cost >= 1e6 ? `${sig(cost / 1e6)} MB` : cost >= 1e3 ? `${sig(cost / 1e3)} kB` : `${cost} B`;
+  return cost >= 1 ? `${sig(cost)} s` : cost >= 1e-3 ? `${sig(cost * 1e3)} ms` : `${sig(cost * 1e6)} µs`;
+}
+
 /** One sentence on the verdict: the winner, the tied first-place set, or why there is none. */
 export function verdictLine(m: MatrixRanking, mark = '★'): string {
   const how = COST_WORDS[m.by];
   if (m.firstPlace.length === 0) return 'no recipe converged on this matrix (by the true residual)';
-  if (m.winner) return `${mark} winner: ${m.winner} (converged, least ${how}, ahead of the runner-up beyond noise)`;
+  if (m.winner) {
+    const w = m.ranked.find((r) => r.winner)!;
+    const next = m.ranked.find((r) => r.converged && !r.winner);
+    const vs = next && Number.isFinite(next.cost) ? `; next ${next.run.recipe} ${costText(m.by, next.cost)}` : '';
+    return `${mark} winner: ${m.winner} (converged, least ${how}: ${costText(m.by, w.cost)}${vs}; ahead beyond noise)`;
+  }
   if (m.firstPlace.length > 1) {
     const why = m.by === 'time' ? `within the timing noise of this sweep (${pct(m.noise)}) or with overlapping timed ranges` : `equal ${how}`;
-    return `first place shared, no winner: ${m.firstPlace.join(', ')} (${why})${m.partial ? '; results are partial' : ''}`;
+    const costs = m.ranked.filter((r) => r.converged && r.rank === 1).map((r) => `${r.run.recipe} ${costText(m.by, r.cost)}`);
+    return `first place shared, no winner: ${costs.join(', ')} (${why})${m.partial ? '; results are partial' : ''}`;
   }
   return `leading: ${m.firstPlace[0]}, but no winner is declared: results are partial`;
 }

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { iterationsToReach, rankMatrix, rankOptionsFor, rankRuns, verdictLine } from '../../src/report/rank.js';
+import { costText, iterationsToReach, rankMatrix, rankOptionsFor, rankRuns, verdictLine } from '../../src/report/rank.js';
 import { timingNoise } from '../../src/run/timing.js';
 import type { RunRecord } from '../../src/run/results-types.js';
 import { isSolved, outcomeOf, type Cause } from '../../src/solvers/types.js';
@@ -95,12 +95,15 @@ describe('rankMatrix: ties, noise, true residual, tolerances, partial results', 
     expect(m.firstPlace).toEqual(['a', 'b']);
     expect(m.winner).toBeNull();
     expect(m.ranked.some((r) => r.winner)).toBe(false);
-    expect(verdictLine(m)).toBe('first place shared, no winner: a, b (within the timing noise of this sweep (0.0%) or with overlapping timed ranges)');
+    expect(verdictLine(m)).toBe('first place shared, no winner: a 1.1 s, b 1.25 s (within the timing noise of this sweep (0.0%) or with overlapping timed ranges)');
     const clear = rankMatrix([ok('a', [1.0, 1.05, 1.1]), ok('c', [2.0, 2.1, 2.2])]);
     expect(clear.winner).toBe('a');
     expect(clear.firstPlace).toEqual(['a']);
     expect(clear.ranked[0].winner).toBe(true);
-    expect(verdictLine(clear)).toMatch(/^★ winner: a \(/);
+    expect(verdictLine(clear)).toBe('★ winner: a (converged, least median setup + solve time: 1.05 s; next c 2.1 s; ahead beyond noise)');
+    expect(costText('work', 1.5e6)).toBe('1.5 MB');
+    expect(costText('modeled', 2.5e-4)).toBe('250 µs');
+    expect(costText('iterations', 12)).toBe('12 iterations');
   });
 
   it('medians closer than the noise tie even when the ranges do not overlap; beyond the noise they do not', () => {
@@ -168,7 +171,7 @@ describe('rankMatrix: ties, noise, true residual, tolerances, partial results', 
     const byWork = rankMatrix([a, b, c], { by: 'work' });
     expect(byWork.ranked.map((r) => [r.run.recipe, r.rank, r.cost])).toEqual([['c', 1, 1000], ['a', 1, 1000], ['b', 3, 1100]]);
     expect(byWork.firstPlace).toEqual(['c', 'a']); // equal cost: listed by fewer iterations
-    expect(verdictLine(byWork)).toBe('first place shared, no winner: c, a (equal bytes moved)');
+    expect(verdictLine(byWork)).toBe('first place shared, no winner: c 1 kB, a 1 kB (equal bytes moved)');
     const byIt = rankMatrix([a, b, c], { by: 'iterations' });
     expect(byIt.ranked.map((r) => [r.run.recipe, r.rank])).toEqual([['c', 1], ['a', 2], ['b', 2]]);
     expect(byIt.winner).toBe('c');
