@@ -10,6 +10,7 @@ import { createJacobi } from './jacobi.js';
 import { createBlockJacobi } from './block-jacobi.js';
 import { createBlockGs } from './block-gs.js';
 import { createIlu0 } from './ilu0.js';
+import { createBlockIluk } from './block-iluk.js';
 import { createBlockIlu0 } from './block-ilu0.js';
 import { createSlab } from './slab.js';
 
@@ -52,4 +53,5 @@ registerPreconditioner('block-jacobi', createBlockJacobi);
 registerPreconditioner('block-gs', createBlockGs);
 registerPreconditioner('ilu0', createIlu0);
 registerPreconditioner('block-ilu0', createBlockIlu0);
+registerPreconditioner('block-iluk', createBlockIluk);
 registerPreconditioner('slab', createSlab);

@@ -4,7 +4,7 @@ import { UserError, optionError } from '../util/errors.js';
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
  */
 export type KrylovName = 'gmres' | 'fgmres' | 'bicgstab' | 'none';
-export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'slab';
+export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk' | 'slab';
 export type SweepDirection = 'forward' | 'backward' | 'symmetric';
 export type OrderingName = 'natural' | 'rcm' | 'downstream' | 'mdf';
 export type PreconditionSide = 'right' | 'left';
@@ -13,7 +13,7 @@ export type BlockInverse = 'lu' | 'inverse';
 
 export const KRYLOV_NAMES: readonly KrylovName[] = ['gmres', 'fgmres', 'bicgstab', 'none'];
 export const PRECONDITIONER_NAMES: readonly PreconditionerName[] = [
-  'none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'slab',
+  'none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab',
 ];
 export const SWEEP_DIRECTIONS: readonly SweepDirection[] = ['forward', 'backward', 'symmetric'];
 export const ORDERING_NAMES: readonly OrderingName[] = ['natural', 'rcm', 'downstream', 'mdf'];
@@ -40,6 +40,8 @@ export interface Recipe {
   shift: number;
   /** Block-jacobi diagonal block solve: LU with partial pivoting, or explicit inverse. */
   blockInverse: BlockInverse;
+  /** Block ILU(k): level of fill k (0 = the pattern of A, i.e. block ILU(0)). */
+  fillLevel: number;
   /** Stop when ‖r‖ ≤ rtol · reference norm (‖b‖ or ‖r₀‖, see relativeTo) … */
   rtol: number;
   /** … or when ‖r‖ ≤ atol (absolute). 0 disables. */
@@ -67,6 +69,7 @@ export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
   sweeps: 1,
   shift: 0,
   blockInverse: 'inverse',
+  fillLevel: 1,
   rtol: 1e-8,
   atol: 0,
   maxIterations: 1000,
@@ -113,6 +116,7 @@ const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   sweeps: { kind: 'int', min: 1, max: 1000 },
   shift: { kind: 'number', min: 0, minOpen: false },
   blockInverse: { kind: 'enum', values: BLOCK_INVERSES },
+  fillLevel: { kind: 'int', min: 0, max: 64 },
   rtol: { kind: 'number', min: 0, minOpen: false, max: 1, maxOpen: true },
   atol: { kind: 'number', min: 0, minOpen: false },
   maxIterations: { kind: 'int', min: 0, max: 1e9 },
@@ -219,6 +223,7 @@ export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   sweeps: 'sweeps',
   shift: 'shift',
   blockInverse: 'block-inverse',
+  fillLevel: 'fill-level',
   rtol: 'rtol',
   atol: 'atol',
   maxIterations: 'max-iters',
