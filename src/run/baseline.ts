@@ -48,7 +48,7 @@ export const DEFAULT_TOLERANCE: Readonly<Tolerance> = Object.freeze({
 });
 
 /** The noise band: at least ×NOISE_BAND_MIN, else 1 + NOISE_BAND_FACTOR · (noise of the baseline + noise now). */
-export const NOISE_BAND_FACTOR = 2;
+export const NOISE_BAND_FACTOR = 3;
 export const NOISE_BAND_MIN = 1.25;
 
 /** Work counter names, in the order tables and messages list them. */

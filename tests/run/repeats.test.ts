@@ -124,7 +124,7 @@ describe('check: exact work counters and the time noise band', () => {
 
   it('time: medians compared within a band derived from the noise of both runs', () => {
     expect(noiseBand(undefined, undefined, undefined, undefined)).toBe(NOISE_BAND_MIN);
-    expect(noiseBand(0.1, 0.3, 0.2, 0.05)).toBeCloseTo(1 + 2 * (0.3 + 0.2), 12);
+    expect(noiseBand(0.1, 0.3, 0.2, 0.05)).toBeCloseTo(1 + 3 * (0.3 + 0.2), 12);
     const mk = (solves: number[]): ResultsDoc => {
       const doc = structuredClone(JSON.parse(readFileSync(join(t.dir, 'b', 'results.json'), 'utf8'))) as ResultsDoc;
       for (const r of doc.runs) {
@@ -139,11 +139,11 @@ describe('check: exact work counters and the time noise band', () => {
       return doc;
     };
     const base = mk([0.10, 0.11, 0.12]); // spread 0.2/1.1 ≈ 0.18
-    const noisyFine = mk([0.13, 0.15, 0.16]); // ×1.36 vs a band of 1 + 2·(0.18 + 0.2) ≈ 1.76
+    const noisyFine = mk([0.13, 0.15, 0.16]); // ×1.36 vs a band of 1 + 3·(0.18 + 0.2) ≈ 2.14
     let out = compareWithBaseline(noisyFine, base, { time: 'noise' });
     expect(out.timeCompared).toBe(true);
     expect(out.failures).toBe(0);
-    expect(out.rows[0].timeLimit).toBeCloseTo(1 + 2 * (0.02 / 0.11 + 0.03 / 0.15), 12);
+    expect(out.rows[0].timeLimit).toBeCloseTo(1 + 3 * (0.02 / 0.11 + 0.03 / 0.15), 12);
     const slow = mk([0.30, 0.31, 0.32]); // ×2.8 beyond the band
     out = compareWithBaseline(slow, base, { time: 'noise' });
     expect(out.failures).toBe(out.rows.length);
