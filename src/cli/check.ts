@@ -1,3 +1,4 @@
+import { plural } from '../report/format.js';
 import { existsSync, mkdirSync } from 'node:fs';
 import { dirname, resolve } from 'node:path';
 import { type Command, Option } from 'commander';
@@ -90,7 +91,7 @@ Examples:
       }
       if (!baselineExists) {
         writeFileAtomicSync(opts.baseline, resultsJson(current));
-        if (!opts.json) process.stdout.write(`baseline created: ${opts.baseline} (${current.runs.length} runs)\n`);
+        if (!opts.json) process.stdout.write(`baseline created: ${opts.baseline} (${plural(current.runs.length, 'run')})\n`);
         else process.stdout.write(`${JSON.stringify({ updated: true, created: true, baseline: opts.baseline, failures: 0, rows: [] })}\n`);
         return;
       }

@@ -2,8 +2,8 @@ import type { LoadedSystem, BlockSizeSource } from '../sparse/system.js';
 import { csrMemory } from '../sparse/csr.js';
 import { bsrMemory } from '../sparse/bsr.js';
 import {
-  blockDiagonalDominance, blocksAboveSlabDiagonal, blocksPerRow, detectBlockSize, stronglyConnectedBlocks,
-  symmetryInfo, type BlockDominance, type BlockSizeDetection,
+  blockDiagonalDominance, blocksAboveSlabDiagonal, blocksPerRow, detectBlockSize, nonzeroBlockPattern, stronglyConnectedBlocks,
+  symmetryInfo, triangularStructure, zeroBlocks, type BlockDominance, type BlockSizeDetection, type TriangularStructure,
 } from '../sparse/structure.js';
 import { detectFieldMajor, type FieldMajorDetection } from '../sparse/field-major.js';
 import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
@@ -35,7 +35,24 @@ export interface InspectReport {
   dominance: BlockDominance;
   /** From the layout's slabOffsets; null without them. */
   slabs: { nSlabs: number; minBlockRows: number; maxBlockRows: number; blocksAboveSlabDiagonal: number; blockLowerTriangular: boolean } | null;
-  components: { nComponents: number; largestBlockRows: number; givenOrderBlockLowerTriangular: boolean };
+  /** Strongly connected components of the stored block pattern (every stored block is an edge). */
+  components: { nComponents: number; largestBlockRows: number; givenOrderBlockLowerTriangular: boolean; triangularUnderPermutation: boolean };
+  /**
+   * The numerically nonzero block pattern: stored blocks that hold only zeros left out (upwind DG
+   * stores the outflow neighbour's block, which exact upwinding makes zero). Components and
+   * triangularity as for `components`, on this pattern.
+   */
+  nonzeroPattern: {
+    nBlocks: number;
+    zeroBlocks: number;
+    /** zeroBlocks / stored blocks (0 when nothing is stored). */
+    zeroBlockShare: number;
+    zeroDiagonalBlocks: number;
+    nComponents: number;
+    largestBlockRows: number;
+    givenOrderBlockLowerTriangular: boolean;
+    triangularUnderPermutation: boolean;
+  };
   storage: { csr: Record<string, number>; bsr: Record<string, number>; csrBytes: number; bsrBytes: number };
 }
 
@@ -50,6 +67,9 @@ export function buildInspectReport(sys: LoadedSystem): InspectReport {
   for (let k = 0; k < nnz; k++) if (csr.values[k] === 0) explicitZeros++;
   const sym = symmetryInfo(csr);
   const comps = stronglyConnectedBlocks(bsr);
+  const zeros = zeroBlocks(bsr);
+  const nonzero: TriangularStructure = triangularStructure(nonzeroBlockPattern(bsr));
+  const nBlocks = bsr.rowPtr[bsr.nBlockRows];
   let slabs: InspectReport['slabs'] = null;
   if (sys.slabOffsets !== undefined) {
     const off = sys.slabOffsets;
@@ -88,6 +108,17 @@ export function buildInspectReport(sys: LoadedSystem): InspectReport {
       nComponents: comps.nComponents,
       largestBlockRows: comps.largestComponent,
       givenOrderBlockLowerTriangular: comps.isBlockLowerTriangular,
+      triangularUnderPermutation: bsr.nBlockRows === 0 || comps.largestComponent === 1,
+    },
+    nonzeroPattern: {
+      nBlocks: nBlocks - zeros.zeroBlocks,
+      zeroBlocks: zeros.zeroBlocks,
+      zeroBlockShare: nBlocks > 0 ? zeros.zeroBlocks / nBlocks : 0,
+      zeroDiagonalBlocks: zeros.zeroDiagonalBlocks,
+      nComponents: nonzero.nComponents,
+      largestBlockRows: nonzero.largestComponent,
+      givenOrderBlockLowerTriangular: nonzero.givenOrderBlockLowerTriangular,
+      triangularUnderPermutation: nonzero.triangularUnderPermutation,
     },
     storage: { csr: csrBuf, bsr: bsrBuf, csrBytes: sum(csrBuf), bsrBytes: sum(bsrBuf) },
   };
@@ -104,6 +135,14 @@ const num = (x: number, digits = 3): string => formatNumber(x, digits, 'n/a');
 
 function plural(n: number, one: string, many = `${one}s`): string {
   return `${n} ${n === 1 ? one : many}`;
+}
+
+/** One pattern's component line: count, largest, triangular as given / under a permutation. */
+function componentText(nComponents: number, largest: number, given: boolean, underPermutation: boolean): string {
+  const base = `${plural(nComponents, 'strongly connected component')}, largest ${plural(largest, 'block row')}; `;
+  if (given && underPermutation) return `${base}block lower triangular as given: one block forward sweep solves it`;
+  if (underPermutation) return `${base}block triangular under a permutation (every component one block row): one block sweep in component order solves it`;
+  return `${base}given order ${given ? 'is' : 'is not'} block lower triangular by components`;
 }
 
 function buffers(total: number, parts: Record<string, number>): string {
@@ -149,8 +188,13 @@ export function formatInspectReport(r: InspectReport): string {
     row('slabs (layout)', 'none (no layout with slabOffsets)');
   }
   const c = r.components;
-  row('components', `${plural(c.nComponents, 'strongly connected component')}, largest ${plural(c.largestBlockRows, 'block row')}; `
-    + `given order ${c.givenOrderBlockLowerTriangular ? 'is' : 'is not'} block lower triangular`);
+  const z = r.nonzeroPattern;
+  row('zero blocks', z.zeroBlocks === 0 ? 'none: every stored block holds a nonzero'
+    : `${plural(z.zeroBlocks, 'stored block')} of ${r.blocks.nBlocks} (${num(100 * z.zeroBlockShare)} %) hold only zeros`
+      + (z.zeroDiagonalBlocks > 0 ? `, ${plural(z.zeroDiagonalBlocks, 'of them a diagonal block', 'of them diagonal blocks')}` : ''));
+  row('components', `stored pattern: ${componentText(c.nComponents, c.largestBlockRows, c.givenOrderBlockLowerTriangular, c.triangularUnderPermutation)}`);
+  row('', z.zeroBlocks === 0 ? 'nonzero pattern: the same (no zero blocks)'
+    : `nonzero pattern: ${componentText(z.nComponents, z.largestBlockRows, z.givenOrderBlockLowerTriangular, z.triangularUnderPermutation)}`);
   const st = r.storage;
   row('storage CSR', buffers(st.csrBytes, st.csr));
   row('storage BSR', `${buffers(st.bsrBytes, st.bsr)}; BSR/CSR ${num(st.bsrBytes / st.csrBytes)}`);

@@ -1,9 +1,10 @@
 import { Command, CommanderError } from 'commander';
 import { UserError, EXIT } from '../util/errors.js';
 import { VERSION } from '../version.js';
-import { commands } from './commands.js';
 
-export function buildProgram(): Command {
+type Register = (program: Command) => void;
+
+export function buildProgram(commands: ReadonlyArray<Register>): Command {
   const program = new Command();
   program
     .name('slabbench')
@@ -19,8 +20,14 @@ export function buildProgram(): Command {
 
 /** Run the CLI; every user error becomes one line on stderr and an exit code, never a stack trace. */
 export async function main(argv: string[]): Promise<number> {
-  const program = buildProgram();
+  // `--version` needs no command: answer before loading them (every command file and its imports)
+  if (argv.length === 1 && (argv[0] === '--version' || argv[0] === '-V')) {
+    process.stdout.write(`${VERSION}\n`);
+    return EXIT.ok;
+  }
   try {
+    const { commands } = await import('./commands.js');
+    const program = buildProgram(commands);
     await program.parseAsync(argv, { from: 'user' });
     return typeof process.exitCode === 'number' ? process.exitCode : EXIT.ok;
   } catch (e) {

@@ -1,3 +1,4 @@
+import { plural } from '../report/format.js';
 import { existsSync, mkdirSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import type { Command } from 'commander';
@@ -50,7 +51,7 @@ Examples:
       if (opts.json) {
         process.stdout.write(`${JSON.stringify({ shards: files.length, runs: doc.runs.length, files: { results, csv, history: historyPath, report } }, null, 1)}\n`);
       } else if (!opts.quiet) {
-        process.stdout.write(`merged ${files.length} file(s), ${doc.runs.length} runs: ${results} (+ ${csv}${report ? `, ${report}` : ''})\n`);
+        process.stdout.write(`merged ${plural(files.length, 'file')}, ${plural(doc.runs.length, 'run')}: ${results} (+ ${csv}${report ? `, ${report}` : ''})\n`);
       }
     });
 }

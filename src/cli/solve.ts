@@ -1,15 +1,17 @@
+import { accessSync, constants as fsConstants, statSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
 import { Option, type Command } from 'commander';
 import { loadSystem, type LoadedSystem } from '../sparse/load.js';
 import { readMatrixMarketVector } from '../sparse/matrix-market.js';
 import { csrSpmv } from '../sparse/csr.js';
 import {
-  RECIPE_FIELDS, RECIPE_FLAGS, describeRecipeField, recipeFromOptions, type Recipe,
+  RECIPE_FIELDS, RECIPE_FLAGS, describeRecipeField, recipeFromOptions, recordedRecipe, type Recipe, type RecordedRecipe,
 } from '../solvers/recipe.js';
 import { solveSystem } from '../solvers/run-recipe.js';
 import type { SolveResult } from '../solvers/types.js';
 import { EXIT, fileError, optionError } from '../util/errors.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
-import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
+import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull, plural } from '../report/format.js';
 import type { RepeatTimes } from '../run/results-types.js';
 import { collectGarbage, repeatDifferences, summarizeRepeats } from '../run/timing.js';
 import { parseRepeats } from './timing-options.js';
@@ -42,6 +44,7 @@ interface SolveCommandOptions {
   json?: string;
   repeats?: number;
   warmup?: boolean;
+  allowNonFinite?: boolean;
   [recipeOption: string]: unknown;
 }
 
@@ -50,7 +53,8 @@ export interface SolveReport extends SolveResult {
   schema: 'slabbench-solve/1';
   matrix: { file: string; n: number; nnz: number; bs: number; blockSizeSource: string; nSlabs: number | null };
   rhs: { source: 'file'; file: string } | { source: 'A·1' };
-  recipe: Recipe;
+  /** The recipe's name and the fields its methods read (an option with no effect is refused). */
+  recipe: RecordedRecipe;
   /** The timing protocol as run: warm-up, every repeat's seconds, median/min/max (timing is the median repeat's). */
   repeats: RepeatTimes;
   /** Only when b = A·1 (exact solution all ones): max |x_i − 1| and ‖x − 1‖₂/‖1‖₂. */
@@ -65,8 +69,8 @@ const bytes = formatBytesDetailed;
 
 const num = formatNumber;
 
-function recipeText(r: Recipe): string {
-  const method = r.krylov === 'none' ? 'stationary iteration'
+function recipeText(r: RecordedRecipe): string {
+  const method = r.krylov === 'none' ? `stationary iteration${r.preconditioner !== 'block-gs' && r.omega !== 1 ? ` (ω ${r.omega})` : ''}`
     : r.krylov === 'bicgstab' ? 'bicgstab'
       : `${r.krylov}(${r.restart}, ${r.krylov === 'fgmres' ? 'right' : r.side}, ${r.orthogonalization})`;
   let pc = r.preconditioner;
@@ -75,7 +79,7 @@ function recipeText(r: Recipe): string {
   if (r.preconditioner === 'block-gs') pc += ` (${r.sweep} ×${r.sweeps}, ω ${r.omega}, ${r.ordering}, ${diagonal})`;
   if (r.preconditioner === 'block-ilu0') pc += ` (${r.ordering})`;
   if (r.preconditioner === 'slab' && r.inner) pc += ` [inner: ${recipeText(r.inner)}, rtol ${r.inner.rtol}]`;
-  if (r.shift !== 0) pc += `, shift ${r.shift}`;
+  if (r.shift) pc += `, shift ${r.shift}`;
   return `${method} + ${pc}`;
 }
 
@@ -85,13 +89,16 @@ export function formatSolveReport(rep: SolveReport): string {
   const row = (label: string, text: string): void => { lines.push(`  ${label.padEnd(15)}${text}`); };
   const m = rep.matrix;
   lines.push(`${m.file}: ${m.n} × ${m.n}, ${m.nnz} nonzeros, block size ${m.bs} (${m.blockSizeSource})${m.nSlabs ? `, ${m.nSlabs} slabs` : ''}`);
-  row('recipe', `${recipeText(rep.recipe)}; rtol ${rep.recipe.rtol}${rep.recipe.atol ? `, atol ${rep.recipe.atol}` : ''}, at most ${rep.recipe.maxIterations} iterations`);
+  row('recipe', `${recipeText(rep.recipe)}; rtol ${rep.recipe.rtol}${rep.recipe.atol ? `, atol ${rep.recipe.atol}` : ''}, at most ${plural(rep.recipe.maxIterations, 'iteration')}`);
   const sw = rep.work.solve;
-  const plural = (k: number, one: string, many = `${one}s`): string => `${k} ${k === 1 ? one : many}`;
   row('result', `${rep.outcome} (${rep.cause}) after ${plural(rep.iterations, 'iteration')} (${plural(rep.restarts, 'restart')}; `
     + `${plural(sw.matvecs, 'matvec')}, ${plural(sw.preconditionerApplies, 'preconditioner apply', 'preconditioner applies')}`
     + `${sw.innerIterations > 0 ? `, ${plural(sw.innerIterations, 'inner iteration')}` : ''})`);
-  if (rep.failure) row('failure', `${rep.failure.message}${rep.failure.blockRow !== undefined ? ` [block row ${rep.failure.blockRow}]` : ''}`);
+  if (rep.failure) {
+    const f = rep.failure;
+    const named = f.blockRow === undefined || f.message.includes(`block row ${f.blockRow}`);
+    row('failure', `${f.message}${named ? '' : ` [block row ${f.blockRow}]`}`);
+  }
   const base = rep.relativeTo === 'rhs' ? '‖b‖' : '‖r₀‖';
   const watched = rep.watched === 'plain' ? 'plain residual ‖b − Ax‖' : 'left-preconditioned residual ‖M⁻¹r‖';
   row('residual', `true ‖b − Ax‖/${base} = ${num(rep.trueRelativeResidual)}; watched: ${watched}, last ${num(rep.history[rep.history.length - 1])}`);
@@ -105,7 +112,7 @@ export function formatSolveReport(rep: SolveReport): string {
   }
   if (rp && !rp.consistent) row('warning', `repeats differed, not deterministic: ${(rp.differences ?? []).join('; ')}`);
   row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
-    + (t.preconditionerApplications > 0 ? ` (${t.preconditionerApplications} preconditioner application${t.preconditionerApplications === 1 ? '' : 's'}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
+    + (t.preconditionerApplications > 0 ? ` (${plural(t.preconditionerApplications, 'preconditioner application')}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
   const su = rep.work.setup;
   row('work', `setup ${num(su.flops)} flops, ${bytes(su.bytes)} moved; solve ${num(sw.flops)} flops, ${bytes(sw.bytes)} moved (work model, README)`);
   const mem = rep.memory;
@@ -129,15 +136,34 @@ function variableSlab(r: Recipe): boolean {
   return r.preconditioner === 'slab' && !(r.inner && r.inner.krylov === 'none' && r.inner.maxIterations === 1);
 }
 
+/**
+ * Refuse a --json path that cannot be written, before any work: the folder must exist and be
+ * writable, and the path must not be a folder or a read-only file.
+ */
+export function checkWritablePath(path: string, option: string): void {
+  const full = resolve(path);
+  const dir = dirname(full);
+  let dirStat;
+  try { dirStat = statSync(dir); } catch { throw optionError(option, `cannot write "${path}": folder ${dir} does not exist`); }
+  if (!dirStat.isDirectory()) throw optionError(option, `cannot write "${path}": ${dir} is not a folder`);
+  try { accessSync(dir, fsConstants.W_OK); } catch { throw optionError(option, `cannot write "${path}": folder ${dir} is not writable`); }
+  let st;
+  try { st = statSync(full); } catch { return; }
+  if (st.isDirectory()) throw optionError(option, `cannot write "${path}": it is a folder (give a file name)`);
+  try { accessSync(full, fsConstants.W_OK); } catch { throw optionError(option, `cannot write "${path}": the file is read-only`); }
+}
+
 export async function runSolve(file: string, opts: SolveCommandOptions): Promise<SolveReport> {
   const recipe = recipeFromOptions(opts);
   const blockSize = opts.blockSize === undefined ? undefined : parseBlockSize(opts.blockSize);
-  const sys: LoadedSystem = await loadSystem(file, { blockSize, layoutPath: opts.layout });
+  if (opts.json !== undefined && opts.json !== '-') checkWritablePath(opts.json, '--json');
+  const allowNonFinite = opts.allowNonFinite === true;
+  const sys: LoadedSystem = await loadSystem(file, { blockSize, layoutPath: opts.layout, allowNonFinite });
   const n = sys.csr.nRows;
   if (sys.csr.nCols !== n) throw fileError(file, undefined, `solve needs a square matrix, got ${n}×${sys.csr.nCols}`);
   let b: Float64Array;
   if (opts.rhs !== undefined) {
-    b = await readMatrixMarketVector(opts.rhs);
+    b = await readMatrixMarketVector(opts.rhs, allowNonFinite ? { allowNonFinite } : {});
     if (b.length !== n) throw fileError(opts.rhs, undefined, `right-hand side has length ${b.length}, expected ${n} (the matrix size)`);
   } else {
     b = new Float64Array(n);
@@ -176,7 +202,7 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
       nSlabs: sys.slabOffsets ? sys.slabOffsets.length - 1 : null,
     },
     rhs: opts.rhs !== undefined ? { source: 'file', file: opts.rhs } : { source: 'A·1' },
-    recipe,
+    recipe: recordedRecipe(recipe),
     repeats: { ...summary, consistent: differences.length === 0, ...(differences.length ? { differences } : {}) },
   };
   if (opts.rhs === undefined) {
@@ -197,7 +223,8 @@ export function registerSolve(program: Command): void {
     .option('--layout <file>', 'layout file to use instead of NAME.layout.json')
     .option('--json <file>', 'write the full result as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)')
     .option('--repeats <n>', 'timed solves, each with a fresh setup; the median one is reported (default 1)', parseRepeats)
-    .option('--no-warmup', 'skip the untimed warm-up solve before the timed one(s) (default: warm up, so JIT compilation stays out of the time)');
+    .option('--no-warmup', 'skip the untimed warm-up solve before the timed one(s) (default: warm up, so JIT compilation stays out of the time)')
+    .option('--allow-non-finite', 'accept NaN and ±Inf entries in the matrix and right-hand side (the solve then stops with cause non-finite-value)');
   for (const field of RECIPE_FIELDS) {
     cmd.option(`--${RECIPE_FLAGS[field]} <value>`, `${FIELD_HELP[field]}; ${describeRecipeField(field)}`);
   }
@@ -205,6 +232,9 @@ export function registerSolve(program: Command): void {
     // listed once in the help text below rather than sixteen times
     cmd.addOption(new Option(`--inner-${RECIPE_FLAGS[field]} <value>`, `slab inner recipe: as --${RECIPE_FLAGS[field]}`).hideHelp());
   }
+  // the old spelling of --ordering: accepted by the parser only to say the new name
+  cmd.addOption(new Option('--order <value>').hideHelp());
+  cmd.addOption(new Option('--inner-order <value>').hideHelp());
   cmd.addHelpText('after', `
 Inner recipe (--precond slab only): every recipe option above, from --krylov to --relative-to, has an
 --inner-… twin (--inner-krylov, --inner-precond, --inner-rtol, --inner-max-iters, …) that sets how
@@ -216,7 +246,7 @@ The true residual is recomputed at every restart and at the end and reported eit
 
 Examples:
   $ slabbench solve duct.mtx
-  $ slabbench solve duct.mtx --precond block-ilu0 --order mdf --restart 50 --rtol 1e-10
+  $ slabbench solve duct.mtx --precond block-ilu0 --ordering mdf --restart 50 --rtol 1e-10
   $ slabbench solve tank.mtx --rhs tank-rhs.mtx --krylov bicgstab --precond block-jacobi --block-size 6
   $ slabbench solve corridor.mtx --krylov none --precond block-gs --sweep symmetric --omega 1.2
   $ slabbench solve channel.mtx --krylov fgmres --precond slab --inner-krylov gmres --inner-precond block-ilu0 --inner-rtol 1e-6

@@ -1,3 +1,4 @@
+import { plural } from '../report/format.js';
 import { existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -92,7 +93,7 @@ function summary(doc: ResultsDoc, files: Record<string, string | undefined>, int
     model: doc.model ?? null,
     winners: [...byMatrix].map(([matrix, runs]) => {
       const m = rankMatrix(runs, rankOpts);
-      return { matrix, recipe: m.winner, firstPlace: m.firstPlace, partial: m.partial, ...(m.commonTolerance !== undefined ? { commonTolerance: m.commonTolerance } : {}) };
+      return { matrix, recipe: m.winner, firstPlace: m.firstPlace, partial: m.partial, ...(m.missing.length ? { missingRecipes: m.missing } : {}), ...(m.commonTolerance !== undefined ? { commonTolerance: m.commonTolerance } : {}) };
     }),
   };
 }
@@ -212,7 +213,8 @@ Examples:
             ...(opts.targetFlops !== undefined ? { flopRateGFLOPs: opts.targetFlops } : {}),
           },
           ...(opts.label !== undefined ? { label: opts.label } : {}),
-          onProgress: bar ? (d, t, label) => bar.update(d, t, label) : undefined,
+          onProgress: bar ? (d, t) => bar.update(d, t, '') : undefined,
+          onStatus: bar ? (label) => bar.status(label) : undefined,
           log: opts.quiet ? undefined : (line) => { bar?.finish(); process.stderr.write(`${line}\n`); },
         });
       } finally {
@@ -241,10 +243,10 @@ Examples:
         process.stdout.write(`\nresults: ${files.results} (+ ${files.csv}${reportPath ? `, ${reportPath}` : ''})\n`);
       }
       if (interrupted) {
-        throw new UserError(`interrupted: ${doc.runs.length} finished run(s) kept in ${files.results}`, EXIT.interrupted);
+        throw new UserError(`interrupted: ${plural(doc.runs.length, 'finished run')} kept in ${files.results}`, EXIT.interrupted);
       }
       if (errors > 0) {
-        throw new UserError(`${errors} of ${doc.runs.length} run(s) could not start (see "error" in ${files.results}); the others ran`, EXIT.badInput);
+        throw new UserError(`${errors} of ${plural(doc.runs.length, 'run')} could not start (see "error" in ${files.results}); the others ran`, EXIT.badInput);
       }
     });
 }

@@ -1,5 +1,20 @@
-import { parse, type MathNode, type EvalFunction } from 'mathjs';
+import { createRequire } from 'node:module';
+import type { MathNode, EvalFunction } from 'mathjs';
 import { UserError } from '../util/errors.js';
+
+/**
+ * mathjs takes 0.7–0.9 s to load, longer than most commands need for everything else, so it is
+ * loaded on the first expression that is not a plain number (a synchronous `require` of its
+ * CommonJS build keeps `compileScalarField` synchronous). Only types are imported statically.
+ */
+let mathParse: ((text: string) => MathNode) | undefined;
+function parseExpression(text: string): MathNode {
+  if (mathParse === undefined) {
+    const mathjs = createRequire(import.meta.url)('mathjs') as typeof import('mathjs');
+    mathParse = mathjs.parse;
+  }
+  return mathParse(text);
+}
 
 /**
  * A scalar field f(x, y, z, t) given by the user as a mathjs expression (or a number).
@@ -35,7 +50,7 @@ export function compileScalarField(text: string | number, label: string, extent:
   }
   let node: MathNode;
   try {
-    node = parse(text);
+    node = parseExpression(text);
   } catch (e) {
     throw new UserError(`${label}: expression '${text}' does not parse: ${(e as Error).message}`);
   }

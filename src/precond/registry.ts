@@ -3,7 +3,7 @@
  * suite-file recipes. Adding a method = one file exporting a factory + one register line below.
  */
 import type { Preconditioner, SystemMatrix } from './types.js';
-import type { Recipe } from '../solvers/recipe.js';
+import type { Recipe, RecipeField } from '../solvers/recipe.js';
 import { UserError } from '../util/errors.js';
 import { createNone } from './none.js';
 import { createJacobi } from './jacobi.js';
@@ -17,12 +17,31 @@ import { createSlab } from './slab.js';
 /** Creates a preconditioner (cheap: checks options; the heavy work happens in setup()). */
 export type PreconditionerFactory = (system: SystemMatrix, recipe: Recipe) => Preconditioner;
 
+/** What a preconditioner declares about itself when it is registered. */
+export interface PreconditionerInfo {
+  /**
+   * The recipe fields its factory and setup read, beyond the common ones every recipe uses
+   * (krylov, preconditioner and the stopping rule: rtol, atol, maxIterations, divergence,
+   * relativeTo). A field set explicitly in a recipe that neither this list nor the Krylov method's
+   * list (KRYLOV_USES in recipe.ts) contains is rejected, and results record only used fields.
+   * Leave it out only while unsure: then nothing is rejected and every field is recorded.
+   */
+  uses?: readonly RecipeField[];
+}
+
 const factories = new Map<string, PreconditionerFactory>();
+const declaredUses = new Map<string, readonly RecipeField[]>();
 
 /** Adds a method under a new name; a name can be registered once only. */
-export function registerPreconditioner(name: string, factory: PreconditionerFactory): void {
+export function registerPreconditioner(name: string, factory: PreconditionerFactory, info: PreconditionerInfo = {}): void {
   if (factories.has(name)) throw new Error(`registerPreconditioner: '${name}' is already registered`);
   factories.set(name, factory);
+  if (info.uses) declaredUses.set(name, [...info.uses]);
+}
+
+/** The recipe fields a registered preconditioner reads beyond the common ones ('all' when it did not say, or is unknown). */
+export function preconditionerUses(name: string): readonly RecipeField[] | 'all' {
+  return declaredUses.get(name) ?? 'all';
 }
 
 /** Registered names, in registration order. */
@@ -47,11 +66,11 @@ export function createPreconditioner(system: SystemMatrix, recipe: Recipe): Prec
   return factory(system, recipe);
 }
 
-registerPreconditioner('none', createNone);
-registerPreconditioner('jacobi', createJacobi);
-registerPreconditioner('block-jacobi', createBlockJacobi);
-registerPreconditioner('block-gs', createBlockGs);
-registerPreconditioner('ilu0', createIlu0);
-registerPreconditioner('block-ilu0', createBlockIlu0);
-registerPreconditioner('block-iluk', createBlockIluk);
-registerPreconditioner('slab', createSlab);
+registerPreconditioner('none', createNone, { uses: [] });
+registerPreconditioner('jacobi', createJacobi, { uses: ['shift'] });
+registerPreconditioner('block-jacobi', createBlockJacobi, { uses: ['blockInverse', 'shift'] });
+registerPreconditioner('block-gs', createBlockGs, { uses: ['sweep', 'ordering', 'omega', 'sweeps', 'shift', 'blockInverse'] });
+registerPreconditioner('ilu0', createIlu0, { uses: ['shift'] });
+registerPreconditioner('block-ilu0', createBlockIlu0, { uses: ['ordering', 'shift'] });
+registerPreconditioner('block-iluk', createBlockIluk, { uses: ['fillLevel', 'ordering', 'shift'] });
+registerPreconditioner('slab', createSlab, { uses: ['inner', 'shift'] });

@@ -1,28 +1,32 @@
 /** Number formatting shared by the terminal table, the HTML report and `estimate`. */
 
-const BYTE_UNITS = ['B', 'KiB', 'MiB', 'GiB', 'TiB', 'PiB'] as const;
+/** SI (decimal) byte units: 1 kB = 1000 B, as disk and memory vendors and most tools now print. */
+const SI_BYTE_UNITS = ['B', 'kB', 'MB', 'GB', 'TB', 'PB', 'EB'] as const;
 
-/** Bytes in binary units with three significant digits: 512 B, 1.50 KiB, 12.3 GiB, 1.47 TiB. */
-export function formatBytes(bytes: number): string {
-  if (!Number.isFinite(bytes)) return '–';
-  if (bytes < 0) return `-${formatBytes(-bytes)}`;
-  let u = 0;
-  let v = bytes;
-  while (v >= 1024 && u < BYTE_UNITS.length - 1) {
-    v /= 1024;
-    u++;
-  }
-  if (u === 0) return `${Math.round(v)} B`;
-  // toPrecision(3) may round 1023.9 up to "1.02e+3"; keep it readable.
-  const digits = v >= 100 ? 0 : v >= 10 ? 1 : 2;
-  return `${v.toFixed(digits)} ${BYTE_UNITS[u]}`;
+/** `digits` significant digits of a value ≥ 1 and < 1000, without exponent form: 1.50, 12.3, 123. */
+function significant(v: number, digits: number): string {
+  const intDigits = v >= 100 ? 3 : v >= 10 ? 2 : 1;
+  return v.toFixed(Math.max(0, digits - intDigits));
 }
 
-/** Seconds with three significant digits; tiny values in exponent form. */
+/** Bytes in SI units with three significant digits: 512 B, 1.50 kB, 12.3 GB, 1.47 TB. */
+export function formatBytes(bytes: number, digits = 3): string {
+  if (!Number.isFinite(bytes)) return '–';
+  if (bytes < 0) return `-${formatBytes(-bytes, digits)}`;
+  if (bytes < 1000) return `${Math.round(bytes)} B`;
+  let u = 0;
+  let v = bytes;
+  while (v >= 1000 && u < SI_BYTE_UNITS.length - 1) { v /= 1000; u++; }
+  // rounding may carry to 1000 (999.7 kB → "1000 kB"): move to the next unit instead
+  if (Number(significant(v, digits)) >= 1000 && u < SI_BYTE_UNITS.length - 1) { v /= 1000; u++; }
+  return `${significant(v, digits)} ${SI_BYTE_UNITS[u]}`;
+}
+
+/** Seconds with three significant digits: 12.3, 0.0467, 1.60e-5 (below 1 ms in exponent form). */
 export function formatSeconds(s: number): string {
   if (!Number.isFinite(s)) return '–';
   if (s === 0) return '0';
-  if (Math.abs(s) < 1e-3) return s.toExponential(1);
+  if (Math.abs(s) < 1e-3) return s.toExponential(2).replace('e+', 'e');
   if (Math.abs(s) >= 1000) return s.toFixed(0);
   return s.toPrecision(3);
 }
@@ -43,13 +47,14 @@ export function formatCount(n: number): string {
   return n < 0 ? `-${grouped}` : grouped;
 }
 
-/** Bytes with one more digit for detailed listings (`inspect`, `solve`): 191.3 KiB, 2.25 KiB. */
+/** Bytes with one more digit for detailed listings (`inspect`, `solve`): 191.3 kB, 2.250 kB. */
 export function formatBytesDetailed(n: number): string {
-  if (n < 1024) return `${n} B`;
-  const units = ['KiB', 'MiB', 'GiB', 'TiB'];
-  let v = n / 1024, u = 0;
-  while (v >= 1024 && u < units.length - 1) { v /= 1024; u++; }
-  return `${v.toFixed(v < 10 ? 2 : 1)} ${units[u]}`;
+  return formatBytes(n, 4);
+}
+
+/** "1 iteration", "2 iterations", "0 restarts": a count and its noun, singular only for exactly 1. */
+export function plural(n: number, singular: string, pluralForm = `${singular}s`): string {
+  return `${formatCount(n)} ${n === 1 ? singular : pluralForm}`;
 }
 
 /** A number with `digits` significant digits, plain in [1e-3, 1e6) and exponent form outside. */

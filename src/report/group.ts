@@ -38,3 +38,21 @@ export function recipeOrder(results: ResultsDoc): string[] {
   for (const run of results.runs) seen.add(run.recipe);
   return [...seen];
 }
+
+/**
+ * Recipes of the sweep (suite.recipeNames, else every recipe seen in the document) that have no
+ * run for this matrix: a matrix with missing recipes gets no winner, since the missing one might
+ * have won.
+ */
+export function missingRecipes(results: ResultsDoc, matrix: string): string[] {
+  const expected = results.suite?.recipeNames ?? recipeOrder(results);
+  const present = new Set(results.runs.filter((r) => r.matrix === matrix).map((r) => r.recipe));
+  return expected.filter((n) => !present.has(n));
+}
+
+/** A one-line warning when the document is not a finished sweep (status partial or interrupted), else undefined. */
+export function statusWarning(results: ResultsDoc): string | undefined {
+  if (results.status === 'interrupted') return 'these results are from an interrupted sweep: some pairs never ran, and matrices missing recipes have no winner';
+  if (results.status === 'partial') return 'these results are partial (the sweep was still running or stopped without finishing): matrices missing recipes have no winner';
+  return undefined;
+}

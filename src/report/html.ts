@@ -1,13 +1,16 @@
-import { mkdir } from 'node:fs/promises';
+import { mkdir, readdir, unlink } from 'node:fs/promises';
 import { join, resolve } from 'node:path';
 import type { HistoryEntry, ResultsDoc, RunRecord } from '../run/results-types.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
-import { runsByMatrix, recipeOrder, type MatrixRuns } from './group.js';
-import { rankMatrix, rankOptionsFor, rankRuns, verdictLine, type RankOptions } from './rank.js';
-import { matrixSummary, MISMATCH_MARK, rowCells, WINNER_MARK } from './table.js';
+import type { SolveResult } from '../solvers/types.js';
+import { withPrefix } from '../util/errors.js';
+import { runsByMatrix, recipeOrder, statusWarning, type MatrixRuns } from './group.js';
+import { plural } from './format.js';
+import { matrixSummary, MISMATCH_MARK, rankForTable, rowCells, solveWork, WIDE_COLUMN_TITLES, WINNER_MARK } from './table.js';
+import { verdictLine } from './rank.js';
 import { LIMITS_STATEMENT } from './limits.js';
 import { esc } from './svg/common.js';
-import { residualPlot } from './svg/residuals.js';
+import { RESIDUAL_AXES, residualPlot, type ResidualAxis } from './svg/residuals.js';
 import { ritzPlot } from './svg/ritz.js';
 import { patternPlot } from './svg/pattern.js';
 import { historyPlot } from './svg/history.js';
@@ -15,6 +18,42 @@ import { historyPlot } from './svg/history.js';
 export interface ReportOptions {
   /** Stored runs (history file lines) for the history view; omitted or empty = no history section. */
   history?: HistoryEntry[];
+  /** x axes of the residual plots, one figure each (default: iterations and matvecs). */
+  axes?: readonly ResidualAxis[];
+}
+
+export const DEFAULT_RESIDUAL_AXES: readonly ResidualAxis[] = ['iterations', 'matvecs'];
+
+/** File name of a matrix's residual plot against an axis (iterations keep the plain name). */
+function residualFile(slug: string, axis: ResidualAxis): string {
+  return axis === 'iterations' ? `residuals-${slug}.svg` : `residuals-${slug}.${axis}.svg`;
+}
+
+/** Names `writeReport` writes (and so may remove when they no longer belong to the results). */
+export const REPORT_FILE_PATTERN = new RegExp(`^(residuals|ritz|pattern|history)-[a-z0-9-]+(\\.(${RESIDUAL_AXES.join('|')}))?\\.svg$`);
+
+/**
+ * x value of every history entry on an axis. matvecs: the solve's operator applications spread
+ * evenly over its iterations (the exact counter when the results have one, else one per GMRES or
+ * stationary iteration and two per BiCGStab iteration); seconds: setup time, then the solve time
+ * spread evenly over the iterations.
+ */
+export function historyX(res: SolveResult, axis: ResidualAxis): number[] | undefined {
+  if (axis === 'iterations') return undefined;
+  const it = Math.max(1, res.iterations);
+  const n = res.history.length;
+  if (axis === 'matvecs') {
+    const total = solveWork(res).matvecs ?? res.iterations * (res.method === 'bicgstab' ? 2 : 1);
+    return Array.from({ length: n }, (_v, i) => (i * total) / it);
+  }
+  const setup = res.timing.setupSeconds, solve = res.timing.solveSeconds;
+  return Array.from({ length: n }, (_v, i) => setup + (i * solve) / it);
+}
+
+/** True when the history is the left-preconditioned residual ‖M⁻¹r‖. */
+export function watchedLeft(res: SolveResult): boolean {
+  const r = res as { watched?: string; monitored?: string };
+  return r.watched === 'left-preconditioned' || r.monitored === 'preconditioned';
 }
 
 export interface ReportSvg {
@@ -33,15 +72,6 @@ function slugger(): (name: string) => string {
     used.add(slug);
     return slug;
   };
-}
-
-/** The one rtol all runs share, if they do (then the residual plot draws it). */
-function commonRtol(runs: RunRecord[]): number | undefined {
-  const set = new Set(runs.filter((r) => r.result).map((r) => r.recipeParams?.rtol));
-  if (set.size !== 1) return undefined;
-  const v = [...set][0];
-  const sameReference = new Set(runs.filter((r) => r.result).map((r) => r.result!.relativeTo)).size === 1;
-  return typeof v === 'number' && v > 0 && sameReference ? v : undefined;
 }
 
 const CSS = `
@@ -67,6 +97,8 @@ table.ranked tr.winner td { background: var(--win); font-weight: 600; }
 table.ranked tr.failed td.cause { color: #a3202f; }
 .table-wrap { overflow-x: auto; }
 .notes { font-size: 12px; color: var(--muted); margin: 0 0 8px; padding-left: 18px; }
+.status { border-left: 4px solid #a3202f; background: var(--warn); padding: 10px 14px; margin: 16px 0 20px; font-size: 14px; }
+p.incomplete { color: #a3202f; font-size: 13px; margin: 4px 0; }
 .plots { display: flex; flex-wrap: wrap; gap: 14px; align-items: flex-start; }
 figure { margin: 0 0 12px; background: #fff; border: 1px solid var(--line); border-radius: 6px; padding: 6px; max-width: 100%; }
 figure svg { display: block; max-width: 100%; height: auto; }
@@ -75,11 +107,11 @@ figcaption a { color: var(--accent); }
 footer { color: var(--muted); font-size: 12px; }
 `;
 
-function tableHtml(runs: RunRecord[], rankOpts: RankOptions = {}): string {
-  const ranking = rankMatrix(runs, rankOpts);
-  const ranked = ranking.ranked;
-  const heads = ['rank', 'recipe', 'iterations', 'restarts', 'cause', 'true rel. residual', 'setup s', 'solve s', 'memory'];
-  const textCols = new Set([1, 4]);
+function tableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): string {
+  const { ranked, missing, ranking } = rankForTable(results, matrix, runs);
+  const heads = WIDE_COLUMN_TITLES;
+  const textCols = new Set([heads.indexOf('recipe'), heads.indexOf('cause')]);
+  const reasonCol = heads.indexOf('cause');
   let s = '<div class="table-wrap"><table class="ranked"><thead><tr>';
   heads.forEach((h, j) => { s += `<th${textCols.has(j) ? ' class="text"' : ''}>${esc(h)}</th>`; });
   s += '</tr></thead><tbody>';
@@ -87,18 +119,25 @@ function tableHtml(runs: RunRecord[], rankOpts: RankOptions = {}): string {
     const cls = r.winner ? 'winner' : r.converged ? '' : 'failed';
     s += `<tr${cls ? ` class="${cls}"` : ''} data-recipe="${esc(r.run.recipe)}">`;
     rowCells(r).forEach((c, j) => {
-      const klass = [textCols.has(j) ? 'text' : '', j === 4 ? 'cause' : ''].filter(Boolean).join(' ');
+      const klass = [textCols.has(j) ? 'text' : '', j === reasonCol ? 'cause' : ''].filter(Boolean).join(' ');
       s += `<td${klass ? ` class="${klass}"` : ''}>${esc(c)}</td>`;
     });
     s += '</tr>';
   }
   s += '</tbody></table></div>';
-  const notes: string[] = ['memory = preconditioner + Krylov basis bytes (the matrix itself is not included)'];
-  notes.unshift(verdictLine(ranking, WINNER_MARK), ...ranking.notes);
+  const notes: string[] = [
+    'matvecs = operator applications and applies = preconditioner applications in the solve: iteration counts of different methods are not comparable (one BiCGStab iteration is two of each)',
+    'memory = preconditioner + Krylov basis bytes (the matrix itself is not included)',
+  ];
+  if (missing.length > 0) {
+    s += `<p class="incomplete" data-incomplete="${missing.length}">Incomplete: ${esc(plural(missing.length, 'recipe'))} of the sweep did not run on this matrix (${esc(missing.join(', '))}), so no winner is named.</p>`;
+  } else {
+  }
+  notes.unshift(verdictLine(ranking, WINNER_MARK), ...ranking.notes.filter((n) => !n.startsWith('partial results:')));
   if (ranked.some((r) => r.run.result?.residualMismatch)) notes.push(`${MISMATCH_MARK} recursive and true residual disagree by more than 10×`);
   for (const r of ranked) {
     const why = r.run.error ?? r.run.result?.failure?.message;
-    if (why) notes.push(`${r.run.recipe}: ${why}`);
+    if (why) notes.push(withPrefix(r.run.recipe, why));
   }
   return `${s}<ul class="notes">${notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>`;
 }
@@ -111,12 +150,34 @@ function figure(svg: ReportSvg, caption: string): string {
     + `<a href="${esc(svg.file)}">(${esc(svg.file)})</a></figcaption></figure>`;
 }
 
+/** Distinct x labels for stored runs: the entry's label or short commit, else its date; repeats get "·2", "·3". */
+export function historyLabels(history: HistoryEntry[]): string[] {
+  const seen = new Map<string, number>();
+  return history.map((e, i) => {
+    const own = (e as { label?: string }).label;
+    const base = own ? own.slice(0, 12) : e.commit ? e.commit.slice(0, 7) : e.date ? e.date.slice(5, 16).replace('T', ' ') : `#${i + 1}`;
+    const k = (seen.get(base) ?? 0) + 1;
+    seen.set(base, k);
+    return k === 1 ? base : `${base}·${k}`;
+  });
+}
+
+/** Indices i where stored run i ran a different suite than run i − 1 (fingerprint changed, or the entry says so). */
+export function suiteChanges(history: HistoryEntry[]): number[] {
+  const out: number[] = [];
+  for (let i = 1; i < history.length; i++) {
+    const flagged = (history[i] as { suiteChanged?: boolean }).suiteChanged === true;
+    const a = history[i - 1].suite?.fingerprint, b = history[i].suite?.fingerprint;
+    if (flagged || (a !== undefined && b !== undefined && a !== b)) out.push(i);
+  }
+  return out;
+}
+
 function historyFigures(groups: MatrixRuns[], history: HistoryEntry[], color: (name: string) => number, slugOf: (m: string) => string): { html: string; svgs: ReportSvg[] } {
-  const matrices: string[] = [];
-  const seen = new Set<string>();
-  for (const g of groups) { if (!seen.has(g.matrix)) { seen.add(g.matrix); matrices.push(g.matrix); } }
-  for (const e of history) for (const r of e.runs) if (!seen.has(r.matrix)) { seen.add(r.matrix); matrices.push(r.matrix); }
-  const labels = history.map((e, i) => (e.commit ? e.commit.slice(0, 7) : e.date.slice(0, 10) || `#${i + 1}`));
+  // only matrices of these results: a matrix that was dropped from the suite has no section
+  const matrices = groups.map((g) => g.matrix);
+  const labels = historyLabels(history);
+  const changes = suiteChanges(history);
   const svgs: ReportSvg[] = [];
   let html = '';
   for (const m of matrices) {
@@ -136,13 +197,19 @@ function historyFigures(groups: MatrixRuns[], history: HistoryEntry[], color: (n
     const slug = slugOf(m);
     const svg: ReportSvg = {
       file: `history-${slug}.svg`,
-      svg: historyPlot({ title: `${m}: iterations and time across stored runs`, runLabels: labels, series, idPrefix: `history-${slug}` }),
+      svg: historyPlot({ title: `${m}: iterations and time across stored runs`, runLabels: labels, series, idPrefix: `history-${slug}`, suiteChanges: changes }),
     };
     svgs.push(svg);
-    html += figure(svg, `${m}: iterations (top) and setup + solve seconds (bottom) per recipe for each of the ${history.length} stored runs, oldest left. Labels are commits when known, else dates.`);
+    html += figure(svg, `${m}: iterations (top) and setup + solve seconds (bottom) per recipe for ${history.length === 1 ? 'the one stored run' : `each of the ${history.length} stored runs, oldest left`}. Labels are the run's label or commit when known, else its date; a repeated label gets ·2, ·3. A vertical line marks a change of the suite between two runs.`);
   }
   return { html, svgs };
 }
+
+const RESIDUAL_CAPTION: Record<ResidualAxis, string> = {
+  iterations: 'Relative residual against iteration for every recipe (log scale). Each recipe has its own colour, dash pattern and marker shape; a dotted line is a left-preconditioned residual ‖M⁻¹r‖, not the true one. Marks at the right edge are each recipe\'s rtol. A run that grows past 1000 × its start is cut at the top (arrow). Steep, straight descent is good; flat stretches are stagnation; jumps every cycle show GMRES restarts.',
+  matvecs: 'The same histories against operator applications (matvecs), which cost about the same in every method: this compares BiCGStab (two per iteration) fairly with GMRES (one). The count is spread evenly over each run\'s iterations.',
+  seconds: 'The same histories against time: setup first, then the solve time spread evenly over the iterations, so cheap-to-build and cheap-to-apply preconditioners can be told apart. Timing varies between runs; prefer the matvec plot for fine differences.',
+};
 
 /**
  * Render the whole report: one self-contained HTML page (inline CSS and inline SVG; no scripts,
@@ -164,25 +231,33 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
   };
   const svgs: ReportSvg[] = [];
   const sections: string[] = [];
+  const axes = opts.axes && opts.axes.length > 0 ? opts.axes : DEFAULT_RESIDUAL_AXES;
+  const warning = statusWarning(results);
 
   for (const g of groups) {
     const sl = slugOf(g.matrix);
     // Plots list recipes in ranking order (colours stay fixed per recipe across the report).
-    const withResult = rankRuns(g.runs).map((r) => r.run).filter((r) => r.result);
-    const res: ReportSvg = {
-      file: `residuals-${sl}.svg`,
+    const withResult = rankForTable(results, g.matrix, g.runs).ranked.map((r) => r.run).filter((r) => r.result);
+    const resSvgs: ReportSvg[] = axes.map((axis) => ({
+      file: residualFile(sl, axis),
       svg: residualPlot({
         title: `${g.matrix}: residual histories`,
-        idPrefix: `residuals-${sl}`,
-        rtol: commonRtol(g.runs),
-        series: withResult.map((r) => ({
-          name: r.recipe,
-          history: r.result!.history,
-          colorIndex: color(r.recipe),
-          note: `${r.result!.iterations} it${r.result!.converged ? '' : `, ${r.result!.cause}`}`,
-        })),
+        idPrefix: `residuals-${sl}-${axis}`,
+        axis,
+        series: withResult.map((r) => {
+          const res = r.result!;
+          return {
+            name: r.recipe,
+            history: res.history,
+            x: historyX(res, axis),
+            colorIndex: color(r.recipe),
+            rtol: r.recipeParams?.rtol,
+            leftPreconditioned: watchedLeft(res),
+            note: `${res.iterations} it${res.converged ? '' : `, ${res.cause}`}`,
+          };
+        }),
       }),
-    };
+    }));
     const ritz: ReportSvg = {
       file: `ritz-${sl}.svg`,
       svg: ritzPlot({
@@ -197,16 +272,16 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
       file: `pattern-${sl}.svg`,
       svg: patternPlot({ title: `${g.matrix}: block sparsity`, pattern: g.info?.pattern, idPrefix: `pattern-${sl}` }),
     };
-    svgs.push(res, ritz, pat);
+    svgs.push(...resSvgs, ritz, pat);
     const source = g.info ? `${g.info.source === 'generated' ? 'generated' : 'file'} ${g.info.path}` : '';
     sections.push(
       `<section class="matrix" id="m-${esc(sl)}" data-matrix="${esc(g.matrix)}">`
       + `<h2>${esc(g.matrix)}</h2>`
       + `<p class="summary">${esc(matrixSummary(g.info))}${source ? ` · ${esc(source)}` : ''}${g.info?.note ? ` · ${esc(g.info.note)}` : ''}</p>`
       + '<h3>Ranking</h3>'
-      + tableHtml(g.runs, rankOptionsFor(results))
+      + tableHtml(results, g.matrix, g.runs)
       + '<h3>Plots</h3><div class="plots">'
-      + figure(res, 'Relative residual against iteration for every recipe (log scale). The dashed level is the common rtol when all recipes share one. Steep, straight descent is good; flat stretches are stagnation; jumps every cycle show GMRES restarts.')
+      + resSvgs.map((f, k) => figure(f, RESIDUAL_CAPTION[axes[k]])).join('')
       + figure(ritz, 'Ritz values of the first GMRES cycle: estimates of the eigenvalues of the preconditioned operator. Values gathered tightly around 1 and away from 0 mean fast convergence.')
       + figure(pat, 'Where the stored blocks sit (darker = more blocks per cell). Dashed lines are slab boundaries; with upwinding in time no block lies above a slab-diagonal square.')
       + '</div></section>',
@@ -218,7 +293,7 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
     const h = historyFigures(groups, opts.history, color, slugOf);
     svgs.push(...h.svgs);
     historySection = `<section class="history" id="history"><h2>History</h2>`
-      + `<p class="summary">${opts.history.length} stored run${opts.history.length === 1 ? '' : 's'} of the suite.</p>`
+      + `<p class="summary">${esc(plural(opts.history.length, 'stored run'))} of the suite.</p>`
       + `<div class="plots">${h.html}</div></section>`;
   }
 
@@ -240,6 +315,7 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
     + '<h1>slabbench report</h1>'
     + `<p class="meta">${meta.map((m) => `<span>${esc(m)}</span>`).join('')}</p>`
     + (results.suite?.description ? `<p>${esc(results.suite.description)}</p>` : '')
+    + (warning ? `<p class="status" data-status="${esc(results.status ?? '')}"><strong>Not a finished sweep.</strong> ${esc(warning[0].toUpperCase() + warning.slice(1))}.</p>` : '')
     + `<p class="limits"><strong>Limits.</strong> ${esc(LIMITS_STATEMENT)}</p>`
     + `<nav>${nav}</nav>`
     + (sections.length ? sections.join('') : '<p>No runs in the results.</p>')
@@ -249,8 +325,13 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
   return { html, svgs };
 }
 
-/** Write report.html and every plot as its own .svg into outDir (created if missing), each file atomically. */
-export async function writeReport(results: ResultsDoc, outDir: string, opts: ReportOptions = {}): Promise<{ htmlPath: string; svgPaths: string[] }> {
+/**
+ * Write report.html and every plot as its own .svg into outDir (created if missing), each file
+ * atomically. Plot files of an earlier report in the same folder that these results no longer
+ * produce (a matrix left out, an axis not drawn) are removed; only names of our own pattern
+ * (REPORT_FILE_PATTERN) are touched. `removed` lists them.
+ */
+export async function writeReport(results: ResultsDoc, outDir: string, opts: ReportOptions = {}): Promise<{ htmlPath: string; svgPaths: string[]; removed: string[] }> {
   const { html, svgs } = renderReport(results, opts);
   const dir = resolve(outDir);
   await mkdir(dir, { recursive: true });
@@ -262,5 +343,11 @@ export async function writeReport(results: ResultsDoc, outDir: string, opts: Rep
   }
   const htmlPath = join(dir, 'report.html');
   await writeFileAtomic(htmlPath, html);
-  return { htmlPath, svgPaths };
+  const keep = new Set(svgs.map((s) => s.file));
+  const removed: string[] = [];
+  for (const name of await readdir(dir)) {
+    if (!REPORT_FILE_PATTERN.test(name) || keep.has(name)) continue;
+    try { await unlink(join(dir, name)); removed.push(join(dir, name)); } catch { /* gone already, or not ours to remove */ }
+  }
+  return { htmlPath, svgPaths, removed };
 }

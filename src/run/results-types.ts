@@ -1,4 +1,4 @@
-import type { Recipe } from '../solvers/recipe.js';
+import type { RecordedRecipe } from '../solvers/recipe.js';
 import type { SolveResult } from '../solvers/types.js';
 
 export const RESULTS_SCHEMA = 'slabbench-results/2' as const;
@@ -38,7 +38,8 @@ export interface MatrixInfo {
 export interface RunRecord {
   matrix: string;
   recipe: string;
-  recipeParams: Recipe;
+  /** The recipe's name and only the fields its methods read (recordedRecipe). */
+  recipeParams: RecordedRecipe;
   /** Absent when the run could not start (then error says why). */
   result?: SolveResult;
   error?: string;

@@ -8,7 +8,7 @@
  * stored result is the repeat with the median setup + solve time; every repeat's seconds are kept in
  * `record.repeats`, and repeats that did not compute the same thing flag the run (`consistent: false`).
  */
-import type { Recipe } from '../solvers/recipe.js';
+import { recordedRecipe, type Recipe } from '../solvers/recipe.js';
 import type { SolveResult } from '../solvers/types.js';
 import { csrSpmv } from '../sparse/csr.js';
 import { UserError } from '../util/errors.js';
@@ -93,7 +93,7 @@ export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache
     cache.last = await load(m, deps);
   }
   const loaded = cache.last;
-  const base = { matrix: m.name, recipe: task.recipe.name, recipeParams: task.recipe };
+  const base = { matrix: m.name, recipe: task.recipe.name, recipeParams: recordedRecipe(task.recipe) };
   if (loaded.error !== undefined || !loaded.system || !loaded.b) {
     return { id: task.id, record: { ...base, error: loaded.error ?? 'matrix not loaded' } };
   }

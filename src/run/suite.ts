@@ -16,6 +16,7 @@ import { UserError } from '../util/errors.js';
 import { SUITE_SCHEMA } from './results-types.js';
 import type { SuiteParsers } from './deps.js';
 import { readJsonFile } from '../util/json-file.js';
+import { layoutPathFor, readLayoutFor } from '../sparse/layout.js';
 import { expandRecipeGrid, gridRecipeName } from './recipe-grid.js';
 
 /** Names become file names (cache, reports) and CSV cells: keep them plain. */
@@ -262,6 +263,13 @@ export function readSuite(path: string, parsers: SuiteParsers): Suite {
     if (m.kind !== 'file') return;
     if (!existsSync(m.filePath)) throw new UserError(`${path}: matrices[${i}].file: no such file "${m.file}" (looked for ${m.filePath})`);
     if (m.rhsPath !== undefined && !existsSync(m.rhsPath)) throw new UserError(`${path}: matrices[${i}].rhs: no such file "${m.rhs}" (looked for ${m.rhsPath})`);
+    // a layout beside the matrix fixes the block size: a different suite blockSize would fail every run
+    if (m.blockSize !== undefined) {
+      const layout = readLayoutFor(m.filePath);
+      if (layout !== undefined && layout.blockSize !== m.blockSize) {
+        throw new UserError(`${path}: matrices[${i}].blockSize: ${m.blockSize} disagrees with ${layoutPathFor(m.filePath)} (blockSize ${layout.blockSize}); remove blockSize or fix the layout`);
+      }
+    }
   });
   return suite;
 }

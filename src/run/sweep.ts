@@ -18,6 +18,7 @@ import type { MachineProbe, MatrixInfo, ModelRates, ParallelNote, ResultsDoc, Ru
 import { modeledSeconds, modelRates, probeMachine, runWork } from './probe.js';
 import { environment, newResultsDoc, writeResults } from './results.js';
 import { executeTask, type RunTask, type TaskCache, type TaskDone, type TaskMatrix } from './run-task.js';
+import { recordedRecipe } from '../solvers/recipe.js';
 import { shardPairs, type ShardSpec } from './shard.js';
 import { canonicalJson, selectFromSuite, shortHash, type GeneratedMatrixEntry, type Suite, type SuiteMatrix } from './suite.js';
 
@@ -43,6 +44,8 @@ export interface SweepOptions {
   inProcess?: RunDeps;
   signal?: AbortSignal;
   onProgress?(done: number, total: number, label: string): void;
+  /** What starts now: "preparing NAME" (a generated case), "loading NAME for RECIPE" (first run on a matrix), "MATRIX × RECIPE". */
+  onStatus?(label: string): void;
   log?(line: string): void;
   /** Append to OUT/history.jsonl after a complete sweep (default true). */
   history?: boolean;
@@ -152,12 +155,13 @@ function startWorker(depsModule: string): Worker {
 }
 
 function failedRecord(task: RunTask, error: string): TaskDone {
-  return { id: task.id, record: { matrix: task.matrix.name, recipe: task.recipe.name, recipeParams: task.recipe, error } };
+  return { id: task.id, record: { matrix: task.matrix.name, recipe: task.recipe.name, recipeParams: recordedRecipe(task.recipe), error } };
 }
 
 /** Run tasks on up to `jobs` workers; resolves true when interrupted. */
 function runOnWorkers(
   tasks: RunTask[], jobs: number, depsModule: string, onDone: (d: TaskDone) => void, signal?: AbortSignal,
+  onStart?: (task: RunTask) => void,
 ): Promise<boolean> {
   return new Promise<boolean>((resolvePool, rejectPool) => {
     if (tasks.length === 0) { resolvePool(false); return; }
@@ -184,6 +188,7 @@ function runOnWorkers(
         if (stopped) return;
         if (next < tasks.length) {
           current = tasks[next++];
+          onStart?.(current);
           w.postMessage(current);
         } else {
           current = undefined;
@@ -221,12 +226,13 @@ function runOnWorkers(
   });
 }
 
-async function runInProcess(tasks: RunTask[], deps: RunDeps, onDone: (d: TaskDone) => void, signal?: AbortSignal): Promise<boolean> {
+async function runInProcess(tasks: RunTask[], deps: RunDeps, onDone: (d: TaskDone) => void, signal?: AbortSignal, onStart?: (task: RunTask) => void): Promise<boolean> {
   const cache: TaskCache = {};
   for (const task of tasks) {
     // Yield so a pending abort (Ctrl-C) is seen between runs.
     await new Promise((r) => setImmediate(r));
     if (signal?.aborted) return true;
+    onStart?.(task);
     onDone(await executeTask(task, deps, cache));
   }
   return false;
@@ -257,6 +263,7 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
       });
     } else {
       const builder = opts.builder ?? (await import('./real-deps.js'));
+      opts.onStatus?.(`preparing ${m.name} (generated case: cached, prebuilt or built now)`);
       const built = await ensureGeneratedCase(cacheDir, m, builder, opts.log);
       taskMatrices.set(mi, { name: m.name, source: 'generated', mtx: built.mtx, rhs: built.rhs, note: m.note, displayPath: displayPath(outDir, built.mtx) });
     }
@@ -320,9 +327,16 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
 
   writeResults(buildDoc(tasks.length === 0 && !opts.signal?.aborted ? 'complete' : 'partial'), files.results, files.csv);
   opts.onProgress?.(0, tasks.length, '');
+  // the first run on each matrix loads it (tasks go matrix by matrix), so say so
+  const loadedFor = new Set<string>();
+  const onStart = opts.onStatus ? (t: RunTask): void => {
+    const first = !loadedFor.has(t.matrix.name);
+    loadedFor.add(t.matrix.name);
+    opts.onStatus!(first ? `loading ${t.matrix.name} for ${t.recipe.name}` : `${t.matrix.name} × ${t.recipe.name}`);
+  } : undefined;
   const interrupted = (opts.signal?.aborted ?? false) || (opts.inProcess
-    ? await runInProcess(tasks, opts.inProcess, onDone, opts.signal)
-    : await runOnWorkers(tasks, jobs, opts.depsModule ?? siblingModuleUrl('solver-deps').href, onDone, opts.signal));
+    ? await runInProcess(tasks, opts.inProcess, onDone, opts.signal, onStart)
+    : await runOnWorkers(tasks, jobs, opts.depsModule ?? siblingModuleUrl('solver-deps').href, onDone, opts.signal, onStart));
 
   parallel.loadAverageEnd = loadavg();
   const doc = buildDoc(interrupted ? 'interrupted' : 'complete');

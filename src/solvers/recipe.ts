@@ -1,4 +1,5 @@
 import { UserError, optionError } from '../util/errors.js';
+import { preconditionerUses } from '../precond/registry.js';
 /**
  * A solver recipe: one named combination of Krylov method, preconditioner, ordering and
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
@@ -206,8 +207,88 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean): Recipe {
   }
   const bad = crossCheck(recipe, isInner);
   if (bad) throw new UserError(`${where}.${bad[0]}: ${bad[1]}`);
+  const given = Object.keys(src).filter((k) => k === 'inner' || k in FIELD_SPECS) as RecipeField[];
+  const unused = firstUnused(recipe, given);
+  if (unused) throw new UserError(`${where}.${unused.field}: ${unused.why}`);
   if (recipe.preconditioner === 'slab' && !recipe.inner) recipe.inner = { ...DEFAULT_INNER_RECIPE };
   return recipe;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Applicability: which recipe fields each method reads. A field set explicitly (given in a suite
+// file or on the command line) that neither the Krylov method nor the preconditioner reads is an
+// error, and results record only the fields that were read (`recordedRecipe`).
+// ---------------------------------------------------------------------------------------------
+
+/** A recipe field a method can declare it reads (scalar fields and the slab inner recipe). */
+export type RecipeField = ScalarField | 'inner';
+
+/** Fields every recipe uses whatever its methods: the two choices and the stopping rule. */
+export const COMMON_RECIPE_FIELDS: readonly ScalarField[] = [
+  'krylov', 'preconditioner', 'rtol', 'atol', 'maxIterations', 'divergence', 'relativeTo',
+];
+
+/**
+ * The fields each Krylov method reads beyond the common ones (checked against the code: gmres.ts,
+ * bicgstab.ts, stationary.ts via krylovOptionsFromRecipe). FGMRES preconditions on the right only,
+ * so it does not read `side`; stationary iteration reads `omega` as its step factor. Adding a
+ * Krylov method: add its row here.
+ */
+export const KRYLOV_USES: Readonly<Record<KrylovName, readonly ScalarField[]>> = {
+  gmres: ['restart', 'side', 'orthogonalization'],
+  fgmres: ['restart', 'orthogonalization'],
+  bicgstab: [],
+  none: ['omega'],
+};
+
+/** The fields a recipe's Krylov method and preconditioner read (common ones included), or 'all'. */
+export function usedRecipeFields(r: Pick<Recipe, 'krylov' | 'preconditioner'>): ReadonlySet<RecipeField> | 'all' {
+  const pc = preconditionerUses(r.preconditioner);
+  if (pc === 'all') return 'all';
+  return new Set<RecipeField>([...COMMON_RECIPE_FIELDS, ...(KRYLOV_USES[r.krylov] ?? []), ...pc]);
+}
+
+/** Which methods read a field, for the error text ("only block-gs, block-ilu0 read it"). */
+function readersOf(field: RecipeField): string[] {
+  const out: string[] = [];
+  for (const k of KRYLOV_NAMES) if (KRYLOV_USES[k].includes(field as ScalarField)) out.push(k === 'none' ? 'krylov none (stationary iteration)' : k);
+  for (const p of PRECONDITIONER_NAMES) {
+    const u = preconditionerUses(p);
+    if (u === 'all' || u.includes(field)) out.push(p);
+  }
+  return out;
+}
+
+/**
+ * The first of `given` that the recipe's methods do not read, with the reason, or undefined.
+ * `given` lists the fields the user set explicitly, in the order they were given.
+ */
+function firstUnused(r: Recipe, given: readonly RecipeField[]): { field: RecipeField; why: string } | undefined {
+  const used = usedRecipeFields(r);
+  if (used === 'all') return undefined;
+  for (const field of given) {
+    if (used.has(field)) continue;
+    const readers = readersOf(field);
+    const combo = r.krylov === 'none' ? `stationary iteration + ${r.preconditioner}` : `${r.krylov} + ${r.preconditioner}`;
+    return { field, why: `has no effect with ${combo}${readers.length ? ` (read only by ${readers.join(', ')})` : ''}; remove it` };
+  }
+  return undefined;
+}
+
+/**
+ * The recipe as results record it: the name and only the fields its methods read (in field
+ * order), with the inner recipe trimmed the same way. A preconditioner registered without a
+ * `uses` list keeps every field.
+ */
+export type RecordedRecipe = Pick<Recipe, 'name' | 'krylov' | 'preconditioner' | 'rtol' | 'atol' | 'maxIterations' | 'divergence' | 'relativeTo'>
+  & Partial<Omit<Recipe, 'inner'>> & { inner?: RecordedRecipe };
+
+export function recordedRecipe(r: Recipe): RecordedRecipe {
+  const used = usedRecipeFields(r);
+  const out: Record<string, unknown> = { name: r.name };
+  for (const f of RECIPE_FIELDS) if (used === 'all' || used.has(f)) out[f] = r[f];
+  if (r.inner && (used === 'all' || used.has('inner'))) out.inner = recordedRecipe(r.inner);
+  return out as RecordedRecipe;
 }
 
 /** Command-line flag (without "--") for each recipe field. Inner fields take the prefix "inner-". */
@@ -218,7 +299,7 @@ export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   orthogonalization: 'ortho',
   preconditioner: 'precond',
   sweep: 'sweep',
-  ordering: 'order',
+  ordering: 'ordering',
   omega: 'omega',
   sweeps: 'sweeps',
   shift: 'shift',
@@ -249,8 +330,15 @@ export const RECIPE_FIELDS: readonly ScalarField[] = Object.keys(FIELD_SPECS) as
  * (defaults DEFAULT_INNER_RECIPE) and are rejected unless --precond slab.
  */
 export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
+  for (const prefix of ['', 'inner-']) {
+    if (opts[flagKey(`${prefix}order`)] !== undefined) {
+      throw optionError(`--${prefix}order`, `the block ordering option is now --${prefix}ordering (like the recipe field "ordering"; --order is generate's polynomial order)`);
+    }
+  }
   const outer: Record<string, unknown> = { ...DEFAULT_RECIPE };
   const inner: Record<string, unknown> = { ...DEFAULT_INNER_RECIPE };
+  const givenOuter: RecipeField[] = [];
+  const givenInner: RecipeField[] = [];
   let innerGiven: string | undefined;
   for (const field of RECIPE_FIELDS) {
     const flag = RECIPE_FLAGS[field];
@@ -260,6 +348,7 @@ export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
       const c = checkValue(FIELD_SPECS[field], raw, true);
       if (c.error) throw optionError(`--${prefix}${flag}`, c.error);
       target[field] = c.value;
+      (prefix ? givenInner : givenOuter).push(field);
       if (prefix) innerGiven ??= `--${prefix}${flag}`;
     }
   }
@@ -273,6 +362,11 @@ export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
     if (bad) {
       const f = bad[0] === 'inner' ? 'precond' : RECIPE_FLAGS[bad[0] as ScalarField];
       throw optionError(`--${prefix}${f}`, bad[1]);
+    }
+    const unused = firstUnused(r, prefix ? givenInner : givenOuter);
+    if (unused) {
+      const f = unused.field === 'inner' ? 'precond' : RECIPE_FLAGS[unused.field];
+      throw optionError(`--${prefix}${f}`, unused.why);
     }
   }
   return recipe;

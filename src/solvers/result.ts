@@ -1,3 +1,4 @@
+import { withPrefix } from '../util/errors.js';
 import type { Preconditioner } from '../precond/types.js';
 import type {
   BufferBytes, Cause, RelativeTo, ResidualCheck, SolveMemory, SolveResult, WatchedNorm,
@@ -55,7 +56,7 @@ export function meterPreconditioner(M: Preconditioner | undefined): Precondition
       try {
         M.apply(r, z);
       } catch (e) {
-        meter.failure ??= `${M.name}.apply: ${(e as Error)?.message ?? String(e)}`;
+        meter.failure ??= withPrefix(`${M.name}.apply`, (e as Error)?.message ?? String(e));
         z.fill(NaN);
       }
       meter.seconds += (performance.now() - t0) / 1000;

@@ -1,6 +1,6 @@
 import type { Preconditioner, SetupOutcome, SystemMatrix } from '../precond/types.js';
 import { createPreconditioner } from '../precond/registry.js';
-import { UserError } from '../util/errors.js';
+import { UserError, withPrefix } from '../util/errors.js';
 import type { Recipe } from './recipe.js';
 import type { SolveResult } from './types.js';
 import type { KrylovOptions } from './options.js';
@@ -48,7 +48,7 @@ export function solveSystem(
       outcome = created.setup();
     } catch (e) {
       if (e instanceof UserError) throw e;
-      outcome = { ok: false, reason: 'invalid', message: `${recipe.preconditioner} setup: ${(e as Error).message}` };
+      outcome = { ok: false, reason: 'invalid', message: withPrefix(`${recipe.preconditioner} setup`, (e as Error).message) };
     }
   }
   const setupSeconds = secondsSince(tSetup);

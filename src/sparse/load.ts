@@ -14,7 +14,10 @@ export { systemFromMatrix } from './system.js';
  * error, not a silent choice.
  */
 export async function loadSystem(mtxPath: string, opts: LoadOptions = {}): Promise<LoadedSystem> {
-  const { header, csr, fileBlockSize } = await readMatrixFile(mtxPath, opts.duplicates ? { duplicates: opts.duplicates } : {});
+  const { header, csr, fileBlockSize } = await readMatrixFile(mtxPath, {
+    ...(opts.duplicates ? { duplicates: opts.duplicates } : {}),
+    ...(opts.allowNonFinite ? { allowNonFinite: true } : {}),
+  });
   let layout: Layout | undefined;
   let layoutPath: string | undefined;
   if (opts.layoutPath !== undefined) {

@@ -418,3 +418,72 @@ export function blocksPerRow(a: Bsr): { min: number; mean: number; max: number }
   }
   return { min, mean: a.rowPtr[n] / n, max };
 }
+
+// ---------------------------------------------------------------------------------------------
+// The numerically nonzero block pattern
+// ---------------------------------------------------------------------------------------------
+
+export interface ZeroBlocks {
+  /** Stored blocks whose every entry is exactly 0. */
+  zeroBlocks: number;
+  /** Of those, blocks on the block diagonal (such a block row has no usable pivot block). */
+  zeroDiagonalBlocks: number;
+}
+
+/** Count the stored blocks that hold only zeros (common in upwind DG: the outflow neighbour's block). */
+export function zeroBlocks(a: Bsr): ZeroBlocks {
+  const { nBlockRows: nb, bs, rowPtr, colInd, values } = a;
+  const bb = bs * bs;
+  let zero = 0, zeroDiag = 0;
+  for (let I = 0; I < nb; I++) {
+    for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
+      let allZero = true;
+      for (let q = k * bb, end = q + bb; q < end; q++) if (values[q] !== 0) { allZero = false; break; }
+      if (allZero) { zero++; if (colInd[k] === I) zeroDiag++; }
+    }
+  }
+  return { zeroBlocks: zero, zeroDiagonalBlocks: zeroDiag };
+}
+
+/**
+ * The block pattern without the blocks that hold only zeros: a Bsr with the same block rows whose
+ * `values` is EMPTY (pattern only, for graph algorithms such as stronglyConnectedBlocks). A NaN
+ * entry counts as nonzero.
+ */
+export function nonzeroBlockPattern(a: Bsr): Bsr {
+  const { nBlockRows: nb, bs, rowPtr, colInd, values } = a;
+  const bb = bs * bs;
+  const newPtr = new Int32Array(nb + 1);
+  const keep: number[] = [];
+  for (let I = 0; I < nb; I++) {
+    for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
+      for (let q = k * bb, end = q + bb; q < end; q++) if (values[q] !== 0) { keep.push(colInd[k]); break; }
+    }
+    newPtr[I + 1] = keep.length;
+  }
+  return { nBlockRows: nb, nBlockCols: a.nBlockCols, bs, rowPtr: newPtr, colInd: Int32Array.from(keep), values: new Float64Array(0) };
+}
+
+export interface TriangularStructure {
+  nComponents: number;
+  largestComponent: number;
+  /** The given order is already block lower triangular (by components). */
+  givenOrderBlockLowerTriangular: boolean;
+  /**
+   * Every strongly connected component is a single block row: a symmetric permutation of the
+   * block rows (the component order) makes the matrix block lower triangular with single blocks
+   * on the diagonal, so one block forward sweep (block Gauss–Seidel) in that order solves it.
+   */
+  triangularUnderPermutation: boolean;
+}
+
+/** Triangular structure of a block pattern from Tarjan's components (stronglyConnectedBlocks). */
+export function triangularStructure(a: Bsr): TriangularStructure {
+  const c = stronglyConnectedBlocks(a);
+  return {
+    nComponents: c.nComponents,
+    largestComponent: c.largestComponent,
+    givenOrderBlockLowerTriangular: c.isBlockLowerTriangular,
+    triangularUnderPermutation: a.nBlockRows === 0 || c.largestComponent === 1,
+  };
+}

@@ -35,6 +35,8 @@ export interface LoadOptions {
   /** Layout file to use instead of the sidecar `NAME.layout.json`. */
   layoutPath?: string;
   duplicates?: 'sum' | 'reject';
+  /** Accept NaN and ±Inf entries (default: rejected with the line number). */
+  allowNonFinite?: boolean;
 }
 
 /** Largest number of dense-block values we agree to allocate (Float64Array indexable by Int32). */

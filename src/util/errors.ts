@@ -34,3 +34,13 @@ export function fileError(file: string, line: number | undefined, what: string):
 export function optionError(option: string, what: string): UserError {
   return new UserError(`option ${option}: ${what}`);
 }
+
+/**
+ * `prefix: message`, unless the message already starts with that prefix (or with the bare name
+ * before a "." or " " in the prefix: "ilu0.apply" and "ilu0 setup" do not double "ilu0: …").
+ */
+export function withPrefix(prefix: string, message: string): string {
+  const name = prefix.split(/[. ]/)[0];
+  if (message.startsWith(`${prefix}:`) || message.startsWith(`${name}:`)) return message;
+  return `${prefix}: ${message}`;
+}

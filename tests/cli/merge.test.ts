@@ -24,7 +24,7 @@ describe('slabbench merge (CLI)', () => {
     const r = await runCli(['merge', files[2], files[0], files[1], '--out', out]);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
-    expect(r.stdout).toMatch(/^merged 3 file\(s\), 4 runs: /);
+    expect(r.stdout).toMatch(/^merged 3 files, 4 runs: /);
     const merged = readResults(join(out, 'results.json'));
     expect(merged.runs.map((x) => [x.matrix, x.recipe, x.result?.iterations])).toEqual(whole.doc.runs.map((x) => [x.matrix, x.recipe, x.result?.iterations]));
     expect(existsSync(join(out, 'results.csv'))).toBe(true);

@@ -52,7 +52,9 @@ describe('slabbench solve', () => {
   });
 
   it('--json - prints only JSON with the documented fields', async () => {
+    const t0 = performance.now();
     const r = await run(['solve', tri, '--precond', 'ilu0', '--json', '-']);
+    const wall = (performance.now() - t0) / 1000;
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);
     for (const key of ['iterations', 'restarts', 'converged', 'outcome', 'cause', 'history', 'trueRelativeResidual', 'watched',
@@ -63,12 +65,19 @@ describe('slabbench solve', () => {
     expect(doc.history[0]).toBe(1);
     expect(doc.history.length).toBe(doc.iterations + 1);
     expect(doc.trueRelativeResidual).toBeLessThanOrEqual(1e-8);
-    expect(doc.timing.setupSeconds).toBeGreaterThanOrEqual(0);
-    expect(doc.timing.solveSeconds).toBeGreaterThanOrEqual(0);
+    for (const s of [doc.timing.setupSeconds, doc.timing.solveSeconds]) {
+      expect(Number.isFinite(s)).toBe(true);
+      expect(s).toBeGreaterThanOrEqual(0);
+    }
+    expect(doc.timing.setupSeconds + doc.timing.solveSeconds).toBeLessThanOrEqual(wall);
     expect(doc.memory.matrixBytes).toBe(41 * 4 + 118 * 4 + 118 * 8); // CSR rowPtr + colInd + values
-    expect(doc.memory.preconditionerBytes).toBeGreaterThan(0);
-    expect(doc.memory.krylovBytes).toBeGreaterThan(0);
-    expect(doc.memory.peakBytes).toBeGreaterThan(0);
+    // Each total is the sum of its named buffers, and the peak RSS holds all of them.
+    const sum = (o: Record<string, number>): number => Object.values(o).reduce((s, v) => s + v, 0);
+    expect(doc.memory.preconditionerBytes).toBe(sum(doc.memory.buffers.preconditioner));
+    expect(doc.memory.krylovBytes).toBe(sum(doc.memory.buffers.krylov));
+    expect(doc.memory.buffers.krylov.basis).toBe(31 * 40 * 8); // restart 30, n = 40
+    expect(doc.memory.preconditionerBytes).toBeGreaterThanOrEqual(118 * 8); // ILU(0) keeps at least one value per entry of A
+    expect(doc.memory.peakBytes).toBeGreaterThan(doc.memory.matrixBytes + doc.memory.preconditionerBytes + doc.memory.krylovBytes);
     expect(doc.errorVsOnes.max).toBeLessThan(1e-6);
     expect(doc.recipe.preconditioner).toBe('ilu0');
   });

@@ -98,7 +98,7 @@ describe('slabbench sweep (CLI, real solver stack)', () => {
       child.kill('SIGINT');
       const code = await exited;
       writeFileSync(release, ''); // nothing should be waiting any more; harmless if so
-      expect(stderr).toContain('slabbench: interrupted: 2 finished run(s) kept in');
+      expect(stderr).toContain('slabbench: interrupted: 2 finished runs kept in');
       expect(code).toBe(130);
       const doc = readResults(results);
       expect(doc.status).toBe('interrupted');

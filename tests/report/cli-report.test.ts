@@ -20,10 +20,10 @@ describe('slabbench report', () => {
       const r = await runCommand(registerReport, ['report', join(dir, 'results.json'), '--out', join(dir, 'out'), '--json']);
       expect(r.code).toBe(0);
       const out = JSON.parse(r.stdout) as { html: string; svgs: string[] };
-      expect(out.svgs).toHaveLength(8); // 3 plots × 2 matrices + 2 history plots
+      expect(out.svgs).toHaveLength(10); // 4 plots × 2 matrices + 2 history plots
       expect(readFileSync(out.html, 'utf8')).toContain('id="history"');
       const noHist = await runCommand(registerReport, ['report', join(dir, 'results.json'), '--out', join(dir, 'out2'), '--no-history', '--json']);
-      expect((JSON.parse(noHist.stdout) as { svgs: string[] }).svgs).toHaveLength(6);
+      expect((JSON.parse(noHist.stdout) as { svgs: string[] }).svgs).toHaveLength(8);
     } finally {
       rmSync(dir, { recursive: true, force: true });
     }

@@ -18,6 +18,7 @@ interface PageElement {
   querySelectorAll(sel: string): ArrayLike<PageElement>;
   getBoundingClientRect(): { width: number; height: number };
   getBBox(): { width: number; height: number };
+  textContent: string | null;
 }
 
 interface PlotFacts {
@@ -29,7 +30,13 @@ interface PlotFacts {
   visibleSeries: number;
   panels: Record<string, number>;
   slabBoundaries: number;
+  markerGroups: number;
+  tolerances: number;
+  /** Text elements whose box pokes out of the plot's box by more than a pixel. */
+  overflowing: string[];
 }
+
+const by0 = (facts: PlotFacts[], file: string): PlotFacts => facts.find((f) => f.file === file)!;
 
 describe('HTML report in a browser', () => {
   it.runIf(existsSync(CHROMIUM))('renders every plot with its series and no console errors', async () => {
@@ -66,14 +73,30 @@ describe('HTML report in a browser', () => {
           visibleSeries: series.filter((el) => { const b = el.getBBox(); return b.width > 0 || b.height > 0; }).length,
           panels,
           slabBoundaries: svg.querySelectorAll('[data-slab-boundary]').length,
+          markerGroups: svg.querySelectorAll('[data-markers]').length,
+          tolerances: svg.querySelectorAll('[data-tolerance]').length,
+          overflowing: Array.from(svg.querySelectorAll('text')).filter((t) => {
+            const r = (t as unknown as { getBoundingClientRect(): { left: number; right: number; top: number; bottom: number } }).getBoundingClientRect();
+            const o = (svg as unknown as { getBoundingClientRect(): { left: number; right: number; top: number; bottom: number } }).getBoundingClientRect();
+            return r.right > o.right + 1 || r.left < o.left - 1 || r.top < o.top - 1 || r.bottom > o.bottom + 1;
+          }).map((t) => t.textContent ?? ''),
         };
       }));
 
-      expect(facts.map((f) => f.plot)).toEqual(['residuals', 'ritz', 'pattern', 'residuals', 'ritz', 'pattern', 'history', 'history']);
+      expect(facts.map((f) => f.plot)).toEqual([
+        'residuals', 'residuals', 'ritz', 'pattern', 'residuals', 'residuals', 'ritz', 'pattern', 'history', 'history',
+      ]);
       for (const f of facts) {
         expect(f.width, f.file).toBeGreaterThan(100);
         expect(f.height, f.file).toBeGreaterThan(100);
         expect(f.visibleSeries, f.file).toBe(f.series);
+        // legends, labels and notes stay inside the picture (measured with the browser's own fonts)
+        expect(f.overflowing, f.file).toEqual([]);
+      }
+      // residual plots: a marker group and a tolerance mark per recipe, on both axes
+      for (const file of ['residuals-duct-pulse.svg', 'residuals-duct-pulse.matvecs.svg', 'residuals-tank-stir.svg']) {
+        expect(by0(facts, file).markerGroups, file).toBe(3);
+        expect(by0(facts, file).tolerances, file).toBe(3);
       }
       const by = (file: string): PlotFacts => facts.find((f) => f.file === file)!;
       // residuals: all three recipes; Ritz: only the two GMRES recipes report Ritz values

@@ -8,7 +8,7 @@ const ANSI = /\x1b\[/;
 describe('renderRankedTables', () => {
   it('prints one table per matrix with every number of every run', () => {
     const results = makeResults();
-    const out = renderRankedTables(results);
+    const out = renderRankedTables(results, { width: 200 });
     expect(out).not.toMatch(ANSI);
     for (const name of ['duct-pulse', 'tank-stir']) expect(out).toContain(name);
     const lines = out.split('\n');
@@ -30,7 +30,7 @@ describe('renderRankedTables', () => {
   });
 
   it('marks exactly one winner per matrix, on the rank-1 converged row', () => {
-    const out = renderRankedTables(makeResults());
+    const out = renderRankedTables(makeResults(), { width: 200 });
     const winnerRows = out.split('\n').filter((l) => /^\s+1 ★\s/.test(l));
     expect(winnerRows).toHaveLength(2);
     for (const l of winnerRows) expect(l).toContain('gmres-bilu0');
@@ -73,21 +73,23 @@ describe('shouldUseColor', () => {
 });
 
 describe('format', () => {
-  it('formats bytes in binary units', () => {
+  it('formats bytes in SI units with three significant digits', () => {
     expect(formatBytes(0)).toBe('0 B');
-    expect(formatBytes(1023)).toBe('1023 B');
-    expect(formatBytes(1024)).toBe('1.00 KiB');
-    expect(formatBytes(1536)).toBe('1.50 KiB');
-    expect(formatBytes(5 * 1024 ** 3)).toBe('5.00 GiB');
-    expect(formatBytes(1.5 * 1024 ** 4)).toBe('1.50 TiB');
-    expect(formatBytes(123.4 * 1024 ** 2)).toBe('123 MiB');
+    expect(formatBytes(999)).toBe('999 B');
+    expect(formatBytes(1000)).toBe('1.00 kB');
+    expect(formatBytes(1536)).toBe('1.54 kB');
+    expect(formatBytes(5e9)).toBe('5.00 GB');
+    expect(formatBytes(1.5e12)).toBe('1.50 TB');
+    expect(formatBytes(123.4e6)).toBe('123 MB');
+    expect(formatBytes(999.7e3)).toBe('1.00 MB'); // rounding carries into the next unit, never "1000 kB"
+    expect(formatBytes(12.34e6)).toBe('12.3 MB');
   });
   it('formats residuals, seconds and counts', () => {
     expect(formatResidual(3.2104e-9)).toBe('3.21e-9');
     expect(formatResidual(19000)).toBe('1.90e4');
     expect(formatResidual(NaN)).toBe('NaN');
     expect(formatSeconds(0.0123456)).toBe('0.0123');
-    expect(formatSeconds(0.00005)).toBe('5.0e-5');
+    expect(formatSeconds(0.00005)).toBe('5.00e-5');
     expect(formatCount(1234567)).toBe('1 234 567');
   });
 });
@@ -103,5 +105,66 @@ describe('renderRankedTables edge cases', () => {
     expect(out).toContain('r: could not read lonely.mtx');
     results.runs = [];
     expect(renderRankedTables(results)).toBe('no runs in the results\n');
+  });
+});
+
+describe('renderRankedTables layout and honesty', () => {
+  const visible = (s: string): number => [...s].length;
+
+  it('fits 80 columns in the narrow layout (time merged, recipe names shortened) and uses a wider terminal when there is one', () => {
+    const results = makeResults();
+    results.runs[0].recipe = 'gmres+block-ilu0-downstream-with-a-very-long-name';
+    const narrow = renderRankedTables(results, { width: 80 });
+    for (const line of narrow.split('\n')) expect(visible(line), line).toBeLessThanOrEqual(80);
+    expect(narrow).toContain('time s');
+    expect(narrow).not.toContain('setup s');
+    expect(narrow).toContain('…');
+    const wide = renderRankedTables(results, { width: 200 });
+    expect(wide).toContain('setup s');
+    expect(wide).toContain('restarts');
+    expect(wide).toContain('gmres+block-ilu0-downstream-with-a-very-long-name');
+    for (const line of renderRankedTables(results, { width: 60 }).split('\n')) expect(visible(line), line).toBeLessThanOrEqual(60);
+  });
+
+  it('shows matvecs and preconditioner applies beside iterations', () => {
+    const results = makeResults();
+    const res = results.runs[0].result!;
+    (res as unknown as { work: unknown }).work = { setup: {}, solve: { matvecs: 1234, preconditionerApplies: 1233 } };
+    const out = renderRankedTables(results, { width: 200 });
+    const header = out.split('\n').find((l) => l.includes('iters'))!;
+    expect(header.indexOf('iters')).toBeLessThan(header.indexOf('matvecs'));
+    expect(header.indexOf('matvecs')).toBeLessThan(header.indexOf('applies'));
+    expect(out).toMatch(/1 234\s+1 233/);
+  });
+
+  it('a matrix where only some of the sweep’s recipes ran has no winner, and partial results say so first', () => {
+    const results = makeResults();
+    results.suite.recipeNames = ['gmres-bilu0', 'gmres-bjacobi', 'bicgstab-jacobi'];
+    results.runs = results.runs.filter((r) => !(r.matrix === 'tank-stir' && r.recipe === 'gmres-bilu0'));
+    results.status = 'interrupted';
+    const out = renderRankedTables(results, { width: 200 });
+    expect(out.split('\n')[0]).toMatch(/^warning: these results are from an interrupted sweep/);
+    const tank = out.slice(out.indexOf('tank-stir'));
+    expect(tank).not.toContain('★');
+    expect(tank).toContain('incomplete: 1 recipe of the sweep did not run here (gmres-bilu0), so no winner is named');
+    const duct = out.slice(0, out.indexOf('tank-stir'));
+    expect(duct).toContain('★ winner: gmres-bilu0');
+  });
+
+  it('a failure message that already names the recipe is not prefixed twice', () => {
+    const results = makeResults();
+    const run = results.runs.find((r) => r.matrix === 'tank-stir' && !r.result!.converged)!;
+    run.recipe = 'ilu0';
+    run.result!.failure = { message: 'ilu0: zero or tiny pivot in row 3 (block row 1)' };
+    const out = renderRankedTables(results, { width: 200 });
+    expect(out).toContain('ilu0: zero or tiny pivot');
+    expect(out).not.toContain('ilu0: ilu0:');
+  });
+
+  it('singular and plural: 1 slab, 2 slabs', () => {
+    const results = makeResults();
+    results.matrices[0].nSlabs = 1;
+    expect(renderRankedTables(results, { width: 200 })).toContain(', 1 slab');
+    expect(renderRankedTables(results, { width: 200 })).toMatch(/, [2-9]\d* slabs/);
   });
 });

@@ -12,9 +12,9 @@ describe('slabbench estimate', () => {
     expect(r.stderr).toBe('');
     expect(r.stdout).toContain('blocks of 175×175');
     const jac = r.stdout.split('\n').find((l) => l.trim().startsWith('Jacobian (BSR)'))!;
-    // 6·10⁶ blocks · 175² · 8 B ≈ 1.34 TiB at once, a hundredth per slab
-    expect(jac).toMatch(/1\.34 TiB\s+13\.7 GiB$/);
-    expect(r.stdout).toMatch(/gmres\s+40\.4 GiB\s+414 MiB/);
+    // 6·10⁶ blocks · 175² · 8 B ≈ 1.47 TB (SI units) at once, a hundredth per slab
+    expect(jac).toMatch(/1\.47 TB\s+14\.7 GB$/);
+    expect(r.stdout).toMatch(/gmres\s+43\.4 GB\s+434 MB/);
   });
 
   it('--json is machine-clean and equals the library result', async () => {

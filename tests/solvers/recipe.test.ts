@@ -42,11 +42,11 @@ describe('parseRecipe (suite files)', () => {
 
 describe('recipeFromOptions (command line)', () => {
   it('parses string option values and names the flag on error', () => {
-    const r = recipeFromOptions({ krylov: 'bicgstab', precond: 'jacobi', rtol: '1e-6', maxIters: '50', ortho: 'cgs2' });
-    expect(r).toMatchObject({ krylov: 'bicgstab', preconditioner: 'jacobi', rtol: 1e-6, maxIterations: 50, orthogonalization: 'cgs2' });
+    const r = recipeFromOptions({ krylov: 'gmres', precond: 'jacobi', rtol: '1e-6', maxIters: '50', ortho: 'cgs2' });
+    expect(r).toMatchObject({ krylov: 'gmres', preconditioner: 'jacobi', rtol: 1e-6, maxIterations: 50, orthogonalization: 'cgs2' });
     expect(() => recipeFromOptions({ maxIters: '5.5' })).toThrow('option --max-iters: expected an integer from 0 to 1000000000, got "5.5"');
     expect(() => recipeFromOptions({ restart: 'ten' })).toThrow(/option --restart: expected an integer/);
-    expect(() => recipeFromOptions({ order: 'random' })).toThrow(/option --order: expected one of natural, rcm, downstream, mdf/);
+    expect(() => recipeFromOptions({ precond: 'block-ilu0', ordering: 'random' })).toThrow(/option --ordering: expected one of natural, rcm, downstream, mdf/);
   });
 
   it('inner options fill the slab inner recipe and are rejected without --precond slab', () => {

@@ -98,18 +98,58 @@ describe('solveSystem with the project preconditioners', () => {
     const bsr = slabBidiagonal(5, 2);
     const sys: SystemMatrix = { csr: bsrToCsr(bsr), bsr };
     const b = new Float64Array(10).fill(1);
+    const t0 = performance.now();
     const { result } = solveSystem(sys, b, recipe({ preconditioner: 'block-jacobi' }));
+    const wall = (performance.now() - t0) / 1000;
     expect(result.memory.matrixBytes).toBe(bsr.rowPtr.byteLength + bsr.colInd.byteLength + bsr.values.byteLength);
     expect(result.memory.buffers.matrix.values).toBe(bsr.values.byteLength);
-    expect(result.memory.preconditionerBytes).toBeGreaterThan(0);
-    expect(result.memory.krylovBytes).toBeGreaterThan(0);
-    expect(result.memory.peakBytes).toBeGreaterThan(0);
-    expect(result.timing.setupSeconds).toBeGreaterThanOrEqual(0);
+    // block-jacobi, inverse blocks: nb·bs² doubles of inverses + one bs² work block + bs Int32 pivots.
+    expect(result.memory.preconditionerBytes).toBe(5 * 4 * 8 + 4 * 8 + 2 * 4);
+    // GMRES, restart min(30, n) = 10: basis of 11 vectors of length 10; the total is the sum of the named buffers.
+    expect(result.memory.buffers.krylov.basis).toBe(11 * 10 * 8);
+    expect(result.memory.krylovBytes).toBe(Object.values(result.memory.buffers.krylov).reduce((s, v) => s + v, 0));
+    expect(result.memory.workBytes).toBe(Object.values(result.memory.buffers.work).reduce((s, v) => s + v, 0));
+    // The peak RSS holds every counted buffer.
+    const counted = result.memory.matrixBytes + result.memory.preconditionerBytes + result.memory.krylovBytes + result.memory.workBytes;
+    expect(Number.isFinite(result.memory.peakBytes)).toBe(true);
+    expect(result.memory.peakBytes).toBeGreaterThan(counted);
+    // Timings: finite, non-negative, and within the wall time of the call.
+    for (const s of [result.timing.setupSeconds, result.timing.solveSeconds]) {
+      expect(Number.isFinite(s)).toBe(true);
+      expect(s).toBeGreaterThanOrEqual(0);
+    }
+    expect(result.timing.setupSeconds + result.timing.solveSeconds).toBeLessThanOrEqual(wall);
     expect(result.preconditioner).toBe('block-jacobi');
     const point = solveSystem(pointSystem(tridiag(10, -1, 2, -1)), b, recipe({}));
     const c = tridiag(10, -1, 2, -1);
     expect(point.result.memory.matrixBytes).toBe(c.rowPtr.byteLength + c.colInd.byteLength + c.values.byteLength);
     expect(point.result.memory.preconditionerBytes).toBe(0);
+  });
+
+  it('the reported true residual equals ‖b − A x‖/‖b‖ recomputed from the returned x with a naive CSR loop', () => {
+    // Independent of residualInto (src/solvers/operator.ts): the test's own loop over the CSR arrays.
+    const bsr = slabBidiagonal(6, 3, 11);
+    const sys: SystemMatrix = { csr: bsrToCsr(bsr), bsr };
+    const b = Float64Array.from({ length: 18 }, (_, i) => Math.sin(i + 1));
+    for (const r of [
+      recipe({ preconditioner: 'block-jacobi', rtol: 1e-6 }),
+      recipe({ krylov: 'bicgstab', preconditioner: 'ilu0', rtol: 1e-8 }),
+      recipe({ krylov: 'gmres', side: 'left', preconditioner: 'block-gs', rtol: 1e-5 }),
+      recipe({ krylov: 'gmres', preconditioner: 'none', maxIterations: 3 }), // stops early: a residual well above round-off
+    ]) {
+      const { result, x } = solveSystem(sys, b, r);
+      const { rowPtr, colInd, values } = sys.csr;
+      let rr = 0, bb = 0;
+      for (let i = 0; i < 18; i++) {
+        let s = b[i];
+        for (let k = rowPtr[i]; k < rowPtr[i + 1]; k++) s -= values[k] * x[colInd[k]];
+        rr += s * s;
+        bb += b[i] * b[i];
+      }
+      const recomputed = Math.sqrt(rr / bb);
+      expect(result.trueRelativeResidual).toBeGreaterThan(0);
+      expect(Math.abs(result.trueRelativeResidual - recomputed)).toBeLessThan(1e-10 * recomputed + 1e-15);
+    }
   });
 
   it('a zero pivot ends the run as preconditioner-error with the block row; a shift lets it run', () => {

@@ -41,7 +41,11 @@ function expectSlabMatrixNumbers(r: ReturnType<typeof buildInspectReport>): void
   expect(r.dominance.mean).toBeCloseTo((5 * 15) / 16 / 6, 15);
   expect(r.dominance.nDominant).toBe(6);
   expect(r.dominance.nSingular).toBe(0);
-  expect(r.components).toEqual({ nComponents: 6, largestBlockRows: 1, givenOrderBlockLowerTriangular: true });
+  expect(r.components).toEqual({ nComponents: 6, largestBlockRows: 1, givenOrderBlockLowerTriangular: true, triangularUnderPermutation: true });
+  expect(r.nonzeroPattern).toEqual({
+    nBlocks: 11, zeroBlocks: 0, zeroBlockShare: 0, zeroDiagonalBlocks: 0,
+    nComponents: 6, largestBlockRows: 1, givenOrderBlockLowerTriangular: true, triangularUnderPermutation: true,
+  });
   expect(r.storage.csr).toEqual({ rowPtr: 13 * 4, colInd: 44 * 4, values: 44 * 8 });
   expect(r.storage.bsr).toEqual({ rowPtr: 7 * 4, colInd: 11 * 4, values: 44 * 8 });
   expect(r.storage.csrBytes).toBe(52 + 176 + 352);
@@ -64,7 +68,8 @@ describe('inspect report', () => {
     expect(r.blockSize).toMatchObject({ bs: 2, source: 'layout', layoutFile: 'slabs.layout.json' });
     const text = formatInspectReport(r);
     expect(text).toContain('3 slabs of 2 block rows; no block above the slab diagonal');
-    expect(text).toContain('6 strongly connected components, largest 1 block row; given order is block lower triangular');
+    expect(text).toContain('stored pattern: 6 strongly connected components, largest 1 block row; block lower triangular as given: one block forward sweep solves it');
+    expect(text).toContain('zero blocks       none');
     expect(text).toContain('2 from layout slabs.layout.json, fill ratio 1');
   });
   it('JSON is machine-clean: non-finite numbers become null', () => {

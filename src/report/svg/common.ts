@@ -1,3 +1,5 @@
+import { symbol, symbolsFill } from 'd3-shape';
+
 /**
  * Small helpers for hand-built SVG: escaping, compact coordinates, a fixed palette, axes and a
  * legend. Everything is deterministic (no random ids, no dates), so the same results give
@@ -27,24 +29,46 @@ export function attrs(a: Record<string, string | number | undefined>): string {
 
 /**
  * Series colours (our own choice: ten hues distinguishable in print and for the common colour
- * vision deficiencies; beyond ten, lines also change dash pattern).
+ * vision deficiencies). Colour alone is not enough when lines overlap or the page is printed in
+ * grey, so each series also gets a dash pattern and a marker shape from its index; the three
+ * cycles have coprime lengths (10, 4, 7), so two series of one report differ in at least two of
+ * the three up to 28 series.
  */
 export const PALETTE = ['#1f6fb4', '#d9731a', '#2a9d5b', '#c23b4a', '#7b5ea7', '#8c6d31', '#d16aa8', '#4d4d4d', '#17a2b8', '#a39200'];
-const DASHES = [undefined, '7 3', '2 3', '9 3 2 3'];
+/** Solid, long dash, dash-dot, short dash. Dotted ('1.5 3') is kept for left-preconditioned residuals. */
+const DASHES = [undefined, '9 3', '10 3 2 3', '4 3'];
+/** Dash pattern of a series whose residual is the left-preconditioned one (‖M⁻¹r‖). */
+export const WATCHED_LEFT_DASH = '1.5 3.5';
+export const MARKER_AREA = 40;
 
 export interface SeriesStyle {
   color: string;
   dash?: string;
-  /** Index into d3's symbolsFill for scatter markers. */
+  /** Index into d3's symbolsFill for markers. */
   symbol: number;
+  /** Markers drawn hollow (second round of the seven shapes). */
+  hollow: boolean;
 }
 
 export function seriesStyle(index: number): SeriesStyle {
   return {
     color: PALETTE[index % PALETTE.length],
-    dash: DASHES[Math.floor(index / PALETTE.length) % DASHES.length],
+    dash: DASHES[index % DASHES.length],
     symbol: index % 7,
+    hollow: Math.floor(index / 7) % 2 === 1,
   };
+}
+
+/** The marker shape of a style as an SVG path centred on (0, 0). */
+export function markerPath(style: SeriesStyle, area = MARKER_AREA): string {
+  return symbol(symbolsFill[style.symbol], area)() ?? '';
+}
+
+/** Fill and stroke attributes of a marker in a style (hollow markers: white fill, coloured outline). */
+export function markerPaint(style: SeriesStyle): Record<string, string | number> {
+  return style.hollow
+    ? { fill: '#fff', stroke: style.color, 'stroke-width': 1.4 }
+    : { fill: style.color, stroke: '#fff', 'stroke-width': 0.8 };
 }
 
 export const FONT = 'system-ui, -apple-system, Segoe UI, Roboto, Helvetica, Arial, sans-serif';
@@ -61,9 +85,26 @@ export function svgOpen(width: number, height: number, title: string, plot: stri
     + `<rect${attrs({ x: 0, y: 0, width, height, fill: '#fff' })}/>`;
 }
 
-/** Rough text width for layout (no font metrics available when rendering on the server side). */
+/**
+ * Text width estimate for layout (no font metrics on the server side). Per character class, from
+ * the advance widths of DejaVu Sans (the sans-serif font a Debian browser falls back to, and among
+ * the widest common UI fonts), so labels and legends are not cut off in other fonts either.
+ */
 export function textWidth(s: string, fontSize = 12): number {
-  return [...s].length * fontSize * 0.58;
+  let em = 0;
+  for (const ch of s) {
+    if (ch >= '0' && ch <= '9') em += 0.64;
+    else if (ch === 'm' || ch === 'w') em += 0.95;
+    else if ('ijl'.includes(ch)) em += 0.28;
+    else if ('rtf'.includes(ch)) em += 0.42;
+    else if (' .,:;\'!|'.includes(ch)) em += 0.32;
+    else if ('()[]-'.includes(ch)) em += 0.39;
+    else if ('+=<>×'.includes(ch)) em += 0.84;
+    else if (ch >= 'a' && ch <= 'z') em += 0.62;
+    else if (ch >= 'A' && ch <= 'Z') em += ch === 'M' || ch === 'W' ? 1 : 0.74;
+    else em += 0.75;
+  }
+  return em * fontSize;
 }
 
 export function text(x: number, y: number, s: string, a: Record<string, string | number | undefined> = {}): string {
@@ -89,16 +130,21 @@ export interface LegendEntry {
   style: SeriesStyle;
   /** Extra text after the name, e.g. "12 it". */
   note?: string;
-  /** Draw a marker instead of a line swatch. */
-  marker?: string;
+  /** Draw only a marker (scatter plots) instead of a line swatch with its marker. */
+  markerOnly?: boolean;
+  /** Line swatch without a marker. */
+  noMarker?: boolean;
+  /** Dash pattern of the swatch when it differs from the style's (left-preconditioned series). */
+  dash?: string;
 }
 
 export const LEGEND_ROW = 18;
+const SWATCH = 30;
 
-/** Width a legend needs. */
+/** Width a legend needs (names and notes measured on the wide side, plus padding). */
 export function legendWidth(entries: LegendEntry[]): number {
-  const longest = Math.max(0, ...entries.map((e) => textWidth(e.note ? `${e.name}  ${e.note}` : e.name)));
-  return entries.length ? Math.ceil(longest + 40) : 0;
+  const longest = Math.max(0, ...entries.map((e) => textWidth(e.name) + (e.note ? 8 + textWidth(e.note) : 0)));
+  return entries.length ? Math.ceil(longest + SWATCH + 6 + 16) : 0;
 }
 
 /** Vertical legend with one row per series; each row carries data-legend for tests. */
@@ -107,13 +153,12 @@ export function legend(entries: LegendEntry[], x: number, y: number): string {
   entries.forEach((e, i) => {
     const cy = i * LEGEND_ROW + 6;
     s += `<g${attrs({ 'data-legend': e.name })}>`;
-    if (e.marker) {
-      s += `<path${attrs({ d: e.marker, transform: `translate(12,${num(cy)})`, fill: e.style.color })}/>`;
-    } else {
-      s += `<line${attrs({ x1: 0, x2: 24, y1: cy, y2: cy, stroke: e.style.color, 'stroke-width': 2.5, 'stroke-dasharray': e.style.dash })}/>`;
+    if (!e.markerOnly) {
+      s += `<line${attrs({ x1: 0, x2: SWATCH, y1: cy, y2: cy, stroke: e.style.color, 'stroke-width': 2.2, 'stroke-dasharray': e.dash ?? e.style.dash })}/>`;
     }
-    s += text(30, cy + 4, e.name);
-    if (e.note) s += `<text${attrs({ x: 30 + textWidth(e.name) + 8, y: cy + 4, fill: AXIS_COLOR })}>${esc(e.note)}</text>`;
+    if (!e.noMarker) s += `<path${attrs({ d: markerPath(e.style), transform: `translate(${SWATCH / 2},${num(cy)})`, ...markerPaint(e.style) })}/>`;
+    s += text(SWATCH + 6, cy + 4, e.name);
+    if (e.note) s += `<text${attrs({ x: SWATCH + 6 + textWidth(e.name) + 8, y: cy + 4, fill: AXIS_COLOR })}>${esc(e.note)}</text>`;
     s += '</g>';
   });
   return `${s}</g>`;

@@ -1,8 +1,8 @@
 import { scaleLinear } from 'd3-scale';
 import { line } from 'd3-shape';
 import {
-  attrs, AXIS_COLOR, emptyPlot, GRID_COLOR, legend, legendWidth, LEGEND_ROW, num, seriesStyle, svgOpen, text,
-  tickLabel, type LegendEntry,
+  attrs, AXIS_COLOR, emptyPlot, GRID_COLOR, legend, legendWidth, LEGEND_ROW, markerPaint, markerPath, num, seriesStyle, svgOpen, text,
+  textWidth, tickLabel, type LegendEntry,
 } from './common.js';
 
 export interface HistorySeries {
@@ -22,6 +22,8 @@ export interface HistoryPlotInput {
   runLabels: string[];
   series: HistorySeries[];
   idPrefix: string;
+  /** Indices i where run i used a different suite than run i − 1: a vertical line between them. */
+  suiteChanges?: number[];
 }
 
 const W = 560, PH = 170, GAP = 56;
@@ -40,9 +42,15 @@ export function historyPlot(input: HistoryPlotInput): string {
   if (nRuns === 0 || input.series.length === 0) return emptyPlot(width, 200, input.title, 'history', 'no stored runs');
 
   const x = scaleLinear().domain(nRuns === 1 ? [-1, 1] : [0, nRuns - 1]).range([M.left + 12, M.left + W - 12]);
-  const step = Math.max(1, Math.ceil(nRuns / 12));
+  // as many labels as fit side by side (the widest label decides)
+  const labelW = Math.max(20, ...input.runLabels.map((l) => textWidth(l, 10))) + 8;
+  const step = Math.max(1, Math.ceil(nRuns / Math.max(1, Math.floor((W - 24) / labelW))));
   let s = svgOpen(width, height, input.title, 'history', { 'data-series-count': input.series.length, 'data-runs': nRuns });
   s += text(M.left, 20, input.title, { 'font-weight': 600, 'font-size': 13 });
+  if (nRuns === 1) {
+    s += text(M.left + W, 31, 'one stored run: trends appear from the second', { 'text-anchor': 'end', fill: AXIS_COLOR, 'font-size': 10, 'data-note': 'one-run' });
+  }
+  const changes = (input.suiteChanges ?? []).filter((i) => i > 0 && i < nRuns);
 
   const panels: Array<{ key: 'iterations' | 'time'; label: string; top: number; values: (h: HistorySeries) => number[] }> = [
     { key: 'iterations', label: 'iterations', top: M.top, values: (h) => h.iterations },
@@ -66,21 +74,30 @@ export function historyPlot(input: HistoryPlotInput): string {
     s += `<rect${attrs({ x: M.left, y: panel.top, width: W, height: PH, fill: 'none', stroke: AXIS_COLOR })}/>`;
     s += text(14, panel.top + PH / 2, panel.label, { 'text-anchor': 'middle', transform: `rotate(-90 14 ${num(panel.top + PH / 2)})` });
     s += '</g>';
+    for (const i of changes) {
+      const xx = (x(i - 1) + x(i)) / 2;
+      s += `<g${attrs({ 'data-suite-change': i })}><line${attrs({ x1: xx, x2: xx, y1: panel.top, y2: panel.top + PH, stroke: '#a3202f', 'stroke-width': 1.2, 'stroke-dasharray': '5 3' })}/>`
+        + (panel.key === 'iterations' ? text(xx + 3, panel.top + 11, 'suite changed', { fill: '#a3202f', 'font-size': 10 }) : '')
+        + '</g>';
+    }
     const path = line<[number, number]>().defined((p) => Number.isFinite(p[1])).x((p) => x(p[0])).y((p) => y(p[1])).digits(2);
     for (const h of input.series) {
       const st = seriesStyle(h.colorIndex);
       const vals = panel.values(h);
-      const d = path(vals.map((v, i) => [i, v] as [number, number])) ?? '';
-      s += `<path${attrs({ 'data-series': h.name, 'data-panel': panel.key, d, fill: 'none', stroke: st.color, 'stroke-width': 2, 'stroke-dasharray': st.dash })}/>`;
-      s += `<g${attrs({ 'data-markers': h.name, stroke: st.color, 'stroke-width': 1.5 })}>`;
+      // a line needs two runs; with one, the markers alone show the values
+      const d = nRuns > 1 ? (path(vals.map((v, i) => [i, v] as [number, number])) ?? '') : '';
+      if (d) s += `<path${attrs({ 'data-series': h.name, 'data-panel': panel.key, d, fill: 'none', stroke: st.color, 'stroke-width': 2, 'stroke-dasharray': st.dash })}/>`;
+      s += `<g${attrs({ 'data-markers': h.name, 'data-panel': panel.key, ...(d ? {} : { 'data-series': h.name }) })}>`;
       vals.forEach((v, i) => {
         if (!Number.isFinite(v)) return;
-        s += `<circle${attrs({ cx: x(i), cy: y(v), r: 3.5, fill: h.converged[i] ? st.color : '#fff' })}/>`;
+        // filled marker = converged; hollow = did not converge
+        const paint = h.converged[i] ? { ...markerPaint({ ...st, hollow: false }) } : { fill: '#fff', stroke: st.color, 'stroke-width': 1.5 };
+        s += `<path${attrs({ d: markerPath(st, 48), transform: `translate(${num(x(i))},${num(y(v))})`, ...paint })}/>`;
       });
       s += '</g>';
     }
   }
-  s += text(M.left + W / 2, height - 12, 'stored run (oldest left; hollow point = did not converge)', { 'text-anchor': 'middle', fill: AXIS_COLOR });
+  s += text(M.left + W / 2, height - 12, 'stored run (oldest left; hollow marker = did not converge)', { 'text-anchor': 'middle', fill: AXIS_COLOR });
   s += legend(entries, M.left + W + M.right + 8, M.top);
   return `${s}</svg>`;
 }

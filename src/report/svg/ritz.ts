@@ -1,7 +1,8 @@
 import { scaleLinear } from 'd3-scale';
+import { plural } from '../format.js';
 import { symbol, symbolsFill } from 'd3-shape';
 import {
-  attrs, AXIS_COLOR, emptyPlot, esc, GRID_COLOR, legend, legendWidth, LEGEND_ROW, num, seriesStyle, svgOpen, text,
+  attrs, AXIS_COLOR, emptyPlot, esc, GRID_COLOR, legend, legendWidth, LEGEND_ROW, markerPaint, num, seriesStyle, svgOpen, text,
   tickLabel, type LegendEntry,
 } from './common.js';
 
@@ -31,8 +32,8 @@ const MARKER_AREA = 40;
 export function ritzPlot(input: RitzPlotInput): string {
   const series = input.series.filter((s) => s.re.length > 0);
   const entries: LegendEntry[] = series.map((s) => ({
-    name: s.name, style: seriesStyle(s.colorIndex), note: `${s.re.length} values`,
-    marker: symbol(symbolsFill[seriesStyle(s.colorIndex).symbol], MARKER_AREA)() ?? undefined,
+    name: s.name, style: seriesStyle(s.colorIndex), note: plural(s.re.length, 'value'),
+    markerOnly: true,
   }));
   const lw = legendWidth(entries);
   const width = M.left + S + M.right + lw + 8;
@@ -79,17 +80,19 @@ export function ritzPlot(input: RitzPlotInput): string {
   s += text(14, M.top + S / 2, 'imaginary part', { 'text-anchor': 'middle', transform: `rotate(-90 14 ${num(M.top + S / 2)})` });
   s += '</g>';
   s += `<g clip-path="url(#${esc(clip)})">`;
-  for (const ser of series) {
+  // earlier series are drawn larger underneath, so identical sets still show every shape
+  series.forEach((ser, si) => {
     const st = seriesStyle(ser.colorIndex);
-    const d = symbol(symbolsFill[st.symbol], MARKER_AREA)() ?? '';
-    s += `<g${attrs({ 'data-series': ser.name, fill: st.color, 'fill-opacity': 0.8, stroke: '#fff', 'stroke-width': 0.5 })}>`;
+    const area = series.length > 1 ? MARKER_AREA * (1 + (1.6 * (series.length - 1 - si)) / (series.length - 1)) : MARKER_AREA;
+    const d = symbol(symbolsFill[st.symbol], area)() ?? '';
+    s += `<g${attrs({ 'data-series': ser.name, ...markerPaint(st), 'fill-opacity': st.hollow ? 1 : 0.8 })}>`;
     for (let i = 0; i < ser.re.length; i++) {
       const a = ser.re[i], b = ser.im[i] ?? 0;
       if (!Number.isFinite(a) || !Number.isFinite(b)) continue;
       s += `<path${attrs({ d, transform: `translate(${num(x(a))},${num(y(b))})` })}/>`;
     }
     s += '</g>';
-  }
+  });
   s += '</g>';
   s += legend(entries, M.left + S + M.right + 8, M.top);
   return `${s}</svg>`;
