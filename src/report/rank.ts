@@ -255,15 +255,16 @@ export function rankRuns(runs: RunRecord[], opts: RankOptions = {}): RankedRun[]
 
 /**
  * Ranking options for one matrix of a results document: its rankBy (unless `by` is given), the
- * sweep's noise, the expected recipes (suite.recipeNames) and whether the document is complete.
+ * sweep's noise and the expected recipes (suite.recipeNames; a matrix missing some has no winner).
  */
 export function rankOptionsFor(doc: ResultsDoc, by?: RankBy): RankOptions {
   const noise = timingNoise(doc.runs);
   return {
     by: by ?? doc.parameters.rankBy ?? 'time',
     ...(noise !== undefined ? { noise } : {}),
+    // Completeness is judged per matrix: in a partial or interrupted sweep, a matrix on which every
+    // recipe ran still has a winner; one missing recipes has none.
     ...(doc.suite.recipeNames ? { expectedRecipes: doc.suite.recipeNames } : {}),
-    incomplete: doc.status === 'partial' || doc.status === 'interrupted',
   };
 }
 

@@ -180,12 +180,14 @@ describe('rankMatrix: ties, noise, true residual, tolerances, partial results', 
     expect(byModel.ranked[0].cost).toBeCloseTo((1000 + 20) / 1e9, 20);
   });
 
-  it('rankOptionsFor reads rank-by, expected recipes, completeness and noise from the document', () => {
+  it('rankOptionsFor reads rank-by, expected recipes and noise from the document', () => {
     const doc = makeResults();
     doc.parameters.rankBy = 'iterations';
     doc.status = 'partial';
+    doc.suite.recipeNames = ['gmres-bilu0', 'gmres-bjacobi'];
     const o = rankOptionsFor(doc);
-    expect(o).toMatchObject({ by: 'iterations', incomplete: true });
+    expect(o).toMatchObject({ by: 'iterations', expectedRecipes: ['gmres-bilu0', 'gmres-bjacobi'] });
+    expect(o.incomplete).toBeUndefined(); // judged per matrix through the expected recipes
     expect(rankOptionsFor(doc, 'work').by).toBe('work');
   });
 
