@@ -38,7 +38,15 @@ const OPTIONS: readonly GeneratorOption[] = [
   { flags: '--direction <b[,b,b]>', key: 'direction', field: 'direction', kind: 'list', help: 'burgers: flux direction, normalized (default along x)' },
   { flags: '--initial <expr>', key: 'initial', field: 'initial', kind: 'string', help: 'initial condition (acoustics: pressure) in x, y, z; Lx, Ly, Lz and pi available' },
   { flags: '--inflow <expr>', key: 'inflow', field: 'inflow', kind: 'string', help: "data on inflow boundaries: an expression in x, y, z, t, or 'exact' (acoustics: 'exact' or 'quiet')" },
-  { flags: '--state <expr>', key: 'state', field: 'state', kind: 'string', help: 'burgers: state the Jacobian is taken at (default: the initial condition)' },
+  { flags: '--state <expr>', key: 'state', field: 'state', kind: 'string', help: 'burgers: state the Jacobian is taken at (default: the initial condition); euler: uniform, vortex or shock-tube (default uniform)' },
+  { flags: '--gamma <g>', key: 'gamma', field: 'gamma', kind: 'number', help: 'euler: ratio of specific heats γ, 1 < γ ≤ 5/3 (default 1.4)' },
+  { flags: '--flux <name>', key: 'flux', field: 'flux', kind: 'string', help: 'euler: numerical flux roe (with the Harten–Hyman entropy fix) or llf (local Lax–Friedrichs); default roe' },
+  { flags: '--density <rho>', key: 'density', field: 'density', kind: 'number', help: 'euler, state uniform: density (default 1)' },
+  { flags: '--pressure <p>', key: 'pressure', field: 'pressure', kind: 'number', help: 'euler, state uniform: pressure (default 1)' },
+  { flags: '--vortex-strength <eps>', key: 'vortexStrength', field: 'vortexStrength', kind: 'number', help: 'euler, state vortex: strength ε of the isentropic vortex (default 5)' },
+  { flags: '--left <rho,u,p>', key: 'left', field: 'left', kind: 'list', help: 'euler, state shock-tube: left primitive state (default 1,0,1: Sod)' },
+  { flags: '--right <rho,u,p>', key: 'right', field: 'right', kind: 'list', help: 'euler, state shock-tube: right primitive state (default 0.125,0,0.1: Sod)' },
+  { flags: '--diaphragm <x>', key: 'diaphragm', field: 'diaphragm', kind: 'number', help: 'euler, state shock-tube: initial discontinuity position along x (default Lx/2)' },
 ];
 
 const FIELD_TO_FLAG = new Map(OPTIONS.map((o) => [o.field, o.flags.split(' ')[0]]));

@@ -6,6 +6,7 @@ import { readMatrixMarketVector } from '../sparse/matrix-market.js';
 import { csrSpmv } from '../sparse/csr.js';
 import {
   RECIPE_FIELDS, RECIPE_FLAGS, describeRecipeField, recipeFromOptions, recordedRecipe, type Recipe, type RecordedRecipe,
+  PMG_FLAGS, PMG_COARSE_PREFIX, PMG_CYCLES, PMG_SMOOTHERS,
 } from '../solvers/recipe.js';
 import { solveSystem } from '../solvers/run-recipe.js';
 import type { SolveResult } from '../solvers/types.js';
@@ -79,6 +80,12 @@ function recipeText(r: RecordedRecipe): string {
   if (r.preconditioner === 'block-gs') pc += ` (${r.sweep} ×${r.sweeps}, ω ${r.omega}, ${r.ordering}, ${diagonal})`;
   if (r.preconditioner === 'block-ilu0') pc += ` (${r.ordering})`;
   if (r.preconditioner === 'slab' && r.inner) pc += ` [inner: ${recipeText(r.inner)}, rtol ${r.inner.rtol}]`;
+  if (r.preconditioner === 'p-multigrid' && r.pMultigrid) {
+    const o = r.pMultigrid;
+    const s = o.smoother;
+    const sm = `${s.preconditioner}${s.preconditioner === 'block-gs' ? ` ${s.sweep}` : ''}, ω ${s.omega}`;
+    pc += ` (levels ${o.levels ? o.levels.join(',') : 'p..0'}, ${o.cycle.toUpperCase()}-cycle, ${o.preSweeps}+${o.postSweeps} × ${sm}) [coarse: ${recipeText(o.coarse)}, rtol ${o.coarse.rtol}]`;
+  }
   if (r.shift) pc += `, shift ${r.shift}`;
   return `${method} + ${pc}`;
 }
@@ -117,6 +124,11 @@ export function formatSolveReport(rep: SolveReport): string {
   row('work', `setup ${num(su.flops)} flops, ${bytes(su.bytes)} moved; solve ${num(sw.flops)} flops, ${bytes(sw.bytes)} moved (work model, README)`);
   const mem = rep.memory;
   row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
+  const pmg = rep.recipe.preconditioner === 'p-multigrid' ? rep.preconditionerStats as { levels?: Array<{ degree: number; rows: number }>; coarseSolves?: number; coarseIterationsTotal?: number } | undefined : undefined;
+  if (pmg?.levels) {
+    const per = pmg.coarseSolves ? ` (${num(pmg.coarseIterationsTotal! / pmg.coarseSolves)} coarse iterations per coarse solve)` : '';
+    row('levels', `${pmg.levels.map((l) => `degree ${l.degree}: ${l.rows} rows`).join(' → ')}${per}`);
+  }
   if (rep.ritz && rep.ritz.re.length > 0) {
     const re = rep.ritz.re;
     const imMax = Math.max(...rep.ritz.im.map(Math.abs));
@@ -128,12 +140,6 @@ export function formatSolveReport(rep: SolveReport): string {
 function parseBlockSize(v: string): number {
   if (!/^\d+$/.test(v.trim()) || Number(v) < 1) throw optionError('--block-size', `expected a positive integer, got "${v}"`);
   return Number(v);
-}
-
-/** True when the slab preconditioner's inner solve makes M change between applications. */
-function variableSlab(r: Recipe): boolean {
-  // Without an inner recipe the slab solver uses DEFAULT_INNER_RECIPE, which is iterative.
-  return r.preconditioner === 'slab' && !(r.inner && r.inner.krylov === 'none' && r.inner.maxIterations === 1);
 }
 
 /**
@@ -168,9 +174,6 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
   } else {
     b = new Float64Array(n);
     csrSpmv(sys.csr, new Float64Array(n).fill(1), b);
-  }
-  if (variableSlab(recipe) && recipe.krylov !== 'fgmres') {
-    process.stderr.write(`slabbench: note: the slab preconditioner with an iterative inner solve changes between applications; --krylov fgmres is the method made for that\n`);
   }
   const progress = process.stderr.isTTY && opts.json !== '-';
   let last = 0;
@@ -232,10 +235,34 @@ export function registerSolve(program: Command): void {
     // listed once in the help text below rather than sixteen times
     cmd.addOption(new Option(`--inner-${RECIPE_FLAGS[field]} <value>`, `slab inner recipe: as --${RECIPE_FLAGS[field]}`).hideHelp());
   }
+  const pmgHelp: Array<[string, string]> = [
+    [`--${PMG_FLAGS.levels} <list>`, 'p-multigrid: polynomial degrees of the levels, finest first, e.g. 2,1,0 (default p, p−1, …, 0)'],
+    [`--${PMG_FLAGS.cycle} <value>`, `p-multigrid: cycle, one of ${PMG_CYCLES.join(', ')} (default v)`],
+    [`--${PMG_FLAGS.preSweeps} <n>`, 'p-multigrid: smoothing steps before the coarse correction, 0-100 (default 1)'],
+    [`--${PMG_FLAGS.postSweeps} <n>`, 'p-multigrid: smoothing steps after the coarse correction, 0-100 (default 1)'],
+    [`--${PMG_FLAGS.smoother} <name>`, `p-multigrid: smoother, one of ${PMG_SMOOTHERS.join(', ')} (default block-gs)`],
+    [`--${PMG_FLAGS.omega} <value>`, 'p-multigrid smoother: step damping ω in x ← x + ω M⁻¹(b − Ax); for block-gs its SOR factor (default 1)'],
+    [`--${PMG_FLAGS.sweep} <value>`, 'p-multigrid smoother block-gs: forward, backward or symmetric (default symmetric)'],
+    [`--${PMG_FLAGS.ordering} <value>`, 'p-multigrid smoother block-gs/block-ilu0: block ordering (default natural)'],
+    [`--${PMG_FLAGS.blockInverse} <value>`, 'p-multigrid smoother block-jacobi/block-gs: inverse or lu (default inverse)'],
+    [`--${PMG_FLAGS.shift} <value>`, 'p-multigrid smoother: diagonal shift before factorizing (default 0)'],
+    [`--${PMG_FLAGS.fillLevel} <k>`, 'p-multigrid smoother block-iluk: level of fill, 0-64 (default 1)'],
+  ];
+  for (const [flags, text] of pmgHelp) cmd.option(flags, text);
+  for (const field of RECIPE_FIELDS) {
+    cmd.addOption(new Option(`--${PMG_COARSE_PREFIX}${RECIPE_FLAGS[field]} <value>`, `p-multigrid coarse recipe: as --${RECIPE_FLAGS[field]}`).hideHelp());
+  }
   // the old spelling of --ordering: accepted by the parser only to say the new name
   cmd.addOption(new Option('--order <value>').hideHelp());
   cmd.addOption(new Option('--inner-order <value>').hideHelp());
   cmd.addHelpText('after', `
+p-multigrid coarse solve (--precond p-multigrid): every recipe option has a --pmg-coarse-… twin
+(--pmg-coarse-krylov, --pmg-coarse-precond, --pmg-coarse-rtol, --pmg-coarse-max-iters, …);
+coarse defaults: gmres(30) + block-ilu0, rtol 1e-6, at most 200 iterations, which makes the
+preconditioner variable (use --krylov fgmres). --pmg-coarse-krylov none --pmg-coarse-rtol 0
+--pmg-coarse-max-iters K is a fixed K-step coarse solve that plain GMRES accepts. The --pmg-…
+options apply to the slab inner recipe when that one is p-multigrid (--inner-precond p-multigrid).
+
 Inner recipe (--precond slab only): every recipe option above, from --krylov to --relative-to, has an
 --inner-… twin (--inner-krylov, --inner-precond, --inner-rtol, --inner-max-iters, …) that sets how
 each slab is solved; inner defaults: gmres(30) + block-ilu0, rtol 1e-10, at most 500 iterations.
@@ -252,6 +279,8 @@ Examples:
   $ slabbench solve channel.mtx --krylov fgmres --precond slab --inner-krylov gmres --inner-precond block-ilu0 --inner-rtol 1e-6
   $ slabbench solve room.mtx --precond ilu0 --json - | jq .iterations
   $ slabbench solve duct.mtx --precond block-ilu0 --repeats 5 --json - | jq .repeats.median
+  $ slabbench solve duct.mtx --krylov fgmres --precond p-multigrid --pmg-levels 2,1,0 --pmg-cycle w
+  $ slabbench solve duct.mtx --precond p-multigrid --pmg-smoother block-jacobi --pmg-smoother-omega 0.7 --pmg-coarse-krylov none --pmg-coarse-rtol 0 --pmg-coarse-max-iters 4
 
 Exit codes: 0 solved, 1 unsolved or failed (iteration-budget, residual-growth, method-breakdown,
 non-finite-value, preconditioner-error), 2 unreadable or malformed input or bad option, 3 internal error.`);

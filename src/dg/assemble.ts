@@ -5,6 +5,7 @@ import { buildBlockPattern, type BlockPattern } from './block-pattern.js';
 import type { OrderingResult } from './ordering.js';
 import type { Physics } from './physics/types.js';
 import { assembleScalar } from './assemble-scalar.js';
+import { assembleNonlinearSystem } from './assemble-nonlinear.js';
 import { assembleSystem } from './assemble-system.js';
 
 /** (done, total) work units; called every few thousand elements/faces. */
@@ -52,6 +53,7 @@ export function assembleDg(
   const residual = new Float64Array(n * bs);
   const progress = opts.onProgress ?? (() => undefined);
   if (physics.kind === 'scalar') assembleScalar(disc, physics, state, values, residual, progress);
+  else if (physics.kind === 'nonlinear-system') assembleNonlinearSystem(disc, physics, state, values, residual, progress);
   else assembleSystem(disc, physics, values, residual, progress);
   progress(1, 1);
   const bsr: Bsr | null = values

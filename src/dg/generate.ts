@@ -11,6 +11,8 @@ import type { Physics, PhysicsContext, PhysicsDefinition, PhysicsName } from './
 import { show } from './physics/fields.js';
 import { ELEMENT_ORDERINGS, orderElements, type ElementOrdering } from './ordering.js';
 import { assembleDg, prepareDiscretization, type Discretization, type ProgressSink } from './assemble.js';
+import { scaleToAdmissible } from './positivity.js';
+import { nonzeroBlockPattern, triangularStructure } from '../sparse/structure.js';
 import { projectFunction } from './projection.js';
 import { writeCaseFiles } from './write-case.js';
 
@@ -228,12 +230,15 @@ export function generateWithDiscretization(
   const { mesh, physics, tables, ordering } = disc;
   let state: Float64Array | null = null;
   if (physics.state) state = projectFunction(mesh, params.order, physics.nEquations, ordering.inv, physics.state);
+  // a projected discontinuous state can undershoot (negative pressure): scale those elements
+  const scaledElements = state && physics.kind === 'nonlinear-system' ? scaleToAdmissible(disc, physics, state) : 0;
   const { bsr, residual } = assembleDg(disc, state, { onProgress });
   for (let i = 0; i < residual.length; i++) residual[i] = -residual[i];
   const slabOffsets: number[] = Array.from(mesh.slabOffsets);
   const layout: Layout = {
     blockSize: disc.bs,
     slabOffsets,
+    modes: { nEquations: physics.nEquations, arrangement: 'equation-major', degrees: Array.from(tables.basis.degrees) },
     provenance: {
       generator: 'slabbench generate',
       slabbenchVersion: VERSION,
@@ -251,7 +256,7 @@ export function generateWithDiscretization(
       finalTime: resolved.finalTime,
       quadratureDegree: 2 * params.order + physics.extraQuadratureDegree(params.order),
       system: physics.state ? 'Newton step: Jacobian at the projected state, rhs = -residual' : 'linear: DG operator, rhs = data terms',
-      physicsSummary: physics.summary,
+      physicsSummary: physics.kind === 'nonlinear-system' ? { ...physics.summary, stateScaledElements: scaledElements } : physics.summary,
       params: { ...params },
     },
   };
@@ -271,14 +276,18 @@ export function generateWithDiscretization(
 
 /** Generate and write NAME.mtx, NAME.rhs.mtx and NAME.layout.json into outDir. */
 export async function writeGeneratedCase(
-  params: GeneratorParams, outDir: string, name: string, onProgress?: ProgressSink,
-): Promise<{ mtx: string; rhs: string; layout: string }> {
+  params: GeneratorParams, outDir: string, name: string, onProgress?: ProgressSink, opts: { gzip?: boolean } = {},
+): Promise<{ mtx: string; rhs: string; layout: string; triangularUnderPermutation: boolean }> {
   if (!/^[A-Za-z0-9][A-Za-z0-9._-]*$/.test(name)) {
     throw new UserError(`case name '${name}': use letters, digits, '.', '_' and '-' (it becomes a file name)`);
   }
   const system = generateSystem(params, onProgress);
   mkdirSync(outDir, { recursive: true });
-  const paths = { mtx: join(outDir, `${name}.mtx`), rhs: join(outDir, `${name}.rhs.mtx`), layout: join(outDir, `${name}.layout.json`) };
+  const paths = {
+    mtx: join(outDir, `${name}.mtx${opts.gzip ? '.gz' : ''}`), rhs: join(outDir, `${name}.rhs.mtx`), layout: join(outDir, `${name}.layout.json`),
+  };
   await writeCaseFiles(paths, system, name);
-  return paths;
+  // a matrix whose numerically nonzero block graph has no cycles is solved by one sweep: say so
+  const triangularUnderPermutation = triangularStructure(nonzeroBlockPattern(system.bsr)).triangularUnderPermutation;
+  return { ...paths, triangularUnderPermutation };
 }

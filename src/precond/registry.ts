@@ -13,6 +13,7 @@ import { createIlu0 } from './ilu0.js';
 import { createBlockIluk } from './block-iluk.js';
 import { createBlockIlu0 } from './block-ilu0.js';
 import { createSlab } from './slab.js';
+import { createPMultigrid } from './p-multigrid.js';
 
 /** Creates a preconditioner (cheap: checks options; the heavy work happens in setup()). */
 export type PreconditionerFactory = (system: SystemMatrix, recipe: Recipe) => Preconditioner;
@@ -74,3 +75,4 @@ registerPreconditioner('ilu0', createIlu0, { uses: ['shift'] });
 registerPreconditioner('block-ilu0', createBlockIlu0, { uses: ['ordering', 'shift'] });
 registerPreconditioner('block-iluk', createBlockIluk, { uses: ['fillLevel', 'ordering', 'shift'] });
 registerPreconditioner('slab', createSlab, { uses: ['inner', 'shift'] });
+registerPreconditioner('p-multigrid', createPMultigrid, { uses: ['pMultigrid'] });

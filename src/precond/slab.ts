@@ -26,7 +26,7 @@
  */
 import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { Recipe } from '../solvers/recipe.js';
-import { DEFAULT_INNER_RECIPE } from '../solvers/recipe.js';
+import { DEFAULT_INNER_RECIPE, defaultPMultigrid, pMultigridIsVariable } from '../solvers/recipe.js';
 import type { Bsr, Csr } from '../sparse/types.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { addWork, kernel, vectorWork, zeroWork } from '../solvers/work.js';
@@ -93,7 +93,9 @@ export class SlabPreconditioner implements Preconditioner {
   constructor(private readonly system: SystemMatrix, readonly inner: Recipe) {
     this.a = system.bsr;
     this.n = system.bsr.nBlockRows * system.bsr.bs;
-    this.variable = !(inner.krylov === 'none' && inner.maxIterations <= 1);
+    // a single stationary step is fixed only when the inner preconditioner is (p-multigrid may not be)
+    this.variable = !(inner.krylov === 'none' && inner.maxIterations <= 1)
+      || (inner.preconditioner === 'p-multigrid' && pMultigridIsVariable(inner.pMultigrid ?? defaultPMultigrid()));
   }
 
   setup(): SetupOutcome {
@@ -163,7 +165,7 @@ export class SlabPreconditioner implements Preconditioner {
     this.peakInnerBuffers = {};
     for (let s = 0; s < nSlabs; s++) {
       const slab = this.extractSlab(s);
-      const M = createPreconditioner(slabSystem(slab), this.inner);
+      const M = createPreconditioner(slabSystem(slab, this.system.modes), this.inner);
       const out = M.setup();
       addWork(this.setupWork, kernel(0, this.extractBytes[s]));
       addWork(this.setupWork, M.work().setup);
@@ -237,7 +239,7 @@ export class SlabPreconditioner implements Preconditioner {
         }
       }
       const slab = this.extractSlab(s);
-      const M = createPreconditioner(slabSystem(slab), this.inner);
+      const M = createPreconditioner(slabSystem(slab, this.system.modes), this.inner);
       const out = M.setup();
       addWork(this.applyWork, M.work().setup);
       sol.fill(0);
@@ -325,11 +327,15 @@ export class SlabPreconditioner implements Preconditioner {
   }
 }
 
-/** A slab as a SystemMatrix; its CSR view is built only if a point method asks for it. */
-function slabSystem(bsr: Bsr): SystemMatrix {
+/**
+ * A slab as a SystemMatrix; its CSR view is built only if a point method asks for it. The blocks
+ * are the whole matrix's, so the layout's `modes` section holds for them too (p-multigrid inside).
+ */
+function slabSystem(bsr: Bsr, modes: SystemMatrix['modes']): SystemMatrix {
   let csr: Csr | undefined;
   return {
     bsr,
+    ...(modes ? { modes } : {}),
     get csr(): Csr { return (csr ??= bsrToCsr(bsr)); },
   };
 }

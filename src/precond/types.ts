@@ -1,4 +1,4 @@
-import type { Bsr, Csr } from '../sparse/types.js';
+import type { Bsr, Csr, ModalLayout } from '../sparse/types.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 
 /** The matrix as a preconditioner factory sees it. */
@@ -9,6 +9,8 @@ export interface SystemMatrix {
   readonly bsr: Bsr;
   /** Block-row offsets of time slabs (first 0, last nBlockRows), when known. */
   readonly slabOffsets?: Int32Array;
+  /** How each block is built from a hierarchical basis (layout section `modes`), when known; p-multigrid needs it. */
+  readonly modes?: ModalLayout;
 }
 
 export type SetupOutcome =

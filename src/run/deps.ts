@@ -17,6 +17,8 @@ export interface LoadedForRun {
   bs: number;
   blockSizeSource?: string;
   slabOffsets?: Int32Array;
+  /** Layout section `modes` (p-multigrid reads it). */
+  modes?: SystemMatrix['modes'];
 }
 
 export interface RunDeps {

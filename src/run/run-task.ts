@@ -103,7 +103,7 @@ export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache
     info = matrixInfo({ name: m.name, source: m.source, path: m.displayPath, note: m.note }, loaded.system);
   }
   const sys = loaded.system;
-  const system = { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}) };
+  const system = { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}), ...(sys.modes ? { modes: sys.modes } : {}) };
   try {
     const warmup = task.warmup === true;
     if (warmup) deps.solveSystem(system, loaded.b, task.recipe);

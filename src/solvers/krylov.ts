@@ -5,6 +5,17 @@ import { krylovOptionsFromRecipe, type KrylovOptions } from './options.js';
 import { gmres } from './gmres.js';
 import { bicgstab } from './bicgstab.js';
 import { stationary } from './stationary.js';
+import { UserError } from '../util/errors.js';
+
+/**
+ * GMRES needs M to be the same linear map at every application; a variable preconditioner (inner
+ * iterative solves) is refused with a one-line error naming the recipe. FGMRES takes it.
+ */
+export function checkVariablePreconditioner(recipe: Recipe, M?: Preconditioner): void {
+  if (M?.variable && recipe.krylov === 'gmres') {
+    throw new UserError(`recipe ${recipe.name}: preconditioner ${M.name} changes between applications (variable: it runs an inner iterative solve); gmres needs a fixed preconditioner, use krylov fgmres`);
+  }
+}
 
 /**
  * Run the recipe's iterative method on A x = b with an already set-up preconditioner M.
@@ -18,6 +29,7 @@ export function krylovSolve(
   A: LinearOperator, b: Float64Array, x: Float64Array, recipe: Recipe, M?: Preconditioner,
   extra?: Pick<KrylovOptions, 'onIteration' | 'ritz'>,
 ): SolveResult {
+  checkVariablePreconditioner(recipe, M);
   const opts: KrylovOptions = { ...krylovOptionsFromRecipe(recipe, M), ...extra };
   switch (recipe.krylov) {
     case 'gmres':

@@ -5,7 +5,8 @@ import { preconditionerUses } from '../precond/registry.js';
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
  */
 export type KrylovName = 'gmres' | 'fgmres' | 'bicgstab' | 'none';
-export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk' | 'slab';
+export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk' | 'slab'
+  | 'p-multigrid';
 export type SweepDirection = 'forward' | 'backward' | 'symmetric';
 export type OrderingName = 'natural' | 'rcm' | 'downstream' | 'mdf';
 export type PreconditionSide = 'right' | 'left';
@@ -15,6 +16,7 @@ export type BlockInverse = 'lu' | 'inverse';
 export const KRYLOV_NAMES: readonly KrylovName[] = ['gmres', 'fgmres', 'bicgstab', 'none'];
 export const PRECONDITIONER_NAMES: readonly PreconditionerName[] = [
   'none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab',
+  'p-multigrid',
 ];
 export const SWEEP_DIRECTIONS: readonly SweepDirection[] = ['forward', 'backward', 'symmetric'];
 export const ORDERING_NAMES: readonly OrderingName[] = ['natural', 'rcm', 'downstream', 'mdf'];
@@ -55,6 +57,8 @@ export interface Recipe {
   relativeTo: 'rhs' | 'start-residual';
   /** Slab preconditioner: how each slab is solved. */
   inner?: Recipe;
+  /** p-multigrid preconditioner: levels, cycle, smoother, coarse solve (defaults: DEFAULT_P_MULTIGRID). */
+  pMultigrid?: PMultigridOptions;
 }
 
 export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
@@ -102,7 +106,7 @@ type FieldSpec =
   | { kind: 'int'; min: number; max: number }
   | { kind: 'number'; min: number; minOpen: boolean; max?: number; maxOpen?: boolean };
 
-type ScalarField = Exclude<keyof Recipe, 'name' | 'inner'>;
+type ScalarField = Exclude<keyof Recipe, 'name' | 'inner' | 'pMultigrid'>;
 
 /** One spec per recipe field: the single source for suite files and command-line options. */
 const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
@@ -161,6 +165,8 @@ function crossCheck(r: Recipe, isInner: boolean): [keyof Recipe, string] | undef
   if (r.krylov === 'fgmres' && r.side === 'left') return ['side', 'fgmres preconditions on the right only'];
   if (r.inner && r.preconditioner !== 'slab') return ['inner', 'an inner recipe is only used by preconditioner slab'];
   if (isInner && r.preconditioner === 'slab') return ['preconditioner', 'a slab inner recipe cannot itself use slab'];
+  const pmg = pMultigridCrossCheck(r);
+  if (pmg) return pmg;
   return undefined;
 }
 
@@ -174,12 +180,12 @@ export function parseRecipe(obj: unknown, where: string): Recipe {
   return parseRecipeAt(obj, where, false);
 }
 
-function parseRecipeAt(obj: unknown, where: string, isInner: boolean): Recipe {
+function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?: Readonly<Recipe>): Recipe {
   if (obj === null || typeof obj !== 'object' || Array.isArray(obj)) {
     throw new UserError(`${where}: expected an object with recipe fields`);
   }
   const src = obj as Record<string, unknown>;
-  const base = isInner ? DEFAULT_INNER_RECIPE : DEFAULT_RECIPE;
+  const base = defaults ?? (isInner ? DEFAULT_INNER_RECIPE : DEFAULT_RECIPE);
   const out: Record<string, unknown> = { ...base };
   delete out.inner;
   for (const key of Object.keys(src)) {
@@ -190,10 +196,10 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean): Recipe {
       out.name = src.name;
       continue;
     }
-    if (key === 'inner') continue;
+    if (key === 'inner' || key === 'pMultigrid') continue;
     const spec = (FIELD_SPECS as Record<string, FieldSpec | undefined>)[key];
     if (!spec) {
-      throw new UserError(`${where}: unknown field "${key}" (recipe fields: name, ${Object.keys(FIELD_SPECS).join(', ')}, inner)`);
+      throw new UserError(`${where}: unknown field "${key}" (recipe fields: name, ${Object.keys(FIELD_SPECS).join(', ')}, inner, pMultigrid)`);
     }
     const c = checkValue(spec, src[key], false);
     if (c.error) throw new UserError(`${where}.${key}: ${c.error}`);
@@ -205,9 +211,11 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean): Recipe {
     if (isInner) throw new UserError(`${where}.inner: an inner recipe cannot have its own inner recipe`);
     recipe.inner = parseRecipeAt(src.inner, `${where}.inner`, true);
   }
+  if (src.pMultigrid !== undefined) recipe.pMultigrid = parsePMultigrid(src.pMultigrid, `${where}.pMultigrid`);
+  else if (recipe.preconditioner === 'p-multigrid') recipe.pMultigrid = defaultPMultigrid();
   const bad = crossCheck(recipe, isInner);
   if (bad) throw new UserError(`${where}.${bad[0]}: ${bad[1]}`);
-  const given = Object.keys(src).filter((k) => k === 'inner' || k in FIELD_SPECS) as RecipeField[];
+  const given = Object.keys(src).filter((k) => k === 'inner' || k === 'pMultigrid' || k in FIELD_SPECS) as RecipeField[];
   const unused = firstUnused(recipe, given);
   if (unused) throw new UserError(`${where}.${unused.field}: ${unused.why}`);
   if (recipe.preconditioner === 'slab' && !recipe.inner) recipe.inner = { ...DEFAULT_INNER_RECIPE };
@@ -221,7 +229,7 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean): Recipe {
 // ---------------------------------------------------------------------------------------------
 
 /** A recipe field a method can declare it reads (scalar fields and the slab inner recipe). */
-export type RecipeField = ScalarField | 'inner';
+export type RecipeField = ScalarField | 'inner' | 'pMultigrid';
 
 /** Fields every recipe uses whatever its methods: the two choices and the stopping rule. */
 export const COMMON_RECIPE_FIELDS: readonly ScalarField[] = [
@@ -288,6 +296,7 @@ export function recordedRecipe(r: Recipe): RecordedRecipe {
   const out: Record<string, unknown> = { name: r.name };
   for (const f of RECIPE_FIELDS) if (used === 'all' || used.has(f)) out[f] = r[f];
   if (r.inner && (used === 'all' || used.has('inner'))) out.inner = recordedRecipe(r.inner);
+  if (r.pMultigrid && (used === 'all' || used.has('pMultigrid'))) out.pMultigrid = r.pMultigrid;
   return out as RecordedRecipe;
 }
 
@@ -356,6 +365,7 @@ export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
   const recipe = outer as unknown as Recipe;
   if (recipe.preconditioner === 'slab') recipe.inner = inner as unknown as Recipe;
   else if (innerGiven) throw optionError(innerGiven, 'inner options are only used with --precond slab');
+  applyPMultigridFlags(opts, recipe);
   for (const [r, prefix] of [[recipe, ''], [recipe.inner, 'inner-']] as const) {
     if (!r) continue;
     const bad = crossCheck(r, prefix !== '');
@@ -365,9 +375,289 @@ export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
     }
     const unused = firstUnused(r, prefix ? givenInner : givenOuter);
     if (unused) {
-      const f = unused.field === 'inner' ? 'precond' : RECIPE_FLAGS[unused.field];
+      const f = unused.field === 'inner' ? 'precond' : RECIPE_FLAGS[unused.field as ScalarField];
       throw optionError(`--${prefix}${f}`, unused.why);
     }
   }
   return recipe;
+}
+
+// ---------------------------------------------------------------------------------------------
+// p-multigrid options (recipe field `pMultigrid`; CLI flags --pmg-…). Read by src/precond/p-multigrid.ts.
+// ---------------------------------------------------------------------------------------------
+
+export type PMultigridCycle = 'v' | 'w';
+export const PMG_CYCLES: readonly PMultigridCycle[] = ['v', 'w'];
+/** Single-level preconditioners a p-multigrid level can smooth with. */
+export type PMultigridSmootherName = 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk';
+export const PMG_SMOOTHERS: readonly PMultigridSmootherName[] = ['jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk'];
+
+/** One smoothing step on a level: x ← x + ω M⁻¹(b − A x) (for block-gs ω is its SOR factor and the step is 1). */
+export interface PMultigridSmoother {
+  preconditioner: PMultigridSmootherName;
+  /** Damping of the step; for block-gs the relaxation inside the sweep (the step is then 1). */
+  omega: number;
+  /** block-gs only. */
+  sweep: SweepDirection;
+  /** block-gs and block-ilu0 only. */
+  ordering: OrderingName;
+  /** block-jacobi and block-gs only. */
+  blockInverse: BlockInverse;
+  /** Diagonal shift before factorizing (every smoother). */
+  shift: number;
+  /** block-iluk only: level of fill. */
+  fillLevel: number;
+}
+
+export interface PMultigridOptions {
+  /** Polynomial degrees of the levels, finest first, strictly decreasing; absent = p, p−1, …, 0. */
+  levels?: number[];
+  /** 'v': one coarse-grid correction per level; 'w': two. */
+  cycle: PMultigridCycle;
+  /** Smoothing steps before and after the coarse-grid correction, on every level but the coarsest. */
+  preSweeps: number;
+  postSweeps: number;
+  smoother: PMultigridSmoother;
+  /** How the coarsest level is solved (any recipe but slab or p-multigrid). */
+  coarse: Recipe;
+}
+
+/** Coarsest-level default: GMRES(30) + block ILU(0) to rtol 1e-6, at most 200 iterations. */
+export const DEFAULT_PMG_COARSE_RECIPE: Readonly<Recipe> = Object.freeze({
+  ...DEFAULT_RECIPE,
+  name: 'pmg-coarse',
+  preconditioner: 'block-ilu0',
+  rtol: 1e-6,
+  maxIterations: 200,
+});
+
+export const DEFAULT_PMG_SMOOTHER: Readonly<PMultigridSmoother> = Object.freeze({
+  preconditioner: 'block-gs', omega: 1, sweep: 'symmetric', ordering: 'natural', blockInverse: 'inverse', shift: 0, fillLevel: 1,
+});
+
+/** A fresh copy of the default p-multigrid options. */
+export function defaultPMultigrid(): PMultigridOptions {
+  return { cycle: 'v', preSweeps: 1, postSweeps: 1, smoother: { ...DEFAULT_PMG_SMOOTHER }, coarse: { ...DEFAULT_PMG_COARSE_RECIPE } };
+}
+
+/**
+ * True when the p-multigrid cycle is not a fixed linear map: its coarse solve is a Krylov method,
+ * or a stationary iteration that may stop early (more than one step with rtol or atol > 0).
+ */
+export function pMultigridIsVariable(o: PMultigridOptions): boolean {
+  const c = o.coarse;
+  if (c.krylov !== 'none') return true;
+  return c.maxIterations > 1 && (c.rtol > 0 || c.atol > 0);
+}
+
+/** Which smoother options each smoother reads (others are errors: an option without effect). */
+const SMOOTHER_USES: Record<PMultigridSmootherName, readonly (keyof PMultigridSmoother)[]> = {
+  'jacobi': ['omega', 'shift'],
+  'block-jacobi': ['omega', 'blockInverse', 'shift'],
+  'block-gs': ['omega', 'sweep', 'ordering', 'blockInverse', 'shift'],
+  'ilu0': ['omega', 'shift'],
+  'block-ilu0': ['omega', 'ordering', 'shift'],
+  'block-iluk': ['omega', 'ordering', 'shift', 'fillLevel'],
+};
+
+const SMOOTHER_SPECS: Record<Exclude<keyof PMultigridSmoother, 'preconditioner'>, FieldSpec> = {
+  omega: { kind: 'number', min: 0, minOpen: true, max: 2, maxOpen: true },
+  sweep: { kind: 'enum', values: SWEEP_DIRECTIONS },
+  ordering: { kind: 'enum', values: ORDERING_NAMES },
+  blockInverse: { kind: 'enum', values: BLOCK_INVERSES },
+  shift: { kind: 'number', min: 0, minOpen: false },
+  fillLevel: { kind: 'int', min: 0, max: 64 },
+};
+const PMG_SWEEPS_SPEC: FieldSpec = { kind: 'int', min: 0, max: 100 };
+const PMG_FIELDS = ['levels', 'cycle', 'preSweeps', 'postSweeps', 'smoother', 'coarse'];
+
+/** Check a levels list (degrees, finest first, strictly decreasing, ≥ 2 entries); returns an error text or undefined. */
+function levelsProblem(v: unknown): string | undefined {
+  const shown = Array.isArray(v) ? `[${v.map((x) => JSON.stringify(x)).join(', ')}]` : JSON.stringify(v);
+  if (!Array.isArray(v) || v.length < 2 || v.length > 64) return `expected a list of at least 2 polynomial degrees, finest first, got ${shown}`;
+  for (let i = 0; i < v.length; i++) {
+    const d = v[i];
+    if (typeof d !== 'number' || !Number.isInteger(d) || d < 0 || d > 1000) return `expected integer degrees 0..1000, got ${shown}`;
+    if (i > 0 && !(d < (v[i - 1] as number))) return `expected strictly decreasing degrees (finest first), got ${shown}`;
+  }
+  return undefined;
+}
+
+/** Checks between the p-multigrid options and their recipe (same wording for suites and options). */
+function pMultigridCrossCheck(r: Recipe): [keyof Recipe, string] | undefined {
+  if (r.pMultigrid && r.preconditioner !== 'p-multigrid') return ['pMultigrid', 'p-multigrid options are only used by preconditioner p-multigrid'];
+  if (r.preconditioner !== 'p-multigrid' || !r.pMultigrid) return undefined;
+  if ((r.krylov === 'gmres' || r.krylov === 'bicgstab') && pMultigridIsVariable(r.pMultigrid)) {
+    const c = r.pMultigrid.coarse;
+    return ['krylov', `p-multigrid with a ${c.krylov === 'none' ? 'stationary coarse solve that stops at rtol' : `${c.krylov} coarse solve`} changes between applications (variable); ${r.krylov} needs a fixed preconditioner: use krylov fgmres, or a coarse solve with krylov none and rtol 0 (a fixed number of steps)`];
+  }
+  return undefined;
+}
+
+/** Validate a suite file's `pMultigrid` object; missing fields take the defaults, unknown fields are errors. */
+export function parsePMultigrid(obj: unknown, where: string): PMultigridOptions {
+  if (obj === null || typeof obj !== 'object' || Array.isArray(obj)) throw new UserError(`${where}: expected an object with p-multigrid options (${PMG_FIELDS.join(', ')})`);
+  const src = obj as Record<string, unknown>;
+  const out = defaultPMultigrid();
+  for (const key of Object.keys(src)) {
+    if (!PMG_FIELDS.includes(key)) throw new UserError(`${where}: unknown field "${key}" (p-multigrid fields: ${PMG_FIELDS.join(', ')})`);
+  }
+  if (src.levels !== undefined) {
+    const bad = levelsProblem(src.levels);
+    if (bad) throw new UserError(`${where}.levels: ${bad}`);
+    out.levels = [...(src.levels as number[])];
+  }
+  if (src.cycle !== undefined) {
+    const c = checkValue({ kind: 'enum', values: PMG_CYCLES }, src.cycle, false);
+    if (c.error) throw new UserError(`${where}.cycle: ${c.error}`);
+    out.cycle = c.value as PMultigridCycle;
+  }
+  for (const k of ['preSweeps', 'postSweeps'] as const) {
+    if (src[k] === undefined) continue;
+    const c = checkValue(PMG_SWEEPS_SPEC, src[k], false);
+    if (c.error) throw new UserError(`${where}.${k}: ${c.error}`);
+    out[k] = c.value as number;
+  }
+  if (src.smoother !== undefined) out.smoother = parseSmoother(src.smoother, `${where}.smoother`, false);
+  if (src.coarse !== undefined) out.coarse = parseCoarse(src.coarse, `${where}.coarse`);
+  const bad = pmgOwnProblem(out);
+  if (bad) throw new UserError(`${where}.${bad[0]}: ${bad[1]}`);
+  return out;
+}
+
+/** Checks inside the options: at least one smoothing step. */
+function pmgOwnProblem(o: PMultigridOptions): [string, string] | undefined {
+  if (o.preSweeps + o.postSweeps === 0) return ['postSweeps', 'preSweeps and postSweeps are both 0: the levels above the coarsest would do nothing'];
+  return undefined;
+}
+
+function parseSmoother(obj: unknown, where: string, fromText: boolean): PMultigridSmoother {
+  if (obj === null || typeof obj !== 'object' || Array.isArray(obj)) throw new UserError(`${where}: expected an object (preconditioner, omega, sweep, ordering, blockInverse, shift, fillLevel)`);
+  const src = obj as Record<string, unknown>;
+  const out: PMultigridSmoother = { ...DEFAULT_PMG_SMOOTHER };
+  if (src.preconditioner !== undefined) {
+    const c = checkValue({ kind: 'enum', values: PMG_SMOOTHERS }, src.preconditioner, fromText);
+    if (c.error) throw new UserError(`${where}.preconditioner: ${c.error}`);
+    out.preconditioner = c.value as PMultigridSmootherName;
+  }
+  const uses = SMOOTHER_USES[out.preconditioner];
+  for (const key of Object.keys(src)) {
+    if (key === 'preconditioner') continue;
+    const spec = (SMOOTHER_SPECS as Record<string, FieldSpec | undefined>)[key];
+    if (!spec) throw new UserError(`${where}: unknown field "${key}" (smoother fields: preconditioner, ${Object.keys(SMOOTHER_SPECS).join(', ')})`);
+    if (!uses.includes(key as keyof PMultigridSmoother)) {
+      throw new UserError(`${where}.${key}: not used by smoother ${out.preconditioner} (it reads ${uses.join(', ')})`);
+    }
+    const c = checkValue(spec, src[key], fromText);
+    if (c.error) throw new UserError(`${where}.${key}: ${c.error}`);
+    (out as unknown as Record<string, unknown>)[key] = c.value;
+  }
+  return out;
+}
+
+function parseCoarse(obj: unknown, where: string): Recipe {
+  if (obj === null || typeof obj !== 'object' || Array.isArray(obj)) throw new UserError(`${where}: expected an object with recipe fields`);
+  const src = obj as Record<string, unknown>;
+  if (src.inner !== undefined) throw new UserError(`${where}.inner: the coarse solve cannot use preconditioner slab`);
+  if (src.pMultigrid !== undefined) throw new UserError(`${where}.pMultigrid: the coarse solve cannot itself use p-multigrid`);
+  if (src.preconditioner === 'slab' || src.preconditioner === 'p-multigrid') {
+    checkCoarse({ preconditioner: src.preconditioner } as Recipe, (f, m) => new UserError(`${where}.${f}: ${m}`));
+  }
+  const r = parseRecipeAt(src, where, false, DEFAULT_PMG_COARSE_RECIPE);
+  if (src.name === undefined) r.name = DEFAULT_PMG_COARSE_RECIPE.name;
+  return checkCoarse(r, (f, m) => new UserError(`${where}.${f}: ${m}`));
+}
+
+function checkCoarse(r: Recipe, err: (field: string, msg: string) => Error): Recipe {
+  if (r.preconditioner === 'slab' || r.preconditioner === 'p-multigrid') {
+    throw err('preconditioner', `the coarse solve cannot use ${r.preconditioner}; expected a single-level preconditioner`);
+  }
+  return r;
+}
+
+/** CLI flags (without "--") of the p-multigrid options. Coarse recipe fields take "pmg-coarse-" + their recipe flag. */
+export const PMG_FLAGS = {
+  levels: 'pmg-levels',
+  cycle: 'pmg-cycle',
+  preSweeps: 'pmg-pre-sweeps',
+  postSweeps: 'pmg-post-sweeps',
+  smoother: 'pmg-smoother',
+  omega: 'pmg-smoother-omega',
+  sweep: 'pmg-smoother-sweep',
+  ordering: 'pmg-smoother-ordering',
+  blockInverse: 'pmg-smoother-block-inverse',
+  shift: 'pmg-smoother-shift',
+  fillLevel: 'pmg-smoother-fill-level',
+} as const;
+export const PMG_COARSE_PREFIX = 'pmg-coarse-';
+
+/**
+ * Fill the pMultigrid options of the recipe that uses p-multigrid (the outer one, or the slab inner
+ * one) from --pmg-… flags; such flags without a p-multigrid recipe are an error.
+ */
+function applyPMultigridFlags(opts: Record<string, unknown>, recipe: Recipe): void {
+  const given: string[] = [];
+  const raw = (flag: string): unknown => { const v = opts[flagKey(flag)]; if (v !== undefined) given.push(`--${flag}`); return v; };
+  const levels = raw(PMG_FLAGS.levels);
+  const cycle = raw(PMG_FLAGS.cycle);
+  const pre = raw(PMG_FLAGS.preSweeps);
+  const post = raw(PMG_FLAGS.postSweeps);
+  const smoother: Record<string, unknown> = {};
+  const sm = raw(PMG_FLAGS.smoother);
+  if (sm !== undefined) smoother.preconditioner = sm;
+  for (const k of ['omega', 'sweep', 'ordering', 'blockInverse', 'shift', 'fillLevel'] as const) {
+    const v = raw(PMG_FLAGS[k]);
+    if (v !== undefined) smoother[k] = v;
+  }
+  const coarseRaw: Record<string, unknown> = {};
+  for (const field of RECIPE_FIELDS) {
+    const v = raw(PMG_COARSE_PREFIX + RECIPE_FLAGS[field]);
+    if (v !== undefined) coarseRaw[field] = v;
+  }
+  const target = recipe.preconditioner === 'p-multigrid' ? recipe
+    : recipe.inner?.preconditioner === 'p-multigrid' ? recipe.inner : undefined;
+  if (target) target.pMultigrid = defaultPMultigrid();
+  if (given.length === 0) return;
+  if (!target) throw optionError(given[0], 'p-multigrid options are only used with --precond p-multigrid (or --inner-precond p-multigrid)');
+  const o = target.pMultigrid as PMultigridOptions;
+  if (levels !== undefined) {
+    const list = typeof levels === 'string' && /^\s*\d+(\s*,\s*\d+)*\s*$/.test(levels) ? levels.split(',').map((s) => Number(s.trim())) : levels;
+    const bad = levelsProblem(list);
+    if (bad) throw optionError(`--${PMG_FLAGS.levels}`, bad.replace(/^expected a list/, 'expected a comma-separated list').replace(/got .*$/, `got ${JSON.stringify(levels)}`));
+    o.levels = list as number[];
+  }
+  if (cycle !== undefined) {
+    const c = checkValue({ kind: 'enum', values: PMG_CYCLES }, cycle, true);
+    if (c.error) throw optionError(`--${PMG_FLAGS.cycle}`, c.error);
+    o.cycle = c.value as PMultigridCycle;
+  }
+  for (const [k, v] of [['preSweeps', pre], ['postSweeps', post]] as const) {
+    if (v === undefined) continue;
+    const c = checkValue(PMG_SWEEPS_SPEC, v, true);
+    if (c.error) throw optionError(`--${PMG_FLAGS[k]}`, c.error);
+    o[k] = c.value as number;
+  }
+  const bad = pmgOwnProblem(o);
+  if (bad) throw optionError(`--${PMG_FLAGS[bad[0] as 'postSweeps']}`, bad[1]);
+  try {
+    o.smoother = parseSmoother(smoother, 'smoother', true);
+  } catch (e) {
+    if (!(e instanceof UserError)) throw e;
+    const m = /^smoother(?:\.(\w+))?: (.*)$/.exec(e.message);
+    const f = m?.[1];
+    const flag = f !== undefined && f in PMG_FLAGS ? PMG_FLAGS[f as keyof typeof PMG_FLAGS] : PMG_FLAGS.smoother;
+    throw optionError(`--${flag}`, m ? m[2] : e.message);
+  }
+  const coarse: Record<string, unknown> = { ...DEFAULT_PMG_COARSE_RECIPE };
+  for (const [field, v] of Object.entries(coarseRaw)) {
+    const c = checkValue(FIELD_SPECS[field as ScalarField], v, true);
+    if (c.error) throw optionError(`--${PMG_COARSE_PREFIX}${RECIPE_FLAGS[field as ScalarField]}`, c.error);
+    coarse[field] = c.value;
+  }
+  const cr = coarse as unknown as Recipe;
+  const cBad = crossCheck(cr, false);
+  if (cBad) throw optionError(`--${PMG_COARSE_PREFIX}${RECIPE_FLAGS[cBad[0] as ScalarField] ?? cBad[0]}`, cBad[1]);
+  const cUnused = firstUnused(cr, Object.keys(coarseRaw) as RecipeField[]);
+  if (cUnused) throw optionError(`--${PMG_COARSE_PREFIX}${RECIPE_FLAGS[cUnused.field as ScalarField]}`, cUnused.why);
+  o.coarse = checkCoarse(cr, (f, m) => optionError(`--${PMG_COARSE_PREFIX}${RECIPE_FLAGS[f as ScalarField]}`, m));
 }

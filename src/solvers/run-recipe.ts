@@ -5,7 +5,7 @@ import type { Recipe } from './recipe.js';
 import type { SolveResult } from './types.js';
 import type { KrylovOptions } from './options.js';
 import { bsrOperator, csrOperator, residualInto, type MatrixOperator } from './operator.js';
-import { krylovSolve } from './krylov.js';
+import { checkVariablePreconditioner, krylovSolve } from './krylov.js';
 import { buildResult, meterPreconditioner, peakRssBytes, relative, secondsSince, sumBytes } from './result.js';
 import { norm2 } from './vector.js';
 import { addWork, vectorWork, zeroWork } from './work.js';
@@ -44,6 +44,7 @@ export function solveSystem(
   if (recipe.preconditioner !== 'none') {
     const created: Preconditioner = createPreconditioner(system, recipe);
     M = created;
+    checkVariablePreconditioner(recipe, created); // before the setup work
     try {
       outcome = created.setup();
     } catch (e) {

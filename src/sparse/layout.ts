@@ -1,12 +1,13 @@
 /**
  * Layout sidecar: `NAME.layout.json` beside `NAME.mtx` (or `NAME.mtx.gz`), e.g.
  *   { "schema": "slabbench-layout/1", "blockSize": 6, "slabOffsets": [0, 40, 80],
+ *     "modes": { "nEquations": 2, "arrangement": "equation-major", "degrees": [0, 1, 1] },
  *     "provenance": { "generator": "duct-pulse", "order": 2 } }
  * slabOffsets are BLOCK-row offsets: slab s holds block rows slabOffsets[s] .. slabOffsets[s+1]-1.
  */
 import { existsSync, readFileSync } from 'node:fs';
-import type { Layout } from './types.js';
-import { MAX_INT32_INDEX } from './types.js';
+import type { Layout, ModalLayout } from './types.js';
+import { MAX_INT32_INDEX, MODE_ARRANGEMENTS } from './types.js';
 import { UserError, fileError } from '../util/errors.js';
 import { writeFileAtomicSync } from '../util/atomic-write.js';
 
@@ -61,10 +62,54 @@ export function validateLayout(obj: unknown, where: string): Layout {
       }
     }
   }
+  if (o.modes !== undefined) validateModes(o.modes, bs, where);
   if (o.provenance !== undefined && (typeof o.provenance !== 'object' || o.provenance === null || Array.isArray(o.provenance))) {
     throw fileError(where, undefined, `provenance: expected an object, found ${describe(o.provenance)}`);
   }
   return o as Layout;
+}
+
+const MODES_FIELDS = ['nEquations', 'arrangement', 'degrees'];
+
+/**
+ * The `modes` section: { nEquations, arrangement, degrees }, every field required, no others;
+ * degrees non-negative integers, non-decreasing from 0 (hierarchical order), and
+ * nEquations · degrees.length = blockSize. Errors name the field path (modes.degrees[3]).
+ */
+function validateModes(m: unknown, bs: number, where: string): asserts m is ModalLayout {
+  const bad = (field: string, what: string): never => { throw fileError(where, undefined, `modes${field}: ${what}`); };
+  if (typeof m !== 'object' || m === null || Array.isArray(m)) {
+    bad('', `expected an object { "nEquations", "arrangement", "degrees" }, found ${describe(m)}`);
+  }
+  const o = m as Record<string, unknown>;
+  for (const k of Object.keys(o)) {
+    if (!MODES_FIELDS.includes(k)) bad(`.${k}`, `unknown field (expected ${MODES_FIELDS.join(', ')})`);
+  }
+  for (const k of MODES_FIELDS) if (o[k] === undefined) bad(`.${k}`, 'missing');
+  const ne = o.nEquations;
+  if (typeof ne !== 'number' || !Number.isInteger(ne) || ne < 1 || ne > bs) {
+    bad('.nEquations', `expected an integer 1..${bs} (the block size), found ${describe(ne)}`);
+  }
+  if (typeof o.arrangement !== 'string' || !(MODE_ARRANGEMENTS as readonly string[]).includes(o.arrangement)) {
+    bad('.arrangement', `expected one of ${MODE_ARRANGEMENTS.map((a) => `"${a}"`).join(', ')}, found ${describe(o.arrangement)}`);
+  }
+  const d = o.degrees;
+  if (!Array.isArray(d)) bad('.degrees', `expected an array with the total degree of each mode, found ${describe(d)}`);
+  const degrees = d as unknown[];
+  if (degrees.length === 0) bad('.degrees', 'expected at least one mode, found an empty array');
+  for (let a = 0; a < degrees.length; a++) {
+    const v = degrees[a];
+    if (typeof v !== 'number' || !Number.isInteger(v) || v < 0 || v > 1000) {
+      bad(`.degrees[${a}]`, `expected an integer 0..1000, found ${describe(v)}`);
+    }
+    if (a === 0 && v !== 0) bad('.degrees[0]', `expected 0 (the first mode is the constant), found ${v}`);
+    if (a > 0 && (v as number) < (degrees[a - 1] as number)) {
+      bad(`.degrees[${a}]`, `expected at least degrees[${a - 1}] = ${degrees[a - 1]} (modes in hierarchical order, degree non-decreasing), found ${v}`);
+    }
+  }
+  if ((ne as number) * degrees.length !== bs) {
+    bad('', `nEquations ${ne} × ${degrees.length} degrees = ${(ne as number) * degrees.length} unknowns per block, but blockSize is ${bs}`);
+  }
 }
 
 /** Check a layout against the matrix it describes (square, divisible, last slab offset). */
@@ -116,10 +161,11 @@ export function writeLayout(path: string, layout: Layout): void {
     if (e instanceof UserError) throw new UserError(`refusing to write an invalid layout: ${e.message}`);
     throw e;
   }
-  const { schema: _schema, blockSize, slabOffsets, provenance, ...rest } = layout as Layout & { schema?: string };
+  const { schema: _schema, blockSize, slabOffsets, modes, provenance, ...rest } = layout as Layout & { schema?: string };
   void _schema;
   const ordered: Record<string, unknown> = { schema: LAYOUT_SCHEMA, blockSize };
   if (slabOffsets !== undefined) ordered.slabOffsets = Array.from(slabOffsets);
+  if (modes !== undefined) ordered.modes = { nEquations: modes.nEquations, arrangement: modes.arrangement, degrees: Array.from(modes.degrees) };
   Object.assign(ordered, rest);
   if (provenance !== undefined) ordered.provenance = provenance;
   let text = JSON.stringify(ordered, null, 2);

@@ -1,4 +1,4 @@
-import type { Bsr, Csr, Layout } from './types.js';
+import type { Bsr, Csr, Layout, ModalLayout } from './types.js';
 import { MAX_INT32_INDEX } from './types.js';
 import type { MatrixMarketHeader } from './matrix-market-header.js';
 import { bsrBlockCount, csrToBsr } from './bsr.js';
@@ -24,6 +24,8 @@ export interface LoadedSystem {
   layoutPath?: string;
   /** Block-row offsets of time slabs from the layout (first 0, last nBlockRows). */
   slabOffsets?: Int32Array;
+  /** The layout's `modes` section (how each block is built from a hierarchical basis), when present. */
+  modes?: ModalLayout;
   /** Pattern detection, when it was run (no layout and no --block-size). */
   detection?: BlockSizeDetection;
   header: MatrixMarketHeader;
@@ -103,6 +105,7 @@ export function systemFromMatrix(
   const out: LoadedSystem = { path, csr, bsr, bs, blockSizeSource: source, fillRatio, header };
   if (layout !== undefined) { out.layout = layout; out.layoutPath = opts.layoutPath; }
   if (slabOffsets !== undefined) out.slabOffsets = slabOffsets;
+  if (layout?.modes !== undefined) out.modes = layout.modes;
   if (detection !== undefined) out.detection = detection;
   return out;
 }

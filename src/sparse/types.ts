@@ -42,7 +42,25 @@ export const MAX_INT32_INDEX = 2 ** 31 - 1;
 export interface Layout {
   readonly blockSize: number;
   readonly slabOffsets?: readonly number[];
+  /** How each block is built from a modal (hierarchical) basis; read by p-multigrid. */
+  readonly modes?: ModalLayout;
   /** Free-form provenance: generator parameters, source code, date… */
   readonly provenance?: Record<string, unknown>;
   readonly [extra: string]: unknown;
+}
+
+/** Arrangement of the unknowns inside a block of nEquations × nModes unknowns. */
+export type ModeArrangement = 'equation-major' | 'mode-major';
+export const MODE_ARRANGEMENTS: readonly ModeArrangement[] = ['equation-major', 'mode-major'];
+
+/**
+ * Layout section `modes`: each block holds nEquations equations times degrees.length basis
+ * functions (modes). 'equation-major': unknown (equation i, mode a) at i·nModes + a;
+ * 'mode-major': at a·nEquations + i. degrees[a] is the total polynomial degree of mode a, in
+ * hierarchical order (non-decreasing, starting at 0): the modes of degree ≤ q come first.
+ */
+export interface ModalLayout {
+  readonly nEquations: number;
+  readonly arrangement: ModeArrangement;
+  readonly degrees: readonly number[];
 }

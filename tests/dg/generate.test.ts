@@ -36,7 +36,7 @@ describe('parseGeneratorParams: one-line errors naming the field, before any wor
     [{ physics: 'advection', dim: 1, velocity: ['sqrt(x - 2)'] }, /\.velocity\[0\]: expression 'sqrt\(x - 2\)' evaluates to a non-real value/],
     [{ physics: 'advection', dim: 1, velocity: ['1/(x - 0.5)'] }, /\.velocity\[0\]: expression .* evaluates to Infinity/],
     [{ physics: 'advection', dim: 1, initial: '0/0 + x' }, /\.initial: expression .* evaluates to NaN/],
-    [{ physics: 'heat' }, /\.physics: expected one of advection, advection-diffusion, acoustics, burgers, got "heat"/],
+    [{ physics: 'heat' }, /\.physics: expected one of advection, advection-diffusion, acoustics, burgers, euler, got "heat"/],
     [{ physics: 'advection', soundSpeed: 2 }, /\.soundSpeed: does not apply to physics advection \(it belongs to acoustics\)/],
     [{ physics: 'advection', colour: 'red' }, /\.colour: unknown field/],
     [{ physics: 'burgers', shear: 'align' }, /\.shear: 'align' needs a constant transport velocity/],
@@ -120,7 +120,7 @@ describe('writeGeneratedCase and suite cases', () => {
     try {
       const p = parse({ physics: 'advection', dim: 1, order: 1, cells: 4, slabs: 2 });
       const files = await writeGeneratedCase(p, dir, 'tiny');
-      expect(files).toEqual({ mtx: join(dir, 'tiny.mtx'), rhs: join(dir, 'tiny.rhs.mtx'), layout: join(dir, 'tiny.layout.json') });
+      expect(files).toEqual({ mtx: join(dir, 'tiny.mtx'), rhs: join(dir, 'tiny.rhs.mtx'), layout: join(dir, 'tiny.layout.json'), triangularUnderPermutation: expect.any(Boolean) as boolean });
       const s = generateSystem(p);
       const { csr } = await readMatrixMarket(files.mtx);
       const expected = bsrToCsr(s.bsr);

@@ -28,7 +28,7 @@ function normal(dim: number, seed: number): Float64Array {
 
 describe('physics registry', () => {
   it('names every physics once, each with its fields', () => {
-    expect(PHYSICS_NAMES).toEqual(['advection', 'advection-diffusion', 'acoustics', 'burgers']);
+    expect(PHYSICS_NAMES).toEqual(['advection', 'advection-diffusion', 'acoustics', 'burgers', 'euler']);
     for (const def of PHYSICS.values()) expect(def.fields.length).toBeGreaterThan(0);
   });
 });
@@ -51,6 +51,18 @@ describe('slab interfaces take the earlier slab (n_x = 0) — the property that 
           p.numericalFlux(X, 0, 0.7, -1.3, down, out);
           expect(out[0]).toBe(1.3); // H = n_t u⁺ = −u⁺ (earlier slab on the right)
           expect(out[1]).toBe(0);
+        } else if (p.kind === 'nonlinear-system') {
+          const m = p.nEquations;
+          const UL = new Float64Array(m), UR = new Float64Array(m);
+          p.state!(X, 0, UL);
+          UR.set(UL); UR[0] = UL[0]! * 1.5;
+          const h = new Float64Array(m), dL = new Float64Array(m * m), dR = new Float64Array(m * m);
+          p.numericalFlux(X, 0, UL, UR, up, h, dL, dR, 0);
+          for (let i = 0; i < m; i++) expect(h[i]).toBeCloseTo(UL[i]!, 13); // H = U⁻ (earlier slab on the left)
+          expect(Math.max(...dR.map(Math.abs))).toBe(0); // no dependence on the later slab
+          p.numericalFlux(X, 0, UL, UR, down, h, dL, dR, 0);
+          for (let i = 0; i < m; i++) expect(h[i]).toBeCloseTo(-UR[i]!, 13); // H = n_t U⁺
+          expect(Math.max(...dL.map(Math.abs))).toBe(0);
         } else {
           const m = p.nEquations;
           const ap = new Float64Array(m * m), am = new Float64Array(m * m);

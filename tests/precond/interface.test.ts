@@ -9,6 +9,8 @@ import { permuteBsr } from '../../src/sparse/permute.js';
 import { maxAbsDiff, randomBsr, randomVector, recipe, rng, systemOf } from './helpers.js';
 
 const nb = 10, bs = 3, n = nb * bs;
+/** Layout section modes for bs = 3 (one equation, degrees 0, 1, 1): p-multigrid needs it, the others ignore it. */
+const modes3 = { nEquations: 1, arrangement: 'equation-major', degrees: [0, 1, 1] } as const;
 
 function generalMatrix(seed: number): Bsr {
   const r = rng(seed);
@@ -39,7 +41,7 @@ describe('every registered preconditioner: interface', () => {
   for (const name of PRECONDITIONER_NAMES) {
     it(`${name}: r is never modified, z is finite, lengths and r ≠ z are checked, memory is by named buffer`, () => {
       const a = generalMatrix(2);
-      const M = createPreconditioner(systemOf(a, Int32Array.of(0, 5, 10)), recipe({ preconditioner: name }));
+      const M = createPreconditioner({ ...systemOf(a, Int32Array.of(0, 5, 10)), modes: modes3 }, recipe({ preconditioner: name }));
       expect(M.n).toBe(n);
       expect(M.setup()).toEqual({ ok: true });
       const r = randomVector(n, 3);
@@ -65,7 +67,7 @@ describe('every registered preconditioner: interface', () => {
 
   for (const name of PRECONDITIONER_NAMES.filter((p) => p !== 'none')) {
     it(`${name}: apply before a successful setup throws`, () => {
-      const M = createPreconditioner(systemOf(generalMatrix(2)), recipe({ preconditioner: name }));
+      const M = createPreconditioner({ ...systemOf(generalMatrix(2)), modes: modes3 }, recipe({ preconditioner: name }));
       expect(() => M.apply(new Float64Array(n), new Float64Array(n))).toThrow(/setup/);
     });
   }

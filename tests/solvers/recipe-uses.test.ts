@@ -71,7 +71,7 @@ describe('results record only the fields a recipe’s methods read', () => {
   });
 
   it('every registered preconditioner and Krylov method declares fields that exist', () => {
-    const known = new Set<string>([...RECIPE_FIELDS, 'inner']);
+    const known = new Set<string>([...RECIPE_FIELDS, 'inner', 'pMultigrid']);
     for (const name of preconditionerNames()) {
       const u = preconditionerUses(name);
       expect(u, name).not.toBe('all');

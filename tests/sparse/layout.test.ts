@@ -98,3 +98,32 @@ describe('readLayout / writeLayout', () => {
     expect(layout).toEqual({ blockSize: 2, slabOffsets: [0, 1, 3] });
   });
 });
+
+describe('layout section modes (how each block is built from a hierarchical basis)', () => {
+  const ok = { nEquations: 2, arrangement: 'equation-major' as const, degrees: [0, 1, 1] };
+  it('is written on its own lines with the degrees on one line, and read back', () => {
+    const p = join(dir, 'modes.layout.json');
+    writeLayout(p, { blockSize: 6, slabOffsets: [0, 2], modes: ok, provenance: { order: 1 } });
+    const text = readFileSync(p, 'utf8');
+    expect(text).toContain('"modes": {\n    "nEquations": 2,\n    "arrangement": "equation-major",\n    "degrees": [0, 1, 1]\n  },');
+    expect(readLayout(p).modes).toEqual(ok);
+    expect(validateLayout({ blockSize: 6, modes: { ...ok, arrangement: 'mode-major' } }, 'x').modes?.arrangement).toBe('mode-major');
+  });
+
+  it.each([
+    ['not an object', [1], /^x: modes: expected an object \{ "nEquations", "arrangement", "degrees" \}, found an array$/],
+    ['unknown field', { ...ok, order: 1 }, /^x: modes\.order: unknown field \(expected nEquations, arrangement, degrees\)$/],
+    ['missing nEquations', { arrangement: 'equation-major', degrees: [0, 1, 1] }, /^x: modes\.nEquations: missing$/],
+    ['missing degrees', { nEquations: 2, arrangement: 'equation-major' }, /^x: modes\.degrees: missing$/],
+    ['nEquations 0', { ...ok, nEquations: 0 }, /^x: modes\.nEquations: expected an integer 1\.\.6 \(the block size\), found 0$/],
+    ['arrangement unknown', { ...ok, arrangement: 'interleaved' }, /^x: modes\.arrangement: expected one of "equation-major", "mode-major", found "interleaved"$/],
+    ['degrees not an array', { ...ok, degrees: 2 }, /^x: modes\.degrees: expected an array with the total degree of each mode, found 2$/],
+    ['degrees empty', { ...ok, degrees: [] }, /^x: modes\.degrees: expected at least one mode/],
+    ['degree not an integer', { ...ok, degrees: [0, 1, 1.5] }, /^x: modes\.degrees\[2\]: expected an integer 0\.\.1000, found 1\.5$/],
+    ['first degree not 0', { ...ok, degrees: [1, 1, 1] }, /^x: modes\.degrees\[0\]: expected 0 \(the first mode is the constant\), found 1$/],
+    ['not hierarchical', { nEquations: 1, arrangement: 'mode-major', degrees: [0, 1, 2, 1, 2, 2] }, /^x: modes\.degrees\[3\]: expected at least degrees\[2\] = 2 \(modes in hierarchical order, degree non-decreasing\), found 1$/],
+    ['size mismatch', { ...ok, degrees: [0, 1] }, /^x: modes: nEquations 2 × 2 degrees = 4 unknowns per block, but blockSize is 6$/],
+  ])('%s → one-line error naming the field path', (_name, modes, pattern) => {
+    expect(() => validateLayout({ blockSize: 6, modes }, 'x')).toThrow(pattern);
+  });
+});

@@ -3,6 +3,7 @@ import { advection } from './advection.js';
 import { advectionDiffusion } from './advection-diffusion.js';
 import { acoustics } from './acoustics.js';
 import { burgers } from './burgers.js';
+import { euler } from './euler.js';
 
 /** Every physics by its command-line / suite-file name. Adding a physics: one file + one line here. */
 const DEFINITIONS: readonly PhysicsDefinition[] = [
@@ -10,6 +11,7 @@ const DEFINITIONS: readonly PhysicsDefinition[] = [
   advectionDiffusion,
   acoustics,
   burgers,
+  euler,
 ];
 
 export const PHYSICS: ReadonlyMap<PhysicsName, PhysicsDefinition> = (() => {

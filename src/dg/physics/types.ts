@@ -5,7 +5,7 @@
  * i.e. ∇_{x,t}·G(u) = ν Δ_x u with the space-time flux G(u) = (F_1(u), …, F_d(u), u).
  */
 
-export type PhysicsName = 'advection' | 'advection-diffusion' | 'acoustics' | 'burgers';
+export type PhysicsName = 'advection' | 'advection-diffusion' | 'acoustics' | 'burgers' | 'euler';
 
 /** Options shared by every physics, already validated. */
 export interface PhysicsContext {
@@ -72,7 +72,35 @@ export interface LinearSystemPhysics extends PhysicsCommon {
   upwindSplit(n: Float64Array, aPlus: Float64Array, aMinus: Float64Array): void;
 }
 
-export type Physics = ScalarPhysics | LinearSystemPhysics;
+/**
+ * A nonlinear system of m conservation laws ∇_{x,t}·G(U) = 0 assembled point by point
+ * (src/dg/assemble-nonlinear.ts): the space-time flux and its Jacobian, and a numerical flux with
+ * both partial Jacobians, so the matrix is the exact Jacobian of the DG residual.
+ */
+export interface NonlinearSystemPhysics extends PhysicsCommon {
+  readonly kind: 'nonlinear-system';
+  /**
+   * Whether a state at a point is acceptable for linearization, given its element mean (Euler:
+   * density and pressure at least a tenth of the mean's); the generator scales elements of the
+   * projected state toward their mean until it is (src/dg/positivity.ts). Absent: no scaling.
+   */
+  readonly admissible?: (U: Float64Array, mean: Float64Array) => boolean;
+  /**
+   * G[l·m + i] = G_{l,i}(U) for l < D (l < d: the spatial flux F_l; l = d: U itself) and
+   * dG[l·m² + i·m + j] = ∂G_{l,i}/∂U_j. `element` names the element in error messages.
+   */
+  volumeFlux(X: Float64Array, xo: number, U: Float64Array, G: Float64Array, dG: Float64Array, element: number): void;
+  /**
+   * h = H(U_L, U_R; n) (m comps), dL = ∂H/∂U_L and dR = ∂H/∂U_R (row-major m×m). Must reduce to the
+   * earlier-slab value when n_x = 0 (dR = 0 for n_t > 0). `face` names the face in error messages.
+   */
+  numericalFlux(
+    X: Float64Array, xo: number, UL: Float64Array, UR: Float64Array, n: Float64Array,
+    h: Float64Array, dL: Float64Array, dR: Float64Array, face: number,
+  ): void;
+}
+
+export type Physics = ScalarPhysics | LinearSystemPhysics | NonlinearSystemPhysics;
 
 /** Registry entry: one per physics file. */
 export interface PhysicsDefinition {
