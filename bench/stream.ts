@@ -8,6 +8,7 @@
 import v8 from 'node:v8';
 import vm from 'node:vm';
 import { Bench, type Task } from 'tinybench';
+import { KernelArena } from '../src/kernels-host/arena.js';
 
 /** y = a + s·b (unchecked). */
 export function triadKernel(a: Float64Array, b: Float64Array, y: Float64Array, s: number): void {
@@ -45,7 +46,39 @@ export function gbPerSecond(task: Task | undefined, bytesPerCall: number): numbe
   return ms === undefined || !(ms > 0) ? Number.NaN : bytesPerCall / (ms * 1e6);
 }
 
-/** Run the triad alone and return GB/s (median of the samples). */
+/**
+ * The same triad in WebAssembly (src/kernels/vector.ts `triad`, f64x2) on arrays in one kernel
+ * memory: the yardstick the kernels are compared with, since they run in WebAssembly too. It reaches
+ * about what a compiled C loop does; the JavaScript triad above is kept as a second figure (it pays
+ * per-element checks and no SIMD, and reached about half of this one on the bench machine).
+ */
+export interface WasmStreamArrays extends StreamArrays { arena: KernelArena }
+
+export function wasmStreamArrays(length = 1 << 24): WasmStreamArrays {
+  const arena = new KernelArena(3 * 8 * length + (1 << 16));
+  const a = arena.f64(length)!, b = arena.f64(length)!, y = arena.f64(length)!;
+  for (let i = 0; i < length; i++) { a[i] = 1 + i * 1e-9; b[i] = 2 - i * 1e-9; }
+  return { a, b, y, bytes: 24 * length, arena };
+}
+
+export function addWasmStreamTask(bench: Bench, arrays: WasmStreamArrays, name = 'stream triad (WebAssembly)'): void {
+  const { k } = arrays.arena;
+  const n = arrays.y.length, pa = arrays.a.byteOffset, pb = arrays.b.byteOffset, py = arrays.y.byteOffset;
+  bench.add(name, () => k.triad(n, py, pa, 1.5, pb));
+}
+
+/** Both triads in one tinybench run: { wasm, js } in GB/s (medians). */
+export async function measureStreamBandwidths(opts: { length?: number; timeMs?: number } = {}): Promise<{ wasm: number; js: number }> {
+  const w = wasmStreamArrays(opts.length);
+  const j = streamArrays(opts.length);
+  const bench = new Bench({ name: 'stream', time: opts.timeMs ?? 1000, warmupTime: 200 });
+  addWasmStreamTask(bench, w);
+  addStreamTask(bench, j);
+  await bench.run();
+  return { wasm: gbPerSecond(bench.tasks[0], w.bytes), js: gbPerSecond(bench.tasks[1], j.bytes) };
+}
+
+/** Run the (JavaScript) triad alone and return GB/s (median of the samples). */
 export async function measureStreamBandwidth(opts: { length?: number; timeMs?: number } = {}): Promise<number> {
   const arrays = streamArrays(opts.length);
   const bench = new Bench({ name: 'stream', time: opts.timeMs ?? 1000, warmupTime: 200 });

@@ -9,6 +9,7 @@ import { registerMerge } from './merge.js';
 import { registerReport } from './report.js';
 import { registerCheck } from './check.js';
 import { registerEstimate } from './estimate.js';
+import { registerScale } from './scale.js';
 
 /** Every command, one file each. Order here is the order in `slabbench --help`. */
 export const commands: ReadonlyArray<(program: Command) => void> = [
@@ -22,4 +23,5 @@ export const commands: ReadonlyArray<(program: Command) => void> = [
   registerReport,
   registerCheck,
   registerEstimate,
+  registerScale,
 ];

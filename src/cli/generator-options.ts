@@ -29,6 +29,7 @@ const OPTIONS: readonly GeneratorOption[] = [
   { flags: '--shear <s[,s,s]|align>', key: 'shear', field: 'shear', kind: 'shear', help: "tilt the mesh x → x + s·t; 'align' = along the constant velocity / mean flow (default 0)" },
   { flags: '--jitter <f>', key: 'jitter', field: 'jitter', kind: 'number', help: 'random vertex displacement in space, fraction of the cell size in [0, 0.5) (default 0)' },
   { flags: '--seed <n>', key: 'seed', field: 'seed', kind: 'number', help: 'seed of the jitter and of --ordering random (default 1)' },
+  { flags: '--pseudo-cfl <c>', key: 'pseudoCfl', field: 'pseudoCfl', kind: 'number', help: 'add the pseudo-time term M/Δτ to the diagonal blocks, Δτ = c·h_K/λ (pseudo-transient continuation; default: none)' },
   { flags: '--ordering <name>', key: 'ordering', field: 'ordering', kind: 'string', help: 'element order inside each slab: natural, downstream or random (default natural)' },
   { flags: '--velocity <expr>', key: 'velocity', field: 'velocity', kind: 'repeat', help: 'advection velocity, one per axis (repeat the option), numbers or expressions in x, y, z, t (default 1, 0.5, 0.25)' },
   { flags: '--diffusivity <nu>', key: 'diffusivity', field: 'diffusivity', kind: 'number', help: 'advection-diffusion: diffusion coefficient ν ≥ 0 (default 0.01)' },

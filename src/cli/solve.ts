@@ -6,16 +6,32 @@ import { readMatrixMarketVector } from '../sparse/matrix-market.js';
 import { csrSpmv } from '../sparse/csr.js';
 import {
   RECIPE_FIELDS, RECIPE_FLAGS, describeRecipeField, recipeFromOptions, recordedRecipe, type Recipe, type RecordedRecipe,
+  AIR_FIELDS, AIR_FLAGS, describeAirField, type AirOptions,
   PMG_FLAGS, PMG_COARSE_PREFIX, PMG_CYCLES, PMG_SMOOTHERS,
 } from '../solvers/recipe.js';
 import { solveSystem } from '../solvers/run-recipe.js';
 import type { SolveResult } from '../solvers/types.js';
 import { EXIT, fileError, optionError } from '../util/errors.js';
+import { parseKernelChoice } from '../solvers/kernel-plan.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
 import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull, plural } from '../report/format.js';
 import type { RepeatTimes } from '../run/results-types.js';
 import { collectGarbage, repeatDifferences, summarizeRepeats } from '../run/timing.js';
 import { parseRepeats } from './timing-options.js';
+
+/** What each AIR option means (--precond air; the accepted values come from the recipe validator). */
+const AIR_HELP: Record<keyof AirOptions, string> = {
+  strength: 'AIR strength threshold θ on Frobenius block norms, relative to the row\'s largest off-diagonal block (default 0.25)',
+  distance: 'AIR restriction neighbourhood: F points within this many strong connections (default 2)',
+  prolongation: 'AIR prolongation: one-point (W = −A_ff⁻¹A_fc, strongest C neighbour) or injection (default one-point)',
+  relaxation: 'AIR post-relaxation: block Jacobi sweeps on F and C points in this order (default ffc)',
+  preRelaxation: 'AIR pre-relaxation pattern, or none (default none)',
+  sweeps: 'AIR repetitions of the relaxation pattern per level (default 1)',
+  maxLevels: 'AIR most levels, coarsest included (default 25)',
+  coarsest: 'AIR stops coarsening at a level with at most this many unknowns; solved by dense LU (default 256)',
+  cycle: 'AIR cycle (default V)',
+  scaling: 'AIR on D⁻¹A (block-diagonal) or on A (none) (default block-diagonal)',
+};
 
 /** What each recipe option means (the accepted values come from the recipe validator). */
 const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
@@ -36,6 +52,11 @@ const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   maxIterations: 'maximum inner iterations in total, whatever the restart (default 1000)',
   divergence: 'stop (residual-growth) when ‖r‖ > divergence · reference norm (default 1e10)',
   relativeTo: 'reference norm: ‖b‖ (rhs) or the starting residual ‖r₀‖ (start-residual); default rhs',
+  parts: 'schwarz: number of parts of the block graph (default 4)',
+  overlap: 'schwarz: overlap in block layers (default 1)',
+  schwarzKind: 'schwarz: restricted or plain additive combination (default restricted)',
+  subdomain: 'schwarz: subdomain solve, a preconditioner name or exact (default block-ilu0)',
+  partitionSlabs: 'schwarz: parts across slabs or each inside one slab (default across)',
 };
 
 interface SolveCommandOptions {
@@ -45,6 +66,7 @@ interface SolveCommandOptions {
   json?: string;
   repeats?: number;
   warmup?: boolean;
+  kernels?: string;
   allowNonFinite?: boolean;
   [recipeOption: string]: unknown;
 }
@@ -80,6 +102,10 @@ function recipeText(r: RecordedRecipe): string {
   if (r.preconditioner === 'block-gs') pc += ` (${r.sweep} ×${r.sweeps}, ω ${r.omega}, ${r.ordering}, ${diagonal})`;
   if (r.preconditioner === 'block-ilu0') pc += ` (${r.ordering})`;
   if (r.preconditioner === 'slab' && r.inner) pc += ` [inner: ${recipeText(r.inner)}, rtol ${r.inner.rtol}]`;
+  if (r.preconditioner === 'air' && r.air) {
+    const a = r.air;
+    pc += ` (${a.cycle}-cycle, θ ${a.strength}, distance ${a.distance}, ${a.prolongation}, ${a.preRelaxation === 'none' ? '' : `pre ${a.preRelaxation}, `}post ${a.relaxation} ×${a.sweeps}, coarsest ≤ ${a.coarsest}, scaling ${a.scaling})`;
+  }
   if (r.preconditioner === 'p-multigrid' && r.pMultigrid) {
     const o = r.pMultigrid;
     const s = o.smoother;
@@ -120,9 +146,14 @@ export function formatSolveReport(rep: SolveReport): string {
   if (rp && !rp.consistent) row('warning', `repeats differed, not deterministic: ${(rp.differences ?? []).join('; ')}`);
   row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
     + (t.preconditionerApplications > 0 ? ` (${plural(t.preconditionerApplications, 'preconditioner application')}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
+  const ps = rep.preconditionerStats as { levels?: number; operatorComplexity?: number; gridComplexity?: number; perLevel?: Array<{ blockRows: number }> } | undefined;
+  if (rep.recipe.preconditioner === 'air' && ps && ps.levels !== undefined && ps.perLevel) {
+    row('levels', `${ps.levels} (block rows ${ps.perLevel.map((l) => l.blockRows).join(' / ')}); operator complexity ${num(ps.operatorComplexity ?? 0)}, grid complexity ${num(ps.gridComplexity ?? 0)}`);
+  }
   const su = rep.work.setup;
   row('work', `setup ${num(su.flops)} flops, ${bytes(su.bytes)} moved; solve ${num(sw.flops)} flops, ${bytes(sw.bytes)} moved (work model, README)`);
   const mem = rep.memory;
+  if (rep.kernels) row('kernels', rep.kernels === 'wasm' ? 'WebAssembly' : `TypeScript${rep.kernelsNote ? ` (${rep.kernelsNote})` : ''}`);
   row('memory', `matrix ${bytes(mem.matrixBytes)}, preconditioner ${bytes(mem.preconditionerBytes)}, Krylov ${bytes(mem.krylovBytes)}, work ${bytes(mem.workBytes)}; peak RSS ${bytes(mem.peakBytes)}`);
   const pmg = rep.recipe.preconditioner === 'p-multigrid' ? rep.preconditionerStats as { levels?: Array<{ degree: number; rows: number }>; coarseSolves?: number; coarseIterationsTotal?: number } | undefined : undefined;
   if (pmg?.levels) {
@@ -161,6 +192,7 @@ export function checkWritablePath(path: string, option: string): void {
 
 export async function runSolve(file: string, opts: SolveCommandOptions): Promise<SolveReport> {
   const recipe = recipeFromOptions(opts);
+  const kernels = opts.kernels === undefined ? undefined : parseKernelChoice(opts.kernels);
   const blockSize = opts.blockSize === undefined ? undefined : parseBlockSize(opts.blockSize);
   if (opts.json !== undefined && opts.json !== '-') checkWritablePath(opts.json, '--json');
   const allowNonFinite = opts.allowNonFinite === true;
@@ -185,13 +217,13 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
     : undefined;
   // Timing protocol (README): an untimed warm-up solve, then the timed repeats with a GC before each.
   const warmup = opts.warmup !== false;
-  if (warmup) solveSystem(sys, b, recipe);
+  if (warmup) solveSystem(sys, b, recipe, { kernels });
   const count = opts.repeats ?? 1;
   const runs: Array<ReturnType<typeof solveSystem>> = [];
   let gc = true;
   for (let k = 0; k < count; k++) {
     gc = collectGarbage() && gc;
-    runs.push(solveSystem(sys, b, recipe, { onIteration }));
+    runs.push(solveSystem(sys, b, recipe, { onIteration, kernels }));
   }
   if (progress && last > 0) process.stderr.write('\r\x1b[K');
   const summary = summarizeRepeats(runs.map((r) => r.result.timing.setupSeconds), runs.map((r) => r.result.timing.solveSeconds), { warmup, gc });
@@ -227,6 +259,7 @@ export function registerSolve(program: Command): void {
     .option('--json <file>', 'write the full result as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)')
     .option('--repeats <n>', 'timed solves, each with a fresh setup; the median one is reported (default 1)', parseRepeats)
     .option('--no-warmup', 'skip the untimed warm-up solve before the timed one(s) (default: warm up, so JIT compilation stays out of the time)')
+    .option('--kernels <set>', 'kernel set: wasm (WebAssembly), typescript, or auto = wasm when the solve fits one 4 GiB WebAssembly memory (default auto, or SLABBENCH_KERNELS)')
     .option('--allow-non-finite', 'accept NaN and ±Inf entries in the matrix and right-hand side (the solve then stops with cause non-finite-value)');
   for (const field of RECIPE_FIELDS) {
     cmd.option(`--${RECIPE_FLAGS[field]} <value>`, `${FIELD_HELP[field]}; ${describeRecipeField(field)}`);
@@ -234,6 +267,10 @@ export function registerSolve(program: Command): void {
   for (const field of RECIPE_FIELDS) {
     // listed once in the help text below rather than sixteen times
     cmd.addOption(new Option(`--inner-${RECIPE_FLAGS[field]} <value>`, `slab inner recipe: as --${RECIPE_FLAGS[field]}`).hideHelp());
+  }
+  for (const field of AIR_FIELDS) {
+    cmd.option(`--${AIR_FLAGS[field]} <value>`, `${AIR_HELP[field]}; ${describeAirField(field)}`);
+    cmd.addOption(new Option(`--inner-${AIR_FLAGS[field]} <value>`, `slab inner recipe: as --${AIR_FLAGS[field]}`).hideHelp());
   }
   const pmgHelp: Array<[string, string]> = [
     [`--${PMG_FLAGS.levels} <list>`, 'p-multigrid: polynomial degrees of the levels, finest first, e.g. 2,1,0 (default p, p−1, …, 0)'],
@@ -279,6 +316,8 @@ Examples:
   $ slabbench solve channel.mtx --krylov fgmres --precond slab --inner-krylov gmres --inner-precond block-ilu0 --inner-rtol 1e-6
   $ slabbench solve room.mtx --precond ilu0 --json - | jq .iterations
   $ slabbench solve duct.mtx --precond block-ilu0 --repeats 5 --json - | jq .repeats.median
+  $ slabbench solve tank.mtx --precond air --air-strength 0.25 --air-distance 2 --air-relax ffc
+  $ slabbench solve tank.mtx --krylov fgmres --precond slab --inner-precond air --inner-krylov gmres --inner-air-distance 1
   $ slabbench solve duct.mtx --krylov fgmres --precond p-multigrid --pmg-levels 2,1,0 --pmg-cycle w
   $ slabbench solve duct.mtx --precond p-multigrid --pmg-smoother block-jacobi --pmg-smoother-omega 0.7 --pmg-coarse-krylov none --pmg-coarse-rtol 0 --pmg-coarse-max-iters 4
 

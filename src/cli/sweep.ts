@@ -4,6 +4,7 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { type Command, Option } from 'commander';
 import { EXIT, optionError, UserError } from '../util/errors.js';
+import { KERNELS_ENV, parseKernelChoice } from '../solvers/kernel-plan.js';
 import { readSuite } from '../run/suite.js';
 import { parseShard } from '../run/shard.js';
 import { planSweep, formatSweepPlan } from '../run/plan.js';
@@ -72,6 +73,7 @@ interface SweepCliOptions {
   quiet?: boolean;
   json?: boolean;
   dryRun?: boolean;
+  kernels?: string;
 }
 
 function summary(doc: ResultsDoc, files: Record<string, string | undefined>, interrupted: boolean) {
@@ -153,6 +155,7 @@ export function registerSweep(program: Command, deps: SweepCommandDeps = REAL_DE
     .option('--label <text>', 'label of this run in history.jsonl (default: the commit from the CI environment, e.g. GITHUB_SHA)', parseLabel)
     .option('--cache <dir>', 'folder for matrices built from generator entries (default OUT/matrices)')
     .option('--no-report', 'do not write report.html and the .svg plots')
+    .option('--kernels <set>', 'kernel set for every solve: wasm, typescript, or auto = wasm when a solve fits one 4 GiB WebAssembly memory (default auto, or SLABBENCH_KERNELS)')
     .addOption(new Option('-q, --quiet', 'print nothing but errors').conflicts('json'))
     .option('--json', 'print a JSON summary on stdout (nothing else goes to stdout)')
     .option('--dry-run', 'list the matrix × recipe pairs the sweep would run (grids expanded, selection and shard applied) and stop; nothing is generated, solved or written')
@@ -199,6 +202,9 @@ Examples:
       const ac = new AbortController();
       const onSigint = (): void => ac.abort();
       process.once('SIGINT', onSigint);
+      // the kernel set travels to the worker threads through their environment (read by solveSystem)
+      const envBefore = process.env[KERNELS_ENV];
+      if (opts.kernels !== undefined) process.env[KERNELS_ENV] = parseKernelChoice(opts.kernels);
       let outcome;
       try {
         outcome = await runSweep({
@@ -218,6 +224,9 @@ Examples:
           log: opts.quiet ? undefined : (line) => { bar?.finish(); process.stderr.write(`${line}\n`); },
         });
       } finally {
+        if (opts.kernels !== undefined) {
+          if (envBefore === undefined) delete process.env[KERNELS_ENV]; else process.env[KERNELS_ENV] = envBefore;
+        }
         process.off('SIGINT', onSigint);
         bar?.finish();
       }

@@ -12,6 +12,7 @@ import { show } from './physics/fields.js';
 import { ELEMENT_ORDERINGS, orderElements, type ElementOrdering } from './ordering.js';
 import { assembleDg, prepareDiscretization, type Discretization, type ProgressSink } from './assemble.js';
 import { scaleToAdmissible } from './positivity.js';
+import { addPseudoTimeTerm } from './pseudo-time.js';
 import { nonzeroBlockPattern, triangularStructure } from '../sparse/structure.js';
 import { projectFunction } from './projection.js';
 import { writeCaseFiles } from './write-case.js';
@@ -39,6 +40,8 @@ export interface GeneratorParams {
   jitter: number;
   seed: number;
   ordering: ElementOrdering;
+  /** Pseudo-time term M/Δτ added to the diagonal blocks, Δτ = pseudoCfl·h_K/λ (absent: none). */
+  pseudoCfl?: number;
   /** Physics-specific fields (velocity, diffusivity, soundSpeed, meanFlow, travelling, direction, initial, state, inflow). */
   [field: string]: unknown;
 }
@@ -47,7 +50,7 @@ export const MAX_ORDER = 4;
 export const MAX_ORDER_3D = 3;
 const COMMON_FIELDS = [
   'physics', 'dim', 'order', 'cells', 'extent', 'slabs', 'layersPerSlab', 'cfl', 'slabThickness',
-  'periodic', 'shear', 'jitter', 'seed', 'ordering',
+  'periodic', 'shear', 'jitter', 'seed', 'ordering', 'pseudoCfl',
 ];
 /** Largest generated value array (entries), checked before anything is allocated. */
 export const MAX_GENERATED_VALUES = 1.5e9;
@@ -126,12 +129,17 @@ export function parseGeneratorParams(obj: unknown, where: string, label?: FieldL
   if (typeof ordering !== 'string' || !ELEMENT_ORDERINGS.includes(ordering as ElementOrdering)) {
     fail('ordering', `expected one of ${ELEMENT_ORDERINGS.join(', ')}, got ${show(ordering)}`);
   }
+  const pseudoCfl = raw.pseudoCfl;
+  if (pseudoCfl !== undefined && !(typeof pseudoCfl === 'number' && Number.isFinite(pseudoCfl) && pseudoCfl > 0)) {
+    fail('pseudoCfl', `expected a number > 0 (the pseudo-time CFL number), got ${show(pseudoCfl)}`);
+  }
   const ctx: PhysicsContext = { dim: d, extent, periodic, label: name };
   const physicsFields = def.normalize(raw, ctx);
   const params: GeneratorParams = {
     physics: def.name, dim: d, order: order as number, cells, extent, slabs: slabs as number,
     layersPerSlab: layersPerSlab as number, cfl, slabThickness, periodic, shear, jitter: jitter as number,
-    seed: seed as number, ordering: ordering as ElementOrdering, ...physicsFields,
+    seed: seed as number, ordering: ordering as ElementOrdering,
+    ...(pseudoCfl !== undefined ? { pseudoCfl: pseudoCfl as number } : {}), ...physicsFields,
   };
   // Everything that depends on the physics: slab thickness, shear, sizes, expressions over [0, T].
   resolveGenerator(params, name);
@@ -234,6 +242,7 @@ export function generateWithDiscretization(
   const scaledElements = state && physics.kind === 'nonlinear-system' ? scaleToAdmissible(disc, physics, state) : 0;
   const { bsr, residual } = assembleDg(disc, state, { onProgress });
   for (let i = 0; i < residual.length; i++) residual[i] = -residual[i];
+  const pseudoTime = params.pseudoCfl !== undefined ? addPseudoTimeTerm(disc, bsr!, params.pseudoCfl) : null;
   const slabOffsets: number[] = Array.from(mesh.slabOffsets);
   const layout: Layout = {
     blockSize: disc.bs,
@@ -256,6 +265,7 @@ export function generateWithDiscretization(
       finalTime: resolved.finalTime,
       quadratureDegree: 2 * params.order + physics.extraQuadratureDegree(params.order),
       system: physics.state ? 'Newton step: Jacobian at the projected state, rhs = -residual' : 'linear: DG operator, rhs = data terms',
+      ...(pseudoTime ? { pseudoTime: { cfl: params.pseudoCfl, minDtau: pseudoTime.minDtau, maxDtau: pseudoTime.maxDtau, term: 'M/dtau added to the diagonal blocks; rhs unchanged' } } : {}),
       physicsSummary: physics.kind === 'nonlinear-system' ? { ...physics.summary, stateScaledElements: scaledElements } : physics.summary,
       params: { ...params },
     },

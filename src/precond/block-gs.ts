@@ -18,6 +18,7 @@ import { UserError } from '../util/errors.js';
 import { checkApplyArgs, checkReady, factorBlock } from './common.js';
 import { blockMatVec, blockMatVecSub, denseFlops, luInverse, luSolve } from './dense.js';
 import { diagonalIndex, invertPermutation, orderingPermutation } from './block-tools.js';
+import { allInArena, kernelCopyI32, kernelF64, kernelI32, ptr, wasmFor } from '../kernels-host/arena.js';
 
 export function createBlockGs(system: SystemMatrix, recipe: Recipe): Preconditioner {
   if (!(recipe.omega > 0 && recipe.omega < 2)) {
@@ -29,6 +30,8 @@ export function createBlockGs(system: SystemMatrix, recipe: Recipe): Preconditio
   return new BlockGsPreconditioner(system, recipe);
 }
 
+const PREFIX_NONE = 0, PREFIX_STORE = 1, PREFIX_USE = 2;
+
 class BlockGsPreconditioner implements Preconditioner {
   readonly name = 'block-gs';
   readonly variable = false;
@@ -39,6 +42,8 @@ class BlockGsPreconditioner implements Preconditioner {
   private diagFactors: Float64Array = new Float64Array(0);
   private pivots: Int32Array = new Int32Array(0);
   private t: Float64Array = new Float64Array(0);
+  /** Symmetric sweeps, natural order: row partial sums after the blocks left of the diagonal. */
+  private prefix: Float64Array = new Float64Array(0);
   private ready = false;
   private setupFlops = 0;
   private applies = 0;
@@ -63,8 +68,9 @@ class BlockGsPreconditioner implements Preconditioner {
 
   setup(): SetupOutcome {
     const a = this.system.bsr;
-    this.perm = orderingPermutation(a, this.ordering, this.system.slabOffsets);
-    this.inv = this.perm ? invertPermutation(this.perm) : null;
+    const perm = orderingPermutation(a, this.ordering, this.system.slabOffsets);
+    this.perm = perm ? kernelCopyI32(perm) : null;
+    this.inv = perm ? kernelCopyI32(invertPermutation(perm)) : null;
     const { nBlockRows: nb, bs, values } = a;
     const bb = bs * bs;
     const diag = diagonalIndex(a);
@@ -80,9 +86,10 @@ class BlockGsPreconditioner implements Preconditioner {
       return addWork(w, kernel(0, 8 * bb), rows - present);
     };
     let present = 0;
-    this.diagFactors = new Float64Array(nb * bb);
-    this.pivots = new Int32Array(this.mode === 'lu' ? nb * bs : bs);
-    this.t = new Float64Array(this.mode === 'lu' ? bs : 2 * bs + bb);
+    this.diagFactors = kernelF64(nb * bb);
+    this.pivots = kernelI32(this.mode === 'lu' ? nb * bs : bs);
+    this.t = kernelF64(this.mode === 'lu' ? bs : 2 * bs + bb);
+    this.prefix = kernelF64(this.sweep === 'symmetric' && this.perm === null ? nb * bs : 0);
     for (let step = 0; step < nb; step++) {
       const I = this.perm ? this.perm[step] : step;
       const fo = step * bb;
@@ -108,9 +115,14 @@ class BlockGsPreconditioner implements Preconditioner {
     checkReady(this.name, this.ready);
     z.fill(0);
     let first = true;
+    // symmetric sweeps in the natural order: the forward sweep keeps each row's partial sum after
+    // its blocks left of the diagonal (prefix), and the backward sweep starts from it instead of
+    // subtracting those blocks again (the same x values, the same operations in the same order, so
+    // the same result, reading A's lower blocks once per symmetric sweep instead of twice)
+    const reuse = this.prefix.length > 0;
     for (let s = 0; s < this.sweeps; s++) {
-      if (this.sweep !== 'backward') { this.sweepOnce(r, z, true, first); first = false; }
-      if (this.sweep !== 'forward') { this.sweepOnce(r, z, false, first); first = false; }
+      if (this.sweep !== 'backward') { this.sweepOnce(r, z, true, first, reuse ? PREFIX_STORE : PREFIX_NONE); first = false; }
+      if (this.sweep !== 'forward') { this.sweepOnce(r, z, false, first, reuse ? PREFIX_USE : PREFIX_NONE); first = false; }
     }
     this.applies++;
   }
@@ -145,10 +157,16 @@ class BlockGsPreconditioner implements Preconditioner {
       return w;
     };
     const total = vectorWork.fill(n);
+    const reuse = this.prefix.length > 0;
     let first = true;
     for (let s = 0; s < this.sweeps; s++) {
-      if (this.sweep !== 'backward') { addWork(total, pass(first ? visitedBefore : offDiagonal, first)); first = false; }
-      if (this.sweep !== 'forward') { addWork(total, pass(first ? visitedAfter : offDiagonal, first)); first = false; }
+      if (this.sweep !== 'backward') {
+        addWork(total, pass(first ? visitedBefore : offDiagonal, first));
+        if (reuse) addWork(total, kernel(0, 8 * n)); // the row prefixes stored
+        first = false;
+      }
+      // with reused prefixes the backward pass reads only the blocks right of the diagonal
+      if (this.sweep !== 'forward') { addWork(total, pass(first || reuse ? visitedAfter : offDiagonal, first)); first = false; }
     }
     return total;
   }
@@ -162,19 +180,37 @@ class BlockGsPreconditioner implements Preconditioner {
    * from x = 0 the blocks not yet visited are zero, so only the already-visited side of each row is
    * used (forward: earlier steps; backward: later steps).
    */
-  private sweepOnce(rhs: Float64Array, x: Float64Array, forward: boolean, first: boolean): void {
+  private sweepOnce(rhs: Float64Array, x: Float64Array, forward: boolean, first: boolean, prefixMode: number): void {
     const { nBlockRows: nb, bs, rowPtr, colInd, values } = this.system.bsr;
     const bb = bs * bs;
     const t = this.t, f = this.diagFactors, piv = this.pivots, perm = this.perm, inv = this.inv;
     const omega = this.omega;
     const lu = this.mode === 'lu';
+    const prefix = this.prefix;
+    if (allInArena([rowPtr, colInd, values, rhs, x, t, f, piv, perm, inv, prefix])) {
+      wasmFor(x)!.blockGsSweep(nb, bs, ptr(rowPtr), ptr(colInd), ptr(values), perm ? ptr(perm) : 0, inv ? ptr(inv) : 0,
+        ptr(f), ptr(piv), lu ? 1 : 0, ptr(rhs), ptr(x), ptr(t), forward ? 1 : 0, first ? 1 : 0, omega,
+        prefixMode === PREFIX_NONE ? 0 : ptr(prefix), prefixMode);
+      return;
+    }
     const tIn = lu ? 0 : bs; // with inverses, t[0..bs) holds the result and t[bs..2bs) the residual
     for (let i = 0; i < nb; i++) {
       const step = forward ? i : nb - 1 - i;
       const I = perm ? perm[step] : step;
       const xo = I * bs;
-      for (let q = 0; q < bs; q++) t[tIn + q] = rhs[xo + q];
-      for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
+      let k = rowPtr[I];
+      const end = rowPtr[I + 1];
+      if (prefixMode === PREFIX_USE) {
+        for (let q = 0; q < bs; q++) t[tIn + q] = prefix[xo + q];
+        while (k < end && colInd[k] <= I) k++;
+      } else {
+        for (let q = 0; q < bs; q++) t[tIn + q] = rhs[xo + q];
+        if (prefixMode === PREFIX_STORE) {
+          for (; k < end && colInd[k] < I; k++) blockMatVecSub(values, k * bb, bs, x, colInd[k] * bs, t, tIn);
+          for (let q = 0; q < bs; q++) prefix[xo + q] = t[tIn + q];
+        }
+      }
+      for (; k < end; k++) {
         const J = colInd[k];
         if (J === I) continue;
         if (first) {
@@ -196,6 +232,7 @@ class BlockGsPreconditioner implements Preconditioner {
     if (this.mode === 'lu') m.pivots = this.pivots.byteLength;
     if (this.perm && this.inv) m['visiting order and its inverse'] = this.perm.byteLength + this.inv.byteLength;
     m.workspace = this.t.byteLength + (this.mode === 'lu' ? 0 : this.pivots.byteLength);
+    if (this.prefix.length > 0) m['row prefixes (symmetric sweeps)'] = this.prefix.byteLength;
     return m;
   }
 

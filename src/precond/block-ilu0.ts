@@ -27,6 +27,7 @@ import { checkApplyArgs, checkReady, factorBlock, nonFinite } from './common.js'
 import { allFinite, blockGemm, blockGemmSub, blockMatVec, blockMatVecSub, denseFlops, luInverse } from './dense.js';
 import { addWork, blockSweepWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { gatherBlocks, invertPermutation, orderingPermutation, scatterBlocks } from './block-tools.js';
+import { allInArena, kernelCopyI32, kernelF64, kernelI32, ptr, wasmFor } from '../kernels-host/arena.js';
 
 export function createBlockIlu0(system: SystemMatrix, recipe: Recipe): Preconditioner {
   return new BlockIlu0Preconditioner(system, recipe.ordering, recipe.shift);
@@ -63,7 +64,7 @@ export class BlockIlu0Preconditioner implements Preconditioner {
   setup(): SetupOutcome {
     const { nBlockRows: nb, bs, rowPtr, colInd, values } = this.system.bsr;
     const perm = orderingPermutation(this.system.bsr, this.ordering, this.system.slabOffsets);
-    this.perm = perm;
+    this.perm = perm ? kernelCopyI32(perm) : null;
     const inv = perm ? invertPermutation(perm) : null;
     const bb = bs * bs;
     this.applies = 0;
@@ -73,8 +74,8 @@ export class BlockIlu0Preconditioner implements Preconditioner {
     this.setupWork = sw;
     // symbolic: per (renumbered) block row I, read from block row R = perm[I] of A: blocks left of,
     // on and right of the diagonal; the sweep-ordered layout; workspace
-    const lowerPtr = new Int32Array(nb + 1);
-    const upperPtr = new Int32Array(nb + 1); // storage order: step s holds block row nb−1−s
+    const lowerPtr = kernelI32(nb + 1);
+    const upperPtr = kernelI32(nb + 1); // storage order: step s holds block row nb−1−s
     let maxRow = 0;
     for (let I = 0; I < nb; I++) {
       const R = perm ? perm[I] : I;
@@ -95,17 +96,19 @@ export class BlockIlu0Preconditioner implements Preconditioner {
       upperPtr[s + 1] = upperPtr[s] + (rowPtr[R + 1] - rowPtr[R]) - (lowerPtr[I + 1] - lowerPtr[I]);
     }
     const nLower = lowerPtr[nb], nUpper = upperPtr[nb];
-    const lower = new Float64Array(nLower * bb);
-    const lowerCol = new Int32Array(nLower);
-    const upper = new Float64Array(nUpper * bb);
-    const upperCol = new Int32Array(nUpper);
-    const row = new Float64Array(maxRow * bb);
+    // kernel memory (src/kernels-host) when a solve set one up: apply() and the dense kernels of the
+    // numeric phase then run in WebAssembly
+    const lower = kernelF64(nLower * bb);
+    const lowerCol = kernelI32(nLower);
+    const upper = kernelF64(nUpper * bb);
+    const upperCol = kernelI32(nUpper);
+    const row = kernelF64(maxRow * bb);
     const cols = new Int32Array(maxRow), src = new Int32Array(maxRow);
     const iw = new Int32Array(nb).fill(-1);
-    const work = new Float64Array(bb);
-    const piv = new Int32Array(bs);
-    this.yp = new Float64Array(perm ? this.n : 0);
-    this.t = new Float64Array(bs);
+    const work = kernelF64(bb);
+    const piv = kernelI32(bs);
+    this.yp = kernelF64(perm ? this.n : 0);
+    this.t = kernelF64(bs);
     // numeric: row I is gathered into the row buffer in column order (position p), eliminated
     // against the finished rows K < I in upper, then written out to lower and upper
     let flops = 0;
@@ -181,6 +184,16 @@ export class BlockIlu0Preconditioner implements Preconditioner {
     const nb = this.nb, bs = this.bs, bb = bs * bs;
     const lower = this.lower, lowerPtr = this.lowerPtr, lowerCol = this.lowerCol;
     const upper = this.upper, upperPtr = this.upperPtr, upperCol = this.upperCol, t = this.t;
+    const perm = this.perm;
+    if (allInArena([r, z, lower, upper, lowerPtr, lowerCol, upperPtr, upperCol, t, this.yp, perm])) {
+      const k = wasmFor(r)!;
+      const y = perm ? this.yp : z;
+      if (perm) k.gatherBlocks(nb, ptr(r), ptr(perm), bs, ptr(y)); else z.set(r);
+      k.blockIluSweeps(nb, bs, ptr(lowerPtr), ptr(lowerCol), ptr(lower), ptr(upperPtr), ptr(upperCol), ptr(upper), ptr(y), ptr(t));
+      if (perm) k.scatterBlocks(nb, ptr(y), ptr(perm), bs, ptr(z));
+      this.applies++;
+      return;
+    }
     let y = z;
     if (this.perm) { gatherBlocks(r, this.perm, bs, this.yp); y = this.yp; } else z.set(r);
     // forward: L unit block lower; lower is read front to back

@@ -11,6 +11,7 @@ import { addWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '..
 import { checkApplyArgs, checkReady, factorBlock } from './common.js';
 import { blockMatVec, denseFlops, luInverse, luSolve } from './dense.js';
 import { diagonalIndex } from './block-tools.js';
+import { kernelF64, kernelI32, ptr, wasmFor } from '../kernels-host/arena.js';
 
 export function createBlockJacobi(system: SystemMatrix, recipe: Recipe): Preconditioner {
   return new BlockJacobiPreconditioner(system, recipe.blockInverse, recipe.shift);
@@ -52,9 +53,9 @@ class BlockJacobiPreconditioner implements Preconditioner {
       return addWork(w, kernel(0, 8 * bb), rows - present);
     };
     let present = 0;
-    this.factors = new Float64Array(nb * bb);
-    this.pivots = new Int32Array(this.mode === 'lu' ? nb * bs : bs);
-    this.scratch = new Float64Array(this.mode === 'lu' ? 0 : bb);
+    this.factors = kernelF64(nb * bb);
+    this.pivots = kernelI32(this.mode === 'lu' ? nb * bs : bs);
+    this.scratch = kernelF64(this.mode === 'lu' ? 0 : bb);
     for (let I = 0; I < nb; I++) {
       const fo = I * bb;
       const src = this.mode === 'lu' ? this.factors : this.scratch;
@@ -78,6 +79,13 @@ class BlockJacobiPreconditioner implements Preconditioner {
     checkReady(this.name, this.ready);
     const { nBlockRows: nb, bs } = this.system.bsr;
     const bb = bs * bs;
+    const k = wasmFor(this.factors, this.pivots, r, z);
+    if (k !== null) {
+      if (this.mode === 'lu') { z.set(r); k.blockDiagonalLuSolve(nb, bs, ptr(this.factors), ptr(this.pivots), ptr(z)); }
+      else k.blockDiagonalApply(nb, bs, ptr(this.factors), ptr(r), ptr(z));
+      this.applies++;
+      return;
+    }
     if (this.mode === 'lu') {
       z.set(r);
       for (let I = 0; I < nb; I++) luSolve(this.factors, I * bb, this.pivots, I * bs, bs, z, I * bs);

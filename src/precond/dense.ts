@@ -7,6 +7,7 @@
  * kernel that has an unrolled fast path also has a plain `…Naive` twin that the tests compare
  * against; the naive twins are never used in production code.
  */
+import { ptr, wasmFor } from '../kernels-host/arena.js';
 
 /**
  * Pivot threshold, relative: a pivot p fails when |p| ≤ PIVOT_RTOL · ‖block‖_max (or p = 0).
@@ -15,8 +16,14 @@
  */
 export const PIVOT_RTOL = 1e-14;
 
+// When the arrays live in kernel memory (src/kernels-host) the kernels below hand over to their
+// WebAssembly twins in src/kernels/dense.ts (same arithmetic, bit-identical results). The
+// mat-vecs do so only from bs 4 up: below that the call costs more than the few flops it saves.
+
 /** Largest absolute entry of a bs×bs block. */
 export function blockMaxAbs(a: Float64Array, ao: number, bs: number): number {
+  const w = wasmFor(a);
+  if (w !== null) return w.blockMaxAbs(ptr(a, ao), bs);
   let m = 0;
   const end = ao + bs * bs;
   for (let p = ao; p < end; p++) {
@@ -36,6 +43,8 @@ export function blockFrobenius(a: Float64Array, ao: number, bs: number): number 
 
 /** True when every entry of a[o .. o+len) is finite. */
 export function allFinite(a: Float64Array, o: number, len: number): boolean {
+  const w = wasmFor(a);
+  if (w !== null) return w.allFinite(ptr(a, o), len) !== 0;
   const end = o + len;
   for (let p = o; p < end; p++) {
     const v = a[p];
@@ -61,6 +70,8 @@ export function allFinite(a: Float64Array, o: number, len: number): boolean {
 export function luFactor(
   a: Float64Array, ao: number, bs: number, piv: Int32Array, po: number, tiny: number,
 ): number {
+  const w = wasmFor(a, piv);
+  if (w !== null) return w.luFactor(ptr(a, ao), bs, ptr(piv, po), tiny);
   if (bs < 16) return luFactorUnblocked(a, ao, bs, piv, po, tiny);
   const NB = 4;
   for (let k0 = 0; k0 < bs; k0 += NB) {
@@ -169,6 +180,8 @@ export function luFactorUnblocked(
 export function luSolve(
   lu: Float64Array, lo: number, piv: Int32Array, po: number, bs: number, x: Float64Array, xo: number,
 ): void {
+  const w = bs >= 4 ? wasmFor(lu, piv, x) : null;
+  if (w !== null) { w.luSolve(ptr(lu, lo), ptr(piv, po), bs, ptr(x, xo)); return; }
   for (let k = 0; k < bs; k++) {
     const p = piv[po + k];
     if (p !== k) { const t = x[xo + k]; x[xo + k] = x[xo + p]; x[xo + p] = t; }
@@ -230,6 +243,8 @@ export function luSolve(
 export function luInverse(
   lu: Float64Array, lo: number, piv: Int32Array, po: number, bs: number, out: Float64Array, oo: number,
 ): void {
+  const w = wasmFor(lu, piv, out);
+  if (w !== null) { w.luInverse(ptr(lu, lo), ptr(piv, po), bs, ptr(out, oo)); return; }
   const bb = bs * bs;
   for (let p = 0; p < bb; p++) out[oo + p] = 0;
   for (let i = 0; i < bs; i++) out[oo + i * bs + i] = 1;
@@ -286,6 +301,8 @@ export function luInverse(
 export function blockMatVec(
   a: Float64Array, ao: number, bs: number, x: Float64Array, xo: number, y: Float64Array, yo: number,
 ): void {
+  const w = bs >= 4 ? wasmFor(a, x, y) : null;
+  if (w !== null) { w.blockMatVec(ptr(a, ao), bs, ptr(x, xo), ptr(y, yo)); return; }
   if (bs === 1) { y[yo] = a[ao] * x[xo]; return; }
   if (bs === 2) {
     const x0 = x[xo], x1 = x[xo + 1];
@@ -357,6 +374,8 @@ function blockMatVecRows3(
 export function blockMatVecSub(
   a: Float64Array, ao: number, bs: number, x: Float64Array, xo: number, y: Float64Array, yo: number,
 ): void {
+  const w = bs >= 4 ? wasmFor(a, x, y) : null;
+  if (w !== null) { w.blockMatVecSub(ptr(a, ao), bs, ptr(x, xo), ptr(y, yo)); return; }
   if (bs === 1) { y[yo] -= a[ao] * x[xo]; return; }
   if (bs === 2) {
     const x0 = x[xo], x1 = x[xo + 1];
@@ -403,6 +422,8 @@ export function blockGemmSub(
   c: Float64Array, co: number, a: Float64Array, ao: number, b: Float64Array, bo: number, bs: number,
 ): void {
   if (bs === 1) { c[co] -= a[ao] * b[bo]; return; }
+  const w = wasmFor(c, a, b);
+  if (w !== null) { w.blockGemmSub(ptr(c, co), ptr(a, ao), ptr(b, bo), bs); return; }
   const k4 = bs & ~3;
   for (let i = 0; i < bs; i++) {
     const ci = co + i * bs;
@@ -427,6 +448,8 @@ export function blockGemmSub(
 export function blockGemm(
   c: Float64Array, co: number, a: Float64Array, ao: number, b: Float64Array, bo: number, bs: number,
 ): void {
+  const w = wasmFor(c, a, b);
+  if (w !== null) { w.blockGemm(ptr(c, co), ptr(a, ao), ptr(b, bo), bs); return; }
   const bb = bs * bs;
   for (let p = 0; p < bb; p++) c[co + p] = 0;
   // C = 0 − (−A)·B would need a negated copy; instead accumulate with the sign flipped.

@@ -11,6 +11,7 @@ import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { kernel, scaledWork, zeroWork } from '../solvers/work.js';
 import { checkApplyArgs, checkReady } from './common.js';
 import { PIVOT_RTOL } from './dense.js';
+import { allInArena, kernelCopyF64, kernelI32, ptr, wasmFor } from '../kernels-host/arena.js';
 
 export function createIlu0(system: SystemMatrix, recipe: Recipe): Preconditioner {
   if (system.csr.nRows !== system.csr.nCols) throw new RangeError('ilu0: matrix is not square');
@@ -42,8 +43,8 @@ export class Ilu0Preconditioner implements Preconditioner {
   setup(): SetupOutcome {
     const { rowPtr, colInd, values } = this.system.csr;
     const n = this.n;
-    const lu = Float64Array.from(values);
-    const diag = new Int32Array(n);
+    const lu = kernelCopyF64(values);
+    const diag = kernelI32(n);
     // symbolic: locate diagonals
     for (let i = 0; i < n; i++) {
       diag[i] = -1;
@@ -109,6 +110,11 @@ export class Ilu0Preconditioner implements Preconditioner {
     checkReady(this.name, this.ready);
     const { rowPtr, colInd } = this.system.csr;
     const lu = this.factors, diag = this.diagPtr, n = this.n;
+    if (allInArena([rowPtr, colInd, lu, diag, r, z])) {
+      wasmFor(z)!.iluPointSweeps(n, ptr(rowPtr), ptr(colInd), ptr(lu), ptr(diag), ptr(r), ptr(z));
+      this.applies++;
+      return;
+    }
     for (let i = 0; i < n; i++) {
       let s = r[i];
       for (let k = rowPtr[i]; k < diag[i]; k++) s -= lu[k] * z[colInd[k]];

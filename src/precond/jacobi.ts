@@ -8,6 +8,7 @@ import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { kernel, scaledWork, zeroWork } from '../solvers/work.js';
 import { checkApplyArgs, checkReady } from './common.js';
 import { PIVOT_RTOL } from './dense.js';
+import { kernelF64, ptr, wasmFor } from '../kernels-host/arena.js';
 
 export function createJacobi(system: SystemMatrix, recipe: Recipe): Preconditioner {
   return new JacobiPreconditioner(system, recipe.shift);
@@ -29,7 +30,7 @@ class JacobiPreconditioner implements Preconditioner {
     const { rowPtr, colInd, values } = this.system.csr;
     const bs = this.system.bsr.bs;
     const n = this.n;
-    this.invDiag = new Float64Array(n);
+    this.invDiag = kernelF64(n);
     this.applies = 0;
     // work model for rows 0..rows−1: two passes over each row (values and column indices) and the
     // row pointers, one shift addition and one reciprocal per row, the inverse diagonal written.
@@ -67,6 +68,8 @@ class JacobiPreconditioner implements Preconditioner {
     checkApplyArgs(this.name, this.n, r, z);
     checkReady(this.name, this.ready);
     const d = this.invDiag;
+    const k = wasmFor(d, r, z);
+    if (k !== null) { k.hadamard(this.n, ptr(d), ptr(r), ptr(z)); this.applies++; return; }
     for (let i = 0; i < this.n; i++) z[i] = d[i] * r[i];
     this.applies++;
   }

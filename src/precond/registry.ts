@@ -13,6 +13,9 @@ import { createIlu0 } from './ilu0.js';
 import { createBlockIluk } from './block-iluk.js';
 import { createBlockIlu0 } from './block-ilu0.js';
 import { createSlab } from './slab.js';
+import { createSchwarz } from './schwarz.js';
+import { createDirect } from './direct.js';
+import { createAir } from './air.js';
 import { createPMultigrid } from './p-multigrid.js';
 
 /** Creates a preconditioner (cheap: checks options; the heavy work happens in setup()). */
@@ -75,4 +78,7 @@ registerPreconditioner('ilu0', createIlu0, { uses: ['shift'] });
 registerPreconditioner('block-ilu0', createBlockIlu0, { uses: ['ordering', 'shift'] });
 registerPreconditioner('block-iluk', createBlockIluk, { uses: ['fillLevel', 'ordering', 'shift'] });
 registerPreconditioner('slab', createSlab, { uses: ['inner', 'shift'] });
+registerPreconditioner('schwarz', createSchwarz, { uses: ['parts', 'overlap', 'schwarzKind', 'subdomain', 'partitionSlabs', 'shift', 'ordering', 'blockInverse', 'sweep', 'omega', 'sweeps', 'fillLevel'] });
+registerPreconditioner('direct', createDirect, { uses: ['shift'] });
+registerPreconditioner('air', createAir, { uses: ['air'] });
 registerPreconditioner('p-multigrid', createPMultigrid, { uses: ['pMultigrid'] });

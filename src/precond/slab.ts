@@ -36,6 +36,7 @@ import { permuteBsr } from '../sparse/permute.js';
 import { stronglyConnectedBlocks } from '../sparse/structure.js';
 import { bsrOperator } from '../solvers/operator.js';
 import { krylovSolve } from '../solvers/krylov.js';
+import { kernelF64, kernelI32, withScratch } from '../kernels-host/arena.js';
 import { checkApplyArgs, checkReady, totalBytes } from './common.js';
 import { blockMatVecSub } from './dense.js';
 import { gatherBlocks, scatterBlocks, validSlabOffsets } from './block-tools.js';
@@ -151,13 +152,15 @@ export class SlabPreconditioner implements Preconditioner {
     }
     this.applyFixed = fixed;
     this.aboveDiagonal = above;
-    this.sRowPtr = new Int32Array(maxRows + 1);
-    this.sColInd = new Int32Array(maxBlocks);
-    this.sValues = new Float64Array(maxBlocks * bb);
-    this.rhs = new Float64Array(maxRows * bs);
-    this.sol = new Float64Array(maxRows * bs);
-    this.rp = new Float64Array(this.perm ? this.n : 0);
-    this.xp = new Float64Array(this.perm ? this.n : 0);
+    // kernel memory when the solve has one (src/kernels-host); each slab's inner factors and Krylov
+    // buffers are scratch, handed back after the slab (withScratch)
+    this.sRowPtr = kernelI32(maxRows + 1);
+    this.sColInd = kernelI32(maxBlocks);
+    this.sValues = kernelF64(maxBlocks * bb);
+    this.rhs = kernelF64(maxRows * bs);
+    this.sol = kernelF64(maxRows * bs);
+    this.rp = kernelF64(this.perm ? this.n : 0);
+    this.xp = kernelF64(this.perm ? this.n : 0);
     this.lastIterations = new Int32Array(nSlabs);
     this.sumIterations = new Float64Array(nSlabs);
     // numeric check: every slab's inner preconditioner, one at a time
@@ -165,10 +168,13 @@ export class SlabPreconditioner implements Preconditioner {
     this.peakInnerBuffers = {};
     for (let s = 0; s < nSlabs; s++) {
       const slab = this.extractSlab(s);
-      const M = createPreconditioner(slabSystem(slab, this.system.modes), this.inner);
-      const out = M.setup();
-      addWork(this.setupWork, kernel(0, this.extractBytes[s]));
-      addWork(this.setupWork, M.work().setup);
+      const { out, mem } = withScratch(() => {
+        const M = createPreconditioner(slabSystem(slab, this.system.modes), this.inner);
+        const o = M.setup();
+        addWork(this.setupWork, kernel(0, this.extractBytes[s]));
+        addWork(this.setupWork, M.work().setup);
+        return { out: o, mem: o.ok ? M.memory() : {} };
+      });
       if (!out.ok) {
         const local = out.blockRow ?? 0;
         const blockRow = this.originalBlockRow(this.offsets[s] + local);
@@ -177,7 +183,6 @@ export class SlabPreconditioner implements Preconditioner {
           message: `slab: ${what} in block row ${blockRow} (slab ${s}, its local block row ${local}) in the inner ` +
             `${this.inner.preconditioner} setup` + (out.reason === 'zero-pivot' ? '; a diagonal shift (recipe shift > 0) avoids it' : '') };
       }
-      const mem = M.memory();
       const bytes = totalBytes(mem);
       if (bytes > this.peakInnerBytes) { this.peakInnerBytes = bytes; this.peakInnerBuffers = mem; }
     }
@@ -239,31 +244,36 @@ export class SlabPreconditioner implements Preconditioner {
         }
       }
       const slab = this.extractSlab(s);
-      const M = createPreconditioner(slabSystem(slab, this.system.modes), this.inner);
-      const out = M.setup();
-      addWork(this.applyWork, M.work().setup);
-      sol.fill(0);
-      if (!out.ok) {
-        // cannot happen after a successful setup() on the same values; poison the result so the
-        // outer solver stops with 'non-finite-value' rather than continuing on a wrong correction
-        this.noteFailure(`slab ${s}: ${out.message}`);
-        sol.fill(NaN);
-      } else {
-        const res = krylovSolve(bsrOperator(slab), rhs, sol, this.inner, M, { ritz: false });
-        // the inner solve's work (its products, vector operations, preconditioner applies), and its iterations
-        addWork(this.applyWork, res.work.solve);
-        this.applyWork.innerIterations += res.iterations;
-        this.lastIterations[s] = res.iterations;
-        this.sumIterations[s] += res.iterations;
-        this.totalIterations += res.iterations;
-        if (!res.converged && this.variable) {
-          this.innerNotConverged++;
-          if (res.cause !== 'iteration-budget') this.noteFailure(`slab ${s}: inner ${res.method} stopped with ${res.cause}`);
-        }
-      }
+      withScratch(() => this.solveSlab(s, slab, rhs, sol));
       x.set(sol, lo * bs);
     }
     if (this.perm) scatterBlocks(x, this.perm, bs, z);
+  }
+
+  /** Slab s: its inner preconditioner from the current values, then the inner solve into sol. */
+  private solveSlab(s: number, slab: Bsr, rhs: Float64Array, sol: Float64Array): void {
+    const M = createPreconditioner(slabSystem(slab, this.system.modes), this.inner);
+    const out = M.setup();
+    addWork(this.applyWork, M.work().setup);
+    sol.fill(0);
+    if (!out.ok) {
+      // cannot happen after a successful setup() on the same values; poison the result so the
+      // outer solver stops with 'non-finite-value' rather than continuing on a wrong correction
+      this.noteFailure(`slab ${s}: ${out.message}`);
+      sol.fill(NaN);
+    } else {
+      const res = krylovSolve(bsrOperator(slab), rhs, sol, this.inner, M, { ritz: false });
+      // the inner solve's work (its products, vector operations, preconditioner applies), and its iterations
+      addWork(this.applyWork, res.work.solve);
+      this.applyWork.innerIterations += res.iterations;
+      this.lastIterations[s] = res.iterations;
+      this.sumIterations[s] += res.iterations;
+      this.totalIterations += res.iterations;
+      if (!res.converged && this.variable) {
+        this.innerNotConverged++;
+        if (res.cause !== 'iteration-budget') this.noteFailure(`slab ${s}: inner ${res.method} stopped with ${res.cause}`);
+      }
+    }
   }
 
   /**

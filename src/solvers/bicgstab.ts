@@ -6,7 +6,8 @@ import { applyWorkOf, residualInto, startResidual } from './operator.js';
 import { addWork, vectorWork, zeroWork } from './work.js';
 import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
-import { axpy, dot, norm2 } from './vector.js';
+import { axpy, bicgDirection, dot, norm2, waxpy } from './vector.js';
+import { kernelF64 } from '../kernels-host/arena.js';
 
 /**
  * BiCGStab with right preconditioning (van der Vorst, SIAM J. Sci. Stat. Comput. 13(2), 1992,
@@ -25,14 +26,14 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
   const M = opts.M;
   checkVectors(method, n, b, x, M);
 
-  const r = new Float64Array(n);
-  const rHat = new Float64Array(n);
-  const p = new Float64Array(n);
-  const v = new Float64Array(n);
-  const s = new Float64Array(n);
-  const t = new Float64Array(n);
-  const pHat = M ? new Float64Array(n) : p;
-  const sHat = M ? new Float64Array(n) : s;
+  const r = kernelF64(n); // kernel memory when the solve has one (src/kernels-host)
+  const rHat = kernelF64(n);
+  const p = kernelF64(n);
+  const v = kernelF64(n);
+  const s = kernelF64(n);
+  const t = kernelF64(n);
+  const pHat = M ? kernelF64(n) : p;
+  const sHat = M ? kernelF64(n) : s;
   const krylov = bytesOf({ r, rHat, p, v, s, t, pHat: M ? pHat : undefined, sHat: M ? sHat : undefined });
   const work = {};
 
@@ -88,7 +89,7 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
         break;
       }
       const beta = (rhoNew / rho) * (alpha / omega);
-      for (let i = 0; i < n; i++) p[i] = r[i] + beta * (p[i] - omega * v[i]);
+      bicgDirection(n, r, beta, p, omega, v);
       if (M) meter.apply(p, pHat);
       A.apply(pHat, v);
       const rv = dot(n, rHat, v);
@@ -101,7 +102,7 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
         break;
       }
       alpha = rhoNew / rv;
-      for (let i = 0; i < n; i++) s[i] = r[i] - alpha * v[i];
+      waxpy(n, r, -alpha, v, s);
       const sNorm = norm2(n, s);
       addWork(counts, vectorWork.waxpy(n));
       addWork(counts, vectorWork.norm2(n));
@@ -125,7 +126,7 @@ export function bicgstab(A: LinearOperator, b: Float64Array, x: Float64Array, op
       omega = tt > 0 ? dot(n, t, s) / tt : 0;
       axpy(n, alpha, pHat, x);
       axpy(n, omega, sHat, x);
-      for (let i = 0; i < n; i++) r[i] = s[i] - omega * t[i];
+      waxpy(n, s, -omega, t, r);
       rho = rhoNew;
       rNorm = norm2(n, r);
       // A ŝ, (t, t), (t, s), two updates of x, r ← s − ω t, ‖r‖ (ω's division is scalar)

@@ -9,6 +9,7 @@ import { combineVotes, isStop, monitorVote, residualVote, residualsDisagree, typ
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy, axpyDot, axpyNorm2, dot, isZero, norm2, scale } from './vector.js';
 import { ritzValues } from './ritz.js';
+import { kernelF64 } from '../kernels-host/arena.js';
 
 export type { KrylovOptions } from './options.js';
 
@@ -52,10 +53,10 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
 
   // ---- setup: every buffer the iterations use ----
   const ldh = m + 1;
-  const V = new Float64Array((m + 1) * n);
+  const V = kernelF64((m + 1) * n); // kernel memory when the solve has one (src/kernels-host)
   const vs: Float64Array[] = [];
   for (let j = 0; j <= m; j++) vs.push(V.subarray(j * n, (j + 1) * n));
-  const Z = flexible && M ? new Float64Array(m * n) : undefined;
+  const Z = flexible && M ? kernelF64(m * n) : undefined;
   const zs: Float64Array[] = [];
   if (Z) for (let j = 0; j < m; j++) zs.push(Z.subarray(j * n, (j + 1) * n));
   const H = new Float64Array(ldh * m);
@@ -66,9 +67,9 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
   const g = new Float64Array(m + 1);
   const y = new Float64Array(m);
   const hTmp = new Float64Array(m + 1);
-  const r = new Float64Array(n);
-  const w = new Float64Array(n);
-  const z = M ? new Float64Array(n) : undefined;
+  const r = kernelF64(n);
+  const w = kernelF64(n);
+  const z = M ? kernelF64(n) : undefined;
   const krylov = bytesOf({ basis: V, flexibleBasis: Z, hessenberg: H, ritzHessenberg: Hraw, rotations: cs });
   krylov.rotations = cs.byteLength + sn.byteLength + g.byteLength + y.byteLength + hTmp.byteLength;
   const work = bytesOf({ residual: r, product: w, preconditioned: z });

@@ -2,7 +2,7 @@ import type { Bsr, Csr } from '../sparse/types.js';
 import { csrSpmvKernel } from '../sparse/csr.js';
 import { bsrSpmvKernel } from '../sparse/bsr.js';
 import type { BufferBytes, LinearOperator, RelativeTo, WorkCounts } from './types.js';
-import { norm2 } from './vector.js';
+import { norm2, subtractFrom } from './vector.js';
 import { addWork, kernel, sparseWork, vectorWork } from './work.js';
 
 /** A matrix seen as an operator, with the bytes its arrays hold (for the memory report). */
@@ -69,7 +69,7 @@ export function residualInto(
 ): number {
   const n = A.n;
   A.apply(x, r);
-  for (let i = 0; i < n; i++) r[i] = b[i] - r[i];
+  subtractFrom(n, b, r);
   if (work) {
     addWork(work, applyWorkOf(A));
     addWork(work, vectorWork.subtractFrom(n));

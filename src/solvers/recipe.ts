@@ -6,7 +6,7 @@ import { preconditionerUses } from '../precond/registry.js';
  */
 export type KrylovName = 'gmres' | 'fgmres' | 'bicgstab' | 'none';
 export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk' | 'slab'
-  | 'p-multigrid';
+  | 'p-multigrid' | 'air' | 'schwarz' | 'direct';
 export type SweepDirection = 'forward' | 'backward' | 'symmetric';
 export type OrderingName = 'natural' | 'rcm' | 'downstream' | 'mdf';
 export type PreconditionSide = 'right' | 'left';
@@ -16,8 +16,18 @@ export type BlockInverse = 'lu' | 'inverse';
 export const KRYLOV_NAMES: readonly KrylovName[] = ['gmres', 'fgmres', 'bicgstab', 'none'];
 export const PRECONDITIONER_NAMES: readonly PreconditionerName[] = [
   'none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab',
-  'p-multigrid',
+  'p-multigrid', 'air', 'schwarz', 'direct',
 ];
+/** Schwarz: restricted (Cai & Sarkis 1999) or plain additive combination of subdomain solves. */
+export type SchwarzKind = 'restricted' | 'additive';
+export const SCHWARZ_KINDS: readonly SchwarzKind[] = ['restricted', 'additive'];
+/** Schwarz subdomain solve: a registered preconditioner (one application) or 'exact' (dense LU). */
+export type SubdomainSolver = Exclude<PreconditionerName, 'schwarz' | 'slab'> | 'exact';
+export const SUBDOMAIN_SOLVERS: readonly SubdomainSolver[] = [
+  ...PRECONDITIONER_NAMES.filter((n): n is Exclude<PreconditionerName, 'schwarz' | 'slab'> => n !== 'schwarz' && n !== 'slab'), 'exact',
+];
+export type PartitionSlabsMode = 'across' | 'within';
+export const PARTITION_SLABS: readonly PartitionSlabsMode[] = ['across', 'within'];
 export const SWEEP_DIRECTIONS: readonly SweepDirection[] = ['forward', 'backward', 'symmetric'];
 export const ORDERING_NAMES: readonly OrderingName[] = ['natural', 'rcm', 'downstream', 'mdf'];
 
@@ -57,6 +67,18 @@ export interface Recipe {
   relativeTo: 'rhs' | 'start-residual';
   /** Slab preconditioner: how each slab is solved. */
   inner?: Recipe;
+  /** Schwarz: number of parts (default 4). */
+  parts?: number;
+  /** Schwarz: overlap in block layers, 0–2 (default 1). */
+  overlap?: number;
+  /** Schwarz: restricted (default) or additive. */
+  schwarzKind?: SchwarzKind;
+  /** Schwarz subdomain solve (default block-ilu0); the other recipe fields reach it unchanged. */
+  subdomain?: SubdomainSolver;
+  /** Schwarz partition: across slabs (default) or every part inside one slab. */
+  partitionSlabs?: PartitionSlabsMode;
+  /** AIR preconditioner options (filled with DEFAULT_AIR_OPTIONS when preconditioner is air). */
+  air?: AirOptions;
   /** p-multigrid preconditioner: levels, cycle, smoother, coarse solve (defaults: DEFAULT_P_MULTIGRID). */
   pMultigrid?: PMultigridOptions;
 }
@@ -106,7 +128,7 @@ type FieldSpec =
   | { kind: 'int'; min: number; max: number }
   | { kind: 'number'; min: number; minOpen: boolean; max?: number; maxOpen?: boolean };
 
-type ScalarField = Exclude<keyof Recipe, 'name' | 'inner' | 'pMultigrid'>;
+type ScalarField = Exclude<keyof Recipe, 'name' | 'inner' | 'air' | 'pMultigrid'>;
 
 /** One spec per recipe field: the single source for suite files and command-line options. */
 const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
@@ -127,6 +149,11 @@ const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   maxIterations: { kind: 'int', min: 0, max: 1e9 },
   divergence: { kind: 'number', min: 1, minOpen: true },
   relativeTo: { kind: 'enum', values: RELATIVE_TO },
+  parts: { kind: 'int', min: 1, max: 1 << 20 },
+  overlap: { kind: 'int', min: 0, max: 2 },
+  schwarzKind: { kind: 'enum', values: SCHWARZ_KINDS },
+  subdomain: { kind: 'enum', values: SUBDOMAIN_SOLVERS },
+  partitionSlabs: { kind: 'enum', values: PARTITION_SLABS },
 };
 
 function describeSpec(s: FieldSpec): string {
@@ -165,6 +192,7 @@ function crossCheck(r: Recipe, isInner: boolean): [keyof Recipe, string] | undef
   if (r.krylov === 'fgmres' && r.side === 'left') return ['side', 'fgmres preconditions on the right only'];
   if (r.inner && r.preconditioner !== 'slab') return ['inner', 'an inner recipe is only used by preconditioner slab'];
   if (isInner && r.preconditioner === 'slab') return ['preconditioner', 'a slab inner recipe cannot itself use slab'];
+  if (r.air && r.preconditioner !== 'air') return ['air', 'AIR options are only used by preconditioner air'];
   const pmg = pMultigridCrossCheck(r);
   if (pmg) return pmg;
   return undefined;
@@ -196,10 +224,10 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?:
       out.name = src.name;
       continue;
     }
-    if (key === 'inner' || key === 'pMultigrid') continue;
+    if (key === 'inner' || key === 'air' || key === 'pMultigrid') continue;
     const spec = (FIELD_SPECS as Record<string, FieldSpec | undefined>)[key];
     if (!spec) {
-      throw new UserError(`${where}: unknown field "${key}" (recipe fields: name, ${Object.keys(FIELD_SPECS).join(', ')}, inner, pMultigrid)`);
+      throw new UserError(`${where}: unknown field "${key}" (recipe fields: name, ${Object.keys(FIELD_SPECS).join(', ')}, inner, air, pMultigrid)`);
     }
     const c = checkValue(spec, src[key], false);
     if (c.error) throw new UserError(`${where}.${key}: ${c.error}`);
@@ -211,14 +239,16 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?:
     if (isInner) throw new UserError(`${where}.inner: an inner recipe cannot have its own inner recipe`);
     recipe.inner = parseRecipeAt(src.inner, `${where}.inner`, true);
   }
+  if (src.air !== undefined) recipe.air = parseAirOptions(src.air, `${where}.air`);
   if (src.pMultigrid !== undefined) recipe.pMultigrid = parsePMultigrid(src.pMultigrid, `${where}.pMultigrid`);
   else if (recipe.preconditioner === 'p-multigrid') recipe.pMultigrid = defaultPMultigrid();
   const bad = crossCheck(recipe, isInner);
   if (bad) throw new UserError(`${where}.${bad[0]}: ${bad[1]}`);
-  const given = Object.keys(src).filter((k) => k === 'inner' || k === 'pMultigrid' || k in FIELD_SPECS) as RecipeField[];
+  const given = Object.keys(src).filter((k) => k === 'inner' || k === 'air' || k === 'pMultigrid' || k in FIELD_SPECS) as RecipeField[];
   const unused = firstUnused(recipe, given);
   if (unused) throw new UserError(`${where}.${unused.field}: ${unused.why}`);
   if (recipe.preconditioner === 'slab' && !recipe.inner) recipe.inner = { ...DEFAULT_INNER_RECIPE };
+  if (recipe.preconditioner === 'air' && !recipe.air) recipe.air = { ...DEFAULT_AIR_OPTIONS };
   return recipe;
 }
 
@@ -229,7 +259,7 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?:
 // ---------------------------------------------------------------------------------------------
 
 /** A recipe field a method can declare it reads (scalar fields and the slab inner recipe). */
-export type RecipeField = ScalarField | 'inner' | 'pMultigrid';
+export type RecipeField = ScalarField | 'inner' | 'air' | 'pMultigrid';
 
 /** Fields every recipe uses whatever its methods: the two choices and the stopping rule. */
 export const COMMON_RECIPE_FIELDS: readonly ScalarField[] = [
@@ -296,6 +326,7 @@ export function recordedRecipe(r: Recipe): RecordedRecipe {
   const out: Record<string, unknown> = { name: r.name };
   for (const f of RECIPE_FIELDS) if (used === 'all' || used.has(f)) out[f] = r[f];
   if (r.inner && (used === 'all' || used.has('inner'))) out.inner = recordedRecipe(r.inner);
+  if (r.air && (used === 'all' || used.has('air'))) out.air = { ...r.air };
   if (r.pMultigrid && (used === 'all' || used.has('pMultigrid'))) out.pMultigrid = r.pMultigrid;
   return out as RecordedRecipe;
 }
@@ -319,6 +350,11 @@ export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   maxIterations: 'max-iters',
   divergence: 'divergence',
   relativeTo: 'relative-to',
+  parts: 'parts',
+  overlap: 'overlap',
+  schwarzKind: 'schwarz-kind',
+  subdomain: 'subdomain-precond',
+  partitionSlabs: 'partition-slabs',
 };
 
 /** commander's camelCase key for a flag ("max-iters" → "maxIters", "inner-precond" → "innerPrecond"). */
@@ -363,23 +399,146 @@ export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
   }
   outer.name = `${outer.krylov}-${outer.preconditioner}`;
   const recipe = outer as unknown as Recipe;
+  const outerAir = airOptionsFromFlags(opts, '');
+  const innerAir = airOptionsFromFlags(opts, 'inner-');
+  if (innerAir.firstFlag) innerGiven ??= innerAir.firstFlag;
   if (recipe.preconditioner === 'slab') recipe.inner = inner as unknown as Recipe;
   else if (innerGiven) throw optionError(innerGiven, 'inner options are only used with --precond slab');
+  if (outerAir.options) {
+    if (recipe.preconditioner !== 'air') throw optionError(outerAir.firstFlag!, 'AIR options are only used with --precond air');
+    recipe.air = outerAir.options;
+  } else if (recipe.preconditioner === 'air') recipe.air = { ...DEFAULT_AIR_OPTIONS };
+  if (recipe.inner) {
+    if (innerAir.options) {
+      if (recipe.inner.preconditioner !== 'air') throw optionError(innerAir.firstFlag!, 'AIR options are only used with --inner-precond air');
+      recipe.inner.air = innerAir.options;
+    } else if (recipe.inner.preconditioner === 'air') recipe.inner.air = { ...DEFAULT_AIR_OPTIONS };
+  }
   applyPMultigridFlags(opts, recipe);
   for (const [r, prefix] of [[recipe, ''], [recipe.inner, 'inner-']] as const) {
     if (!r) continue;
     const bad = crossCheck(r, prefix !== '');
     if (bad) {
-      const f = bad[0] === 'inner' ? 'precond' : RECIPE_FLAGS[bad[0] as ScalarField];
+      const f = bad[0] === 'inner' || bad[0] === 'air' ? 'precond' : RECIPE_FLAGS[bad[0] as ScalarField];
       throw optionError(`--${prefix}${f}`, bad[1]);
     }
     const unused = firstUnused(r, prefix ? givenInner : givenOuter);
     if (unused) {
-      const f = unused.field === 'inner' ? 'precond' : RECIPE_FLAGS[unused.field as ScalarField];
+      const f = unused.field === 'inner' || unused.field === 'air' || unused.field === 'pMultigrid' ? 'precond' : RECIPE_FLAGS[unused.field as ScalarField];
       throw optionError(`--${prefix}${f}`, unused.why);
     }
   }
   return recipe;
+}
+
+// ---------------------------------------------------------------------------------------------
+// AIR options (preconditioner air): a nested recipe object `air` in suite files, `--air-<flag>`
+// (and `--inner-air-<flag>` for a slab inner recipe) on the command line.
+// ---------------------------------------------------------------------------------------------
+
+export type AirRelaxation = 'f' | 'ff' | 'fc' | 'ffc' | 'fcf' | 'cf';
+export const AIR_RELAXATIONS: readonly AirRelaxation[] = ['f', 'ff', 'fc', 'ffc', 'fcf', 'cf'];
+export const AIR_PROLONGATIONS: readonly AirOptions['prolongation'][] = ['one-point', 'injection'];
+export const AIR_CYCLES: readonly AirOptions['cycle'][] = ['V', 'W'];
+
+export interface AirOptions {
+  /** Strength threshold θ: block row i strongly depends on j ≠ i when ‖A_ij‖_F ≥ θ·max_{k≠i}‖A_ik‖_F. */
+  strength: number;
+  /** ℓAIR neighbourhood: F points within this many strong connections (through F points). */
+  distance: number;
+  /** P = [W; I] with W the one-point rule, or injection P = [0; I]. */
+  prolongation: 'one-point' | 'injection';
+  /** Post-relaxation pattern of block Jacobi sweeps on F and C points, in order. */
+  relaxation: AirRelaxation;
+  /** Pre-relaxation pattern ('none' = no pre-relaxation). */
+  preRelaxation: AirRelaxation | 'none';
+  /** Repetitions of the relaxation pattern(s) per level visit. */
+  sweeps: number;
+  /** Most levels, the coarsest included. */
+  maxLevels: number;
+  /** Coarsening stops at a level with at most this many scalar unknowns. */
+  coarsest: number;
+  cycle: 'V' | 'W';
+  /** 'block-diagonal': AIR is built on D⁻¹A (D = block diagonal of A) and applied to D⁻¹r; 'none': on A. */
+  scaling: 'block-diagonal' | 'none';
+}
+
+export const DEFAULT_AIR_OPTIONS: Readonly<AirOptions> = Object.freeze({
+  strength: 0.25,
+  distance: 2,
+  prolongation: 'one-point',
+  relaxation: 'ffc',
+  preRelaxation: 'none',
+  sweeps: 1,
+  maxLevels: 25,
+  coarsest: 256,
+  cycle: 'V',
+  scaling: 'block-diagonal',
+});
+
+const AIR_SPECS: Record<keyof AirOptions, FieldSpec> = {
+  strength: { kind: 'number', min: 0, minOpen: false, max: 1, maxOpen: true },
+  distance: { kind: 'int', min: 1, max: 8 },
+  prolongation: { kind: 'enum', values: AIR_PROLONGATIONS },
+  relaxation: { kind: 'enum', values: AIR_RELAXATIONS },
+  preRelaxation: { kind: 'enum', values: ['none', ...AIR_RELAXATIONS] },
+  sweeps: { kind: 'int', min: 1, max: 100 },
+  maxLevels: { kind: 'int', min: 1, max: 50 },
+  coarsest: { kind: 'int', min: 1, max: 2048 },
+  cycle: { kind: 'enum', values: AIR_CYCLES },
+  scaling: { kind: 'enum', values: ['block-diagonal', 'none'] },
+};
+
+export const AIR_FIELDS: readonly (keyof AirOptions)[] = Object.keys(AIR_SPECS) as (keyof AirOptions)[];
+
+/** Command-line flag (without "--") of each AIR option; the inner twin is "inner-" + flag. */
+export const AIR_FLAGS: Readonly<Record<keyof AirOptions, string>> = {
+  strength: 'air-strength',
+  distance: 'air-distance',
+  prolongation: 'air-prolongation',
+  relaxation: 'air-relax',
+  preRelaxation: 'air-pre-relax',
+  sweeps: 'air-sweeps',
+  maxLevels: 'air-max-levels',
+  coarsest: 'air-coarsest',
+  cycle: 'air-cycle',
+  scaling: 'air-scaling',
+};
+
+export function describeAirField(field: keyof AirOptions): string {
+  return describeSpec(AIR_SPECS[field]);
+}
+
+/** Validate a suite file's `air` object; `where` names it (e.g. "suite.json: recipes[2].air"). */
+export function parseAirOptions(obj: unknown, where: string): AirOptions {
+  if (obj === null || typeof obj !== 'object' || Array.isArray(obj)) {
+    throw new UserError(`${where}: expected an object with AIR options (${AIR_FIELDS.join(', ')})`);
+  }
+  const out: Record<string, unknown> = { ...DEFAULT_AIR_OPTIONS };
+  for (const [key, raw] of Object.entries(obj as Record<string, unknown>)) {
+    const spec = (AIR_SPECS as Record<string, FieldSpec | undefined>)[key];
+    if (!spec) throw new UserError(`${where}: unknown field "${key}" (AIR options: ${AIR_FIELDS.join(', ')})`);
+    const c = checkValue(spec, raw, false);
+    if (c.error) throw new UserError(`${where}.${key}: ${c.error}`);
+    out[key] = c.value;
+  }
+  return out as unknown as AirOptions;
+}
+
+/** AIR options from command-line values (commander keys); undefined when no `--<prefix>air-…` flag was given. */
+export function airOptionsFromFlags(opts: Record<string, unknown>, prefix: '' | 'inner-'): { options?: AirOptions; firstFlag?: string } {
+  let given: string | undefined;
+  const out: Record<string, unknown> = { ...DEFAULT_AIR_OPTIONS };
+  for (const field of AIR_FIELDS) {
+    const flag = prefix + AIR_FLAGS[field];
+    const raw = opts[flagKey(flag)];
+    if (raw === undefined) continue;
+    const c = checkValue(AIR_SPECS[field], raw, true);
+    if (c.error) throw optionError(`--${flag}`, c.error);
+    out[field] = c.value;
+    given ??= `--${flag}`;
+  }
+  return given ? { options: out as unknown as AirOptions, firstFlag: given } : {};
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -8,6 +8,8 @@ import { bsrOperator, csrOperator, residualInto, type MatrixOperator } from './o
 import { checkVariablePreconditioner, krylovSolve } from './krylov.js';
 import { buildResult, meterPreconditioner, peakRssBytes, relative, secondsSince, sumBytes } from './result.js';
 import { norm2 } from './vector.js';
+import { kernelChoiceFromEnv, planKernels, type KernelChoice } from './kernel-plan.js';
+import { kernelF64 } from '../kernels-host/arena.js';
 import { addWork, vectorWork, zeroWork } from './work.js';
 
 export interface SolveSystemOptions {
@@ -15,7 +17,11 @@ export interface SolveSystemOptions {
   x0?: Float64Array;
   /** Per-iteration monitor (see KrylovOptions.onIteration). */
   onIteration?: KrylovOptions['onIteration'];
+  /** Kernel set (default: SLABBENCH_KERNELS, else auto = WebAssembly when it fits); see kernel-plan.ts. */
+  kernels?: KernelChoice;
 }
+
+const notesShown = new Set<string>();
 
 /** The operator solveSystem multiplies with: BSR when the block size is above 1, else CSR. */
 export function systemOperator(system: SystemMatrix): MatrixOperator {
@@ -32,11 +38,37 @@ export function systemOperator(system: SystemMatrix): MatrixOperator {
 export function solveSystem(
   system: SystemMatrix, b: Float64Array, recipe: Recipe, opts: SolveSystemOptions = {},
 ): { result: SolveResult; x: Float64Array } {
+  const n0 = system.bsr.nBlockRows * system.bsr.bs;
+  if (b.length !== n0) throw new UserError(`right-hand side has length ${b.length}, expected ${n0} (the matrix size)`);
+  if (opts.x0 && opts.x0.length !== n0) throw new UserError(`initial guess has length ${opts.x0.length}, expected ${n0}`);
+  const choice = opts.kernels ?? kernelChoiceFromEnv();
+  const plan = planKernels(system, recipe, choice);
+  if (plan.note !== undefined && !notesShown.has(plan.note)) {
+    notesShown.add(plan.note);
+    process.stderr.write(`slabbench: kernels: TypeScript (${plan.note})\n`);
+  }
+  try {
+    const bk = plan.adopt(b);
+    const x = opts.x0 ? plan.adopt(opts.x0) : kernelF64(n0);
+    const result = solveOn(system, bk, x, recipe, opts);
+    // the caller's copy of x: kernel memory is reused by the next solve
+    const xOut = plan.memoryBytes > 0 ? Float64Array.from(x) : x;
+    const used = plan.finish();
+    result.kernels = plan.kernels;
+    if (plan.note !== undefined) result.kernelsNote = plan.note;
+    else if (used.spilledBytes > 0) result.kernelsNote = `${used.spilledBytes} bytes did not fit kernel memory; kernels on those arrays ran in TypeScript`;
+    if (plan.memoryBytes > 0) result.kernelMemoryBytes = plan.memoryBytes;
+    return { result, x: xOut };
+  } finally {
+    plan.finish();
+  }
+}
+
+/** The solve itself, on the kernel set planned by solveSystem (x holds x₀ and gets the solution). */
+function solveOn(
+  system: SystemMatrix, b: Float64Array, x: Float64Array, recipe: Recipe, opts: SolveSystemOptions,
+): SolveResult {
   const A = systemOperator(system);
-  const n = A.n;
-  if (b.length !== n) throw new UserError(`right-hand side has length ${b.length}, expected ${n} (the matrix size)`);
-  if (opts.x0 && opts.x0.length !== n) throw new UserError(`initial guess has length ${opts.x0.length}, expected ${n}`);
-  const x = opts.x0 ? Float64Array.from(opts.x0) : new Float64Array(n);
 
   let M: Preconditioner | undefined;
   let outcome: SetupOutcome = { ok: true };
@@ -72,7 +104,7 @@ export function solveSystem(
     if (stats) result.preconditionerStats = stats;
   }
   mem.peakBytes = Math.max(mem.peakBytes, peakRssBytes());
-  return { result, x };
+  return result;
 }
 
 /** Result of a run whose preconditioner setup failed: no iterations, x = x₀, the residual of x₀. */
@@ -81,7 +113,7 @@ function setupFailure(
   outcome: Extract<SetupOutcome, { ok: false }>,
 ): SolveResult {
   const n = A.n;
-  const r = new Float64Array(n);
+  const r = kernelF64(n);
   const counts = zeroWork();
   const rNorm = residualInto(A, b, x, r, counts);
   const base = recipe.relativeTo === 'rhs' ? norm2(n, b) : rNorm;

@@ -6,6 +6,7 @@ import { addWork, vectorWork, zeroWork } from './work.js';
 import { combineVotes, isStop, monitorVote, residualVote, type StopRule, type Vote } from './stopping.js';
 import { buildResult, bytesOf, meterPreconditioner, relative, secondsSince } from './result.js';
 import { axpy } from './vector.js';
+import { kernelF64 } from '../kernels-host/arena.js';
 
 /**
  * Stationary (preconditioned Richardson) iteration x ← x + ω M⁻¹(b − A x) (Young 1971; Saad 2003,
@@ -22,8 +23,8 @@ export function stationary(A: LinearOperator, b: Float64Array, x: Float64Array, 
   checkVectors(method, n, b, x, M);
   const omega = opts.omega ?? 1;
 
-  const r = new Float64Array(n);
-  const z = new Float64Array(n);
+  const r = kernelF64(n); // kernel memory when the solve has one (src/kernels-host)
+  const z = kernelF64(n);
   const krylov = {};
   const work = bytesOf({ residual: r, correction: z });
   const meter = meterPreconditioner(M);

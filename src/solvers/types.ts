@@ -149,4 +149,10 @@ export interface SolveResult {
   failure?: { message: string; blockRow?: number };
   /** Preconditioner-specific statistics, e.g. inner iterations per slab. */
   preconditionerStats?: Record<string, unknown>;
+  /** Kernel set the solve ran on (set by solveSystem; absent in results written before it existed). */
+  kernels?: 'wasm' | 'typescript';
+  /** Why the TypeScript kernels ran under --kernels auto, or what did not fit kernel memory. */
+  kernelsNote?: string;
+  /** Bytes of the WebAssembly memory reserved for the solve (address space; pages never written use no RAM). */
+  kernelMemoryBytes?: number;
 }

@@ -1,6 +1,7 @@
 import type { Bsr, Csr } from './types.js';
 import { MAX_INT32_INDEX } from './types.js';
 import { sortInt32Range } from './sort-range.js';
+import { ptr, wasmFor } from '../kernels-host/arena.js';
 
 // ---------------------------------------------------------------------------------------------
 // Kernels. All compute y = alpha·A x (+ z when z is given) on row-major bs×bs blocks, without
@@ -186,6 +187,12 @@ function mulAdd(
   n: number, bs: number, rowPtr: Int32Array, colInd: Int32Array, values: Float64Array,
   x: Float64Array, alpha: number, z: Float64Array | null, y: Float64Array,
 ): void {
+  // every array in kernel memory: the WebAssembly twin (src/kernels/sparse.ts, same summation order)
+  const k = wasmFor(rowPtr, colInd, values, x);
+  if (k !== null && y.buffer === x.buffer && (z === null || z.buffer === x.buffer)) {
+    k.bsrMulAdd(n, bs, ptr(rowPtr), ptr(colInd), ptr(values), ptr(x), alpha, z === null ? 0 : ptr(z), ptr(y));
+    return;
+  }
   switch (bs) {
     case 1: mulAddBs1(n, rowPtr, colInd, values, x, alpha, z, y); return;
     case 2: mulAddBs2(n, rowPtr, colInd, values, x, alpha, z, y); return;
@@ -218,6 +225,11 @@ export function bsrSpmvTiledKernel(
   nBlockRows: number, bs: number, rowPtr: Int32Array, colInd: Int32Array, values: Float64Array,
   x: Float64Array, y: Float64Array,
 ): void {
+  const k = wasmFor(rowPtr, colInd, values, x);
+  if (k !== null && y.buffer === x.buffer) {
+    k.bsrMulAddGeneric(nBlockRows, bs, ptr(rowPtr), ptr(colInd), ptr(values), ptr(x), 1, 0, ptr(y));
+    return;
+  }
   mulAddTiled(nBlockRows, bs, rowPtr, colInd, values, x, 1, null, y);
 }
 

@@ -1,10 +1,16 @@
 import type { Csr } from './types.js';
+import { ptr, wasmFor } from '../kernels-host/arena.js';
 
 /** y = A x for CSR (unchecked kernel). */
 export function csrSpmvKernel(
   nRows: number, rowPtr: Int32Array, colInd: Int32Array, values: Float64Array,
   x: Float64Array, y: Float64Array,
 ): void {
+  const k = wasmFor(rowPtr, colInd, values, x);
+  if (k !== null && y.buffer === x.buffer) {
+    k.csrMulAdd(nRows, ptr(rowPtr), ptr(colInd), ptr(values), ptr(x), 1, 0, ptr(y));
+    return;
+  }
   for (let i = 0; i < nRows; i++) {
     let s = 0;
     const end = rowPtr[i + 1];
@@ -21,6 +27,11 @@ export function csrMultiplyAddKernel(
   nRows: number, rowPtr: Int32Array, colInd: Int32Array, values: Float64Array,
   x: Float64Array, alpha: number, z: Float64Array, y: Float64Array,
 ): void {
+  const k = wasmFor(rowPtr, colInd, values, x);
+  if (k !== null && y.buffer === x.buffer && z.buffer === x.buffer) {
+    k.csrMulAdd(nRows, ptr(rowPtr), ptr(colInd), ptr(values), ptr(x), alpha, ptr(z), ptr(y));
+    return;
+  }
   for (let i = 0; i < nRows; i++) {
     let s = 0;
     const end = rowPtr[i + 1];

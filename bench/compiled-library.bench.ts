@@ -1,0 +1,187 @@
+/**
+ * Our kernels against a compiled general-purpose sparse library, on the same Matrix Market files in
+ * the same run: `npx tsx bench/compiled-library.bench.ts [--quick] [--rounds N]`.
+ *
+ * The library side is bench/compiled_library.py on Debian's python3-petsc4py (the options it uses
+ * are listed at the top of that script); without petsc4py the bench prints our figures and a note.
+ * Benchmarks only: petsc4py is never used by tests or CI.
+ *
+ * Matrices (written to bench/data/, reused when present; invented test problems):
+ *  - acoustics: `slabbench generate --physics acoustics --dim 2 --order 2 --cells 12 --slabs 2
+ *    --periodic all` (2D+t, p = 2, block size 30, about 5.2 million nonzeros);
+ *  - block16: a seeded random block 5-point stencil on a 70×70 grid, block size 16, non-symmetric
+ *    blocks, diagonal blocks shifted by 2·bs (about 6.3 million nonzeros);
+ *  - SpMV only: the same stencil with block sizes 4, 8 and 40 (about 6 million stored values each).
+ *
+ * Printed: SpMV GB/s (ours on WebAssembly and on TypeScript; theirs; bytes = the arrays one product
+ * must move once, the same count for both) and their ratio; for GMRES(30) (right preconditioning,
+ * modified Gram–Schmidt, a fixed number of iterations) per preconditioner our setup time and time
+ * per iteration as ratios to theirs — the first solve (includes our JIT warm-up and the tier-up of
+ * the WebAssembly code) and the minimum over the later solves reported separately; setup is the
+ * minimum over the later solves (each solve sets the preconditioner up afresh on both sides). The two streaming
+ * triads (WebAssembly and JavaScript) are printed with each round. Print the load average: on a
+ * shared machine figures move by 2× within minutes.
+ */
+import { execFileSync, spawnSync } from 'node:child_process';
+import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+import { cpus, loadavg } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { loadSystem } from '../src/sparse/load.js';
+import { bsrToCsr, bsrSpmv } from '../src/sparse/bsr.js';
+import { writeMatrixMarket } from '../src/sparse/matrix-market-write.js';
+import type { Bsr } from '../src/sparse/types.js';
+import { solveSystem } from '../src/solvers/run-recipe.js';
+import { planKernels } from '../src/solvers/kernel-plan.js';
+import { DEFAULT_RECIPE, type Recipe } from '../src/solvers/recipe.js';
+import { kernelF64 } from '../src/kernels-host/arena.js';
+import { mulberry32 } from '../src/util/random.js';
+import { measureStreamBandwidths, settle } from './stream.js';
+
+const ROOT = fileURLToPath(new URL('..', import.meta.url));
+const DATA = join(ROOT, 'bench', 'data');
+const quick = process.argv.includes('--quick');
+const roundsArg = process.argv.indexOf('--rounds');
+const rounds = roundsArg > 0 ? Number(process.argv[roundsArg + 1]) : 1;
+const ITERATIONS = quick ? 30 : 60;
+/** Solves per preconditioner and side: the first (cold: our JIT warm-up) and the minimum of the others. */
+const REPEATS = 3;
+const PRECONDITIONERS = ['none', 'block-jacobi', 'block-gs', 'block-ilu0'] as const;
+
+const fmt = (x: number, d = 2): string => (Number.isFinite(x) ? x.toFixed(d) : '–');
+const median = (xs: number[]): number => { const s = [...xs].sort((a, b) => a - b); return s[s.length >> 1]; };
+
+function stencil(grid: number, bs: number, seed: number): Bsr {
+  const r = mulberry32(seed);
+  const nb = grid * grid, bb = bs * bs;
+  const rowPtr = new Int32Array(nb + 1);
+  const cols: number[] = [];
+  for (let I = 0; I < nb; I++) {
+    const i = Math.floor(I / grid), j = I % grid;
+    const nbrs = [I];
+    if (i > 0) nbrs.push(I - grid);
+    if (j > 0) nbrs.push(I - 1);
+    if (j < grid - 1) nbrs.push(I + 1);
+    if (i < grid - 1) nbrs.push(I + grid);
+    nbrs.sort((a, b) => a - b);
+    cols.push(...nbrs);
+    rowPtr[I + 1] = cols.length;
+  }
+  const colInd = Int32Array.from(cols);
+  const values = new Float64Array(cols.length * bb);
+  for (let k = 0; k < values.length; k++) values[k] = 2 * r() - 1;
+  for (let I = 0; I < nb; I++) {
+    for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
+      if (colInd[k] === I) for (let d = 0; d < bs; d++) values[k * bb + d * bs + d] += 2 * bs;
+    }
+  }
+  return { nBlockRows: nb, nBlockCols: nb, bs, rowPtr, colInd, values };
+}
+
+async function ensureMatrices(): Promise<Array<{ name: string; file: string; bs: number; solve: boolean }>> {
+  mkdirSync(DATA, { recursive: true });
+  const out: Array<{ name: string; file: string; bs: number; solve: boolean }> = [];
+  const cells = quick ? '6' : '12';
+  const acoustics = join(DATA, `acoustics-2d-p2-c${cells}.mtx`);
+  if (!existsSync(acoustics)) {
+    process.stderr.write('generating the acoustics matrix (slabbench generate) …\n');
+    execFileSync(process.execPath, [join(ROOT, 'dist', 'cli', 'bin.js'), 'generate', '--physics', 'acoustics', '--dim', '2',
+      '--order', '2', '--cells', cells, '--slabs', '2', '--periodic', 'all', '--name', `acoustics-2d-p2-c${cells}`, '--out', DATA],
+    { stdio: ['ignore', 'ignore', 'inherit'] });
+  }
+  out.push({ name: `acoustics 2D+t p=2 (${cells}×${cells}, 2 slabs)`, file: acoustics, bs: 30, solve: true });
+  const target = quick ? 1e6 : 6e6;
+  for (const bs of [16, 4, 8, 40]) {
+    const grid = Math.max(4, Math.round(Math.sqrt(target / (5 * bs * bs))));
+    const file = join(DATA, `stencil-bs${bs}-g${grid}.mtx`);
+    if (!existsSync(file)) {
+      process.stderr.write(`writing ${file} …\n`);
+      await writeMatrixMarket(file, bsrToCsr(stencil(grid, bs, 1000 + bs)), { comments: [`invented block 5-point stencil, bs ${bs}, grid ${grid}×${grid}`] });
+    }
+    out.push({ name: `block stencil bs ${bs} (${grid}×${grid})`, file, bs, solve: bs === 16 });
+  }
+  return out;
+}
+
+interface LibraryResult {
+  library: string; spmvSeconds: number; readSeconds: number;
+  preconditioners: Record<string, { setupSeconds: number[]; solveSeconds: number[]; iterations: number[] }>;
+}
+
+function runLibrary(file: string, bs: number, solve: boolean): LibraryResult | string {
+  if (!existsSync('/usr/bin/python3')) return 'no /usr/bin/python3';
+  const job = join(DATA, 'library-job.json');
+  writeFileSync(job, JSON.stringify({ file, bs, spmvRepeats: 20, solveRepeats: REPEATS, iterations: ITERATIONS, preconditioners: solve ? PRECONDITIONERS : [] }));
+  const res = spawnSync('/usr/bin/python3', [join(ROOT, 'bench', 'compiled_library.py'), job], { encoding: 'utf8', maxBuffer: 1 << 24 });
+  if (res.status !== 0) {
+    const err = (res.stderr || '').trim().split('\n').pop() ?? '';
+    return /No module named 'petsc4py'/.test(res.stderr) ? 'python3-petsc4py is not installed' : `library run failed: ${err}`;
+  }
+  return JSON.parse(res.stdout.trim().split('\n').pop()!) as LibraryResult;
+}
+
+function spmvBytes(a: Bsr): number {
+  const nBlocks = a.rowPtr[a.nBlockRows];
+  return nBlocks * a.bs * a.bs * 8 + nBlocks * 4 + (a.nBlockRows + 1) * 4 + 2 * a.nBlockRows * a.bs * 8;
+}
+
+async function main(): Promise<void> {
+  console.log(`compiled-library bench: ${cpus().length} cores, load average ${loadavg().map((x) => x.toFixed(1)).join(' ')} at start`);
+  const matrices = await ensureMatrices();
+  for (let round = 0; round < rounds; round++) {
+    const triad = await measureStreamBandwidths({ timeMs: 600 });
+    console.log(`\nround ${round + 1}: stream triad WebAssembly ${fmt(triad.wasm)} GB/s, JavaScript ${fmt(triad.js)} GB/s; load ${loadavg()[0].toFixed(1)}`);
+    for (const m of matrices) {
+      const sys = await loadSystem(m.file, { blockSize: m.bs });
+      const a = sys.bsr;
+      const nnz = a.rowPtr[a.nBlockRows] * a.bs * a.bs;
+      console.log(`\n${m.name}: n = ${a.nBlockRows * a.bs}, bs ${a.bs}, ${(nnz / 1e6).toFixed(2)} M stored values`);
+      const lib = runLibrary(m.file, m.bs, m.solve);
+      const libNote = typeof lib === 'string' ? lib : undefined;
+      if (libNote) console.log(`  compiled library skipped: ${libNote}`);
+      // SpMV: TypeScript on the JavaScript heap, then WebAssembly in kernel memory
+      const n = a.nBlockRows * a.bs;
+      const reps = quick ? 5 : 15;
+      const time = (f: () => void): number => { f(); const ts: number[] = []; for (let i = 0; i < reps; i++) { const t = performance.now(); f(); ts.push((performance.now() - t) / 1e3); } return median(ts); };
+      await settle(200);
+      const xj = new Float64Array(n).fill(1), yj = new Float64Array(n);
+      const tTs = time(() => bsrSpmv(a, xj, yj));
+      const plan = planKernels(sys, { ...DEFAULT_RECIPE }, 'wasm');
+      const xw = kernelF64(n).fill(1), yw = kernelF64(n);
+      const tW = time(() => bsrSpmv(sys.bsr, xw, yw));
+      plan.finish();
+      const bytes = spmvBytes(a);
+      const theirs = libNote ? NaN : bytes / (lib as LibraryResult).spmvSeconds / 1e9;
+      console.log(`  SpMV GB/s: ours WebAssembly ${fmt(bytes / tW / 1e9)}, ours TypeScript ${fmt(bytes / tTs / 1e9)}, theirs ${fmt(theirs)};` +
+        ` ours/theirs ${fmt(bytes / tW / 1e9 / theirs)} (target ≥ 1.0); ours/WebAssembly triad ${fmt(bytes / tW / 1e9 / triad.wasm)}`);
+      if (!m.solve) continue;
+      const b = new Float64Array(n);
+      bsrSpmv(a, new Float64Array(n).fill(1), b);
+      console.log(`  GMRES(30), ${ITERATIONS} iterations per solve; ratios ours/theirs (targets: per iteration ≤ 0.8, setup ≤ 1.5)`);
+      console.log('  precond        setup s ours / theirs / ratio   s per iteration, first solve: ours / theirs / ratio   later solves (min): ours / theirs / ratio   iterations');
+      for (const pc of PRECONDITIONERS) {
+        const recipe: Recipe = {
+          ...DEFAULT_RECIPE, name: pc, preconditioner: pc, restart: 30, rtol: 1e-300, maxIterations: ITERATIONS,
+          sweep: 'symmetric', blockInverse: 'inverse',
+        };
+        await settle(100);
+        const ours = [];
+        for (let rep = 0; rep < REPEATS; rep++) ours.push(solveSystem(sys, b, recipe, { kernels: 'wasm' }).result);
+        const perIt = (s: number, it: number): number => s / Math.max(1, it);
+        const o1 = perIt(ours[0].timing.solveSeconds, ours[0].iterations);
+        const oW = Math.min(...ours.slice(1).map((r) => perIt(r.timing.solveSeconds, r.iterations)));
+        const oS = Math.min(...ours.slice(1).map((r) => r.timing.setupSeconds));
+        const L = libNote ? undefined : (lib as LibraryResult).preconditioners[pc];
+        const t1 = L ? perIt(L.solveSeconds[0], L.iterations[0]) : NaN;
+        const tW = L ? Math.min(...L.solveSeconds.slice(1).map((s, i) => perIt(s, L.iterations[i + 1]))) : NaN;
+        const tS = L ? Math.min(...L.setupSeconds.slice(1)) : NaN;
+        console.log(`  ${pc.padEnd(13)} ${fmt(oS, 3)} / ${fmt(tS, 3)} / ${fmt(oS / tS)}`.padEnd(48) +
+          `${fmt(o1, 4)} / ${fmt(t1, 4)} / ${fmt(o1 / t1)}`.padEnd(54) + `${fmt(oW, 4)} / ${fmt(tW, 4)} / ${fmt(oW / tW)}`.padEnd(44) +
+          `${ours.map((r) => r.iterations).join(',')} vs ${L ? L.iterations.join(',') : '–'}; kernels ${ours[1].kernels}; our cold setup ${fmt(ours[0].timing.setupSeconds, 3)} s`);
+      }
+    }
+  }
+  console.log(`\nload average at the end: ${loadavg().map((x) => x.toFixed(1)).join(' ')}`);
+}
+
+await main();

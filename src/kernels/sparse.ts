@@ -1,0 +1,193 @@
+// BSR and CSR products y = α·A x (+ z): twins of src/sparse/bsr.ts (mulAdd and its fast paths) with
+// the same summation order. z = 0 means "no z"; z may equal y; x must not alias y.
+// Block sizes 1–4 keep the block row of y in scalars (as the TypeScript kernels do). The two- and
+// three-row tiles keep, per row, the partial sums s (even columns) and t (odd columns) of the
+// TypeScript tile in the two lanes of one f64x2, so the products and additions are the same ones
+// in the same order (bit-identical results); one v128 load fetches a column pair of a block row
+// and of x. Block sizes 5–8 are specializations (the tile inlined with a constant bs).
+import { f64At, setF64, i32At, f64Ptr, pairAt } from './common';
+
+function mulAddBs1(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  for (let i = 0; i < n; i++) {
+    let s: f64 = 0;
+    const end = i32At(rowPtr, i + 1);
+    for (let k = i32At(rowPtr, i); k < end; k++) s += f64At(values, k) * f64At(x, i32At(colInd, k));
+    setF64(y, i, z == 0 ? alpha * s : f64At(z, i) + alpha * s);
+  }
+}
+
+function mulAddBs2(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  for (let I = 0; I < n; I++) {
+    let s0: f64 = 0, s1: f64 = 0;
+    const end = i32At(rowPtr, I + 1);
+    for (let k = i32At(rowPtr, I); k < end; k++) {
+      const xp = f64Ptr(x, i32At(colInd, k) * 2), v = f64Ptr(values, k * 4);
+      const x0 = load<f64>(xp), x1 = load<f64>(xp, 8);
+      s0 += load<f64>(v) * x0 + load<f64>(v, 8) * x1;
+      s1 += load<f64>(v, 16) * x0 + load<f64>(v, 24) * x1;
+    }
+    const yp = f64Ptr(y, I * 2);
+    if (z == 0) { store<f64>(yp, alpha * s0); store<f64>(yp, alpha * s1, 8); }
+    else { const zp = f64Ptr(z, I * 2); store<f64>(yp, load<f64>(zp) + alpha * s0); store<f64>(yp, load<f64>(zp, 8) + alpha * s1, 8); }
+  }
+}
+
+function mulAddBs3(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  for (let I = 0; I < n; I++) {
+    let s0: f64 = 0, s1: f64 = 0, s2: f64 = 0;
+    const end = i32At(rowPtr, I + 1);
+    for (let k = i32At(rowPtr, I); k < end; k++) {
+      const xp = f64Ptr(x, i32At(colInd, k) * 3), v = f64Ptr(values, k * 9);
+      const x0 = load<f64>(xp), x1 = load<f64>(xp, 8), x2 = load<f64>(xp, 16);
+      s0 += load<f64>(v) * x0 + load<f64>(v, 8) * x1 + load<f64>(v, 16) * x2;
+      s1 += load<f64>(v, 24) * x0 + load<f64>(v, 32) * x1 + load<f64>(v, 40) * x2;
+      s2 += load<f64>(v, 48) * x0 + load<f64>(v, 56) * x1 + load<f64>(v, 64) * x2;
+    }
+    const yp = f64Ptr(y, I * 3);
+    if (z == 0) { store<f64>(yp, alpha * s0); store<f64>(yp, alpha * s1, 8); store<f64>(yp, alpha * s2, 16); }
+    else {
+      const zp = f64Ptr(z, I * 3);
+      store<f64>(yp, load<f64>(zp) + alpha * s0); store<f64>(yp, load<f64>(zp, 8) + alpha * s1, 8);
+      store<f64>(yp, load<f64>(zp, 16) + alpha * s2, 16);
+    }
+  }
+}
+
+function mulAddBs4(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  for (let I = 0; I < n; I++) {
+    let s0: f64 = 0, s1: f64 = 0, s2: f64 = 0, s3: f64 = 0;
+    const end = i32At(rowPtr, I + 1);
+    for (let k = i32At(rowPtr, I); k < end; k++) {
+      const xp = f64Ptr(x, i32At(colInd, k) * 4), v = f64Ptr(values, k * 16);
+      const x0 = load<f64>(xp), x1 = load<f64>(xp, 8), x2 = load<f64>(xp, 16), x3 = load<f64>(xp, 24);
+      s0 += load<f64>(v) * x0 + load<f64>(v, 8) * x1 + load<f64>(v, 16) * x2 + load<f64>(v, 24) * x3;
+      s1 += load<f64>(v, 32) * x0 + load<f64>(v, 40) * x1 + load<f64>(v, 48) * x2 + load<f64>(v, 56) * x3;
+      s2 += load<f64>(v, 64) * x0 + load<f64>(v, 72) * x1 + load<f64>(v, 80) * x2 + load<f64>(v, 88) * x3;
+      s3 += load<f64>(v, 96) * x0 + load<f64>(v, 104) * x1 + load<f64>(v, 112) * x2 + load<f64>(v, 120) * x3;
+    }
+    const yp = f64Ptr(y, I * 4);
+    if (z == 0) {
+      store<f64>(yp, alpha * s0); store<f64>(yp, alpha * s1, 8); store<f64>(yp, alpha * s2, 16); store<f64>(yp, alpha * s3, 24);
+    } else {
+      const zp = f64Ptr(z, I * 4);
+      store<f64>(yp, load<f64>(zp) + alpha * s0); store<f64>(yp, load<f64>(zp, 8) + alpha * s1, 8);
+      store<f64>(yp, load<f64>(zp, 16) + alpha * s2, 16); store<f64>(yp, load<f64>(zp, 24) + alpha * s3, 24);
+    }
+  }
+}
+
+/** y segment of block row I initialised from z (or zeroed). */
+@inline function initRow(yp: usize, z: usize, y: usize, I: i32, bs: i32): void {
+  const bytes = <usize>bs << 3;
+  if (z == 0) memory.fill(yp, 0, bytes);
+  else if (z != y) memory.copy(yp, f64Ptr(z, I * bs), bytes);
+}
+
+@inline function tiled2(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  const bb = bs * bs;
+  const rowBytes = <usize>bs << 3;
+  for (let I = 0; I < n; I++) {
+    const yp = f64Ptr(y, I * bs);
+    initRow(yp, z, y, I, bs);
+    const end = i32At(rowPtr, I + 1);
+    for (let k = i32At(rowPtr, I); k < end; k++) {
+      const xp = f64Ptr(x, i32At(colInd, k) * bs);
+      let r0 = f64Ptr(values, k * bb);
+      let i = 0;
+      for (; i + 1 < bs; i += 2) {
+        const r1 = r0 + rowBytes;
+        let a0 = f64x2.splat(0), a1 = f64x2.splat(0);
+        let j = 0;
+        for (; j + 1 < bs; j += 2) {
+          const xv = pairAt(xp, j);
+          a0 = f64x2.add(a0, f64x2.mul(pairAt(r0, j), xv));
+          a1 = f64x2.add(a1, f64x2.mul(pairAt(r1, j), xv));
+        }
+        let s0 = f64x2.extract_lane(a0, 0), s1 = f64x2.extract_lane(a1, 0);
+        if (j < bs) {
+          const xa = f64At(xp, j);
+          s0 += f64At(r0, j) * xa;
+          s1 += f64At(r1, j) * xa;
+        }
+        setF64(yp, i, f64At(yp, i) + alpha * (s0 + f64x2.extract_lane(a0, 1)));
+        setF64(yp, i + 1, f64At(yp, i + 1) + alpha * (s1 + f64x2.extract_lane(a1, 1)));
+        r0 += rowBytes << 1;
+      }
+      if (i < bs) {
+        let s: f64 = 0;
+        for (let j = 0; j < bs; j++) s += f64At(r0, j) * f64At(xp, j);
+        setF64(yp, i, f64At(yp, i) + alpha * s);
+      }
+    }
+  }
+}
+
+@inline function tiled3(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  const bb = bs * bs;
+  const rowBytes = <usize>bs << 3;
+  for (let I = 0; I < n; I++) {
+    const yp = f64Ptr(y, I * bs);
+    initRow(yp, z, y, I, bs);
+    const end = i32At(rowPtr, I + 1);
+    for (let k = i32At(rowPtr, I); k < end; k++) {
+      const xp = f64Ptr(x, i32At(colInd, k) * bs);
+      let r0 = f64Ptr(values, k * bb);
+      for (let i = 0; i < bs; i += 3) {
+        const r1 = r0 + rowBytes, r2 = r1 + rowBytes;
+        let a0 = f64x2.splat(0), a1 = f64x2.splat(0), a2 = f64x2.splat(0);
+        let j = 0;
+        for (; j + 1 < bs; j += 2) {
+          const xv = pairAt(xp, j);
+          a0 = f64x2.add(a0, f64x2.mul(pairAt(r0, j), xv));
+          a1 = f64x2.add(a1, f64x2.mul(pairAt(r1, j), xv));
+          a2 = f64x2.add(a2, f64x2.mul(pairAt(r2, j), xv));
+        }
+        let s0 = f64x2.extract_lane(a0, 0), s1 = f64x2.extract_lane(a1, 0), s2 = f64x2.extract_lane(a2, 0);
+        if (j < bs) {
+          const xa = f64At(xp, j);
+          s0 += f64At(r0, j) * xa;
+          s1 += f64At(r1, j) * xa;
+          s2 += f64At(r2, j) * xa;
+        }
+        setF64(yp, i, f64At(yp, i) + alpha * (s0 + f64x2.extract_lane(a0, 1)));
+        setF64(yp, i + 1, f64At(yp, i + 1) + alpha * (s1 + f64x2.extract_lane(a1, 1)));
+        setF64(yp, i + 2, f64At(yp, i + 2) + alpha * (s2 + f64x2.extract_lane(a2, 1)));
+        r0 += rowBytes * 3;
+      }
+    }
+  }
+}
+
+function mulAddBs5(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled2(n, 5, rowPtr, colInd, values, x, alpha, z, y); }
+function mulAddBs6(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled3(n, 6, rowPtr, colInd, values, x, alpha, z, y); }
+function mulAddBs7(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled2(n, 7, rowPtr, colInd, values, x, alpha, z, y); }
+function mulAddBs8(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled2(n, 8, rowPtr, colInd, values, x, alpha, z, y); }
+function mulAddTiled2(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled2(n, bs, rowPtr, colInd, values, x, alpha, z, y); }
+function mulAddTiled3(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled3(n, bs, rowPtr, colInd, values, x, alpha, z, y); }
+
+/** y = z + α·A x (z = 0: y = α·A x), dispatching on bs like mulAdd in src/sparse/bsr.ts. */
+export function bsrMulAdd(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  switch (bs) {
+    case 1: mulAddBs1(n, rowPtr, colInd, values, x, alpha, z, y); return;
+    case 2: mulAddBs2(n, rowPtr, colInd, values, x, alpha, z, y); return;
+    case 3: mulAddBs3(n, rowPtr, colInd, values, x, alpha, z, y); return;
+    case 4: mulAddBs4(n, rowPtr, colInd, values, x, alpha, z, y); return;
+    case 5: mulAddBs5(n, rowPtr, colInd, values, x, alpha, z, y); return;
+    case 6: mulAddBs6(n, rowPtr, colInd, values, x, alpha, z, y); return;
+    case 7: mulAddBs7(n, rowPtr, colInd, values, x, alpha, z, y); return;
+    case 8: mulAddBs8(n, rowPtr, colInd, values, x, alpha, z, y); return;
+    default:
+      if (bs % 3 == 0 && bs <= 33) mulAddTiled3(n, bs, rowPtr, colInd, values, x, alpha, z, y);
+      else mulAddTiled2(n, bs, rowPtr, colInd, values, x, alpha, z, y);
+  }
+}
+
+/** The generic two-row tile for every bs (twin of bsrSpmvTiledKernel). */
+export function bsrMulAddGeneric(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  mulAddTiled2(n, bs, rowPtr, colInd, values, x, alpha, z, y);
+}
+
+/** CSR: y = z + α·A x; z = 0: y = α·A x (α = 1 gives csrSpmvKernel's y = s exactly). */
+export function csrMulAdd(nRows: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  mulAddBs1(nRows, rowPtr, colInd, values, x, alpha, z, y);
+}
