@@ -65,6 +65,8 @@ const COLUMNS: Column[] = [
   },
   { key: 'setup', title: 'setup s', align: 'right', cell: (_r, res) => (res ? formatSeconds(res.timing.setupSeconds) : dash), wideOnly: true },
   { key: 'solve', title: 'solve s', align: 'right', cell: (_r, res) => (res ? formatSeconds(res.timing.solveSeconds) : dash), wideOnly: true },
+  // bytes / bandwidth + flops / flop rate (README "Timing protocol, work, modeled time and ties")
+  { key: 'modeled', title: 'model s', align: 'right', cell: (r) => (r.run.modeled ? formatSeconds(r.run.modeled.totalSeconds) : dash), wideOnly: true },
   {
     key: 'total', title: 'time s', align: 'right', narrowOnly: true,
     cell: (_r, res) => (res ? formatSeconds(res.timing.setupSeconds + res.timing.solveSeconds) : dash),
