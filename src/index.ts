@@ -54,7 +54,9 @@ export { compareWithBaseline, junitXml, renderCheckTable, readToleranceFile, DEF
 export { estimateMemory, spaceTimeBasisSize, kuhnElements, peakBytes, type EstimateInput, type MemoryEstimate, type Footprint } from './run/estimate.js';
 
 // reports
-export { rankRuns, type RankedRun } from './report/rank.js';
+export { rankRuns, rankMatrix, rankOptionsFor, verdictLine, RANK_BY, type RankedRun, type RankBy, type RankOptions, type MatrixRanking } from './report/rank.js';
+export { probeMachine, modeledSeconds, modelRates } from './run/probe.js';
+export { timingNoise, summarizeRepeats, repeatDifferences } from './run/timing.js';
 export { renderRankedTables, shouldUseColor } from './report/table.js';
 export { blockPattern } from './report/pattern.js';
 export { renderReport, writeReport, type ReportOptions, type ReportSvg } from './report/html.js';

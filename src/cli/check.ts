@@ -6,7 +6,7 @@ import { EXIT, optionError, UserError } from '../util/errors.js';
 import { writeFileAtomicSync } from '../util/atomic-write.js';
 import { readResults, resultsJson } from '../run/results.js';
 import {
-  compareWithBaseline, DEFAULT_TIME_RATIO, DEFAULT_TOLERANCE, junitXml, readToleranceFile, renderCheckTable, type Tolerance,
+  compareWithBaseline, DEFAULT_TIME_RATIO, DEFAULT_TOLERANCE, junitXml, NOISE_BAND_FACTOR, NOISE_BAND_MIN, readToleranceFile, renderCheckTable, type Tolerance,
 } from '../run/baseline.js';
 import { shouldUseColor } from '../report/table.js';
 
@@ -35,6 +35,8 @@ interface CheckCliOptions {
   memoryPercent?: number;
   residualFactor?: number;
   timeRatio?: number | true;
+  time?: boolean;
+  workPercent?: number;
   tolerances?: string;
   junit?: string;
   update?: boolean;
@@ -51,7 +53,10 @@ export function registerCheck(program: Command): void {
     .option('--iterations-percent <p>', 'allow up to p% more iterations (the larger of slack and percent applies)', nonNegative('--iterations-percent', false))
     .option('--memory-percent <p>', `allow counted buffer bytes to grow by p% (default ${DEFAULT_TOLERANCE.memoryPercent})`, nonNegative('--memory-percent', false))
     .option('--residual-factor <f>', `allow the final true residual to grow to baseline·f, and always to rtol (default ${DEFAULT_TOLERANCE.residualFactor})`, atLeastOne('--residual-factor'))
-    .addOption(new Option('--time-ratio [r]', `also compare setup + solve time: fail above r × baseline (default r ${DEFAULT_TIME_RATIO}; off without this option)`)
+    .option('--work-percent <p>', `allow each work counter (matvecs, preconditioner applications, inner iterations, flops, bytes; per phase) to grow by p% (default ${DEFAULT_TOLERANCE.workPercent}: exact)`, nonNegative('--work-percent', false))
+    .addOption(new Option('--time', `also compare median setup + solve time within the noise band: fail above max(${NOISE_BAND_MIN}, 1 + ${NOISE_BAND_FACTOR}·(noise of baseline + noise now)) × baseline`)
+      .conflicts('timeRatio'))
+    .addOption(new Option('--time-ratio [r]', `also compare median setup + solve time with a fixed band: fail above r × baseline (default r ${DEFAULT_TIME_RATIO})`)
       .argParser(atLeastOne('--time-ratio')))
     .option('--tolerances <file>', 'per-recipe tolerances (JSON, schema slabbench-tolerances/1)')
     .option('--junit <file>', 'also write JUnit XML (one testcase per matrix × recipe) for CI test reporters')
@@ -60,7 +65,10 @@ export function registerCheck(program: Command): void {
     .addHelpText('after', `
 Checked per matrix × recipe: the cause must match; iterations exact unless a slack is given;
 the final true relative residual ≤ max(rtol, baseline × residual factor); counted buffer bytes (matrix,
-preconditioner, Krylov basis, work — not RSS) within the memory percentage. Time only with --time-ratio.
+preconditioner, Krylov basis, work — not RSS) within the memory percentage; work counters (per phase:
+matvecs, preconditioner applications, inner iterations, flops, bytes moved) exact unless --work-percent.
+Time only with --time (noise band from the repeats of both runs) or --time-ratio (fixed band), always as
+medians of the timed repeats.
 Fewer iterations or a run that now converges pass as "improved"; refresh the baseline with --update.
 A tolerances file sets defaults and per-recipe values:
   { "schema": "slabbench-tolerances/1", "default": { "iterationsSlack": 0 },
@@ -69,7 +77,8 @@ Exit codes: 0 within tolerance (or --update), 1 regression, 2 unusable input.
 
 Examples:
   slabbench check .ci-results/results.json --baseline matrices/ci/baseline.json --junit .ci-results/junit.xml
-  slabbench check results.json --baseline base.json --iterations-slack 2 --time-ratio
+  slabbench check results.json --baseline base.json --time        # also median times, within the noise band
+  slabbench check results.json --baseline base.json --iterations-slack 2 --time-ratio 2
   slabbench check results.json --baseline base.json --update      # accept the current numbers`)
     .action((resultsPath: string, opts: CheckCliOptions) => {
       const current = readResults(resultsPath);
@@ -93,8 +102,9 @@ Examples:
       if (opts.memoryPercent !== undefined) cli.memoryPercent = opts.memoryPercent;
       if (opts.residualFactor !== undefined) cli.residualFactor = opts.residualFactor;
       if (opts.timeRatio !== undefined) cli.timeRatio = opts.timeRatio === true ? DEFAULT_TIME_RATIO : opts.timeRatio;
+      if (opts.workPercent !== undefined) cli.workPercent = opts.workPercent;
       const file = opts.tolerances !== undefined ? readToleranceFile(opts.tolerances) : undefined;
-      const outcome = compareWithBaseline(current, baseline, { cli, file });
+      const outcome = compareWithBaseline(current, baseline, { cli, file, ...(opts.time ? { time: 'noise' as const } : {}) });
 
       if (opts.junit) {
         const p = resolve(opts.junit);
@@ -104,7 +114,7 @@ Examples:
       if (opts.update) writeFileAtomicSync(opts.baseline, resultsJson(current));
 
       if (opts.json) {
-        process.stdout.write(`${JSON.stringify({ updated: opts.update === true, baseline: opts.baseline, failures: outcome.failures, notes: outcome.notes, rows: outcome.rows }, null, 1)}\n`);
+        process.stdout.write(`${JSON.stringify({ updated: opts.update === true, baseline: opts.baseline, failures: outcome.failures, notes: outcome.notes, ...(outcome.noise ? { noise: outcome.noise } : {}), rows: outcome.rows }, null, 1)}\n`);
       } else {
         process.stdout.write(renderCheckTable(outcome, { color: shouldUseColor(process.stdout) }));
         if (opts.update) process.stdout.write(`baseline updated: ${opts.baseline}\n`);

@@ -15,6 +15,9 @@ import { EXIT, fileError, optionError } from '../util/errors.js';
 import { parseKernelChoice } from '../solvers/kernel-plan.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
 import { formatBytesDetailed, formatNumber, jsonNonFiniteAsNull, plural } from '../report/format.js';
+import type { RepeatTimes } from '../run/results-types.js';
+import { collectGarbage, repeatDifferences, summarizeRepeats } from '../run/timing.js';
+import { parseRepeats } from './timing-options.js';
 
 /** What each AIR option means (--precond air; the accepted values come from the recipe validator). */
 const AIR_HELP: Record<keyof AirOptions, string> = {
@@ -61,6 +64,8 @@ interface SolveCommandOptions {
   blockSize?: string;
   layout?: string;
   json?: string;
+  repeats?: number;
+  warmup?: boolean;
   kernels?: string;
   allowNonFinite?: boolean;
   [recipeOption: string]: unknown;
@@ -73,6 +78,8 @@ export interface SolveReport extends SolveResult {
   rhs: { source: 'file'; file: string } | { source: 'A·1' };
   /** The recipe's name and the fields its methods read (an option with no effect is refused). */
   recipe: RecordedRecipe;
+  /** The timing protocol as run: warm-up, every repeat's seconds, median/min/max (timing is the median repeat's). */
+  repeats: RepeatTimes;
   /** Only when b = A·1 (exact solution all ones): max |x_i − 1| and ‖x − 1‖₂/‖1‖₂. */
   errorVsOnes?: { max: number; relative2: number };
 }
@@ -131,6 +138,12 @@ export function formatSolveReport(rep: SolveReport): string {
   if (rep.residualMismatch) row('warning', 'a recursive residual estimate and the recomputed residual disagreed by more than 10× (see residualChecks)');
   if (rep.errorVsOnes) row('error', `b = A·1: max |x − 1| = ${num(rep.errorVsOnes.max)}, ‖x − 1‖/‖1‖ = ${num(rep.errorVsOnes.relative2)}`);
   const t = rep.timing;
+  const rp = rep.repeats;
+  if (rp && rp.count > 1) {
+    row('repeats', `${rp.count} timed${rp.warmup ? ' after a warm-up solve' : ''}; setup + solve median ${num(rp.median.totalSeconds)} s, `
+      + `min ${num(rp.min.totalSeconds)} s, max ${num(rp.max.totalSeconds)} s (time below: the median repeat)`);
+  }
+  if (rp && !rp.consistent) row('warning', `repeats differed, not deterministic: ${(rp.differences ?? []).join('; ')}`);
   row('time', `setup ${num(t.setupSeconds)} s, solve ${num(t.solveSeconds)} s`
     + (t.preconditionerApplications > 0 ? ` (${plural(t.preconditionerApplications, 'preconditioner application')}, ${num(t.secondsPerPreconditionerApply * 1e3)} ms each)` : ''));
   const ps = rep.preconditionerStats as { levels?: number; operatorComplexity?: number; gridComplexity?: number; perLevel?: Array<{ blockRows: number }> } | undefined;
@@ -201,8 +214,20 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
       if (now - last > 250) { last = now; process.stderr.write(`\r  iteration ${it}, relative residual ${num(rel)}   `); }
     }
     : undefined;
-  const { result, x } = solveSystem(sys, b, recipe, { onIteration, lastUse: true, kernels });
+  // Timing protocol (README): an untimed warm-up solve, then the timed repeats with a GC before each.
+  const warmup = opts.warmup !== false;
+  if (warmup) solveSystem(sys, b, recipe, { lastUse: true, kernels });
+  const count = opts.repeats ?? 1;
+  const runs: Array<ReturnType<typeof solveSystem>> = [];
+  let gc = true;
+  for (let k = 0; k < count; k++) {
+    gc = collectGarbage() && gc;
+    runs.push(solveSystem(sys, b, recipe, { onIteration, lastUse: true, kernels }));
+  }
   if (progress && last > 0) process.stderr.write('\r\x1b[K');
+  const summary = summarizeRepeats(runs.map((r) => r.result.timing.setupSeconds), runs.map((r) => r.result.timing.solveSeconds), { warmup, gc });
+  const differences = runs.slice(1).flatMap((r, k) => repeatDifferences(runs[0].result, r.result, k + 2));
+  const { result, x } = runs[summary.stored];
   const report: SolveReport = {
     schema: 'slabbench-solve/1',
     ...result,
@@ -212,6 +237,7 @@ export async function runSolve(file: string, opts: SolveCommandOptions): Promise
     },
     rhs: opts.rhs !== undefined ? { source: 'file', file: opts.rhs } : { source: 'A·1' },
     recipe: recordedRecipe(recipe),
+    repeats: { ...summary, consistent: differences.length === 0, ...(differences.length ? { differences } : {}) },
   };
   if (opts.rhs === undefined) {
     let max = 0, sq = 0;
@@ -230,6 +256,8 @@ export function registerSolve(program: Command): void {
     .option('--block-size <n>', 'block size when there is no layout (default: detected from the pattern)')
     .option('--layout <file>', 'layout file to use instead of NAME.layout.json')
     .option('--json <file>', 'write the full result as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)')
+    .option('--repeats <n>', 'timed solves, each with a fresh setup; the median one is reported (default 1)', parseRepeats)
+    .option('--no-warmup', 'skip the untimed warm-up solve before the timed one(s) (default: warm up, so JIT compilation stays out of the time)')
     .option('--kernels <set>', 'kernel set: wasm (WebAssembly), typescript, or auto = wasm when the solve fits one 4 GiB WebAssembly memory (default auto, or SLABBENCH_KERNELS)')
     .option('--allow-non-finite', 'accept NaN and ±Inf entries in the matrix and right-hand side (the solve then stops with cause non-finite-value)');
   for (const field of RECIPE_FIELDS) {
@@ -286,6 +314,7 @@ Examples:
   $ slabbench solve corridor.mtx --krylov none --precond block-gs --sweep symmetric --omega 1.2
   $ slabbench solve channel.mtx --krylov fgmres --precond slab --inner-krylov gmres --inner-precond block-ilu0 --inner-rtol 1e-6
   $ slabbench solve room.mtx --precond ilu0 --json - | jq .iterations
+  $ slabbench solve duct.mtx --precond block-ilu0 --repeats 5 --json - | jq .repeats.median
   $ slabbench solve tank.mtx --precond air --air-strength 0.25 --air-distance 2 --air-relax ffc
   $ slabbench solve tank.mtx --krylov fgmres --precond slab --inner-precond air --inner-krylov gmres --inner-air-distance 1
   $ slabbench solve duct.mtx --krylov fgmres --precond p-multigrid --pmg-levels 2,1,0 --pmg-cycle w

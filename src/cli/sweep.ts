@@ -13,7 +13,11 @@ import { readHistory } from '../run/history.js';
 import { ProgressBar } from '../run/progress.js';
 import type { HistoryEntry, ResultsDoc } from '../run/results-types.js';
 import type { CaseBuilder, SuiteParsers } from '../run/deps.js';
-import { rankMatrix, renderRankedTables, shouldUseColor } from '../report/table.js';
+import { renderRankedTables, shouldUseColor } from '../report/table.js';
+import { RANK_BY, rankMatrix, rankOptionsFor, type RankBy } from '../report/rank.js';
+import { parseRepeats } from './timing-options.js';
+import { timingNoise } from '../run/timing.js';
+import { MAX_LABEL_LENGTH } from '../run/history.js';
 import { writeReport } from '../report/html.js';
 
 /** The demo suite shipped with the package (resolved from the installed code, not the working folder). */
@@ -25,6 +29,26 @@ function parseJobs(v: string): number {
   const n = Number(v);
   if (!/^\s*\d+\s*$/.test(v) || !Number.isInteger(n) || n < 1 || n > 256) throw optionError('--jobs', `expected an integer from 1 to 256, got "${v}"`);
   return n;
+}
+
+export function parseRankBy(v: string): RankBy {
+  if (!(RANK_BY as readonly string[]).includes(v)) throw optionError('--rank-by', `expected one of ${RANK_BY.join(', ')}, got "${v}"`);
+  return v as RankBy;
+}
+
+function positiveRate(option: string) {
+  return (v: string): number => {
+    const n = Number(v);
+    if (v.trim() === '' || !Number.isFinite(n) || n <= 0 || n > 1e6) throw optionError(option, `expected a number > 0 (and at most 1e6), got "${v}"`);
+    return n;
+  };
+}
+
+function parseLabel(v: string): string {
+  if (v.trim() === '' || v.length > MAX_LABEL_LENGTH || /[\u0000-\u001f]/.test(v)) {
+    throw optionError('--label', `expected 1 to ${MAX_LABEL_LENGTH} printable characters, got ${JSON.stringify(v.slice(0, 40))}`);
+  }
+  return v;
 }
 
 function collectNames(v: string, prev: string[] | undefined): string[] {
@@ -39,7 +63,12 @@ interface SweepCliOptions {
   onlyMatrix?: string[];
   onlyRecipe?: string[];
   cache?: string;
-  warmup?: boolean;
+  warmup: boolean;
+  repeats?: number;
+  rankBy: RankBy;
+  targetBandwidth?: number;
+  targetFlops?: number;
+  label?: string;
   report: boolean;
   quiet?: boolean;
   json?: boolean;
@@ -50,6 +79,8 @@ interface SweepCliOptions {
 function summary(doc: ResultsDoc, files: Record<string, string | undefined>, interrupted: boolean) {
   const byMatrix = new Map<string, typeof doc.runs>();
   for (const r of doc.runs) byMatrix.set(r.matrix, [...(byMatrix.get(r.matrix) ?? []), r]);
+  const rankOpts = rankOptionsFor(doc);
+  const noise = timingNoise(doc.runs);
   return {
     status: interrupted ? 'interrupted' : 'complete',
     files,
@@ -57,12 +88,40 @@ function summary(doc: ResultsDoc, files: Record<string, string | undefined>, int
     converged: doc.runs.filter((r) => r.result?.converged).length,
     notConverged: doc.runs.filter((r) => r.result && !r.result.converged).length,
     errors: doc.runs.filter((r) => r.error !== undefined).length,
-    // a matrix missing some of the sweep's recipes names no winner (null) and lists what is missing
+    flaggedRepeats: doc.runs.filter((r) => r.repeats?.consistent === false).map((r) => ({ matrix: r.matrix, recipe: r.recipe, differences: r.repeats?.differences ?? [] })),
+    rankBy: rankOpts.by,
+    noise: noise ?? null,
+    machine: doc.machine ?? null,
+    model: doc.model ?? null,
     winners: [...byMatrix].map(([matrix, runs]) => {
-      const { ranked, missing } = rankMatrix(doc, matrix, runs);
-      return { matrix, recipe: ranked.find((x) => x.winner)?.run.recipe ?? null, ...(missing.length ? { missingRecipes: missing } : {}) };
+      const m = rankMatrix(runs, rankOpts);
+      return { matrix, recipe: m.winner, firstPlace: m.firstPlace, partial: m.partial, ...(m.missing.length ? { missingRecipes: m.missing } : {}), ...(m.commonTolerance !== undefined ? { commonTolerance: m.commonTolerance } : {}) };
     }),
   };
+}
+
+function fmt(x: number, digits = 3): string {
+  return Number.isFinite(x) ? Number(x.toPrecision(digits)).toString() : String(x);
+}
+
+/** Two lines under the tables: the timing protocol as run, the noise, the probe and the model rates. */
+export function timingSummary(doc: ResultsDoc): string {
+  const p = doc.parameters;
+  const noise = timingNoise(doc.runs);
+  const flagged = doc.runs.filter((r) => r.repeats?.consistent === false).length;
+  const lines = [
+    `timing: ${p.warmup ? 'warm-up + ' : ''}${p.repeats ?? 1} timed repeat${(p.repeats ?? 1) === 1 ? '' : 's'} per pair, median shown`
+      + `${p.gc ? ', GC before each' : ''}; noise ${noise === undefined ? 'not measured (one repeat)' : `${fmt(noise * 100, 2)}% (median relative spread)`}`
+      + `; ${p.jobs} job${p.jobs === 1 ? '' : 's'} on ${p.parallel?.cpus ?? '?'} CPUs, load ${p.parallel ? p.parallel.loadAverageStart.map((x) => x.toFixed(2)).join(' ') : '?'}`
+      + (flagged ? `; ${flagged} run${flagged === 1 ? '' : 's'} FLAGGED: repeats differed` : ''),
+  ];
+  if (doc.machine) {
+    const m = doc.model;
+    lines.push(`machine: ${fmt(doc.machine.bandwidthGBs)} GB/s triad, ${fmt(doc.machine.flopRateGFLOPs)} GFLOP/s dense blocks (probe ${fmt(doc.machine.probeSeconds, 2)} s)`
+      + (m && (m.bandwidthFrom === 'target' || m.flopRateFrom === 'target')
+        ? `; modeled time projected to ${fmt(m.bandwidthGBs)} GB/s, ${fmt(m.flopRateGFLOPs)} GFLOP/s` : ''));
+  }
+  return lines.join('\n');
 }
 
 /** Where the sweep command gets the suite parsers, the case builder and the workers' module from. */
@@ -88,7 +147,12 @@ export function registerSweep(program: Command, deps: SweepCommandDeps = REAL_DE
     .option('--shard <K/N>', 'run only share K of N (1-based) of the matrix × recipe list; combine with `slabbench merge`')
     .option('--only-matrix <names>', 'run only these matrices (comma-separated; repeatable)', collectNames)
     .option('--only-recipe <names>', 'run only these recipes (comma-separated; repeatable)', collectNames)
-    .option('--warmup', 'solve each pair once untimed before the measured solve, so JIT compilation stays out of the timings (doubles the work)')
+    .option('--no-warmup', 'skip the untimed warm-up solve each pair gets before its timed repeats (default: warm up, so JIT compilation stays out of the timings)')
+    .option('--repeats <n>', `timed repeats per pair, each with a fresh setup; the median is reported (default: the suite's "timing.repeats", else 3)`, parseRepeats)
+    .option('--rank-by <cost>', `rank converged recipes by ${RANK_BY.join(' | ')} (default time: median setup + solve seconds)`, parseRankBy, 'time' as RankBy)
+    .option('--target-bandwidth <GB/s>', 'streaming bandwidth of the machine to project the modeled time to (default: this machine\'s probe)', positiveRate('--target-bandwidth'))
+    .option('--target-flops <GFLOP/s>', 'dense block flop rate of the machine to project the modeled time to (default: this machine\'s probe)', positiveRate('--target-flops'))
+    .option('--label <text>', 'label of this run in history.jsonl (default: the commit from the CI environment, e.g. GITHUB_SHA)', parseLabel)
     .option('--cache <dir>', 'folder for matrices built from generator entries (default OUT/matrices)')
     .option('--no-report', 'do not write report.html and the .svg plots')
     .option('--kernels <set>', 'kernel set for every solve: wasm, typescript, or auto = wasm when a solve fits one 4 GiB WebAssembly memory (default auto, or SLABBENCH_KERNELS)')
@@ -96,6 +160,11 @@ export function registerSweep(program: Command, deps: SweepCommandDeps = REAL_DE
     .option('--json', 'print a JSON summary on stdout (nothing else goes to stdout)')
     .option('--dry-run', 'list the matrix × recipe pairs the sweep would run (grids expanded, selection and shard applied) and stop; nothing is generated, solved or written')
     .addHelpText('after', `
+Timing protocol: per pair one untimed warm-up solve, then --repeats timed solves (fresh setup and a
+garbage collection before each); tables state the median. Recipes whose timed ranges overlap or whose
+medians differ by less than this sweep's noise share a rank (=); ★ marks a winner only when it beats
+the runner-up beyond noise. A short probe of this machine (streaming bandwidth, dense flop rate) gives
+each run a modeled time = bytes / bandwidth + flops / flop rate; --target-* project it to another machine.
 A run that does not converge is a result, not an error: sweep exits 0 when every pair ran.
 Exit codes: 0 all pairs ran; 2 bad input (suite, option, or a pair that could not start — the
 other pairs still ran and are in the results); 130 interrupted by Ctrl-C (finished runs are kept
@@ -105,6 +174,7 @@ Examples:
   slabbench sweep                                   # the demo suite: generate, sweep, rank, report
   slabbench sweep my-suite.json --out runs/today --jobs 2
   slabbench sweep my-suite.json --only-matrix duct-pulse --only-recipe gmres-block-ilu0-downstream,fgmres-slab
+  slabbench sweep my-suite.json --repeats 5 --rank-by modeled --target-bandwidth 200 --target-flops 50
   slabbench sweep my-suite.json --shard 2/4 --out shard-2   # then: slabbench merge shard-*/results.json --out all
   slabbench sweep matrices/ci/suite.json --out .ci-results --quiet
   slabbench sweep --json | jq '.winners'
@@ -139,7 +209,16 @@ Examples:
       try {
         outcome = await runSweep({
           suite, outDir: opts.out, jobs: opts.jobs, shard, onlyMatrix: opts.onlyMatrix, onlyRecipe: opts.onlyRecipe,
-          cacheDir: opts.cache, builder, depsModule, signal: ac.signal, warmup: opts.warmup === true,
+          cacheDir: opts.cache, builder, depsModule, signal: ac.signal,
+          // A suite's "timing" applies unless the option was given on the command line.
+          ...(cmd.getOptionValueSource('warmup') === 'cli' ? { warmup: opts.warmup } : {}),
+          ...(opts.repeats !== undefined ? { repeats: opts.repeats } : {}),
+          rankBy: opts.rankBy,
+          target: {
+            ...(opts.targetBandwidth !== undefined ? { bandwidthGBs: opts.targetBandwidth } : {}),
+            ...(opts.targetFlops !== undefined ? { flopRateGFLOPs: opts.targetFlops } : {}),
+          },
+          ...(opts.label !== undefined ? { label: opts.label } : {}),
           onProgress: bar ? (d, t) => bar.update(d, t, '') : undefined,
           onStatus: bar ? (label) => bar.status(label) : undefined,
           log: opts.quiet ? undefined : (line) => { bar?.finish(); process.stderr.write(`${line}\n`); },
@@ -169,6 +248,7 @@ Examples:
         process.stdout.write(`${JSON.stringify(summary(doc, { ...files, report: reportPath }, interrupted), null, 1)}\n`);
       } else if (!quiet) {
         process.stdout.write(renderRankedTables(doc, { color: shouldUseColor(process.stdout) }));
+        process.stdout.write(`\n${timingSummary(doc)}\n`);
         process.stdout.write(`\nresults: ${files.results} (+ ${files.csv}${reportPath ? `, ${reportPath}` : ''})\n`);
       }
       if (interrupted) {

@@ -6,7 +6,8 @@ import type { SolveResult } from '../solvers/types.js';
 import { withPrefix } from '../util/errors.js';
 import { runsByMatrix, recipeOrder, statusWarning, type MatrixRuns } from './group.js';
 import { plural } from './format.js';
-import { matrixSummary, MISMATCH_MARK, rankMatrix, rowCells, solveWork, WIDE_COLUMN_TITLES, WINNER_MARK } from './table.js';
+import { matrixSummary, MISMATCH_MARK, rankForTable, rowCells, solveWork, WIDE_COLUMN_TITLES, WINNER_MARK } from './table.js';
+import { verdictLine } from './rank.js';
 import { LIMITS_STATEMENT } from './limits.js';
 import { esc } from './svg/common.js';
 import { RESIDUAL_AXES, residualPlot, type ResidualAxis } from './svg/residuals.js';
@@ -107,7 +108,7 @@ footer { color: var(--muted); font-size: 12px; }
 `;
 
 function tableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): string {
-  const { ranked, missing } = rankMatrix(results, matrix, runs);
+  const { ranked, missing, ranking } = rankForTable(results, matrix, runs);
   const heads = WIDE_COLUMN_TITLES;
   const textCols = new Set([heads.indexOf('recipe'), heads.indexOf('cause')]);
   const reasonCol = heads.indexOf('cause');
@@ -128,12 +129,11 @@ function tableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): stri
     'matvecs = operator applications and applies = preconditioner applications in the solve: iteration counts of different methods are not comparable (one BiCGStab iteration is two of each)',
     'memory = preconditioner + Krylov basis bytes (the matrix itself is not included)',
   ];
-  const winner = ranked.find((r) => r.winner);
   if (missing.length > 0) {
     s += `<p class="incomplete" data-incomplete="${missing.length}">Incomplete: ${esc(plural(missing.length, 'recipe'))} of the sweep did not run on this matrix (${esc(missing.join(', '))}), so no winner is named.</p>`;
   } else {
-    notes.unshift(winner ? `${WINNER_MARK} winner: ${winner.run.recipe} — converged with the least setup + solve time` : 'no recipe converged on this matrix');
   }
+  notes.unshift(verdictLine(ranking, WINNER_MARK), ...ranking.notes.filter((n) => !n.startsWith('partial results:')));
   if (ranked.some((r) => r.run.result?.residualMismatch)) notes.push(`${MISMATCH_MARK} recursive and true residual disagree by more than 10×`);
   for (const r of ranked) {
     const why = r.run.error ?? r.run.result?.failure?.message;
@@ -237,7 +237,7 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
   for (const g of groups) {
     const sl = slugOf(g.matrix);
     // Plots list recipes in ranking order (colours stay fixed per recipe across the report).
-    const withResult = rankMatrix(results, g.matrix, g.runs).ranked.map((r) => r.run).filter((r) => r.result);
+    const withResult = rankForTable(results, g.matrix, g.runs).ranked.map((r) => r.run).filter((r) => r.result);
     const resSvgs: ReportSvg[] = axes.map((axis) => ({
       file: residualFile(sl, axis),
       svg: residualPlot({

@@ -3,7 +3,7 @@ import { withPrefix } from '../util/errors.js';
 import type { MatrixInfo, ResultsDoc, RunRecord } from '../run/results-types.js';
 import type { SolveResult } from '../solvers/types.js';
 import { missingRecipes, runsByMatrix, statusWarning } from './group.js';
-import { rankRuns, type RankedRun } from './rank.js';
+import { rankMatrix as rankByRule, rankOptionsFor, verdictLine, type MatrixRanking, type RankedRun } from './rank.js';
 import { formatBytes, formatCount, formatResidual, formatSeconds, plural } from './format.js';
 
 /** Colour only for a terminal, and never when NO_COLOR is set (https://no-color.org convention). */
@@ -20,6 +20,8 @@ export function recipeBytes(r: RankedRun): number | undefined {
 
 export const WINNER_MARK = '★';
 export const MISMATCH_MARK = '†';
+/** After a shared rank: tied within the sweep's timing noise (src/report/rank.ts). */
+export const TIE_MARK = '=';
 
 /**
  * Operator applications (matvecs) and preconditioner applications of a run's solve phase: the
@@ -50,7 +52,7 @@ const dash = '–';
 const count = (v: number | undefined): string => (v === undefined || !Number.isFinite(v) ? dash : formatCount(v));
 
 const COLUMNS: Column[] = [
-  { key: 'rank', title: 'rank', align: 'right', cell: (r) => `${r.rank}${r.winner ? ` ${WINNER_MARK}` : ''}` },
+  { key: 'rank', title: 'rank', align: 'right', cell: (r) => `${r.rank}${r.tied ? TIE_MARK : ''}${r.winner ? ` ${WINNER_MARK}` : ''}` },
   { key: 'recipe', title: 'recipe', align: 'left', cell: (r) => r.run.recipe },
   { key: 'iterations', title: 'iters', align: 'right', cell: (_r, res) => (res ? count(res.iterations) : dash) },
   { key: 'matvecs', title: 'matvecs', align: 'right', cell: (_r, res) => (res ? count(solveWork(res).matvecs) : dash) },
@@ -63,6 +65,8 @@ const COLUMNS: Column[] = [
   },
   { key: 'setup', title: 'setup s', align: 'right', cell: (_r, res) => (res ? formatSeconds(res.timing.setupSeconds) : dash), wideOnly: true },
   { key: 'solve', title: 'solve s', align: 'right', cell: (_r, res) => (res ? formatSeconds(res.timing.solveSeconds) : dash), wideOnly: true },
+  // bytes / bandwidth + flops / flop rate (README "Timing protocol, work, modeled time and ties")
+  { key: 'modeled', title: 'model s', align: 'right', cell: (r) => (r.run.modeled ? formatSeconds(r.run.modeled.totalSeconds) : dash), wideOnly: true },
   {
     key: 'total', title: 'time s', align: 'right', narrowOnly: true,
     cell: (_r, res) => (res ? formatSeconds(res.timing.setupSeconds + res.timing.solveSeconds) : dash),
@@ -117,11 +121,12 @@ export function terminalWidth(stream: { columns?: number; isTTY?: boolean } = pr
 }
 
 /** The ranking of one matrix with the winner withdrawn when some of the sweep's recipes did not run on it. */
-export function rankMatrix(results: ResultsDoc, matrix: string, runs: RunRecord[]): { ranked: RankedRun[]; missing: string[] } {
+export function rankForTable(results: ResultsDoc, matrix: string, runs: RunRecord[]): { ranked: RankedRun[]; missing: string[]; ranking: MatrixRanking } {
+  // The one ranking rule (rank.ts) with this document's rank-by, noise and completeness; missing recipes withdraw the winner.
   const missing = missingRecipes(results, matrix);
-  const ranked = rankRuns(runs);
-  if (missing.length > 0) for (const r of ranked) r.winner = false;
-  return { ranked, missing };
+  const ranking = rankByRule(runs, rankOptionsFor(results));
+  if (missing.length > 0) { for (const r of ranking.ranked) r.winner = false; ranking.winner = null; }
+  return { ranked: ranking.ranked, missing, ranking };
 }
 
 const INDENT = '  ';
@@ -206,7 +211,7 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean;
   const blocks: string[] = [];
   const warning = statusWarning(results);
   for (const g of runsByMatrix(results)) {
-    const { ranked, missing } = rankMatrix(results, g.matrix, g.runs);
+    const { ranked, missing, ranking } = rankForTable(results, g.matrix, g.runs);
     const { cols, rows, widths, notes: layoutNotes } = layout(ranked, width);
     const lines: string[] = [];
     const head = `${g.matrix}  ${matrixSummary(g.info)}`;
@@ -223,14 +228,11 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean;
     });
     if (ranked.length === 0) lines.push(`${INDENT}(no runs)`);
     const notes: string[] = [];
-    const winner = ranked.find((r) => r.winner);
     if (missing.length > 0) {
       notes.push(`incomplete: ${plural(missing.length, 'recipe')} of the sweep did not run here (${missing.join(', ')}), so no winner is named`);
-    } else {
-      notes.push(winner
-        ? `${WINNER_MARK} winner: ${winner.run.recipe} (converged, least setup + solve time)`
-        : 'no recipe converged on this matrix');
     }
+    notes.push(verdictLine(ranking, WINNER_MARK), ...ranking.notes.filter((n) => !n.startsWith('partial results:')));
+    if (ranked.some((r) => r.tied)) notes.push(`${TIE_MARK} shares its rank (within noise, see the timing protocol in README)`);
     if (cols.some((col) => col.key === 'memory')) notes.push('memory = preconditioner + Krylov basis bytes (the matrix itself not included)');
     notes.push(...layoutNotes);
     if (ranked.some((r) => r.run.result?.residualMismatch)) {

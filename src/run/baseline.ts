@@ -2,10 +2,19 @@
  * Regression check of a results document against a stored baseline (itself a results document).
  *
  * Per matrix × recipe pair: the cause must match; iterations may grow by at most the allowed slack
- * (exact by default); the final true relative residual must stay ≤ max(rtol, baseline · residualFactor);
- * counted buffer bytes (matrix + preconditioner + Krylov + work, never RSS) within memoryPercent; time only
- * when asked, as a ratio of setup + solve seconds. Iterations, reasons and byte counts are deterministic for
- * one code version, so the default check is machine-independent.
+ * (exact by default); the work counters (matvecs, preconditioner applications, inner iterations, flops,
+ * bytes moved, per phase) may grow by at most workPercent (exact by default) — the solve phase's are not
+ * compared when the iterations grew within an allowed slack (its work follows the iterations); the final true relative
+ * residual must stay ≤ max(rtol, baseline · residualFactor); counted buffer bytes (matrix + preconditioner
+ * + Krylov + work, never RSS) within memoryPercent. Iterations, causes, work counters and byte counts are
+ * deterministic for one code version, so the default check is machine-independent.
+ *
+ * Time only when asked, always as medians of the timed repeats (setup + solve seconds):
+ *  - noise band (`check --time`): now ≤ baseline · max(NOISE_BAND_MIN, 1 + NOISE_BAND_FACTOR · (n_base + n_now)),
+ *    where n_X is the larger of the pair's own relative spread (max − min) / median in run X and the
+ *    timing noise of run X's whole sweep (timingNoise: the median of those spreads over its repeated runs);
+ *  - fixed band (`--time-ratio r`, or timeRatio in a tolerances file): now ≤ baseline · r.
+ * Pairs whose medians are both below MIN_TIMED_SECONDS are too short to compare.
  */
 import { readFileSync } from 'node:fs';
 import pc from 'picocolors';
@@ -13,6 +22,7 @@ import { isSolved, type Cause } from '../solvers/types.js';
 import { UserError } from '../util/errors.js';
 import type { MatrixInfo, ResultsDoc, RunRecord } from './results-types.js';
 import { bufferBytes } from './results.js';
+import { relativeSpread, timingNoise } from './timing.js';
 
 export interface Tolerance {
   /** Allowed extra iterations (absolute). */
@@ -23,7 +33,9 @@ export interface Tolerance {
   memoryPercent: number;
   /** The true residual may grow to baseline · residualFactor (and always to rtol). */
   residualFactor: number;
-  /** When set: fail when (setup + solve seconds) grows by more than this factor. */
+  /** Allowed growth of each work counter, percent (0: exact). */
+  workPercent: number;
+  /** When set: fail when the median setup + solve seconds grow by more than this factor (a fixed band). */
   timeRatio?: number;
 }
 
@@ -32,7 +44,31 @@ export const DEFAULT_TOLERANCE: Readonly<Tolerance> = Object.freeze({
   iterationsPercent: 0,
   memoryPercent: 10,
   residualFactor: 10,
+  workPercent: 0,
 });
+
+/** The noise band: at least ×NOISE_BAND_MIN, else 1 + NOISE_BAND_FACTOR · (noise of the baseline + noise now). */
+export const NOISE_BAND_FACTOR = 3;
+export const NOISE_BAND_MIN = 1.25;
+
+/** Work counter names, in the order tables and messages list them. */
+export const WORK_COUNTERS = ['matvecs', 'preconditionerApplies', 'innerIterations', 'flops', 'bytes'] as const;
+export type WorkCounterName = (typeof WORK_COUNTERS)[number];
+export type WorkCountsLike = Record<WorkCounterName, number>;
+export interface RunWorkCounts { setup: WorkCountsLike; solve: WorkCountsLike }
+
+/** Full work counters of a result, when it carries them (every counter a number). */
+export function workCounts(result: unknown): RunWorkCounts | undefined {
+  const w = (result as { work?: { setup?: Record<string, unknown>; solve?: Record<string, unknown> } } | undefined)?.work;
+  const phase = (p: Record<string, unknown> | undefined): WorkCountsLike | undefined => {
+    if (!p) return undefined;
+    const out = {} as WorkCountsLike;
+    for (const k of WORK_COUNTERS) { if (typeof p[k] !== 'number') return undefined; out[k] = p[k] as number; }
+    return out;
+  };
+  const setup = phase(w?.setup), solve = phase(w?.solve);
+  return setup && solve ? { setup, solve } : undefined;
+}
 
 /** Default band for --time-ratio given without a value: timing on shared CI machines is noisy. */
 export const DEFAULT_TIME_RATIO = 3;
@@ -51,6 +87,7 @@ const TOLERANCE_KEYS: Record<keyof Tolerance, { min: number; integer: boolean; w
   iterationsPercent: { min: 0, integer: false, what: 'a number ≥ 0' },
   memoryPercent: { min: 0, integer: false, what: 'a number ≥ 0' },
   residualFactor: { min: 1, integer: false, what: 'a number ≥ 1' },
+  workPercent: { min: 0, integer: false, what: 'a number ≥ 0' },
   timeRatio: { min: 1, integer: false, what: 'a number ≥ 1' },
 };
 
@@ -114,7 +151,11 @@ export interface RunNumbers {
   iterations?: number;
   residual?: number;
   bytes?: number;
+  /** Median setup + solve seconds over the repeats (the one timed solve for older results). */
   seconds?: number;
+  /** Relative spread (max − min) / median of the repeats, when there were at least two. */
+  spread?: number;
+  work?: RunWorkCounts;
 }
 
 export interface CheckRow {
@@ -127,8 +168,12 @@ export interface CheckRow {
   notes: string[];
   base?: RunNumbers;
   now?: RunNumbers;
-  /** (setup + solve) now / baseline, when time was compared. */
+  /** Median (setup + solve) now / baseline, when time was compared. */
   timeRatio?: number;
+  /** The largest ratio that passes (noise band or fixed band). */
+  timeLimit?: number;
+  /** Work counters that differ, as "phase counter base→now". */
+  workChanges?: string[];
   tolerance: Tolerance;
 }
 
@@ -138,18 +183,38 @@ export interface CheckOutcome {
   /** Run-level notes: suite changed, different machine. */
   notes: string[];
   timeCompared: boolean;
+  /** Timing noise of each document (timingNoise), when time was compared. */
+  noise?: { baseline?: number; current?: number };
+}
+
+export interface CheckOptions {
+  cli?: Partial<Tolerance>;
+  file?: ToleranceFile;
+  /** 'noise': compare median times within the noise band (pairs with a timeRatio use their fixed band). */
+  time?: 'noise';
 }
 
 function numbers(r: RunRecord): RunNumbers {
   const res = r.result;
   if (!res) return { cause: 'error' };
+  const spread = relativeSpread(r.repeats);
+  const work = workCounts(res);
   return {
     cause: res.cause,
     iterations: res.iterations,
     residual: res.trueRelativeResidual,
     bytes: bufferBytes(r),
-    seconds: res.timing.setupSeconds + res.timing.solveSeconds,
+    seconds: r.repeats ? r.repeats.median.totalSeconds : res.timing.setupSeconds + res.timing.solveSeconds,
+    ...(spread !== undefined ? { spread } : {}),
+    ...(work ? { work } : {}),
   };
+}
+
+/** The noise band's largest passing ratio for one pair (see the header comment). */
+export function noiseBand(pairBase: number | undefined, sweepBase: number | undefined, pairNow: number | undefined, sweepNow: number | undefined): number {
+  const nb = Math.max(pairBase ?? 0, sweepBase ?? 0);
+  const nc = Math.max(pairNow ?? 0, sweepNow ?? 0);
+  return Math.max(NOISE_BAND_MIN, 1 + NOISE_BAND_FACTOR * (nb + nc));
 }
 
 function fmtNum(x: number | undefined): string {
@@ -189,10 +254,11 @@ function matrixDiff(a: MatrixInfo | undefined, b: MatrixInfo | undefined): strin
   return out;
 }
 
-export function compareWithBaseline(
-  current: ResultsDoc, baseline: ResultsDoc, opts: { cli?: Partial<Tolerance>; file?: ToleranceFile } = {},
-): CheckOutcome {
+export function compareWithBaseline(current: ResultsDoc, baseline: ResultsDoc, opts: CheckOptions = {}): CheckOutcome {
   const notes: string[] = [];
+  const noiseBase = timingNoise(baseline.runs);
+  const noiseNow = timingNoise(current.runs);
+  let workMissingNoted = false;
   if (current.suite.fingerprint && baseline.suite.fingerprint && current.suite.fingerprint !== baseline.suite.fingerprint) {
     notes.push('the suite changed since the baseline (matrices or recipes edited); numbers are compared pair by pair');
   }
@@ -255,7 +321,29 @@ export function compareWithBaseline(
     const cb = row.now!.bytes!;
     const bytesLimit = bb * (1 + tol.memoryPercent / 100);
     if (cb > bytesLimit) row.problems.push(`buffer bytes ${fmtBytes(bb)} → ${fmtBytes(cb)} (+${(((cb - bb) / bb) * 100).toFixed(1)}%, allowed +${tol.memoryPercent}%)`);
-    if (tol.timeRatio !== undefined) {
+    const bw = row.base!.work, cw = row.now!.work;
+    if (bw && cw) {
+      const changes: string[] = [];
+      // Solve-phase work follows the iterations: when they grew within an allowed slack, it is not compared.
+      const slackUsed = cr.iterations > br.iterations && cr.iterations <= allowed;
+      if (slackUsed) row.notes.push('solve-phase work not compared: the iterations grew within the allowed slack');
+      for (const ph of slackUsed ? (['setup'] as const) : (['setup', 'solve'] as const)) {
+        for (const k of WORK_COUNTERS) {
+          const x = bw[ph][k], y = cw[ph][k];
+          if (x === y) continue;
+          changes.push(`${ph} ${k} ${x}→${y}`);
+          const factor = 1 + tol.workPercent / 100;
+          const limit = x * factor;
+          if (y > limit) row.problems.push(`${ph} ${k} ${x} → ${y} (allowed ≤ ${Math.floor(limit)}${factor > 1 ? `, +${((factor - 1) * 100).toPrecision(3)}%` : ', exact'})`);
+          else if (y < x) improved = true;
+        }
+      }
+      if (changes.length) { row.workChanges = changes; if (!row.problems.some((p) => /^(setup|solve) /.test(p))) row.notes.push(`work ${changes.join(', ')}`); }
+    } else if (!workMissingNoted && (bw || cw)) {
+      workMissingNoted = true;
+      notes.push(`work counters are missing from the ${bw ? 'current results' : 'baseline'}: not compared (refresh the baseline with --update)`);
+    }
+    if (tol.timeRatio !== undefined || opts.time === 'noise') {
       timeCompared = true;
       const bs = row.base!.seconds!;
       const cs = row.now!.seconds!;
@@ -263,13 +351,20 @@ export function compareWithBaseline(
         row.notes.push('too fast to compare times');
       } else {
         row.timeRatio = cs / Math.max(bs, MIN_TIMED_SECONDS);
-        if (row.timeRatio > tol.timeRatio) row.problems.push(`time ×${row.timeRatio.toFixed(2)} (allowed ×${tol.timeRatio})`);
+        row.timeLimit = tol.timeRatio ?? noiseBand(row.base!.spread, noiseBase, row.now!.spread, noiseNow);
+        if (row.timeRatio > row.timeLimit) {
+          row.problems.push(`median time ×${row.timeRatio.toFixed(2)} (allowed ×${row.timeLimit.toFixed(2)}${tol.timeRatio === undefined ? ', noise band' : ''})`);
+        }
       }
     }
     row.verdict = row.problems.length ? 'regressed' : improved ? 'improved' : 'pass';
   }
   const failures = rows.filter((r) => r.problems.length > 0).length;
-  return { rows, failures, notes, timeCompared };
+  if (timeCompared && (baseline.runs.some((r) => !r.repeats) || current.runs.some((r) => !r.repeats))) {
+    notes.push('some runs have no timed repeats (older results): their single time is compared as the median');
+  }
+  if (timeCompared && baseline.cpu !== current.cpu) notes.push(`different CPU than the baseline (${baseline.cpu} → ${current.cpu}): times may not be comparable`);
+  return { rows, failures, notes, timeCompared, ...(timeCompared ? { noise: { baseline: noiseBase, current: noiseNow } } : {}) };
 }
 
 function pad(s: string, w: number, right = false): string {
@@ -280,14 +375,15 @@ function pad(s: string, w: number, right = false): string {
 /** The diff table (plain text; colour only when asked, i.e. when stdout is a terminal). */
 export function renderCheckTable(out: CheckOutcome, opts: { color?: boolean } = {}): string {
   const c = opts.color ? pc : { red: (s: string) => s, green: (s: string) => s, yellow: (s: string) => s, bold: (s: string) => s, dim: (s: string) => s };
-  const header = ['matrix', 'recipe', 'iterations', 'cause', 'true residual (baseline)', 'buffer bytes', ...(out.timeCompared ? ['time'] : []), 'verdict'];
+  const header = ['matrix', 'recipe', 'iterations', 'cause', 'true residual (baseline)', 'buffer bytes', 'work', ...(out.timeCompared ? ['time (allowed)'] : []), 'verdict'];
   const rows = out.rows.map((r) => {
     const it = r.base?.iterations === r.now?.iterations ? `${r.now?.iterations ?? '—'}` : `${r.base?.iterations ?? '—'} → ${r.now?.iterations ?? '—'}`;
     const cause = r.base?.cause === r.now?.cause ? `${r.now?.cause ?? '—'}` : `${r.base?.cause ?? '—'} → ${r.now?.cause ?? '—'}`;
     const res = `${fmtNum(r.now?.residual)} (${fmtNum(r.base?.residual)})`;
     const bytes = r.base?.bytes === r.now?.bytes ? fmtBytes(r.now?.bytes) : `${fmtBytes(r.base?.bytes)} → ${fmtBytes(r.now?.bytes)}`;
-    const time = r.timeRatio === undefined ? '—' : `×${r.timeRatio.toFixed(2)}`;
-    return [r.matrix, r.recipe, it, cause, res, bytes, ...(out.timeCompared ? [time] : []), r.verdict];
+    const time = r.timeRatio === undefined ? '—' : `×${r.timeRatio.toFixed(2)} (≤ ×${r.timeLimit!.toFixed(2)})`;
+    const work = !r.base?.work || !r.now?.work ? '—' : r.workChanges?.length ? `${r.workChanges.length} changed` : 'same';
+    return [r.matrix, r.recipe, it, cause, res, bytes, work, ...(out.timeCompared ? [time] : []), r.verdict];
   });
   const widths = header.map((h, i) => Math.max([...h].length, ...rows.map((r) => [...r[i]].length)));
   const lines: string[] = [];
@@ -304,6 +400,10 @@ export function renderCheckTable(out: CheckOutcome, opts: { color?: boolean } = 
     for (const n of r.notes) lines.push(c.dim(`note ${r.matrix} × ${r.recipe}: ${n}`));
   }
   for (const n of out.notes) lines.push(c.dim(`note: ${n}`));
+  if (out.noise) {
+    const f = (x: number | undefined): string => (x === undefined ? 'not measured' : `${(x * 100).toPrecision(2)}%`);
+    lines.push(c.dim(`note: time compared as medians of repeats; timing noise: baseline ${f(out.noise.baseline)}, now ${f(out.noise.current)}`));
+  }
   const nPass = out.rows.length - out.failures;
   lines.push(out.failures === 0
     ? c.green(`${nPass} of ${out.rows.length} pairs within tolerance`)
@@ -339,6 +439,8 @@ export function junitXml(out: CheckOutcome, opts: { suiteName?: string; timestam
       `cause: ${r.base?.cause ?? '-'} -> ${r.now?.cause ?? '-'}`,
       `true relative residual: ${fmtNum(r.base?.residual)} -> ${fmtNum(r.now?.residual)}`,
       `buffer bytes: ${r.base?.bytes ?? '-'} -> ${r.now?.bytes ?? '-'}`,
+      ...(r.workChanges?.length ? [`work: ${r.workChanges.join(', ')}`] : []),
+      ...(r.timeRatio !== undefined ? [`median time ratio: ${r.timeRatio.toFixed(3)} (allowed ${r.timeLimit!.toFixed(3)})`] : []),
       ...r.notes.map((n) => `note: ${n}`),
     ];
     body.push(`      <system-out>${xmlEscape(detail.join('\n'))}</system-out>`);

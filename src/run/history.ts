@@ -8,13 +8,53 @@ import { fileError, UserError } from '../util/errors.js';
 import type { HistoryEntry, ResultsDoc } from './results-types.js';
 import { bufferBytes, causeFromV1Reason } from './results.js';
 import { outcomeOf } from '../solvers/types.js';
+import { runWork } from './probe.js';
 
-/** The history line for one results document (runs that could not start carry no numbers and are left out). */
-export function historyEntry(doc: ResultsDoc): HistoryEntry {
+/**
+ * Environment variables CI services set to the commit being built, in the order they are tried
+ * (GitHub Actions, GitLab CI, TeamCity, Jenkins' git plugin, Buildkite, CircleCI, Travis CI,
+ * Bitbucket Pipelines, Azure Pipelines, Drone, AppVeyor); names as each service documents them.
+ */
+export const COMMIT_VARIABLES = [
+  'GITHUB_SHA', 'CI_COMMIT_SHA', 'BUILD_VCS_NUMBER', 'GIT_COMMIT', 'BUILDKITE_COMMIT', 'CIRCLE_SHA1',
+  'TRAVIS_COMMIT', 'BITBUCKET_COMMIT', 'BUILD_SOURCEVERSION', 'DRONE_COMMIT_SHA', 'APPVEYOR_REPO_COMMIT',
+] as const;
+
+/** Longest accepted --label. */
+export const MAX_LABEL_LENGTH = 200;
+
+/** The history label: the option when given, else the first commit variable set in `env`. */
+export function historyLabel(option: string | undefined, env: NodeJS.ProcessEnv = process.env): { label: string; labelFrom: string } | undefined {
+  if (option !== undefined) return { label: option, labelFrom: 'option' };
+  for (const v of COMMIT_VARIABLES) {
+    const x = env[v]?.trim();
+    if (x) return { label: x.slice(0, MAX_LABEL_LENGTH), labelFrom: v };
+  }
+  return undefined;
+}
+
+/** The last entry of a history file, or undefined when the file is missing, empty or unreadable. */
+export function lastHistoryEntry(path: string): HistoryEntry | undefined {
+  if (!existsSync(path)) return undefined;
+  try {
+    const entries = readHistory(path);
+    return entries[entries.length - 1];
+  } catch {
+    return undefined; // a broken history is reported where it is read for display, not here
+  }
+}
+
+/**
+ * The history line for one results document (runs that could not start carry no numbers and are left out).
+ * `label` is --label (else a CI commit variable); `previous` is the file's last entry, to mark a changed suite.
+ */
+export function historyEntry(doc: ResultsDoc, opts: { label?: string; previous?: HistoryEntry; env?: NodeJS.ProcessEnv } = {}): HistoryEntry {
   const runs: HistoryEntry['runs'] = [];
   for (const run of doc.runs) {
     const r = run.result;
     if (!r) continue;
+    const work = runWork(r);
+    const rep = run.repeats;
     runs.push({
       matrix: run.matrix,
       recipe: run.recipe,
@@ -24,17 +64,25 @@ export function historyEntry(doc: ResultsDoc): HistoryEntry {
       // JSON has no NaN/Infinity and the field is a number: a non-finite residual (diverged run) is stored
       // as the largest double, which plots as "off the top" and keeps the line valid.
       trueRelativeResidual: Number.isFinite(r.trueRelativeResidual) ? r.trueRelativeResidual : Number.MAX_VALUE,
-      setupSeconds: r.timing.setupSeconds,
-      solveSeconds: r.timing.solveSeconds,
+      setupSeconds: rep ? rep.median.setupSeconds : r.timing.setupSeconds,
+      solveSeconds: rep ? rep.median.solveSeconds : r.timing.solveSeconds,
       peakBytes: r.memory.peakBytes,
       bufferBytes: bufferBytes(run),
+      ...(rep ? { repeats: rep.count, totalSecondsMin: rep.min.totalSeconds, totalSecondsMax: rep.max.totalSeconds } : {}),
+      ...(work ? { bytesMoved: work.setup.bytes + work.solve.bytes, flops: work.setup.flops + work.solve.flops } : {}),
+      ...(run.modeled ? { modeledSeconds: run.modeled.totalSeconds } : {}),
     });
   }
+  const label = historyLabel(opts.label, opts.env);
+  const prevFp = opts.previous?.suite?.fingerprint;
+  const fp = doc.suite.fingerprint;
   return {
     date: doc.date,
     ...(doc.commit ? { commit: doc.commit } : {}),
     slabbench: doc.slabbench,
-    suite: { description: doc.suite.description, fingerprint: doc.suite.fingerprint },
+    suite: { description: doc.suite.description, fingerprint: fp },
+    ...(label ?? {}),
+    ...(prevFp !== undefined && fp !== undefined ? { suiteChanged: prevFp !== fp } : {}),
     runs,
   };
 }
@@ -80,6 +128,8 @@ function checkEntry(v: unknown): string | undefined {
   if (typeof e.date !== 'string') return '"date": expected a string';
   if (typeof e.slabbench !== 'string') return '"slabbench": expected a string';
   if (e.commit !== undefined && typeof e.commit !== 'string') return '"commit": expected a string';
+  if (e.label !== undefined && typeof e.label !== 'string') return '"label": expected a string';
+  if (e.suiteChanged !== undefined && typeof e.suiteChanged !== 'boolean') return '"suiteChanged": expected true or false';
   if (!Array.isArray(e.runs)) return '"runs": expected an array';
   for (let i = 0; i < e.runs.length; i++) {
     const r = e.runs[i] as Record<string, unknown>;

@@ -115,6 +115,10 @@ export function mergeResults(files: ShardFile[]): ResultsDoc {
       ...(fd.parameters.onlyMatrix ? { onlyMatrix: fd.parameters.onlyMatrix } : {}),
       ...(fd.parameters.onlyRecipe ? { onlyRecipe: fd.parameters.onlyRecipe } : {}),
       ...(fd.parameters.warmup ? { warmup: true } : {}),
+      // Timing protocol and ranking settings, when every shard used the same ones.
+      ...(files.every((f) => f.doc.parameters.repeats === fd.parameters.repeats) && fd.parameters.repeats !== undefined ? { repeats: fd.parameters.repeats } : {}),
+      ...(files.every((f) => f.doc.parameters.rankBy === fd.parameters.rankBy) && fd.parameters.rankBy ? { rankBy: fd.parameters.rankBy } : {}),
+      ...(fd.parameters.target && files.every((f) => JSON.stringify(f.doc.parameters.target) === JSON.stringify(fd.parameters.target)) ? { target: fd.parameters.target } : {}),
       mergedShards: files.length,
     },
     status: 'complete',

@@ -43,6 +43,72 @@ export interface RunRecord {
   /** Absent when the run could not start (then error says why). */
   result?: SolveResult;
   error?: string;
+  /** Timed repeats of this pair (timing protocol); absent in results written before repeats existed
+   *  (then result.timing holds the one timed solve). */
+  repeats?: RepeatTimes;
+  /** Modeled seconds = bytes / bandwidth + flops / flop rate per phase, with the document's `model`
+   *  rates; absent when the result carries no work counters or the sweep ran no probe. */
+  modeled?: PhaseSeconds;
+}
+
+/** Seconds of one run split by phase. */
+export interface PhaseSeconds {
+  setupSeconds: number;
+  solveSeconds: number;
+  /** setup + solve. */
+  totalSeconds: number;
+}
+
+/** Every timed repeat of one matrix × recipe pair, and their summary (src/run/timing.ts). */
+export interface RepeatTimes {
+  /** Number of timed repeats, each with a fresh preconditioner setup. */
+  count: number;
+  /** An untimed warm-up solve ran before the repeats. */
+  warmup: boolean;
+  /** A full garbage collection ran before each timed repeat. */
+  gc: boolean;
+  /** Per repeat, in order. */
+  setupSeconds: number[];
+  solveSeconds: number[];
+  /** Median, minimum and maximum over the repeats; each field on its own (totalSeconds from the per-repeat totals). */
+  median: PhaseSeconds;
+  min: PhaseSeconds;
+  max: PhaseSeconds;
+  /** Index of the repeat whose SolveResult is stored in `result` (the one with the median total time). */
+  stored: number;
+  /** False when iterations, stop reason or residual history differed between repeats (a flagged run). */
+  consistent: boolean;
+  /** What differed, e.g. "repeat 2: iterations 11, repeat 1: 10" (only when not consistent). */
+  differences?: string[];
+}
+
+/** The machine probe run at the start of a sweep (src/run/probe.ts). */
+export interface MachineProbe {
+  /** Streaming bandwidth, 10⁹ bytes per second (triad, STREAM byte counting). */
+  bandwidthGBs: number;
+  /** Dense block flop rate, 10⁹ floating-point operations per second. */
+  flopRateGFLOPs: number;
+  /** Wall time the probe took. */
+  probeSeconds: number;
+  /** What was measured, in words. */
+  method: string;
+}
+
+/** Rates the modeled times of a document were computed with. */
+export interface ModelRates {
+  bandwidthGBs: number;
+  flopRateGFLOPs: number;
+  /** 'probe': this machine's probe; 'target': --target-bandwidth / --target-flops. */
+  bandwidthFrom: 'probe' | 'target';
+  flopRateFrom: 'probe' | 'target';
+}
+
+/** What ran beside the sweep: its own worker count, the machine's CPUs and load average (1, 5, 15 min). */
+export interface ParallelNote {
+  jobs: number;
+  cpus: number;
+  loadAverageStart: number[];
+  loadAverageEnd?: number[];
 }
 
 export interface ResultsDoc {
@@ -71,9 +137,23 @@ export interface ResultsDoc {
     onlyRecipe?: string[];
     /** Number of shard files combined by `slabbench merge`. */
     mergedShards?: number;
-    /** Each pair was solved once untimed before the measured solve (`sweep --warmup`). */
+    /** Each pair was solved once untimed before the timed repeats (default; `--no-warmup` turns it off). */
     warmup?: boolean;
+    /** Timed repeats per pair (absent: one). */
+    repeats?: number;
+    /** A full garbage collection ran before each timed repeat. */
+    gc?: boolean;
+    /** How `sweep` ranked the recipes (absent: time). */
+    rankBy?: 'time' | 'modeled' | 'work' | 'iterations';
+    /** --target-bandwidth / --target-flops, when given. */
+    target?: { bandwidthGBs?: number; flopRateGFLOPs?: number };
+    /** What ran in parallel with the sweep. */
+    parallel?: ParallelNote;
   };
+  /** Machine probe of this sweep (absent: no probe ran, e.g. a merged or older document). */
+  machine?: MachineProbe;
+  /** Rates behind every run's `modeled` seconds. */
+  model?: ModelRates;
   /** 'partial' while a sweep is running (written after each finished run), 'interrupted' after Ctrl-C.
    *  Absent in documents written before this field existed: read as 'complete'. */
   status?: 'complete' | 'partial' | 'interrupted';
@@ -100,7 +180,23 @@ export interface HistoryEntry {
     peakBytes: number;
     /** matrix + preconditioner + krylov + work bytes (buffer byte counts, not RSS). */
     bufferBytes?: number;
+    /** setupSeconds/solveSeconds are medians over this many timed repeats (absent: one solve). */
+    repeats?: number;
+    /** Range of setup + solve seconds over the repeats. */
+    totalSecondsMin?: number;
+    totalSecondsMax?: number;
+    /** Bytes moved and flops, setup + solve (work counters; absent when the result has none). */
+    bytesMoved?: number;
+    flops?: number;
+    /** Modeled setup + solve seconds (document rates). */
+    modeledSeconds?: number;
   }>;
   /** Suite description and fingerprint, so the history view can tell suites apart. */
   suite?: { description?: string; fingerprint?: string };
+  /** The user's label for this run: --label, else the commit from the CI environment (labelFrom says which). */
+  label?: string;
+  /** 'option' (--label) or the environment variable the label came from (GITHUB_SHA, CI_COMMIT_SHA, …). */
+  labelFrom?: string;
+  /** True when the suite fingerprint differs from the previous entry's (matrices or recipes edited in between). */
+  suiteChanged?: boolean;
 }

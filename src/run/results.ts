@@ -95,6 +95,8 @@ export const CSV_COLUMNS = [
   'bufferBytes', 'peakBytes',
   'matvecs', 'preconditionerApplies', 'innerIterations', 'setupFlops', 'setupBytes', 'solveFlops', 'solveBytes',
   'error',
+  // timing protocol (added at the end, so older readers keep their columns)
+  'repeats', 'totalSecondsMedian', 'totalSecondsMin', 'totalSecondsMax', 'repeatsConsistent', 'modeledSeconds',
 ] as const;
 
 function csvCell(v: unknown): string {
@@ -122,6 +124,9 @@ export function resultsCsv(doc: ResultsDoc): string {
       innerIterations: r?.work?.solve.innerIterations, setupFlops: r?.work?.setup.flops, setupBytes: r?.work?.setup.bytes,
       solveFlops: r?.work?.solve.flops, solveBytes: r?.work?.solve.bytes,
       error: run.error,
+      repeats: run.repeats?.count, totalSecondsMedian: run.repeats?.median.totalSeconds,
+      totalSecondsMin: run.repeats?.min.totalSeconds, totalSecondsMax: run.repeats?.max.totalSeconds,
+      repeatsConsistent: run.repeats?.consistent, modeledSeconds: run.modeled?.totalSeconds,
     };
     lines.push(CSV_COLUMNS.map((c) => csvCell(row[c])).join(','));
   }

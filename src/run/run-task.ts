@@ -2,14 +2,21 @@
  * One matrix × recipe run, as executed inside a worker thread (or in-process): load the matrix (kept
  * while consecutive tasks use the same one), build the right-hand side, call solveSystem.
  * Solver and preconditioner failures are results (a reason); only a run that cannot start is an error.
+ *
+ * Timing protocol: an untimed warm-up solve (unless `warmup` is false), then `repeats` timed solves,
+ * each with a fresh preconditioner setup and a full garbage collection before it (timing.ts). The
+ * stored result is the repeat with the median setup + solve time; every repeat's seconds are kept in
+ * `record.repeats`, and repeats that did not compute the same thing flag the run (`consistent: false`).
  */
 import { recordedRecipe, type Recipe } from '../solvers/recipe.js';
+import type { SolveResult } from '../solvers/types.js';
 import { csrSpmv } from '../sparse/csr.js';
 import { isMatrixStore } from '../sparse/system.js';
 import { UserError } from '../util/errors.js';
 import type { RunDeps, LoadedForRun } from './deps.js';
 import type { MatrixInfo, RunRecord } from './results-types.js';
 import { matrixInfo } from './results.js';
+import { collectGarbage, repeatDifferences, summarizeRepeats } from './timing.js';
 
 export interface TaskMatrix {
   name: string;
@@ -28,8 +35,10 @@ export interface RunTask {
   id: number;
   matrix: TaskMatrix;
   recipe: Recipe;
-  /** Solve once untimed before the measured solve, so JIT compilation does not land in the timings. */
+  /** Solve once untimed before the timed repeats, so JIT compilation does not land in the timings. */
   warmup?: boolean;
+  /** Timed repeats (default 1). */
+  repeats?: number;
 }
 
 export interface TaskDone {
@@ -99,9 +108,21 @@ export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache
   const system = isMatrixStore(sys) ? sys
     : { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}), ...(sys.modes ? { modes: sys.modes } : {}) };
   try {
-    if (task.warmup) deps.solveSystem(system, loaded.b, task.recipe);
-    const { result } = deps.solveSystem(system, loaded.b, task.recipe);
-    return { id: task.id, record: { ...base, result }, info };
+    const warmup = task.warmup === true;
+    if (warmup) deps.solveSystem(system, loaded.b, task.recipe);
+    const count = Math.max(1, task.repeats ?? 1);
+    const results: SolveResult[] = [];
+    let gc = true;
+    for (let k = 0; k < count; k++) {
+      gc = collectGarbage() && gc;
+      results.push(deps.solveSystem(system, loaded.b, task.recipe).result);
+    }
+    const summary = summarizeRepeats(
+      results.map((r) => r.timing.setupSeconds), results.map((r) => r.timing.solveSeconds), { warmup, gc },
+    );
+    const differences = results.slice(1).flatMap((r, k) => repeatDifferences(results[0], r, k + 2));
+    const repeats = { ...summary, consistent: differences.length === 0, ...(differences.length ? { differences } : {}) };
+    return { id: task.id, record: { ...base, result: results[summary.stored], repeats }, info };
   } catch (e) {
     return { id: task.id, record: { ...base, error: errorText(e) }, info };
   }

@@ -63,6 +63,8 @@ export interface Suite {
   recipes: Recipe[];
   /** Identity of the parsed content (see ResultsDoc.suite.fingerprint). */
   fingerprint: string;
+  /** Suite-level timing protocol (command-line options override it). */
+  timing?: SuiteTiming;
   /** Recipes that were parameter grids (a field given as a list), when there were any. */
   grids?: SuiteGrid[];
 }
@@ -77,7 +79,33 @@ export interface SuiteGrid {
   recipes: string[];
 }
 
-const TOP_KEYS = new Set(['schema', 'description', 'matrices', 'recipes', '$comment']);
+/** `"timing": { "repeats": R, "warmup": true|false }` in a suite file. */
+export interface SuiteTiming {
+  repeats?: number;
+  warmup?: boolean;
+}
+
+/** Largest accepted repeat count (suite files and --repeats). */
+export const MAX_REPEATS = 100;
+
+function parseTiming(v: unknown, fail: (field: string, what: string) => never): SuiteTiming {
+  if (!isPlainObject(v)) return fail('timing', `expected an object such as { "repeats": 3, "warmup": true }, got ${describe(v)}`);
+  const out: SuiteTiming = {};
+  for (const [k, x] of Object.entries(v)) {
+    if (k === 'repeats') {
+      if (typeof x !== 'number' || !Number.isInteger(x) || x < 1 || x > MAX_REPEATS) fail('timing.repeats', `expected an integer from 1 to ${MAX_REPEATS}, got ${describe(x)}`);
+      out.repeats = x as number;
+    } else if (k === 'warmup') {
+      if (typeof x !== 'boolean') fail('timing.warmup', `expected true or false, got ${describe(x)}`);
+      out.warmup = x as boolean;
+    } else {
+      fail(`timing.${k}`, 'unknown key (expected repeats, warmup)');
+    }
+  }
+  return out;
+}
+
+const TOP_KEYS = new Set(['schema', 'description', 'matrices', 'recipes', 'timing', '$comment']);
 const FILE_KEYS = new Set(['name', 'note', 'file', 'rhs', 'blockSize']);
 const GEN_KEYS = new Set(['name', 'note', 'generate', 'prebuilt']);
 
@@ -124,6 +152,7 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
   }
   for (const k of Object.keys(top)) if (!TOP_KEYS.has(k)) fail(k, `unknown key (expected one of ${[...TOP_KEYS].join(', ')})`);
   if (top.description !== undefined && typeof top.description !== 'string') fail('description', `expected a string, got ${describe(top.description)}`);
+  const timing = top.timing !== undefined ? parseTiming(top.timing, fail) : undefined;
 
   if (!Array.isArray(top.matrices)) fail('matrices', `expected an array, got ${describe(top.matrices)}`);
   if (!Array.isArray(top.recipes)) fail('recipes', `expected an array, got ${describe(top.recipes)}`);
@@ -221,7 +250,7 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
       : { name: m.name, generate: m.generateRaw }),
     recipes,
   }));
-  const suite: Suite = { path: file, dir, description: top.description as string | undefined, matrices, recipes, fingerprint };
+  const suite: Suite = { path: file, dir, description: top.description as string | undefined, matrices, recipes, fingerprint, ...(timing ? { timing } : {}) };
   if (grids.length > 0) suite.grids = grids;
   return suite;
 }

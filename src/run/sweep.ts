@@ -5,6 +5,7 @@
 import { Worker } from 'node:worker_threads';
 import { createRequire } from 'node:module';
 import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { cpus, loadavg } from 'node:os';
 import { dirname, join, relative, resolve, isAbsolute, sep } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { writeFileAtomicSync } from '../util/atomic-write.js';
@@ -12,8 +13,9 @@ import { UserError } from '../util/errors.js';
 import { VERSION } from '../version.js';
 import type { CaseBuilder, RunDeps } from './deps.js';
 import { siblingModuleUrl } from './deps.js';
-import { appendHistory, historyEntry } from './history.js';
-import type { MatrixInfo, ResultsDoc, RunRecord } from './results-types.js';
+import { appendHistory, historyEntry, lastHistoryEntry } from './history.js';
+import type { MachineProbe, MatrixInfo, ModelRates, ParallelNote, ResultsDoc, RunRecord } from './results-types.js';
+import { modeledSeconds, modelRates, probeMachine, runWork } from './probe.js';
 import { environment, newResultsDoc, writeResults } from './results.js';
 import { executeTask, type RunTask, type TaskCache, type TaskDone, type TaskMatrix } from './run-task.js';
 import { recordedRecipe } from '../solvers/recipe.js';
@@ -47,9 +49,23 @@ export interface SweepOptions {
   log?(line: string): void;
   /** Append to OUT/history.jsonl after a complete sweep (default true). */
   history?: boolean;
-  /** Solve each pair once untimed before the measured solve (JIT warm-up; doubles the work). */
+  /** Solve each pair once untimed before the timed repeats (JIT warm-up). Default: the suite's
+   *  `timing.warmup`, else true. */
   warmup?: boolean;
+  /** Timed repeats per pair, each with a fresh setup. Default: the suite's `timing.repeats`, else 3. */
+  repeats?: number;
+  /** Machine probe: a function to call (tests pass a double), false for none. Default probeMachine. */
+  probe?: false | (() => MachineProbe);
+  /** Rates of the user's machine for the modeled time (each replaces the probe's figure). */
+  target?: { bandwidthGBs?: number; flopRateGFLOPs?: number };
+  /** Recorded in parameters.rankBy (the ranking itself is the report's). */
+  rankBy?: ResultsDoc['parameters']['rankBy'];
+  /** History label (--label); default: the commit from the CI environment, when there is one. */
+  label?: string;
 }
+
+/** Default timed repeats of a sweep. */
+export const DEFAULT_SWEEP_REPEATS = 3;
 
 export interface SweepOutcome {
   doc: ResultsDoc;
@@ -253,15 +269,24 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
     }
   }
 
+  const warmup = opts.warmup ?? suite.timing?.warmup ?? true;
+  const repeats = opts.repeats ?? suite.timing?.repeats ?? DEFAULT_SWEEP_REPEATS;
+  if (!(Number.isInteger(repeats) && repeats >= 1)) throw new UserError(`option --repeats: expected a positive integer, got ${repeats}`);
   const tasks: RunTask[] = opts.signal?.aborted ? [] : pairs.map((p, id) => ({
-    id, matrix: taskMatrices.get(p.matrixIndex)!, recipe: recipes[p.recipeIndex], ...(opts.warmup ? { warmup: true } : {}),
+    id, matrix: taskMatrices.get(p.matrixIndex)!, recipe: recipes[p.recipeIndex], warmup, repeats,
   }));
+
+  // The probe runs before any worker starts, so nothing of the sweep competes with it.
+  const probeFn = opts.probe === undefined ? probeMachine : opts.probe;
+  const machine: MachineProbe | undefined = probeFn && tasks.length > 0 ? probeFn() : undefined;
+  const model: ModelRates | undefined = machine ? modelRates(machine, opts.target) : undefined;
+  const parallel: ParallelNote = { jobs: opts.inProcess ? 1 : jobs, cpus: cpus().length, loadAverageStart: loadavg() };
 
   const env = environment();
   const records: Array<RunRecord | undefined> = new Array(pairs.length);
   const infos = new Map<string, MatrixInfo>();
   const matrixOrder = matrices.map((m) => m.name);
-  const buildDoc = (status: ResultsDoc['status']): ResultsDoc => newResultsDoc({
+  const buildDoc = (status: ResultsDoc['status']): ResultsDoc => withProbe(newResultsDoc({
     env,
     suite: {
       path: suite.path, description: suite.description, fingerprint: suite.fingerprint,
@@ -272,15 +297,27 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
       ...(opts.shard ? { shard: { index: opts.shard.index, count: opts.shard.count } } : {}),
       ...(opts.onlyMatrix?.length ? { onlyMatrix: opts.onlyMatrix } : {}),
       ...(opts.onlyRecipe?.length ? { onlyRecipe: opts.onlyRecipe } : {}),
-      ...(opts.warmup ? { warmup: true } : {}),
+      warmup,
+      repeats,
+      ...(records.some((r) => r?.repeats) ? { gc: records.every((r) => !r?.repeats || r.repeats.gc) } : {}),
+      ...(opts.rankBy ? { rankBy: opts.rankBy } : {}),
+      ...(opts.target && (opts.target.bandwidthGBs !== undefined || opts.target.flopRateGFLOPs !== undefined) ? { target: { ...opts.target } } : {}),
+      parallel,
     },
     status,
     matrices: matrixOrder.filter((n) => infos.has(n)).map((n) => infos.get(n)!),
     runs: records.filter((r): r is RunRecord => r !== undefined),
-  });
+  }));
+  // machine and model go before the matrices and runs, so a reader sees them near the top.
+  const withProbe = (d: ResultsDoc): ResultsDoc => {
+    const { matrices: ms, runs: rs, ...head } = d;
+    return { ...head, ...(machine ? { machine } : {}), ...(model ? { model } : {}), matrices: ms, runs: rs };
+  };
 
   let done = 0;
   const onDone = (d: TaskDone): void => {
+    const work = model && d.record.result ? runWork(d.record.result) : undefined;
+    if (work && model) d.record.modeled = modeledSeconds(work, model);
     records[d.id] = d.record;
     if (d.info && !infos.has(d.info.name)) infos.set(d.info.name, d.info);
     done++;
@@ -301,12 +338,13 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
     ? await runInProcess(tasks, opts.inProcess, onDone, opts.signal, onStart)
     : await runOnWorkers(tasks, jobs, opts.depsModule ?? siblingModuleUrl('solver-deps').href, onDone, opts.signal, onStart));
 
+  parallel.loadAverageEnd = loadavg();
   const doc = buildDoc(interrupted ? 'interrupted' : 'complete');
   writeResults(doc, files.results, files.csv);
   let history: string | undefined;
   if (!interrupted && opts.history !== false) {
     history = join(outDir, HISTORY_FILE);
-    appendHistory(history, historyEntry(doc));
+    appendHistory(history, historyEntry(doc, { label: opts.label, previous: lastHistoryEntry(history) }));
   }
   return { doc, interrupted, errors: doc.runs.filter((r) => r.error !== undefined).length, files: { ...files, ...(history ? { history } : {}) } };
 }

@@ -19,7 +19,9 @@ describe('history file', () => {
     expect(text.split('\n')).toHaveLength(3); // two lines + final newline
     const h = readHistory(join(out, 'history.jsonl'));
     expect(h).toHaveLength(2);
-    expect(h[1]).toEqual(JSON.parse(JSON.stringify(historyEntry(o.doc))));
+    expect(h[1]).toEqual(JSON.parse(JSON.stringify(historyEntry(o.doc, { previous: h[0] }))));
+    expect(h[1].suiteChanged).toBe(false);
+    expect(h[0].suiteChanged).toBeUndefined();
     expect(h[1].runs).toHaveLength(4);
     const run = o.doc.runs[0].result!;
     expect(h[1].runs[0]).toMatchObject({ matrix: 'alpha', recipe: 'rich-1', outcome: run.outcome, cause: run.cause, iterations: run.iterations, peakBytes: run.memory.peakBytes });

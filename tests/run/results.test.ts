@@ -33,7 +33,13 @@ describe('results document', () => {
       path: suite.path, description: 'tiny test suite', fingerprint: suite.fingerprint,
       matrixNames: ['alpha', 'beta'], recipeNames: ['rich-1'],
     });
-    expect(doc.parameters).toEqual({ jobs: 1, onlyRecipe: ['rich-1'] });
+    expect(doc.parameters).toMatchObject({ jobs: 1, onlyRecipe: ['rich-1'], warmup: true, repeats: 3, gc: true });
+    expect(doc.parameters.parallel).toMatchObject({ jobs: 1, cpus: expect.any(Number) });
+    expect(doc.parameters.parallel?.loadAverageStart).toHaveLength(3);
+    expect(doc.parameters.parallel?.loadAverageEnd).toHaveLength(3);
+    expect(doc.machine).toMatchObject({ bandwidthGBs: expect.any(Number), flopRateGFLOPs: expect.any(Number), method: expect.stringContaining('triad') });
+    expect(doc.machine!.bandwidthGBs).toBeGreaterThan(0);
+    expect(doc.machine!.flopRateGFLOPs).toBeGreaterThan(0);
     const m = doc.matrices[0];
     expect(m).toMatchObject({ name: 'alpha', source: 'file', n: 6, nnz: 16, bs: 1, nBlockRows: 6, nBlocks: 16, nSlabs: 1, note: 'file matrix' });
     expect(m.pattern?.counts.reduce((a, b) => a + b, 0)).toBe(16);
@@ -59,7 +65,10 @@ describe('results document', () => {
     expect(first[CSV_COLUMNS.indexOf('iterations')]).toBe(String(doc.runs[0].result!.iterations));
     expect(first[CSV_COLUMNS.indexOf('outcome')]).toBe('solved');
     expect(first[CSV_COLUMNS.indexOf('cause')]).toBe('relative-target');
-    expect(lines[lines.length - 1].endsWith(',"bad ""thing"", here"')).toBe(true);
+    // timing-protocol columns are at the end; empty when the run carries no repeats or modeled time
+    expect(CSV_COLUMNS.slice(-6)).toEqual(['repeats', 'totalSecondsMedian', 'totalSecondsMin', 'totalSecondsMax', 'repeatsConsistent', 'modeledSeconds']);
+    expect(first[CSV_COLUMNS.indexOf('repeats')]).toBe(doc.runs[0].repeats === undefined ? '' : String(doc.runs[0].repeats.count));
+    expect(lines[lines.length - 1].endsWith(',"bad ""thing"", here",,,,,,')).toBe(true);
     expect(lines[lines.length - 1]).toContain(',error,false,');
   });
 

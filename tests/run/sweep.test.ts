@@ -124,13 +124,21 @@ describe('runSweep', () => {
     expect(o.doc.matrices.map((m) => m.name)).toEqual(['alpha']);
   });
 
-  it('--warmup solves each pair once untimed before the measured solve, and says so in the parameters', async () => {
+  it('warms up by default, then times 3 repeats per pair; --no-warmup and --repeats change that, and the parameters say so', async () => {
     let calls = 0;
     const counting = { ...fake, solveSystem: (...a: Parameters<typeof fake.solveSystem>) => { calls++; return fake.solveSystem(...a); } };
-    const o = await runSweep({ suite, outDir: join(t.dir, 'warm'), jobs: 1, builder: fake, inProcess: counting, warmup: true, onlyMatrix: ['alpha'] });
-    expect(calls).toBe(4);
+    const o = await runSweep({ suite, outDir: join(t.dir, 'warm'), jobs: 1, builder: fake, inProcess: counting, onlyMatrix: ['alpha'] });
+    expect(calls).toBe(2 * (1 + 3));
     expect(o.doc.runs).toHaveLength(2);
-    expect(o.doc.parameters.warmup).toBe(true);
+    expect(o.doc.parameters).toMatchObject({ warmup: true, repeats: 3 });
+    expect(o.doc.runs[0].repeats).toMatchObject({ count: 3, warmup: true, consistent: true });
+    calls = 0;
+    const q = await runSweep({ suite, outDir: join(t.dir, 'cold'), jobs: 1, builder: fake, inProcess: counting, onlyMatrix: ['alpha'], warmup: false, repeats: 2 });
+    expect(calls).toBe(2 * 2);
+    expect(q.doc.parameters).toMatchObject({ warmup: false, repeats: 2 });
+    expect(q.doc.runs[0].repeats).toMatchObject({ count: 2, warmup: false });
+    await expect(runSweep({ suite, outDir: join(t.dir, 'bad'), jobs: 1, builder: fake, inProcess: fake, repeats: 0 }))
+      .rejects.toThrow('option --repeats: expected a positive integer, got 0');
   });
 
   it('a worker thread that dies mid-run becomes an error on that run; a fresh worker runs the rest', async () => {
