@@ -8,7 +8,7 @@ import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { BlockInverse, Recipe } from '../solvers/recipe.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { addWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
-import { checkApplyArgs, checkReady, factorBlock } from './common.js';
+import { checkApplyArgs, checkReady, diagonalSetupWork, factorBlock } from './common.js';
 import { blockMatVec, denseFlops, luInverse, luSolve } from './dense.js';
 import { diagonalIndex } from './block-tools.js';
 import { kernelF64, kernelI32, ptr, wasmFor } from '../kernels-host/arena.js';
@@ -42,16 +42,7 @@ class BlockJacobiPreconditioner implements Preconditioner {
     const bb = bs * bs;
     const diag = diagonalIndex(a);
     this.applies = 0;
-    // work model: the diagonal search (row pointers, column indices), then per block row attempted:
-    // the block copied in (or zero-filled when absent), factorBlock, and with inverses luInverse
-    const perRow = denseWork.factorBlock(bs, this.shift);
-    if (this.mode === 'inverse') addWork(perRow, denseWork.inverse(bs));
-    const work = (rows: number, present: number): WorkCounts => {
-      const w = kernel(0, 4 * (nb + 1) + 4 * a.colInd.length);
-      addWork(w, perRow, rows);
-      addWork(w, denseWork.copy(bs), present);
-      return addWork(w, kernel(0, 8 * bb), rows - present);
-    };
+    const work = diagonalSetupWork(nb, a.colInd.length, bs, this.shift, this.mode === 'inverse');
     let present = 0;
     this.factors = kernelF64(nb * bb);
     this.pivots = kernelI32(this.mode === 'lu' ? nb * bs : bs);

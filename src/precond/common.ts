@@ -4,6 +4,27 @@
  */
 import type { Preconditioner, SetupOutcome } from './types.js';
 import { PIVOT_RTOL, allFinite, blockMaxAbs, luFactor } from './dense.js';
+import type { WorkCounts } from '../solvers/types.js';
+import { addWork, denseWork, kernel } from '../solvers/work.js';
+
+/**
+ * Setup work of factoring the diagonal blocks (block-jacobi, block-gs), by the work model: the
+ * diagonal search (row pointers, column indices), then per block row attempted the block copied
+ * in (zero-filled when absent), factorBlock, and with inverses luInverse. `rows` attempted, of
+ * which `present` had a stored diagonal block.
+ */
+export function diagonalSetupWork(
+  nb: number, nStoredBlocks: number, bs: number, shift: number, withInverse: boolean,
+): (rows: number, present: number) => WorkCounts {
+  const perRow = denseWork.factorBlock(bs, shift);
+  if (withInverse) addWork(perRow, denseWork.inverse(bs));
+  return (rows, present) => {
+    const w = kernel(0, 4 * (nb + 1) + 4 * nStoredBlocks);
+    addWork(w, perRow, rows);
+    addWork(w, denseWork.copy(bs), present);
+    return addWork(w, kernel(0, 8 * bs * bs), rows - present);
+  };
+}
 
 /** Throws (a programming error, not a user error) unless r and z are distinct arrays of length n. */
 export function checkApplyArgs(name: string, n: number, r: Float64Array, z: Float64Array): void {
