@@ -27,7 +27,7 @@ export function checkVariablePreconditioner(recipe: Recipe, M?: Preconditioner):
  */
 export function krylovSolve(
   A: LinearOperator, b: Float64Array, x: Float64Array, recipe: Recipe, M?: Preconditioner,
-  extra?: Pick<KrylovOptions, 'onIteration' | 'ritz'>,
+  extra?: Pick<KrylovOptions, 'onIteration' | 'ritz' | 'carry'>,
 ): SolveResult {
   checkVariablePreconditioner(recipe, M);
   const opts: KrylovOptions = { ...krylovOptionsFromRecipe(recipe, M), ...extra };

@@ -33,6 +33,18 @@ export interface KrylovOptions {
    * failure.message "stopped by the onIteration monitor".
    */
   onIteration?(iteration: number, relativeResidual: number): boolean | void;
+  /**
+   * State a Krylov method carries from one solve to the next of a sequence (a recycled subspace):
+   * the caller keeps one KrylovCarry per recipe and sequence and passes the same object to every
+   * solve; methods that do not recycle ignore it.
+   */
+  carry?: KrylovCarry;
+}
+
+/** Per-sequence state of a recycling method, owned by the caller and filled by the method. */
+export interface KrylovCarry {
+  /** Method-specific recycled space (GCRO-DR: the deflation basis); absent before the first solve. */
+  recycle?: unknown;
 }
 
 /** Solver options from a recipe (the preconditioner is passed separately, already set up). */

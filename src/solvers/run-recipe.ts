@@ -18,6 +18,8 @@ export interface SolveSystemOptions {
   x0?: Float64Array;
   /** Per-iteration monitor (see KrylovOptions.onIteration). */
   onIteration?: KrylovOptions['onIteration'];
+  /** Recycled Krylov state carried across the solves of a sequence (see KrylovOptions.carry). */
+  carry?: KrylovOptions['carry'];
   /**
    * The system will not be solved again (the `solve` command): a loaded system may then drop a
    * CSR whose blocks are partially filled, which it otherwise keeps to rebuild the exact pattern.
@@ -120,7 +122,7 @@ function solveOn(
   if (!outcome.ok) {
     result = setupFailure(A, b, x, recipe, M, outcome);
   } else {
-    result = krylovSolve(A, b, x, recipe, M, { onIteration: opts.onIteration });
+    result = krylovSolve(A, b, x, recipe, M, { onIteration: opts.onIteration, carry: opts.carry });
   }
   result.timing.setupSeconds = setupSeconds;
   if (M) result.work.setup = { ...M.work().setup };
