@@ -17,11 +17,12 @@
  * schwarz), and the vector operations shared out by its share of the unknowns.
  */
 import type { SystemMatrix } from '../precond/types.js';
-import { SUBDOMAIN_SOLVERS, type Recipe } from '../solvers/recipe.js';
+import { SUBDOMAIN_SOLVERS, type PartitionSlabsMode, type Recipe } from '../solvers/recipe.js';
 import type { SolveResult, WorkCounts } from '../solvers/types.js';
 import { solveSystem } from '../solvers/run-recipe.js';
 import { sparseWork } from '../solvers/work.js';
-import { partitionBlocks } from '../sparse/partition.js';
+import { partitionBlocks, type PartitionMethod } from '../sparse/partition.js';
+import { checkCentroids } from '../precond/schwarz.js';
 import { UserError } from '../util/errors.js';
 
 export interface TargetMachine {
@@ -60,7 +61,11 @@ export interface ScaleRow {
 
 export interface ScaleReport {
   schema: 'slabbench-scale/1';
+  /** The matrix file as given to scale, when known. */
+  matrix?: string;
   machine: TargetMachine;
+  /** How every P was partitioned. */
+  partition: { method: PartitionMethod; slabs: PartitionSlabsMode };
   rows: ScaleRow[];
 }
 
@@ -80,15 +85,25 @@ export function reductionsOf(recipe: Recipe, iterations: number, restarts: numbe
   return full * cycle(m) + cycle(rest) + restarts + 1;
 }
 
+/** How scale partitions (whatever the preconditioner; unset fields: the recipe's, else the defaults). */
+export interface ScalePartition {
+  method?: PartitionMethod;
+  slabs?: PartitionSlabsMode;
+}
+
 /** The recipe a run with P parts uses (see the file comment). */
-export function partitionedRecipe(recipe: Recipe, parts: number): Recipe {
-  if (recipe.preconditioner === 'schwarz') return { ...recipe, parts, name: `${recipe.name}-P${parts}` };
+export function partitionedRecipe(recipe: Recipe, parts: number, partition: ScalePartition = {}): Recipe {
+  const how = {
+    ...(partition.method !== undefined ? { partitionMethod: partition.method } : {}),
+    ...(partition.slabs !== undefined ? { partitionSlabs: partition.slabs } : {}),
+  };
+  if (recipe.preconditioner === 'schwarz') return { ...recipe, ...how, parts, name: `${recipe.name}-P${parts}` };
   if (recipe.preconditioner === 'none') return { ...recipe, name: `${recipe.name}-P${parts}` };
   if (!(SUBDOMAIN_SOLVERS as readonly string[]).includes(recipe.preconditioner)) {
     throw new UserError(`scale: preconditioner ${recipe.preconditioner} cannot be applied part by part; use schwarz or one of ${SUBDOMAIN_SOLVERS.filter((s) => s !== 'exact').join(', ')}`);
   }
   return {
-    ...recipe, name: `${recipe.name}-P${parts}`, preconditioner: 'schwarz', parts, overlap: 0, schwarzKind: 'restricted',
+    ...recipe, ...how, name: `${recipe.name}-P${parts}`, preconditioner: 'schwarz', parts, overlap: 0, schwarzKind: 'restricted',
     subdomain: recipe.preconditioner as Recipe['subdomain'],
   };
 }
@@ -101,7 +116,8 @@ export function partCounts(maxParts: number): number[] {
 }
 
 export function runScale(
-  system: SystemMatrix, b: Float64Array, recipe: Recipe, opts: { maxParts: number; machine: TargetMachine },
+  system: SystemMatrix, b: Float64Array, recipe: Recipe,
+  opts: { maxParts: number; machine: TargetMachine; partition?: ScalePartition; matrix?: string },
 ): ScaleReport {
   const a = system.bsr;
   const nb = a.nBlockRows, bs = a.bs, n = nb * bs;
@@ -109,11 +125,16 @@ export function runScale(
     throw new UserError(`scale: --max-parts must be an integer from 1 to the ${nb} block rows, got ${opts.maxParts}`);
   }
   if (recipe.parts !== undefined) throw new UserError('scale: --parts is set by scale itself (P = 1, 2, 4, … up to --max-parts); leave it out');
+  const method = opts.partition?.method ?? recipe.partitionMethod ?? 'graph';
+  const slabs = opts.partition?.slabs ?? recipe.partitionSlabs ?? 'across';
+  if (method === 'coordinates') checkCentroids(system, 'scale: partition method coordinates');
   const rows: ScaleRow[] = [];
   for (const P of partCounts(opts.maxParts)) {
-    const r = partitionedRecipe(recipe, P);
+    const r = partitionedRecipe(recipe, P, opts.partition);
     const { result } = solveSystem(system, b, r);
-    const part = partitionBlocks(a, P, { slabs: r.partitionSlabs ?? 'across', slabOffsets: system.slabOffsets });
+    const part = partitionBlocks(a, P, {
+      slabs, slabOffsets: system.slabOffsets, method, centroids: system.centroids,
+    });
     const its = Math.max(result.iterations, 1);
     const solve = result.work.solve;
     const stats = (result.preconditionerStats ?? {}) as Record<string, unknown>;
@@ -166,5 +187,8 @@ export function runScale(
       modelled: { compute, messages: tMsg, network: tNet, reductions: tRed, perIteration, total: perIteration * result.iterations },
     });
   }
-  return { schema: 'slabbench-scale/1', machine: { ...opts.machine }, rows };
+  return {
+    schema: 'slabbench-scale/1', ...(opts.matrix !== undefined ? { matrix: opts.matrix } : {}),
+    machine: { ...opts.machine }, partition: { method, slabs }, rows,
+  };
 }
