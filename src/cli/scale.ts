@@ -87,7 +87,7 @@ export function formatScaleReport(r: ScaleReport): string {
   const line = (cells: string[]): string => cells.map((c, i) => (i === 0 ? c.padStart(widths[i]) : c.padStart(widths[i]))).join('  ');
   const m = r.machine;
   return [
-    `recipe ${r.rows[0]?.recipe.name.replace(/-P1$/, '') ?? ''}: P parts solved exactly on one core; time is a model, not a measurement`,
+    `recipe ${r.recipe}: P parts solved exactly on one core; time is a model, not a measurement`,
     `target (α–β model): ${formatBytes(m.bandwidth)}/s memory per process, latency ${us(m.latency)} µs, ${formatBytes(m.networkBandwidth)}/s network`,
     `partition: ${r.partition.method === 'coordinates' ? 'coordinate bisection of the centroids' : 'graph bisection'}, parts ${r.partition.slabs === 'within' ? 'inside slabs' : 'across slabs'}`,
     '',
@@ -98,7 +98,7 @@ export function formatScaleReport(r: ScaleReport): string {
 
 /** The forecast plot of a report (iterations and modelled time per iteration against P). */
 export function scaleReportSvg(r: ScaleReport, file: string): string {
-  const name = r.rows[0]?.recipe.name.replace(/-P1$/, '') ?? 'recipe';
+  const name = r.recipe;
   return scalePlot({
     title: `${name} on P parts: iterations and modelled time`, recipe: name,
     parts: r.rows.map((x) => x.parts), iterations: r.rows.map((x) => x.iterations),

@@ -63,6 +63,8 @@ export interface ScaleReport {
   schema: 'slabbench-scale/1';
   /** The matrix file as given to scale, when known. */
   matrix?: string;
+  /** The recipe's name before partitioning (rows[].recipe.name adds -P<parts>). */
+  recipe: string;
   machine: TargetMachine;
   /** How every P was partitioned. */
   partition: { method: PartitionMethod; slabs: PartitionSlabsMode };
@@ -108,10 +110,10 @@ export function partitionedRecipe(recipe: Recipe, parts: number, partition: Scal
   };
 }
 
-/** P = 1, 2, 4, … ≤ maxParts. */
-export function partCounts(maxParts: number): number[] {
+/** P = first, 2·first, 4·first, … ≤ maxParts (first = 1, or the number of slabs when parts lie inside slabs). */
+export function partCounts(maxParts: number, first = 1): number[] {
   const out: number[] = [];
-  for (let p = 1; p <= maxParts; p *= 2) out.push(p);
+  for (let p = first; p <= maxParts; p *= 2) out.push(p);
   return out;
 }
 
@@ -128,8 +130,16 @@ export function runScale(
   const method = opts.partition?.method ?? recipe.partitionMethod ?? 'graph';
   const slabs = opts.partition?.slabs ?? recipe.partitionSlabs ?? 'across';
   if (method === 'coordinates') checkCentroids(system, 'scale: partition method coordinates');
+  // parts inside slabs: at least one part per slab, so P starts at the number of slabs
+  let first = 1;
+  if (slabs === 'within') {
+    const offs = system.slabOffsets;
+    if (offs === undefined || offs.length < 2) throw new UserError('scale: parts inside slabs (--partition-slabs within) need slab offsets (a layout file with slabOffsets)');
+    first = offs.length - 1;
+    if (opts.maxParts < first) throw new UserError(`scale: --max-parts ${opts.maxParts} is below the ${first} slabs; parts inside slabs (--partition-slabs within) need at least one part per slab`);
+  }
   const rows: ScaleRow[] = [];
-  for (const P of partCounts(opts.maxParts)) {
+  for (const P of partCounts(opts.maxParts, first)) {
     const r = partitionedRecipe(recipe, P, opts.partition);
     const { result } = solveSystem(system, b, r);
     const part = partitionBlocks(a, P, {
@@ -188,7 +198,7 @@ export function runScale(
     });
   }
   return {
-    schema: 'slabbench-scale/1', ...(opts.matrix !== undefined ? { matrix: opts.matrix } : {}),
+    schema: 'slabbench-scale/1', ...(opts.matrix !== undefined ? { matrix: opts.matrix } : {}), recipe: recipe.name,
     machine: { ...opts.machine }, partition: { method, slabs }, rows,
   };
 }
