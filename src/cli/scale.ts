@@ -9,7 +9,7 @@ import { EXIT, fileError, optionError } from '../util/errors.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
 import { formatBytes, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
 import { esc } from '../report/svg/common.js';
-import { scalePlot } from '../report/svg/scale.js';
+import { scaleForecastPlot } from '../report/svg/scale.js';
 
 interface ScaleCommandOptions extends Record<string, unknown> {
   rhs?: string;
@@ -96,17 +96,6 @@ export function formatScaleReport(r: ScaleReport): string {
   ].join('\n');
 }
 
-/** The forecast plot of a report (iterations and modelled time per iteration against P). */
-export function scaleReportSvg(r: ScaleReport, file: string): string {
-  const name = r.recipe;
-  return scalePlot({
-    title: `${name} on P parts: iterations and modelled time`, recipe: name,
-    parts: r.rows.map((x) => x.parts), iterations: r.rows.map((x) => x.iterations),
-    perIteration: r.rows.map((x) => x.modelled.perIteration), compute: r.rows.map((x) => x.modelled.compute),
-    converged: r.rows.map((x) => x.converged), idPrefix: 'scale-',
-  });
-}
-
 /** A self-contained page: the plot, the table and the model's caution. */
 export function scaleReportHtml(r: ScaleReport, file: string): string {
   return `<!doctype html>
@@ -115,7 +104,7 @@ export function scaleReportHtml(r: ScaleReport, file: string): string {
 <body><h1>Scaling forecast: ${esc(file)}</h1>
 <p>The iterations are exact (the partitioned algebra carried out on one core). The time is a model
 (α–β: Hockney 1994) on an example target, not a measurement of a real cluster; check decisions on the machine itself.</p>
-${scaleReportSvg(r, file)}
+${scaleForecastPlot(r, 'scale-')}
 <pre>${esc(formatScaleReport(r))}</pre>
 </body></html>
 `;
