@@ -59,6 +59,7 @@ const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   schwarzKind: 'schwarz: restricted or plain additive combination (default restricted)',
   subdomain: 'schwarz: subdomain solve, a preconditioner name or exact (default block-ilu0)',
   partitionSlabs: 'schwarz: parts across slabs or each inside one slab (default across)',
+  partitionMethod: 'schwarz: graph (bisection of the block graph) or coordinates (bisection of the layout\'s centroids); default graph',
 };
 
 interface SolveCommandOptions {

@@ -1,7 +1,8 @@
 /**
  * One-level Schwarz on a partition of the block graph (src/sparse/partition.ts).
  *
- * Parts Ω_1…Ω_P of the block rows are grown by `overlap` layers of graph neighbours (the
+ * Parts Ω_1…Ω_P of the block rows (graph bisection, or coordinate bisection of the layout's
+ * centroids with partitionMethod 'coordinates') are grown by `overlap` layers of graph neighbours (the
  * symmetrized block pattern) into Ω'_i. Each subdomain matrix A_i = A(Ω'_i, Ω'_i) (couplings
  * leaving Ω'_i dropped) gets its own solver M_i:
  *   additive:   z = Σ_i R_iᵀ M_i⁻¹ R_i r        (R_i restricts to Ω'_i)
@@ -26,7 +27,7 @@ import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { addWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { UserError } from '../util/errors.js';
 import { bsrToCsr } from '../sparse/bsr.js';
-import { blockGraph, partitionBlocks, partitionSummary, type Partition } from '../sparse/partition.js';
+import { blockGraph, partitionBlocks, partitionSummary, type Partition, type PartitionMethod } from '../sparse/partition.js';
 import { checkApplyArgs, checkReady, isFailure, totalBytes } from './common.js';
 import { PIVOT_RTOL, allFinite, luFactor, luSolve } from './dense.js';
 import { validSlabOffsets } from './block-tools.js';
@@ -34,7 +35,7 @@ import { createPreconditioner } from './registry.js';
 
 export const SCHWARZ_DEFAULTS = Object.freeze({
   parts: 4, overlap: 1, schwarzKind: 'restricted' as SchwarzKind, subdomain: 'block-ilu0' as SubdomainSolver,
-  partitionSlabs: 'across' as PartitionSlabsMode,
+  partitionSlabs: 'across' as PartitionSlabsMode, partitionMethod: 'graph' as PartitionMethod,
 });
 /** Largest subdomain (unknowns) an 'exact' subdomain solve factors densely. */
 export const EXACT_MAX_UNKNOWNS = 4096;
@@ -49,7 +50,9 @@ export function createSchwarz(system: SystemMatrix, recipe: Recipe): Preconditio
   const kind = recipe.schwarzKind ?? SCHWARZ_DEFAULTS.schwarzKind;
   const subdomain = recipe.subdomain ?? SCHWARZ_DEFAULTS.subdomain;
   const slabs = recipe.partitionSlabs ?? SCHWARZ_DEFAULTS.partitionSlabs;
+  const method = recipe.partitionMethod ?? SCHWARZ_DEFAULTS.partitionMethod;
   const nb = system.bsr.nBlockRows;
+  if (method === 'coordinates') checkCentroids(system, `recipe ${recipe.name}: schwarz partitionMethod 'coordinates'`);
   if (parts > nb) throw new UserError(`recipe ${recipe.name}: schwarz parts ${parts} exceeds the matrix's ${nb} block rows`);
   if ((subdomain as string) === 'schwarz' || (subdomain as string) === 'slab') {
     throw new UserError(`recipe ${recipe.name}: schwarz subdomain solve cannot be ${subdomain}`);
@@ -65,14 +68,25 @@ export function createSchwarz(system: SystemMatrix, recipe: Recipe): Preconditio
     }
   }
   const sub: Recipe = { ...recipe, name: `${recipe.name}/subdomain`, preconditioner: subdomain === 'exact' ? 'none' : subdomain };
-  for (const f of ['parts', 'overlap', 'schwarzKind', 'subdomain', 'partitionSlabs'] as const) delete sub[f];
+  for (const f of ['parts', 'overlap', 'schwarzKind', 'subdomain', 'partitionSlabs', 'partitionMethod'] as const) delete sub[f];
   delete sub.inner;
-  return new SchwarzPreconditioner(system, { parts, overlap, kind, subdomain, slabs, sub, shift: recipe.shift });
+  return new SchwarzPreconditioner(system, { parts, overlap, kind, subdomain, slabs, method, sub, shift: recipe.shift });
+}
+
+/** Coordinate bisection needs one centroid per block row (layout field `centroids`); `what` starts the message. */
+export function checkCentroids(system: SystemMatrix, what: string): void {
+  const nb = system.bsr.nBlockRows, c = system.centroids;
+  if (c === undefined) {
+    throw new UserError(`${what} needs element centroids: the layout has no "centroids" field (generated cases record it; for your own matrix see README "The layout file"), or use partitionMethod graph`);
+  }
+  if (c.values.length !== nb * c.nCoordinates) {
+    throw new UserError(`${what}: the centroids hold ${c.values.length / c.nCoordinates} points, expected one per block row (${nb})`);
+  }
 }
 
 interface SchwarzOptions {
   parts: number; overlap: number; kind: SchwarzKind; subdomain: SubdomainSolver; slabs: PartitionSlabsMode;
-  sub: Recipe; shift: number;
+  method: PartitionMethod; sub: Recipe; shift: number;
 }
 
 /** One subdomain: its rows (caller numbering, ascending), matrix and solver. */
@@ -166,7 +180,9 @@ export class SchwarzPreconditioner implements Preconditioner {
     this.setupFlops = 0;
     const work = zeroWork();
     this.setupWork = work;
-    const p = partitionBlocks(a, this.o.parts, { slabs: this.o.slabs, slabOffsets: this.system.slabOffsets });
+    const p = partitionBlocks(a, this.o.parts, {
+      slabs: this.o.slabs, slabOffsets: this.system.slabOffsets, method: this.o.method, centroids: this.system.centroids,
+    });
     this.partition = p;
     const rowsOf = overlappedRows(a, p, this.o.overlap);
     if (this.o.subdomain === 'exact') {
@@ -343,7 +359,7 @@ export class SchwarzPreconditioner implements Preconditioner {
     const p = this.partition;
     const bs = this.system.bsr.bs;
     const base: Record<string, unknown> = {
-      kind: this.o.kind, overlap: this.o.overlap, subdomain: this.o.subdomain, partitionSlabs: this.o.slabs,
+      kind: this.o.kind, overlap: this.o.overlap, subdomain: this.o.subdomain, partitionSlabs: this.o.slabs, partitionMethod: this.o.method,
       setupFlops: this.setupFlops, applications: this.applies,
     };
     if (!p) return { ...base, parts: this.o.parts };
