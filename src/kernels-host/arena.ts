@@ -24,6 +24,8 @@ export class KernelArena {
   spilledBytes = 0;
   /** Kernel calls handed to WebAssembly so far (the tests check that a path really dispatched). */
   dispatched = 0;
+  /** Kernel calls made while this arena was active that ran in TypeScript (an array outside it). */
+  missed = 0;
 
   constructor(bytes: number) {
     const pages = Math.ceil((bytes + BASE) / WASM_PAGE_BYTES);
@@ -119,10 +121,10 @@ export function wasmFor(a: Arr, b?: Arr, c?: Arr, d?: Arr): KernelExports | null
   const A = current;
   if (A === null) return null;
   const buf = A.buffer;
-  if (a.buffer !== buf) return null;
-  if (b !== undefined && b.buffer !== buf) return null;
-  if (c !== undefined && c.buffer !== buf) return null;
-  if (d !== undefined && d.buffer !== buf) return null;
+  if (a.buffer !== buf || (b !== undefined && b.buffer !== buf) || (c !== undefined && c.buffer !== buf) || (d !== undefined && d.buffer !== buf)) {
+    A.missed++;
+    return null;
+  }
   A.dispatched++;
   return A.k;
 }
@@ -131,7 +133,7 @@ export function wasmFor(a: Arr, b?: Arr, c?: Arr, d?: Arr): KernelExports | null
 export function allInArena(arrays: ReadonlyArray<Arr | null | undefined>): boolean {
   const A = current;
   if (A === null) return false;
-  for (const a of arrays) if (a && a.buffer !== A.buffer) return false;
+  for (const a of arrays) if (a && a.buffer !== A.buffer) { A.missed++; return false; }
   A.dispatched++;
   return true;
 }
