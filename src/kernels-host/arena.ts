@@ -95,6 +95,16 @@ export function kernelI32(n: number): Int32Array {
   return new Int32Array(n);
 }
 
+/**
+ * src itself when no arena is active or src lives in it already, else its copy in the active arena
+ * (for arrays built on the JavaScript heap that kernels will read).
+ */
+export function kernelResident<T extends Float64Array | Int32Array>(src: T): T {
+  const a = current;
+  if (a === null || src.buffer === a.buffer) return src;
+  return (src instanceof Float64Array ? kernelCopyF64(src) : kernelCopyI32(src as Int32Array)) as T;
+}
+
 /** A copy of src in the active arena (or the JavaScript heap). */
 export function kernelCopyF64(src: Float64Array): Float64Array { const v = kernelF64(src.length); v.set(src); return v; }
 export function kernelCopyI32(src: Int32Array): Int32Array { const v = kernelI32(src.length); v.set(src); return v; }

@@ -80,14 +80,14 @@ export function solveBoundBytes(system: SystemMatrix, recipe: Recipe, format: 'c
 /**
  * Bound on a preconditioner's storage in copies of the matrix arrays (default 3: factors of the
  * same pattern, a permuted copy, the diagonal inverses). The multilevel and partitioned methods
- * hold more: p-multigrid its coarse levels and a smoother per level; schwarz overlapped subdomain
+ * hold more: AIR its coarse operators, Z and W, a scaled copy of the matrix and dense scratch; p-multigrid its coarse levels and a smoother per level; schwarz overlapped subdomain
  * copies and their factors; block-iluk fill; direct the fill of a sparse LU. What exceeds the bound
  * is allocated on the JavaScript heap (spilledBytes; those kernels run in TypeScript). A larger
  * bound costs address space, not RAM; solves whose bound would pass one memory's 4 GiB are capped
  * there (see planKernels).
  */
 const PRECONDITIONER_MATRIX_COPIES: Readonly<Record<string, number>> = {
-  'p-multigrid': 5, schwarz: 5, 'block-iluk': 6, direct: 12,
+  air: 8, 'p-multigrid': 5, schwarz: 5, 'block-iluk': 6, direct: 12,
 };
 
 function moveMatrix(system: SystemMatrix, arena: KernelArena, withCsr: boolean, format: 'csr' | 'bsr'): void {
