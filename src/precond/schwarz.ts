@@ -25,6 +25,7 @@ import type { Recipe, SchwarzKind, SubdomainSolver, PartitionSlabsMode } from '.
 import type { Bsr, Csr } from '../sparse/types.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { addWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
+import { kernelCopyI32, kernelF64, kernelI32 } from '../kernels-host/arena.js';
 import { UserError } from '../util/errors.js';
 import { bsrToCsr } from '../sparse/bsr.js';
 import { blockGraph, partitionBlocks, partitionSummary, type Partition, type PartitionMethod } from '../sparse/partition.js';
@@ -112,8 +113,9 @@ export function extractSubmatrix(a: Bsr, rows: Int32Array, local: Int32Array): B
     for (let k = a.rowPtr[rows[i]]; k < a.rowPtr[rows[i] + 1]; k++) if (a.colInd[k] < local.length && local[a.colInd[k]] >= 0) c++;
     rowPtr[i + 1] = rowPtr[i] + c;
   }
-  const colInd = new Int32Array(rowPtr[rows.length]);
-  const values = new Float64Array(rowPtr[rows.length] * bb);
+  // in kernel memory when a solve has one, so the subdomain solvers run on the WebAssembly kernels
+  const colInd = kernelI32(rowPtr[rows.length]);
+  const values = kernelF64(rowPtr[rows.length] * bb);
   let w = 0;
   for (let i = 0; i < rows.length; i++) {
     for (let k = a.rowPtr[rows[i]]; k < a.rowPtr[rows[i] + 1]; k++) {
@@ -125,7 +127,7 @@ export function extractSubmatrix(a: Bsr, rows: Int32Array, local: Int32Array): B
     }
   }
   for (let i = 0; i < rows.length; i++) local[rows[i]] = -1;
-  return { nBlockRows: rows.length, nBlockCols: rows.length, bs: a.bs, rowPtr, colInd, values };
+  return { nBlockRows: rows.length, nBlockCols: rows.length, bs: a.bs, rowPtr: kernelCopyI32(rowPtr), colInd, values };
 }
 
 /** Grow each part by `layers` rings of graph neighbours; returns ascending row lists. */
@@ -158,8 +160,8 @@ export class SchwarzPreconditioner implements Preconditioner {
   variable = false;
   private partition?: Partition;
   private subs: Subdomain[] = [];
-  private rLoc = new Float64Array(0);
-  private zLoc = new Float64Array(0);
+  private rLoc: Float64Array = new Float64Array(0);
+  private zLoc: Float64Array = new Float64Array(0);
   private applies = 0;
   private ready = false;
   private setupWork: WorkCounts = zeroWork();
@@ -217,7 +219,7 @@ export class SchwarzPreconditioner implements Preconditioner {
       const m = rows.length * bs;
       const pw = kernel(0, 2 * m * 8 + rows.length * 4); // gather r into rLoc
       if (this.o.subdomain === 'exact') {
-        const lu = new Float64Array(m * m);
+        const lu = kernelF64(m * m);
         for (let i = 0; i < rows.length; i++) {
           for (let k = matrix.rowPtr[i]; k < matrix.rowPtr[i + 1]; k++) {
             const j = matrix.colInd[k];
@@ -225,7 +227,7 @@ export class SchwarzPreconditioner implements Preconditioner {
           }
         }
         if (this.o.shift !== 0) for (let i = 0; i < m; i++) lu[i * m + i] += this.o.shift;
-        const piv = new Int32Array(m);
+        const piv = kernelI32(m);
         let norm = 0;
         for (let i = 0; i < lu.length; i++) norm = Math.max(norm, Math.abs(lu[i]));
         addWork(work, denseWork.lu(m));
@@ -265,8 +267,8 @@ export class SchwarzPreconditioner implements Preconditioner {
       this.partApply.push(pw);
       this.subs.push(sd);
     }
-    this.rLoc = new Float64Array(maxRows * bs);
-    this.zLoc = new Float64Array(maxRows * bs);
+    this.rLoc = kernelF64(maxRows * bs);
+    this.zLoc = kernelF64(maxRows * bs);
     this.ready = true;
     return { ok: true };
   }

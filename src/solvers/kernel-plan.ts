@@ -87,9 +87,22 @@ export function solveBoundBytes(system: SystemMatrix, recipe: Recipe, format: 'c
   const matrix = arraysBytes(format === 'csr' ? system.csr : system.bsr);
   const basis = (recipe.restart + 1) * (recipe.krylov === 'fgmres' ? 2 : 1);
   const inner = recipe.inner ? (recipe.inner.restart + 1) * 2 + 16 : 0;
-  const precond = recipe.preconditioner === 'none' ? 0 : 3 * matrix + 32 * vec;
+  const precond = recipe.preconditioner === 'none' ? 0 : (PRECONDITIONER_MATRIX_COPIES[recipe.preconditioner] ?? 3) * matrix + 32 * vec;
   return precond + (basis + inner + 16) * vec + (1 << 20);
 }
+
+/**
+ * Bound on a preconditioner's storage in copies of the matrix arrays (default 3: factors of the
+ * same pattern, a permuted copy, the diagonal inverses). The multilevel and partitioned methods
+ * hold more: AIR its coarse operators, Z and W, a scaled copy of the matrix and dense scratch; p-multigrid its coarse levels and a smoother per level; schwarz overlapped subdomain
+ * copies and their factors; block-iluk fill; direct the fill of a sparse LU. What exceeds the bound
+ * is allocated on the JavaScript heap (spilledBytes; those kernels run in TypeScript). A larger
+ * bound costs address space, not RAM; solves whose bound would pass one memory's 4 GiB are capped
+ * there (see planKernels).
+ */
+const PRECONDITIONER_MATRIX_COPIES: Readonly<Record<string, number>> = {
+  air: 8, 'p-multigrid': 5, schwarz: 5, 'block-iluk': 6, direct: 12,
+};
 
 function moveMatrix(system: SystemMatrix, arena: KernelArena, withCsr: boolean, format: 'csr' | 'bsr'): void {
   const copy = <T extends Float64Array | Int32Array>(a: T): T => {
@@ -140,7 +153,10 @@ export function planKernels(
   const csrOnly = format === 'csr';
   const withCsr = !csrOnly && system.bsr.bs > 1 && usesCsr(recipe);
   const matrix = csrOnly ? arraysBytes(system.csr) : arraysBytes(system.bsr) + (withCsr ? arraysBytes(system.csr) : 0);
-  const need = matrix + solveBoundBytes(system, recipe, format) + pad(extraBytes);
+  // the bound past the 4 GiB one memory holds is capped there: what then does not fit spills to
+  // the JavaScript heap; the matrix with the Krylov and work vectors (the 'none' bound) must fit
+  const base = matrix + solveBoundBytes(system, { ...recipe, preconditioner: 'none' }, format) + pad(extraBytes);
+  const need = Math.min(matrix + solveBoundBytes(system, recipe, format) + pad(extraBytes), Math.max(limitBytes, base));
   let cached = arenas.get(system);
   const inArena = cached !== undefined && !cached.busy && (csrOnly
     ? system.csr.values.buffer === cached.arena.buffer
