@@ -13,7 +13,8 @@
  *
  * Spacing: geometric grading away from the front (cell size × r per cell, the common boundary-layer
  * practice), h(u) = min(H, h₀ + (r − 1)|u|) at distance u from the front, h₀ the front spacing set
- * by the target aspect ratio, H the far-field cap chosen so the N cells of the axis fill it exactly.
+ * by the target aspect ratio, H the far-field cap chosen so the N cells of the axis fill it exactly
+ * (a side with more cells than the grading needs gets H < h₀: uniform cells finer than h₀).
  * The lattice index at distance u is the cell count Φ(u) = ∫₀ᵘ du'/h(u') (closed form: a logarithm
  * while h grows, linear once capped), inverted in closed form.
  *
@@ -61,7 +62,7 @@ export interface FrontMapSummary {
   speed: number;
   grading: number;
   aspectRatio: number;
-  /** Front spacing h₀ along axis k (before the final normalization of each row). */
+  /** Width along axis k of the cells on either side of the front (lattice lines on the front). */
   frontSpacing: number;
 }
 
@@ -80,6 +81,7 @@ export interface FrontMapMesh {
 interface Profile { h0: number; g: number; cap: number; uCap: number; phiCap: number }
 
 function profile(h0: number, g: number, cap: number): Profile {
+  if (cap <= h0) return { h0, g, cap, uCap: 0, phiCap: 0 }; // uniform, finer than h0 (a side with more cells than grading needs)
   const uCap = (cap - h0) / g;
   return { h0, g, cap, uCap, phiCap: Math.log1p((g * uCap) / h0) / g };
 }
@@ -98,20 +100,12 @@ function phiInverse(p: Profile, f: number): number {
   return f < 0 ? -u : u;
 }
 
-/** Cells over [0, L] with the front at c for an uncapped profile (the most any cap can need). */
-function cellsUncapped(h0: number, g: number, c: number, L: number): number {
-  const p = profile(h0, g, Infinity);
-  return phi(p, L - c) + phi(p, c);
-}
-
-/** The cap H ≥ h0 whose profile puts exactly N cells in [0, L] with the front at c (bisection on log H). */
-function capFor(h0: number, g: number, c: number, L: number, N: number): Profile {
-  const hi0 = h0 + g * (Math.abs(c) + Math.abs(L - c)) + L; // beyond: never capped
-  let lo = Math.log(h0), hi = Math.log(hi0);
-  for (let it = 0; it < 100 && hi - lo > 1e-14 * Math.max(1, Math.abs(hi)); it++) {
+/** The cap H whose profile puts exactly m cells in a distance a from the front (bisection on log H; feasible: Φ∞(a) ≤ m). */
+function capFor(h0: number, g: number, a: number, m: number): Profile {
+  let lo = Math.log(Math.min(h0, a / m)), hi = Math.log(h0 + g * a + a); // below lo: uniform a/m or finer; beyond hi: never capped
+  for (let it = 0; it < 200 && hi - lo > 1e-15 * Math.max(1, Math.abs(hi)); it++) {
     const mid = 0.5 * (lo + hi);
-    const p = profile(h0, g, Math.exp(mid));
-    if (phi(p, L - c) + phi(p, c) > N) lo = mid; else hi = mid;
+    if (phi(profile(h0, g, Math.exp(mid)), a) > m) lo = mid; else hi = mid;
   }
   return profile(h0, g, Math.exp(hi));
 }
@@ -218,11 +212,14 @@ export function prepareFrontMap(opts: FrontMapOptions, m: FrontMapMesh, name: (f
   const L = m.extent[k];
   const N = m.cells[k];
   const uniform = L / N;
-  const h0 = frontSpacing(m, k, n, sRel, opts.aspectRatio);
-  if (!(h0 < uniform)) {
-    fail('aspectRatio', `the elements at the front of the uniform mesh already reach about ${opts.aspectRatio} (front spacing ${h0.toPrecision(3)} ≥ cell size ${uniform.toPrecision(3)} along ${axisName}); give a larger target`);
+  // width of the first cell on either side of the front (the front sits on a lattice line):
+  // ∫ over one cell of the profile, Φ⁻¹(1) = h₀·(e^g − 1)/g
+  const w1 = frontSpacing(m, k, n, sRel, opts.aspectRatio);
+  if (!(w1 < uniform)) {
+    fail('aspectRatio', `the elements at the front of the uniform mesh already reach about ${opts.aspectRatio} (front cell ${w1.toPrecision(3)} ≥ cell size ${uniform.toPrecision(3)} along ${axisName}); give a larger target`);
   }
-  // Cells needed by the uncapped grading: most where the front is farthest from both sides.
+  const h0 = (w1 * g) / Math.expm1(g);
+  // Range of the crossing over the rows (box corners) and (0, T).
   let cLo = Infinity, cHi = -Infinity;
   const corner = new Array<number>(d).fill(0);
   for (let mask = 0; mask < 1 << (d + 1); mask++) {
@@ -233,13 +230,27 @@ export function prepareFrontMap(opts: FrontMapOptions, m: FrontMapMesh, name: (f
     c /= n[k];
     cLo = Math.min(cLo, c); cHi = Math.max(cHi, c);
   }
-  const cWorst = m.periodic[k] ? L / 2 : Math.min(Math.max(L / 2, cLo), cHi);
-  const need = cellsUncapped(h0, g, cWorst, L);
-  if (need > N) {
-    fail('grading', `grading ${opts.grading} from the front spacing ${h0.toPrecision(3)} (aspect ratio ${opts.aspectRatio}) needs ${Math.ceil(need)} cells along ${axisName}, the mesh has ${N}; raise the grading or the cells, or lower the aspect ratio`);
+  const uncapped = profile(h0, g, Infinity);
+  const tooFew = (need: number): never => fail('grading', `grading ${opts.grading} from the front spacing ${h0.toPrecision(3)} (aspect ratio ${opts.aspectRatio}) needs ${Math.ceil(need)} cells along ${axisName}, the mesh has ${N}; raise the grading or the cells, or lower the aspect ratio`);
+  /** Lattice index of the front (fixed over rows and time levels), from the cells each side needs. */
+  let jc: number;
+  if (m.periodic[k]) {
+    const need = 2 * phi(uncapped, L / 2);
+    if (need > N) tooFew(need);
+    jc = 0; // set below
+  } else {
+    if (!(cLo > 0 && cHi < L)) {
+      fail('position', `the front crosses ${axisName} at ${cLo.toPrecision(4)} … ${cHi.toPrecision(4)} over the rows and (0, T); the map needs it inside (0, ${L}) throughout (check frontPosition, frontSpeed, the slabs)`);
+    }
+    const lo = phi(uncapped, cHi);
+    const hi = N - phi(uncapped, L - cLo);
+    if (!(lo <= hi)) tooFew(phi(uncapped, cHi) + phi(uncapped, L - cLo));
+    // nearest to where the uniform lattice has the front's mean crossing; a lattice line if possible
+    jc = Math.min(hi, Math.max(lo, (N * 0.5 * (cLo + cHi)) / L));
+    if (Math.round(jc) >= lo && Math.round(jc) <= hi) jc = Math.round(jc);
   }
   const summary: FrontMapSummary = {
-    axis: k, direction: n, position: opts.position, speed: opts.speed, grading: opts.grading, aspectRatio: opts.aspectRatio, frontSpacing: h0,
+    axis: k, direction: n, position: opts.position, speed: opts.speed, grading: opts.grading, aspectRatio: opts.aspectRatio, frontSpacing: w1,
   };
   const crossing = (x: Float64Array | number[], t: number): number => {
     let c = opts.position + sRel * t;
@@ -247,31 +258,33 @@ export function prepareFrontMap(opts: FrontMapOptions, m: FrontMapMesh, name: (f
     return c / n[k];
   };
   if (m.periodic[k]) {
-    const p = capFor(h0, g, L / 2, L, N);
+    const p = capFor(h0, g, L / 2, N / 2);
     const S = 2 * phi(p, L / 2); // cells of the circle under p (N up to the bisection tolerance)
     const G = (mIdx: number): number => {
       const q = Math.round(mIdx / N);
       return phiInverse(p, ((mIdx - q * N) * S) / N) + q * L;
     };
-    // lattice index of the front: line 0 of row x_⊥ = 0 starts at x ≡ 0 (mod L) at t = 0
+    // lattice line of the front: the one that puts line 0 of row x_⊥ = 0 nearest to x ≡ 0 (mod L) at t = 0
     const c0 = crossing(new Array<number>(d).fill(0), 0);
     const c0w = c0 - L * Math.floor(c0 / L);
-    const jc = (phi(p, c0w - L / 2 < 0 ? c0w : c0w - L) * N) / S + (c0w - L / 2 < 0 ? 0 : N);
+    jc = Math.round((phi(p, c0w - L / 2 < 0 ? c0w : c0w - L) * N) / S + (c0w - L / 2 < 0 ? 0 : N));
     return {
       summary,
       position(j, x, t) { return crossing(x, t) + G(j - jc); },
     };
   }
+  // Non-periodic: jc cells on the low side of the front, N − jc on the high side, each side graded
+  // from the front with its own cap; near the front both profiles are the uncapped one, so the
+  // lines there sit at the same distances from it in every row and time level.
   let lastC = NaN;
-  let p = profile(h0, g, uniform);
+  let left = uncapped, right = uncapped;
   return {
     summary,
     position(j, x, t, onSide) {
       if (onSide) return j <= 0 ? 0 : L;
       const c = crossing(x, t);
-      if (c !== lastC) { p = capFor(h0, g, c, L, N); lastC = c; }
-      const total = phi(p, L - c) + phi(p, c);
-      return c + phiInverse(p, (j * total) / N - phi(p, c));
+      if (c !== lastC) { left = capFor(h0, g, c, jc); right = capFor(h0, g, L - c, N - jc); lastC = c; }
+      return j <= jc ? c - phiInverse(left, jc - j) : c + phiInverse(right, j - jc);
     },
   };
 }

@@ -48,6 +48,15 @@ export interface Layout {
   readonly provenance?: Record<string, unknown>;
   /** Stored blocks whose entries are all exactly zero, and their share of the stored blocks (generated cases write it). */
   readonly zeroBlocks?: { readonly count: number; readonly share: number };
+  /**
+   * Element quality of the mesh (generated cases write it): aspect ratio = longest edge / smallest
+   * altitude scaled so a regular simplex gives 1, and the smallest det J (orientation-corrected,
+   * D!·volume) — see src/mesh/quality.ts.
+   */
+  readonly elementQuality?: {
+    readonly aspectRatio: { readonly min: number; readonly median: number; readonly max: number };
+    readonly minJacobianDeterminant: number;
+  };
   readonly [extra: string]: unknown;
 }
 
