@@ -159,7 +159,7 @@ export function parseGeneratorParams(obj: unknown, where: string, label?: FieldL
   if (pseudoCfl !== undefined && !(typeof pseudoCfl === 'number' && Number.isFinite(pseudoCfl) && pseudoCfl > 0)) {
     fail('pseudoCfl', `expected a number > 0 (the pseudo-time CFL number), got ${show(pseudoCfl)}`);
   }
-  const front = parseFrontFields(raw, d, fail);
+  const front = parseFrontFields(raw, d, fail, name);
   const ctx: PhysicsContext = { dim: d, extent, periodic, label: name };
   const physicsFields = def.normalize(raw, ctx);
   const params: GeneratorParams = {
@@ -174,10 +174,12 @@ export function parseGeneratorParams(obj: unknown, where: string, label?: FieldL
 }
 
 /** The front-map fields with defaults filled in, or none when aspectRatio is absent (then none may be given). */
-function parseFrontFields(raw: Record<string, unknown>, d: number, fail: (field: string, what: string) => never): Partial<GeneratorParams> {
+function parseFrontFields(
+  raw: Record<string, unknown>, d: number, fail: (field: string, what: string) => never, name: FieldLabel,
+): Partial<GeneratorParams> {
   if (raw.aspectRatio === undefined) {
     const given = FRONT_FIELDS.find((f) => raw[f] !== undefined);
-    if (given !== undefined) fail(given, 'has no effect without aspectRatio (the target aspect ratio switches the front-aligned mesh map on)');
+    if (given !== undefined) fail(given, `has no effect without ${name('aspectRatio')} (the target aspect ratio switches the front-aligned mesh map on)`);
     return {};
   }
   const ar = raw.aspectRatio;
