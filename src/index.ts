@@ -18,6 +18,8 @@ export * from './dg/quadrature.js';
 export * from './dg/basis.js';
 export * from './mesh/space-time.js';
 export * from './mesh/geometry.js';
+export { prepareFrontMap, MAX_FRONT_ASPECT_RATIO, MAX_FRONT_GRADING, type FrontMap, type FrontMapOptions, type FrontMapSummary } from './mesh/front-map.js';
+export { meshQuality, simplexAspectRatio, checkElementOrientation, type ElementQuality } from './mesh/quality.js';
 export { parseGeneratorParams, resolveGenerator, generateSystem, writeGeneratedCase, type GeneratorParams, type GeneratedSystem } from './dg/generate.js';
 export { runRefinementStudy, type RefinementStudy, type RefinementRow } from './dg/refine.js';
 export { PHYSICS, PHYSICS_NAMES } from './dg/physics/registry.js';

@@ -64,13 +64,21 @@ Examples:
   slabbench generate --case duct-pulse --out /tmp/demo
   slabbench generate --all-cases --out matrices/demo
   slabbench generate --physics euler --dim 2 --order 2 --cells 16 --state vortex --extent 10 --periodic all --gzip
+  slabbench generate --physics advection --dim 1 --cells 64 --aspect-ratio 1000 --front-grading 2 --name front
+  slabbench generate --physics advection --dim 2 --cells 32,8 --velocity 1 --velocity 0.3 --periodic x \
+      --aspect-ratio 100 --front-grading 1.5 --front-position 0.4 --jitter 0.1
 
 A generated matrix whose numerically nonzero block graph has no cycles (upwind transport without
 recirculation) is block triangular under a permutation: one block Gauss–Seidel sweep in that order
 solves it, so it ranks nothing. generate says so on stderr (and "triangularUnderPermutation" in --json).
 
-The layout file records the block size, the slab offsets (in block rows) and every parameter
-needed to rebuild the case (with defaults filled in). Elements are numbered slab by slab; the
+--aspect-ratio switches on the front-aligned mesh map: the cells of one axis cluster at the front
+x·n = x0 + s·t (--front-direction, --front-speed: 'align' = the constant velocity) with geometric
+grading (--front-grading) and move with it, giving thin elements along its trajectory.
+
+The layout file records the block size, the slab offsets (in block rows), the element quality
+(aspect ratio min/median/max, smallest det J) and every parameter needed to rebuild the case
+(with defaults filled in). Elements are numbered slab by slab; the
 matrix is block lower triangular by slabs.`)
     .action(async (opts: Record<string, unknown>) => {
       const outDir = String(opts.out ?? '.');

@@ -70,12 +70,35 @@ export function validateLayout(obj: unknown, where: string): Layout {
     if (typeof z.count !== 'number' || !Number.isInteger(z.count) || z.count < 0) throw fileError(where, undefined, `zeroBlocks.count: expected a non-negative integer, found ${describe(z.count)}`);
     if (typeof z.share !== 'number' || !(z.share >= 0 && z.share <= 1)) throw fileError(where, undefined, `zeroBlocks.share: expected a number from 0 to 1, found ${describe(z.share)}`);
   }
+  if (o.elementQuality !== undefined) validateElementQuality(o.elementQuality, where);
   if (o.modes !== undefined) validateModes(o.modes, bs, where);
   if (o.centroids !== undefined) validateCentroids(o.centroids, where);
   if (o.provenance !== undefined && (typeof o.provenance !== 'object' || o.provenance === null || Array.isArray(o.provenance))) {
     throw fileError(where, undefined, `provenance: expected an object, found ${describe(o.provenance)}`);
   }
   return o as Layout;
+}
+
+/** `elementQuality`: { aspectRatio: { min, median, max }, minJacobianDeterminant }, positive finite, min ≤ median ≤ max. */
+function validateElementQuality(q: unknown, where: string): void {
+  const bad = (field: string, what: string): never => { throw fileError(where, undefined, `elementQuality${field}: ${what}`); };
+  const isObject = (x: unknown): x is Record<string, unknown> => typeof x === 'object' && x !== null && !Array.isArray(x);
+  if (!isObject(q)) bad('', `expected an object { "aspectRatio", "minJacobianDeterminant" }, found ${describe(q)}`);
+  const o = q as Record<string, unknown>;
+  const ar = o.aspectRatio;
+  if (!isObject(ar)) bad('.aspectRatio', `expected an object { "min", "median", "max" }, found ${describe(ar)}`);
+  const a = ar as Record<string, unknown>;
+  for (const k of ['min', 'median', 'max']) {
+    const v = a[k];
+    if (typeof v !== 'number' || !Number.isFinite(v) || v <= 0) bad(`.aspectRatio.${k}`, `expected a positive number, found ${describe(v)}`);
+  }
+  if (!((a.min as number) <= (a.median as number) && (a.median as number) <= (a.max as number))) {
+    bad('.aspectRatio', `expected min ≤ median ≤ max, found ${a.min as number}, ${a.median as number}, ${a.max as number}`);
+  }
+  const det = o.minJacobianDeterminant;
+  if (typeof det !== 'number' || !Number.isFinite(det) || det <= 0) {
+    bad('.minJacobianDeterminant', `expected a positive number (no inverted or flat element), found ${describe(det)}`);
+  }
 }
 
 const MODES_FIELDS = ['nEquations', 'arrangement', 'degrees'];

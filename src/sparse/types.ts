@@ -50,6 +50,15 @@ export interface Layout {
   readonly zeroBlocks?: { readonly count: number; readonly share: number };
   /** One point per block row (element centroid); the coordinate partitioner reads it. */
   readonly centroids?: CentroidLayout;
+  /**
+   * Element quality of the mesh (generated cases write it): aspect ratio = longest edge / smallest
+   * altitude scaled so a regular simplex gives 1, and the smallest det J (orientation-corrected,
+   * D!·volume) — see src/mesh/quality.ts.
+   */
+  readonly elementQuality?: {
+    readonly aspectRatio: { readonly min: number; readonly median: number; readonly max: number };
+    readonly minJacobianDeterminant: number;
+  };
   readonly [extra: string]: unknown;
 }
 
