@@ -2,3 +2,4 @@
 export { loadSystem, readMatrixMarketVector, solveSystem } from './solver-deps.js';
 export { parseRecipe } from '../solvers/recipe.js';
 export { parseGeneratorParams, writeGeneratedCase } from '../dg/generate.js';
+export { parseSequenceSpec, writeGeneratedSequence } from '../dg/sequence.js';

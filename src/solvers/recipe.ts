@@ -1,5 +1,6 @@
 import { UserError, optionError } from '../util/errors.js';
 import { preconditionerUses } from '../precond/registry.js';
+import { SEQUENCE_FIELDS, parseSequencePolicy, type InitialGuess, type ReusePolicy, type SequenceField } from './sequence-policy.js';
 /**
  * A solver recipe: one named combination of Krylov method, preconditioner, ordering and
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
@@ -81,6 +82,14 @@ export interface Recipe {
   air?: AirOptions;
   /** p-multigrid preconditioner: levels, cycle, smoother, coarse solve (defaults: DEFAULT_P_MULTIGRID). */
   pMultigrid?: PMultigridOptions;
+  /** Sequences only (src/solvers/sequence-policy.ts): when the preconditioner is rebuilt (absent: every system). */
+  reuse?: ReusePolicy;
+  /** reuse "fixed": systems one set-up serves. */
+  reuseSystems?: number;
+  /** reuse "on-growth": rebuild after a solve needing more than this factor × the iterations right after the last rebuild. */
+  refreshFactor?: number;
+  /** Sequences only: x₀ = 0 (absent) or the previous system's solution. */
+  initialGuess?: InitialGuess;
 }
 
 export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
@@ -128,7 +137,7 @@ type FieldSpec =
   | { kind: 'int'; min: number; max: number }
   | { kind: 'number'; min: number; minOpen: boolean; max?: number; maxOpen?: boolean };
 
-type ScalarField = Exclude<keyof Recipe, 'name' | 'inner' | 'air' | 'pMultigrid'>;
+type ScalarField = Exclude<keyof Recipe, 'name' | 'inner' | 'air' | 'pMultigrid' | SequenceField>;
 
 /** One spec per recipe field: the single source for suite files and command-line options. */
 const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
@@ -225,9 +234,10 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?:
       continue;
     }
     if (key === 'inner' || key === 'air' || key === 'pMultigrid') continue;
+    if (!isInner && (SEQUENCE_FIELDS as readonly string[]).includes(key)) continue;
     const spec = (FIELD_SPECS as Record<string, FieldSpec | undefined>)[key];
     if (!spec) {
-      throw new UserError(`${where}: unknown field "${key}" (recipe fields: name, ${Object.keys(FIELD_SPECS).join(', ')}, inner, air, pMultigrid)`);
+      throw new UserError(`${where}: unknown field "${key}" (recipe fields: name, ${Object.keys(FIELD_SPECS).join(', ')}, inner, air, pMultigrid${isInner ? "" : `, ${SEQUENCE_FIELDS.join(", ")}`})`);
     }
     const c = checkValue(spec, src[key], false);
     if (c.error) throw new UserError(`${where}.${key}: ${c.error}`);
@@ -244,6 +254,7 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?:
   else if (recipe.preconditioner === 'p-multigrid') recipe.pMultigrid = defaultPMultigrid();
   const bad = crossCheck(recipe, isInner);
   if (bad) throw new UserError(`${where}.${bad[0]}: ${bad[1]}`);
+  if (!isInner) Object.assign(recipe, parseSequencePolicy(src, where, recipe.preconditioner) ?? {});
   const given = Object.keys(src).filter((k) => k === 'inner' || k === 'air' || k === 'pMultigrid' || k in FIELD_SPECS) as RecipeField[];
   const unused = firstUnused(recipe, given);
   if (unused) throw new UserError(`${where}.${unused.field}: ${unused.why}`);
@@ -328,6 +339,8 @@ export function recordedRecipe(r: Recipe): RecordedRecipe {
   if (r.inner && (used === 'all' || used.has('inner'))) out.inner = recordedRecipe(r.inner);
   if (r.air && (used === 'all' || used.has('air'))) out.air = { ...r.air };
   if (r.pMultigrid && (used === 'all' || used.has('pMultigrid'))) out.pMultigrid = r.pMultigrid;
+  // the sequence policy, when set (a recipe without one rebuilds every system from x₀ = 0)
+  for (const f of SEQUENCE_FIELDS) if (r[f] !== undefined) out[f] = r[f];
   return out as RecordedRecipe;
 }
 
