@@ -8,8 +8,9 @@
  *
  * Timing protocol for a sequence: the unit is the whole sequence. The warm-up (unless off) runs
  * the whole sequence once untimed; each of the `repeats` timed repeats runs the whole sequence
- * again from scratch (new set-ups, a new carry, x₀ as the policy says), with a full garbage
- * collection before every system's solve, as before every timed single solve. The stored repeat is
+ * again from scratch (new set-ups, a new carry, x₀ as the policy says), after a full garbage
+ * collection (one per repeat, as for a single system; the systems then run back to back, as a
+ * solver would run them). The stored repeat is
  * the one with the median total (setup + solve summed over the systems); `repeats` holds each
  * repeat's totals, and repeats that differ in any system (cause, iterations, history) flag the run.
  */
@@ -129,12 +130,12 @@ export function runSequencePass(systems: LoadedSystemOfSequence[], recipe: Recip
   const out: SequencePass = { results: [], rebuilt: [], x0: [], gc: true };
   let prepared: PreparedForRun | undefined;
   let previous: Float64Array | undefined;
+  if (opts.gc !== false) out.gc = collectGarbage();
   try {
     for (const s of systems) {
       const system = asSystem(s.system);
       const x0 = policy.initialGuess === 'previous' && previous ? previous : undefined;
       const rebuild = !reuse || schedule.needsRebuild();
-      if (opts.gc !== false) out.gc = collectGarbage() && out.gc;
       let solved: { result: SolveResult; x: Float64Array };
       if (!reuse) {
         solved = deps.solveSystem(system, s.b, recipe, { ...(x0 ? { x0 } : {}), carry });
