@@ -69,7 +69,7 @@ describe('results document', () => {
     expect(CSV_COLUMNS.slice(-2)).toEqual(['systems', 'rebuilds']);
     expect(CSV_COLUMNS.slice(-8, -2)).toEqual(['repeats', 'totalSecondsMedian', 'totalSecondsMin', 'totalSecondsMax', 'repeatsConsistent', 'modeledSeconds']);
     expect(first[CSV_COLUMNS.indexOf('repeats')]).toBe(doc.runs[0].repeats === undefined ? '' : String(doc.runs[0].repeats.count));
-    expect(lines[lines.length - 1].endsWith(',"bad ""thing"", here",,,,,,')).toBe(true);
+    expect(lines[lines.length - 1].endsWith(',"bad ""thing"", here",,,,,,,,')).toBe(true);
     expect(lines[lines.length - 1]).toContain(',error,false,');
   });
 
