@@ -1,11 +1,12 @@
 import { UserError, optionError } from '../util/errors.js';
 import { preconditionerUses } from '../precond/registry.js';
 import { SEQUENCE_FIELDS, parseSequencePolicy, type InitialGuess, type ReusePolicy, type SequenceField } from './sequence-policy.js';
+import { DEFAULT_DEFLATE } from './options.js';
 /**
  * A solver recipe: one named combination of Krylov method, preconditioner, ordering and
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
  */
-export type KrylovName = 'gmres' | 'fgmres' | 'bicgstab' | 'none';
+export type KrylovName = 'gmres' | 'fgmres' | 'bicgstab' | 'gmres-dr' | 'gcro-dr' | 'none';
 export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk' | 'slab'
   | 'p-multigrid' | 'air' | 'schwarz' | 'direct';
 export type SweepDirection = 'forward' | 'backward' | 'symmetric';
@@ -14,7 +15,12 @@ export type PreconditionSide = 'right' | 'left';
 export type Orthogonalization = 'mgs' | 'cgs2';
 export type BlockInverse = 'lu' | 'inverse';
 
-export const KRYLOV_NAMES: readonly KrylovName[] = ['gmres', 'fgmres', 'bicgstab', 'none'];
+export const KRYLOV_NAMES: readonly KrylovName[] = ['gmres', 'fgmres', 'bicgstab', 'gmres-dr', 'gcro-dr', 'none'];
+/** The deflated GMRES variants: they read `deflate` (src/solvers/gmres-dr.ts, gcro-dr.ts). */
+export const DEFLATED_KRYLOV: readonly KrylovName[] = ['gmres-dr', 'gcro-dr'];
+export function isDeflatedKrylov(k: KrylovName): boolean {
+  return DEFLATED_KRYLOV.includes(k);
+}
 export const PRECONDITIONER_NAMES: readonly PreconditionerName[] = [
   'none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab',
   'p-multigrid', 'air', 'schwarz', 'direct',
@@ -39,6 +45,8 @@ export interface Recipe {
   krylov: KrylovName;
   /** GMRES/FGMRES basis size per cycle. */
   restart: number;
+  /** GMRES-DR/GCRO-DR: harmonic Ritz vectors kept at each restart (and carried, GCRO-DR), below restart. */
+  deflate?: number;
   side: PreconditionSide;
   orthogonalization: Orthogonalization;
   preconditioner: PreconditionerName;
@@ -143,6 +151,7 @@ type ScalarField = Exclude<keyof Recipe, 'name' | 'inner' | 'air' | 'pMultigrid'
 const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   krylov: { kind: 'enum', values: KRYLOV_NAMES },
   restart: { kind: 'int', min: 1, max: 10000 },
+  deflate: { kind: 'int', min: 0, max: 9999 },
   side: { kind: 'enum', values: PRECONDITION_SIDES },
   orthogonalization: { kind: 'enum', values: ORTHOGONALIZATIONS },
   preconditioner: { kind: 'enum', values: PRECONDITIONER_NAMES },
@@ -199,12 +208,20 @@ function crossCheck(r: Recipe, isInner: boolean): [keyof Recipe, string] | undef
     return ['omega', `block-gs relaxation must be below 2, got ${r.omega}`];
   }
   if (r.krylov === 'fgmres' && r.side === 'left') return ['side', 'fgmres preconditions on the right only'];
+  if (r.deflate !== undefined && isDeflatedKrylov(r.krylov) && !(r.deflate < r.restart)) {
+    return ['deflate', `${r.krylov} keeps deflate harmonic Ritz vectors of a restart-${r.restart} cycle, so deflate must be below restart; got deflate ${r.deflate}${r.deflate === DEFAULT_DEFLATE ? ' (the default)' : ''}`];
+  }
   if (r.inner && r.preconditioner !== 'slab') return ['inner', 'an inner recipe is only used by preconditioner slab'];
   if (isInner && r.preconditioner === 'slab') return ['preconditioner', 'a slab inner recipe cannot itself use slab'];
   if (r.air && r.preconditioner !== 'air') return ['air', 'AIR options are only used by preconditioner air'];
   const pmg = pMultigridCrossCheck(r);
   if (pmg) return pmg;
   return undefined;
+}
+
+/** A deflated method without `deflate` gets DEFAULT_DEFLATE (recorded in results like any field it reads). */
+function fillDeflate(r: Recipe): void {
+  if (isDeflatedKrylov(r.krylov) && r.deflate === undefined) r.deflate = DEFAULT_DEFLATE;
 }
 
 /**
@@ -245,6 +262,7 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?:
   }
   if (src.name === undefined) out.name = isInner ? base.name : `${out.krylov}-${out.preconditioner}`;
   const recipe = out as unknown as Recipe;
+  fillDeflate(recipe);
   if (src.inner !== undefined) {
     if (isInner) throw new UserError(`${where}.inner: an inner recipe cannot have its own inner recipe`);
     recipe.inner = parseRecipeAt(src.inner, `${where}.inner`, true);
@@ -287,6 +305,8 @@ export const KRYLOV_USES: Readonly<Record<KrylovName, readonly ScalarField[]>> =
   gmres: ['restart', 'side', 'orthogonalization'],
   fgmres: ['restart', 'orthogonalization'],
   bicgstab: [],
+  'gmres-dr': ['restart', 'deflate', 'orthogonalization'],
+  'gcro-dr': ['restart', 'deflate', 'orthogonalization'],
   none: ['omega'],
 };
 
@@ -348,6 +368,7 @@ export function recordedRecipe(r: Recipe): RecordedRecipe {
 export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   krylov: 'krylov',
   restart: 'restart',
+  deflate: 'deflate',
   side: 'side',
   orthogonalization: 'ortho',
   preconditioner: 'precond',
@@ -412,11 +433,11 @@ export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
   }
   outer.name = `${outer.krylov}-${outer.preconditioner}`;
   const recipe = outer as unknown as Recipe;
+  fillDeflate(recipe);
   const outerAir = airOptionsFromFlags(opts, '');
   const innerAir = airOptionsFromFlags(opts, 'inner-');
   if (innerAir.firstFlag) innerGiven ??= innerAir.firstFlag;
-  if (recipe.preconditioner === 'slab') recipe.inner = inner as unknown as Recipe;
-  else if (innerGiven) throw optionError(innerGiven, 'inner options are only used with --precond slab');
+  if (recipe.preconditioner === 'slab') { recipe.inner = inner as unknown as Recipe; fillDeflate(recipe.inner); } else if (innerGiven) throw optionError(innerGiven, 'inner options are only used with --precond slab');
   if (outerAir.options) {
     if (recipe.preconditioner !== 'air') throw optionError(outerAir.firstFlag!, 'AIR options are only used with --precond air');
     recipe.air = outerAir.options;
@@ -659,7 +680,7 @@ function levelsProblem(v: unknown): string | undefined {
 function pMultigridCrossCheck(r: Recipe): [keyof Recipe, string] | undefined {
   if (r.pMultigrid && r.preconditioner !== 'p-multigrid') return ['pMultigrid', 'p-multigrid options are only used by preconditioner p-multigrid'];
   if (r.preconditioner !== 'p-multigrid' || !r.pMultigrid) return undefined;
-  if ((r.krylov === 'gmres' || r.krylov === 'bicgstab') && pMultigridIsVariable(r.pMultigrid)) {
+  if ((r.krylov === 'gmres' || r.krylov === 'bicgstab' || isDeflatedKrylov(r.krylov)) && pMultigridIsVariable(r.pMultigrid)) {
     const c = r.pMultigrid.coarse;
     return ['krylov', `p-multigrid with a ${c.krylov === 'none' ? 'stationary coarse solve that stops at rtol' : `${c.krylov} coarse solve`} changes between applications (variable); ${r.krylov} needs a fixed preconditioner: use krylov fgmres, or a coarse solve with krylov none and rtol 0 (a fixed number of steps)`];
   }
@@ -827,6 +848,7 @@ function applyPMultigridFlags(opts: Record<string, unknown>, recipe: Recipe): vo
     coarse[field] = c.value;
   }
   const cr = coarse as unknown as Recipe;
+  fillDeflate(cr);
   const cBad = crossCheck(cr, false);
   if (cBad) throw optionError(`--${PMG_COARSE_PREFIX}${RECIPE_FLAGS[cBad[0] as ScalarField] ?? cBad[0]}`, cBad[1]);
   const cUnused = firstUnused(cr, Object.keys(coarseRaw) as RecipeField[]);
