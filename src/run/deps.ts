@@ -40,7 +40,7 @@ export interface RunDeps {
   readMatrixMarketVector(path: string): Promise<Float64Array>;
   solveSystem(system: SystemMatrix, b: Float64Array, recipe: Recipe, opts?: SolveOptionsForRun): { result: SolveResult; x: Float64Array };
   /** Set up a recipe's preconditioner for reuse across a sequence (absent: reuse policies other than rebuild cannot run). */
-  prepareSolve?(system: SystemMatrix, recipe: Recipe): PreparedForRun;
+  prepareSolve?(system: SystemMatrix, recipe: Recipe, opts?: { laggedMatrix?: boolean }): PreparedForRun;
 }
 
 export interface SuiteParsers {

@@ -142,13 +142,12 @@ export function runSequencePass(systems: LoadedSystemOfSequence[], recipe: Recip
       } else if (rebuild) {
         prepared?.dispose();
         prepared = undefined;
-        prepared = deps.prepareSolve!(system, recipe);
+        // later systems of the sequence are solved with this set-up: plan kernel memory for their values
+        prepared = deps.prepareSolve!(system, recipe, { laggedMatrix: true });
         solved = prepared.solve(s.b, { ...(x0 ? { x0 } : {}), carry });
       } else {
+        // a reused set-up costs this system nothing (the prepared solve reports setup 0 and setupReused)
         solved = prepared!.solve(s.b, { ...(x0 ? { x0 } : {}), carry, matrix: system });
-        // a reused set-up costs this system nothing
-        solved.result.timing.setupSeconds = 0;
-        solved.result.work.setup = zeroWork();
       }
       schedule.solved(solved.result.iterations, rebuild);
       out.results.push(solved.result);

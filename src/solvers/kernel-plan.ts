@@ -17,12 +17,18 @@
  * shares the same arrays) is replaced by views of the arena, so the JavaScript copies can be
  * collected. A later solve on the same system reuses the arena when its bound fits, else a larger
  * arena is created and the matrix moved again.
+ *
+ * A prepared solve (prepareSolve in run-recipe.ts) keeps its plan open from setup to dispose: the
+ * preconditioner's arrays stay in the arena, suspend() deactivates it between solves, and each
+ * solve runs in a scope() that hands back what it allocated. While a plan is open its arena is
+ * busy: another plan on the same system gets an arena of its own (the matrix is copied again), so
+ * one prepared solve never releases another's factors.
  */
 import type { Bsr, Csr } from '../sparse/types.js';
 import type { SystemMatrix } from '../precond/types.js';
 import type { Recipe } from './recipe.js';
 import { UserError } from '../util/errors.js';
-import { KernelArena, MAX_KERNEL_MEMORY_BYTES, setActiveArena } from '../kernels-host/arena.js';
+import { KernelArena, MAX_KERNEL_MEMORY_BYTES, activeArena, setActiveArena } from '../kernels-host/arena.js';
 import { kernelModule, kernelModuleProblem } from '../kernels-host/module.js';
 
 export type KernelChoice = 'auto' | 'wasm' | 'typescript';
@@ -52,9 +58,17 @@ export interface KernelPlan {
   adopt(v: Float64Array): Float64Array;
   /** Release the solve's buffers (the matrix stays) and deactivate the arena. */
   finish(): { spilledBytes: number; usedBytes: number };
+  /** Deactivate the arena, keeping everything allocated so far (a prepared preconditioner). */
+  suspend(): void;
+  /**
+   * Activate the arena for one solve; the returned leave() releases what the solve allocated,
+   * restores the arena active before, and returns the bytes that did not fit kernel memory
+   * (those allocated before suspend() plus this solve's).
+   */
+  scope(): () => number;
 }
 
-interface Cached { arena: KernelArena; matrixMark: number }
+interface Cached { arena: KernelArena; matrixMark: number; busy: boolean }
 const arenas = new WeakMap<object, Cached>();
 
 const pad = (bytes: number): number => Math.ceil(bytes / 16) * 16;
@@ -115,10 +129,11 @@ function moveMatrix(system: SystemMatrix, arena: KernelArena, withCsr: boolean, 
  */
 export function planKernels(
   system: SystemMatrix, recipe: Recipe, choice: KernelChoice, format: 'csr' | 'bsr' = 'bsr',
-  limitBytes = MAX_KERNEL_MEMORY_BYTES - (1 << 16),
+  limitBytes = MAX_KERNEL_MEMORY_BYTES - (1 << 16), extraBytes = 0,
 ): KernelPlan {
   const none = (note?: string): KernelPlan => ({
     kernels: 'typescript', note, memoryBytes: 0, adopt: (v) => v, finish: () => ({ spilledBytes: 0, usedBytes: 0 }),
+    suspend: () => undefined, scope: () => () => 0,
   });
   if (choice === 'typescript') return none();
   if (kernelModule() === null) {
@@ -128,9 +143,9 @@ export function planKernels(
   const csrOnly = format === 'csr';
   const withCsr = !csrOnly && system.bsr.bs > 1 && usesCsr(recipe);
   const matrix = csrOnly ? arraysBytes(system.csr) : arraysBytes(system.bsr) + (withCsr ? arraysBytes(system.csr) : 0);
-  const need = matrix + solveBoundBytes(system, recipe, format);
+  const need = matrix + solveBoundBytes(system, recipe, format) + pad(extraBytes);
   let cached = arenas.get(system);
-  const inArena = cached !== undefined && (csrOnly
+  const inArena = cached !== undefined && !cached.busy && (csrOnly
     ? system.csr.values.buffer === cached.arena.buffer
     : system.bsr.values.buffer === cached.arena.buffer && (!withCsr || system.csr.values.buffer === cached.arena.buffer));
   if (!(cached !== undefined && inArena && cached.arena.bytes - cached.matrixMark >= need - matrix)) {
@@ -141,14 +156,17 @@ export function planKernels(
     }
     const arena = new KernelArena(need);
     moveMatrix(system, arena, withCsr, format);
-    cached = { arena, matrixMark: arena.mark() };
+    cached = { arena, matrixMark: arena.mark(), busy: false };
     arenas.set(system, cached);
   }
-  const { arena, matrixMark } = cached;
+  const entry = cached;
+  const { arena, matrixMark } = entry;
   arena.release(matrixMark);
   arena.spilledBytes = 0;
+  entry.busy = true;
   setActiveArena(arena);
   let finished: { spilledBytes: number; usedBytes: number } | null = null;
+  let suspendedSpill = 0;
   return {
     kernels: 'wasm',
     memoryBytes: arena.bytes,
@@ -163,8 +181,27 @@ export function planKernels(
         finished = { spilledBytes: arena.spilledBytes, usedBytes: arena.usedBytes() };
         setActiveArena(null);
         arena.release(matrixMark);
+        entry.busy = false;
       }
       return finished;
+    },
+    suspend() {
+      suspendedSpill = arena.spilledBytes;
+      setActiveArena(null);
+    },
+    scope() {
+      if (finished !== null) throw new Error('kernel plan: scope() after finish()');
+      const before = activeArena();
+      const mark = arena.mark();
+      arena.spilledBytes = suspendedSpill;
+      setActiveArena(arena);
+      return () => {
+        const spilled = arena.spilledBytes;
+        arena.release(mark);
+        arena.spilledBytes = suspendedSpill;
+        setActiveArena(before);
+        return spilled;
+      };
     },
   };
 }

@@ -10,7 +10,7 @@ import type { PreparedForRun, RunDeps } from '../../src/run/deps.js';
 import { DEFAULT_RECIPE, type Recipe } from '../../src/solvers/recipe.js';
 import type { SolveResult } from '../../src/solvers/types.js';
 import type { KrylovCarry } from '../../src/solvers/options.js';
-import { solveSystem } from '../../src/solvers/run-recipe.js';
+import { prepareSolve, solveSystem } from '../../src/solvers/run-recipe.js';
 import { loadSystem } from '../../src/sparse/load.js';
 import { readMatrixMarketVector, writeMatrixMarket, writeMatrixMarketVector } from '../../src/sparse/matrix-market.js';
 import { convectionDiffusion } from '../sparse/model-matrices.js';
@@ -81,7 +81,10 @@ function craftedDeps(): { deps: RunDeps; setups: number[]; carries: Set<KrylovCa
         solve(_b, opts) {
           carries.add(opts?.carry);
           if (opts?.matrix) reusedOn.push(solveIndex);
-          return result(10 + 3 * lag++);
+          const out = result(10 + 3 * lag++);
+          // as the real prepareSolve: only the first solve reports the set-up
+          if (lag > 1) { out.result.timing.setupSeconds = 0; out.result.work.setup = { ...out.result.work.setup, flops: 0 }; }
+          return out;
         },
         dispose() { /* nothing held */ },
       };
@@ -143,7 +146,7 @@ function slowSequence(n: number): Array<{ csr: Csr; b: Float64Array }> {
   });
 }
 
-const realDeps: RunDeps = { loadSystem, readMatrixMarketVector, solveSystem };
+const realDeps: RunDeps = { loadSystem, readMatrixMarketVector, solveSystem, prepareSolve };
 const asLoaded = (seq: Array<{ csr: Csr; b: Float64Array }>) => seq.map((s, k) => ({
   label: `system ${k + 1}`, system: { csr: s.csr, bsr: csrToBsr(s.csr, 1), bs: 1 }, b: s.b,
 }));
@@ -160,6 +163,33 @@ describe('sequence runs with the real solver', () => {
     expect(its(prev)[0]).toBe(its(zero)[0]); // the first system starts from zero either way
     for (let k = 1; k < systems.length; k++) expect(its(prev)[k]).toBeLessThan(its(zero)[k]);
     expect(prev.results.every((r) => r.converged)).toBe(true);
+  });
+
+  it('a lagged preconditioner (reuse fixed 2) is set up on systems 1, 3, 5 and solves each later system itself', () => {
+    const calls: string[] = [];
+    const deps: RunDeps = { ...realDeps, prepareSolve: (sys, r, o) => { calls.push('prepare'); return prepareSolve(sys, r, o); } };
+    const pass = runSequencePass(systems, { ...recipe, reuse: 'fixed', reuseSystems: 2 }, deps, { gc: false });
+    expect(pass.rebuilt).toEqual([true, false, true, false, true]);
+    expect(calls).toHaveLength(3);
+    pass.results.forEach((r, k) => {
+      expect(r.converged).toBe(true);
+      expect(r.setupReused === true).toBe(!pass.rebuilt[k]);
+      if (!pass.rebuilt[k]) { expect(r.timing.setupSeconds).toBe(0); expect(r.work.setup.flops).toBe(0); }
+      else expect(r.work.setup.flops).toBeGreaterThan(0);
+    });
+    // the solution of system 2 (solved with system 1's ILU(0)) solves system 2, not system 1
+    const { csr, b } = slowSequence(5)[1]!;
+    const solved = (() => {
+      const p = prepareSolve(systems[0]!.system, recipe, { laggedMatrix: true });
+      try { p.solve(systems[0]!.b); return p.solve(b, { matrix: systems[1]!.system }).x; } finally { p.dispose(); }
+    })();
+    let rr = 0, bb = 0;
+    for (let i = 0; i < csr.nRows; i++) {
+      let ax = 0;
+      for (let k = csr.rowPtr[i]; k < csr.rowPtr[i + 1]; k++) ax += csr.values[k] * solved[csr.colInd[k]];
+      rr += (b[i] - ax) ** 2; bb += b[i] ** 2;
+    }
+    expect(Math.sqrt(rr / bb)).toBeLessThan(1e-7);
   });
 
   it('totals are exactly the sums of the per-system figures, and the aggregate result carries them', () => {
