@@ -200,7 +200,7 @@ function crossCheck(r: Recipe, isInner: boolean): [keyof Recipe, string] | undef
   }
   if (r.krylov === 'fgmres' && r.side === 'left') return ['side', 'fgmres preconditions on the right only'];
   if (r.deflate !== undefined && isDeflatedKrylov(r.krylov) && !(r.deflate < r.restart)) {
-    return ['deflate', `${r.krylov} keeps deflate harmonic Ritz vectors of a restart-${r.restart} cycle, so deflate must be below restart; got deflate ${r.deflate}${r.deflate === DEFAULT_DEFLATE ? ' (the default)' : ''}`];
+    return ['deflate', `${r.krylov} keeps deflate harmonic Ritz vectors of a restart-${r.restart} cycle, so deflate must be below restart; got deflate ${r.deflate} (default ${DEFAULT_DEFLATE})`];
   }
   if (r.inner && r.preconditioner !== 'slab') return ['inner', 'an inner recipe is only used by preconditioner slab'];
   if (isInner && r.preconditioner === 'slab') return ['preconditioner', 'a slab inner recipe cannot itself use slab'];
