@@ -1,6 +1,6 @@
 import { describe, it, expect } from 'vitest';
 import { parseRecipe, recipeFromOptions, recordedRecipe } from '../../src/solvers/recipe.js';
-import { DEFAULT_DEFLATE } from '../../src/solvers/options.js';
+import { DEFAULT_DEFLATE, defaultDeflate } from '../../src/solvers/options.js';
 
 describe('recipe field deflate (gmres-dr, gcro-dr)', () => {
   it('a deflated method without deflate gets the default, recorded in results', () => {
@@ -9,15 +9,19 @@ describe('recipe field deflate (gmres-dr, gcro-dr)', () => {
     expect(recordedRecipe(r).deflate).toBe(DEFAULT_DEFLATE);
     expect(parseRecipe({ krylov: 'gcro-dr', restart: 40, deflate: 15 }, 'r').deflate).toBe(15);
     expect(recipeFromOptions({ krylov: 'gcro-dr', deflate: '4', restart: '12' }).deflate).toBe(4);
+    // a short cycle gets a smaller default: ⌊restart/3⌋
+    expect(recipeFromOptions({ krylov: 'gcro-dr', restart: '8' }).deflate).toBe(2);
+    expect(parseRecipe({ krylov: 'gmres-dr', restart: 2 }, 'r').deflate).toBe(0);
+    expect([30, 31, 60, 9].map(defaultDeflate)).toEqual([10, 10, 10, 3]);
     // other methods neither read nor record it
     expect(recordedRecipe(parseRecipe({ krylov: 'gmres' }, 'r')).deflate).toBeUndefined();
   });
 
-  it('deflate ≥ restart is refused, naming the field (and the default)', () => {
+  it('deflate ≥ restart is refused, naming the field', () => {
     expect(() => parseRecipe({ krylov: 'gmres-dr', restart: 10, deflate: 10 }, 'suite.json: recipes[1]'))
-      .toThrow(/^suite\.json: recipes\[1\]\.deflate: gmres-dr keeps deflate harmonic Ritz vectors of a restart-10 cycle, so deflate must be below restart; got deflate 10 \(default 10\)$/);
-    expect(() => recipeFromOptions({ krylov: 'gcro-dr', restart: '8' }))
-      .toThrow(/^option --deflate: gcro-dr keeps .*got deflate 10 \(default 10\)$/);
+      .toThrow(/^suite\.json: recipes\[1\]\.deflate: gmres-dr keeps deflate harmonic Ritz vectors of a restart-10 cycle, so deflate must be below restart; got deflate 10$/);
+    expect(() => recipeFromOptions({ krylov: 'gcro-dr', restart: '8', deflate: '8' }))
+      .toThrow(/^option --deflate: gcro-dr keeps .*got deflate 8$/);
     expect(() => recipeFromOptions({ krylov: 'gcro-dr', deflate: '-1' })).toThrow(/^option --deflate: expected an integer from 0 to 9999, got "-1"$/);
   });
 
