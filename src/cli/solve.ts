@@ -37,7 +37,7 @@ const AIR_HELP: Record<keyof AirOptions, string> = {
 const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   krylov: 'iterative method; none = stationary iteration x ← x + ω M⁻¹(b − Ax) (default gmres)',
   restart: 'GMRES/FGMRES/GMRES-DR/GCRO-DR basis vectors per cycle (default 30)',
-  deflate: 'gmres-dr and gcro-dr: harmonic Ritz vectors kept at each restart (gcro-dr: and carried to the next solve of a sequence); below restart (default 10)',
+  deflate: 'gmres-dr and gcro-dr: harmonic Ritz vectors kept at each restart (gcro-dr: and carried to the next solve of a sequence); below restart (default 10, or restart/3 rounded down when smaller)',
   side: 'GMRES preconditioning side: right watches ‖b − Ax‖, left watches ‖M⁻¹(b − Ax)‖ (default right)',
   orthogonalization: 'Gram–Schmidt variant: mgs = modified, cgs2 = classical with one reorthogonalization (default mgs)',
   preconditioner: 'preconditioner (default none)',

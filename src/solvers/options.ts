@@ -27,7 +27,7 @@ export interface KrylovOptions {
   omega?: number;
   /**
    * GMRES-DR and GCRO-DR: harmonic Ritz vectors kept at each restart (and, GCRO-DR, carried to the
-   * next solve), 0 ≤ deflate < restart. Default DEFAULT_DEFLATE.
+   * next solve), 0 ≤ deflate < restart. Default defaultDeflate(restart).
    */
   deflate?: number;
   /** GMRES: compute Ritz values of the first cycle (default true). */
@@ -95,8 +95,13 @@ export function checkKrylovOptions(method: string, o: KrylovOptions): void {
   }
 }
 
-/** Deflation dimension when a recipe or caller gives none (Morgan 2002 uses k well below m; common practice). */
+/** Most harmonic Ritz vectors kept when a recipe or caller gives no deflate. */
 export const DEFAULT_DEFLATE = 10;
+
+/** The deflation dimension when none is given: 10, or ⌊restart/3⌋ when smaller (k well below m; common practice). */
+export function defaultDeflate(restart: number): number {
+  return Math.min(DEFAULT_DEFLATE, Math.floor(restart / 3));
+}
 
 /**
  * The checks of the deflated GMRES variants (gmres-dr, gcro-dr) beyond checkKrylovOptions: right
@@ -110,7 +115,7 @@ export function checkDeflatedOptions(method: string, o: KrylovOptions, n: number
   if (o.M?.variable) {
     throw new UserError(`${method}: preconditioner ${o.M.name} changes between applications (variable: it runs an inner iterative solve); ${method} needs a fixed preconditioner, use krylov fgmres`);
   }
-  const kReq = o.deflate ?? DEFAULT_DEFLATE;
+  const kReq = o.deflate ?? defaultDeflate(o.restart);
   if (!Number.isInteger(kReq) || kReq < 0 || kReq >= o.restart) {
     throw bad(method, 'deflate', `expected an integer from 0 to restart − 1 = ${o.restart - 1}, got ${kReq}`);
   }

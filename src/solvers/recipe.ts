@@ -1,7 +1,7 @@
 import { UserError, optionError } from '../util/errors.js';
 import { preconditionerUses } from '../precond/registry.js';
 import { SEQUENCE_FIELDS, parseSequencePolicy, type InitialGuess, type ReusePolicy, type SequenceField } from './sequence-policy.js';
-import { DEFAULT_DEFLATE } from './options.js';
+import { defaultDeflate } from './options.js';
 /**
  * A solver recipe: one named combination of Krylov method, preconditioner, ordering and
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
@@ -209,7 +209,7 @@ function crossCheck(r: Recipe, isInner: boolean): [keyof Recipe, string] | undef
   }
   if (r.krylov === 'fgmres' && r.side === 'left') return ['side', 'fgmres preconditions on the right only'];
   if (r.deflate !== undefined && isDeflatedKrylov(r.krylov) && !(r.deflate < r.restart)) {
-    return ['deflate', `${r.krylov} keeps deflate harmonic Ritz vectors of a restart-${r.restart} cycle, so deflate must be below restart; got deflate ${r.deflate}${r.deflate === DEFAULT_DEFLATE ? ' (the default)' : ''}`];
+    return ['deflate', `${r.krylov} keeps deflate harmonic Ritz vectors of a restart-${r.restart} cycle, so deflate must be below restart; got deflate ${r.deflate}`];
   }
   if (r.inner && r.preconditioner !== 'slab') return ['inner', 'an inner recipe is only used by preconditioner slab'];
   if (isInner && r.preconditioner === 'slab') return ['preconditioner', 'a slab inner recipe cannot itself use slab'];
@@ -219,9 +219,9 @@ function crossCheck(r: Recipe, isInner: boolean): [keyof Recipe, string] | undef
   return undefined;
 }
 
-/** A deflated method without `deflate` gets DEFAULT_DEFLATE (recorded in results like any field it reads). */
+/** A deflated method without `deflate` gets defaultDeflate(restart) (recorded in results like any field it reads). */
 function fillDeflate(r: Recipe): void {
-  if (isDeflatedKrylov(r.krylov) && r.deflate === undefined) r.deflate = DEFAULT_DEFLATE;
+  if (isDeflatedKrylov(r.krylov) && r.deflate === undefined) r.deflate = defaultDeflate(r.restart);
 }
 
 /**
