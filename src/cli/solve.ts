@@ -38,7 +38,8 @@ const AIR_HELP: Record<keyof AirOptions, string> = {
 /** What each recipe option means (the accepted values come from the recipe validator). */
 const FIELD_HELP: Record<(typeof RECIPE_FIELDS)[number], string> = {
   krylov: 'iterative method; none = stationary iteration x ← x + ω M⁻¹(b − Ax) (default gmres)',
-  restart: 'GMRES/FGMRES basis vectors per cycle (default 30)',
+  restart: 'GMRES/FGMRES/GMRES-DR/GCRO-DR basis vectors per cycle (default 30)',
+  deflate: 'gmres-dr and gcro-dr: harmonic Ritz vectors kept at each restart (gcro-dr: and carried to the next solve of a sequence); below restart (default 10, or restart/3 rounded down when smaller)',
   side: 'GMRES preconditioning side: right watches ‖b − Ax‖, left watches ‖M⁻¹(b − Ax)‖ (default right)',
   orthogonalization: 'Gram–Schmidt variant: mgs = modified, cgs2 = classical with one reorthogonalization (default mgs)',
   preconditioner: 'preconditioner (default none)',
@@ -148,6 +149,7 @@ const num = formatNumber;
 function recipeText(r: RecordedRecipe): string {
   const method = r.krylov === 'none' ? `stationary iteration${r.preconditioner !== 'block-gs' && r.omega !== 1 ? ` (ω ${r.omega})` : ''}`
     : r.krylov === 'bicgstab' ? 'bicgstab'
+      : r.krylov === 'gmres-dr' || r.krylov === 'gcro-dr' ? `${r.krylov}(${r.restart}, ${r.deflate}, right, ${r.orthogonalization})`
       : `${r.krylov}(${r.restart}, ${r.krylov === 'fgmres' ? 'right' : r.side}, ${r.orthogonalization})`;
   let pc = r.preconditioner;
   const diagonal = r.blockInverse === 'inverse' ? 'inverse blocks' : 'LU blocks';
@@ -541,6 +543,7 @@ Examples:
   $ slabbench solve duct.mtx
   $ slabbench solve duct.mtx --precond block-ilu0 --ordering mdf --restart 50 --rtol 1e-10
   $ slabbench solve tank.mtx --rhs tank-rhs.mtx --krylov bicgstab --precond block-jacobi --block-size 6
+  $ slabbench solve duct.mtx --krylov gmres-dr --restart 30 --deflate 10 --precond block-ilu0
   $ slabbench solve corridor.mtx --krylov none --precond block-gs --sweep symmetric --omega 1.2
   $ slabbench solve channel.mtx --krylov fgmres --precond slab --inner-krylov gmres --inner-precond block-ilu0 --inner-rtol 1e-6
   $ slabbench solve room.mtx --precond ilu0 --json - | jq .iterations

@@ -331,11 +331,29 @@ export function generateWithDiscretization(
   params: GeneratorParams, onProgress?: ProgressSink,
 ): { system: GeneratedSystem; disc: Discretization } {
   const { resolved, disc } = buildDiscretization(params);
-  const { mesh, physics, tables, ordering } = disc;
+  const { state, scaledElements } = initialState(disc, params);
+  return { system: assembleCase(params, resolved, disc, state, scaledElements, onProgress), disc };
+}
+
+/**
+ * The state a nonlinear physics linearizes about: the L² projection of its `state` expression,
+ * scaled toward element means where it is not admissible (Euler); null for linear physics.
+ */
+export function initialState(disc: Discretization, params: GeneratorParams): { state: Float64Array | null; scaledElements: number } {
+  const { mesh, physics, ordering } = disc;
   let state: Float64Array | null = null;
   if (physics.state) state = projectFunction(mesh, params.order, physics.nEquations, ordering.inv, physics.state);
   // a projected discontinuous state can undershoot (negative pressure): scale those elements
   const scaledElements = state && physics.kind === 'nonlinear-system' ? scaleToAdmissible(disc, physics, state) : 0;
+  return { state, scaledElements };
+}
+
+/** Assemble the case at a state (null for linear physics): matrix, right-hand side −R(state) and layout. */
+export function assembleCase(
+  params: GeneratorParams, resolved: ResolvedGenerator, disc: Discretization, state: Float64Array | null,
+  scaledElements: number, onProgress?: ProgressSink,
+): GeneratedSystem {
+  const { mesh, physics, tables, ordering } = disc;
   const assembled = assembleDg(disc, state, { onProgress });
   const { residual } = assembled;
   for (let i = 0; i < residual.length; i++) residual[i] = -residual[i];
@@ -392,7 +410,7 @@ export function generateWithDiscretization(
       get: () => (cached ??= projectFunction(mesh, params.order, physics.nEquations, ordering.inv, exact)),
     });
   }
-  return { system: out, disc };
+  return out;
 }
 
 /** Stored blocks whose bs² entries are all exactly 0 (upwind faces whose coupling vanishes, …). */

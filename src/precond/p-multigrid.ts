@@ -373,6 +373,8 @@ function coarseKrylovBytes(r: Recipe, n: number): number {
   switch (r.krylov) {
     case 'gmres': return (r.restart + 1) * n * 8;
     case 'fgmres': return (2 * r.restart + 1) * n * 8;
+    case 'gmres-dr': return (r.restart + (r.deflate ?? 0) + 2) * n * 8;
+    case 'gcro-dr': return (r.restart + 1 + 4 * (r.deflate ?? 0)) * n * 8;
     case 'bicgstab': return 8 * n * 8;
     case 'none': return 2 * n * 8;
   }

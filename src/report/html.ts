@@ -6,7 +6,8 @@ import type { SolveResult } from '../solvers/types.js';
 import { withPrefix } from '../util/errors.js';
 import { runsByMatrix, recipeOrder, statusWarning, type MatrixRuns } from './group.js';
 import { plural } from './format.js';
-import { matrixSummary, MISMATCH_MARK, rankForTable, rowCells, solveWork, WIDE_COLUMN_TITLES, WINNER_MARK } from './table.js';
+import { matrixSummary, MISMATCH_MARK, rankForTable, REBUILD_MARK, rowCells, sequenceTable, solveWork, WIDE_COLUMN_TITLES, WINNER_MARK } from './table.js';
+import { formatCount, formatSeconds } from './format.js';
 import { verdictLine } from './rank.js';
 import { LIMITS_STATEMENT } from './limits.js';
 import { esc } from './svg/common.js';
@@ -34,7 +35,7 @@ function residualFile(slug: string, axis: ResidualAxis): string {
 }
 
 /** Names `writeReport` writes (and so may remove when they no longer belong to the results). */
-export const REPORT_FILE_PATTERN = new RegExp(`^(residuals|ritz|pattern|history|scale)-[a-z0-9-]+(\\.(${RESIDUAL_AXES.join('|')}))?\\.svg$`);
+export const REPORT_FILE_PATTERN = new RegExp(`^(residuals|ritz|pattern|history|scale|sequence)-[a-z0-9-]+(\\.(${RESIDUAL_AXES.join('|')}))?\\.svg$`);
 
 /**
  * x value of every history entry on an axis. matvecs: the solve's operator applications spread
@@ -52,6 +53,17 @@ export function historyX(res: SolveResult, axis: ResidualAxis): number[] | undef
   }
   const setup = res.timing.setupSeconds, solve = res.timing.solveSeconds;
   return Array.from({ length: n }, (_v, i) => setup + (i * solve) / it);
+}
+
+/** The result a residual plot draws: a sequence run's last system (its history is the one stored), else the result itself. */
+function lastSystemResult(r: RunRecord): SolveResult {
+  const res = r.result!;
+  const last = r.sequence?.systems[r.sequence.systems.length - 1];
+  if (!last) return res;
+  return {
+    ...res, iterations: last.iterations, cause: last.cause, outcome: last.outcome, converged: last.outcome === 'solved',
+    timing: { ...res.timing, setupSeconds: last.setupSeconds, solveSeconds: last.solveSeconds }, work: last.work,
+  };
 }
 
 /** True when the history is the left-preconditioned residual ‖M⁻¹r‖. */
@@ -133,6 +145,8 @@ function tableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): stri
     'matvecs = operator applications and applies = preconditioner applications in the solve: iteration counts of different methods are not comparable (one BiCGStab iteration is two of each)',
     'memory = preconditioner + Krylov basis bytes (the matrix itself is not included)',
   ];
+  const seq = results.matrices.find((m) => m.name === matrix)?.sequence;
+  if (seq) notes.unshift(`a sequence of ${plural(seq.systems, 'system')}: iterations, work and times are totals over the sequence, true res. the largest of its systems (per system below)`);
   if (missing.length > 0) {
     s += `<p class="incomplete" data-incomplete="${missing.length}">Incomplete: ${esc(plural(missing.length, 'recipe'))} of the sweep did not run on this matrix (${esc(missing.join(', '))}), so no winner is named.</p>`;
   } else {
@@ -144,6 +158,23 @@ function tableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): stri
     if (why) notes.push(withPrefix(r.run.recipe, why));
   }
   return `${s}<ul class="notes">${notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>`;
+}
+
+/** The per-system table of a sequence matrix (empty when the matrix is not a sequence). */
+function sequenceTableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): string {
+  const { ranked } = rankForTable(results, matrix, runs);
+  const t = sequenceTable(ranked, (it, rb, sec) => `${formatCount(it)}${rb ? REBUILD_MARK : ''} · ${formatSeconds(sec)} s`);
+  if (!t) return '';
+  let s = '<div class="table-wrap"><table class="ranked sequence" data-systems="' + (t.heads.length - 4) + '"><thead><tr>';
+  t.heads.forEach((h, j) => { s += `<th${j === 0 ? ' class="text"' : ''}>${esc(h)}</th>`; });
+  s += '</tr></thead><tbody>';
+  t.rows.forEach((row, i) => {
+    s += `<tr data-recipe="${esc(t.recipes[i]!)}">`;
+    row.forEach((c, j) => { s += `<td${j === 0 ? ' class="text"' : ''}>${esc(c)}</td>`; });
+    s += '</tr>';
+  });
+  s += '</tbody></table></div>';
+  return `${s}<ul class="notes"><li>${esc(`per system: iterations ${REBUILD_MARK} (preconditioner set up for that system; without the mark an earlier set-up was reused) · setup + solve seconds of the stored repeat; then the totals over the sequence, which the ranking above uses`)}</li></ul>`;
 }
 
 function figure(svg: ReportSvg, caption: string): string {
@@ -245,11 +276,12 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
     const resSvgs: ReportSvg[] = axes.map((axis) => ({
       file: residualFile(sl, axis),
       svg: residualPlot({
-        title: `${g.matrix}: residual histories`,
+        title: `${g.matrix}: residual histories${g.info?.sequence ? ' (last system)' : ''}`,
         idPrefix: `residuals-${sl}-${axis}`,
         axis,
         series: withResult.map((r) => {
-          const res = r.result!;
+          // a sequence's result holds totals; its history is the last system's, so plot that system's own figures
+          const res = lastSystemResult(r);
           return {
             name: r.recipe,
             history: res.history,
@@ -277,6 +309,23 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
       svg: patternPlot({ title: `${g.matrix}: block sparsity`, pattern: g.info?.pattern, idPrefix: `pattern-${sl}` }),
     };
     svgs.push(...resSvgs, ritz, pat);
+    const seqRuns = withResult.filter((r) => r.sequence);
+    const seqSvg: ReportSvg | undefined = seqRuns.length === 0 ? undefined : {
+      file: `sequence-${sl}.svg`,
+      svg: historyPlot({
+        kind: 'sequence',
+        title: `${g.matrix}: cost per system of the sequence`,
+        idPrefix: `sequence-${sl}`,
+        runLabels: seqRuns[0]!.sequence!.systems.map((q) => q.label),
+        series: seqRuns.map((r) => ({
+          name: r.recipe, colorIndex: color(r.recipe),
+          iterations: r.sequence!.systems.map((q) => q.iterations),
+          seconds: r.sequence!.systems.map((q) => q.setupSeconds + q.solveSeconds),
+          converged: r.sequence!.systems.map((q) => q.outcome === 'solved'),
+        })),
+      }),
+    };
+    if (seqSvg) svgs.push(seqSvg);
     const source = g.info ? `${g.info.source === 'generated' ? 'generated' : 'file'} ${g.info.path}` : '';
     sections.push(
       `<section class="matrix" id="m-${esc(sl)}" data-matrix="${esc(g.matrix)}">`
@@ -284,7 +333,9 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
       + `<p class="summary">${esc(matrixSummary(g.info))}${source ? ` · ${esc(source)}` : ''}${g.info?.note ? ` · ${esc(g.info.note)}` : ''}</p>`
       + '<h3>Ranking</h3>'
       + tableHtml(results, g.matrix, g.runs)
+      + (seqSvg ? '<h3>Per system</h3>' + sequenceTableHtml(results, g.matrix, g.runs) : '')
       + '<h3>Plots</h3><div class="plots">'
+      + (seqSvg ? figure(seqSvg, 'Iterations (top) and setup + solve seconds (bottom) of each system of the sequence, per recipe. A recipe that reuses its preconditioner has no setup time on the systems it reuses it for; the residual plots beside show the last system.') : '')
       + resSvgs.map((f, k) => figure(f, RESIDUAL_CAPTION[axes[k]])).join('')
       + figure(ritz, 'Ritz values of the first GMRES cycle: estimates of the eigenvalues of the preconditioned operator. Values gathered tightly around 1 and away from 0 mean fast convergence.')
       + figure(pat, 'Where the stored blocks sit (darker = more blocks per cell). Dashed lines are slab boundaries; with upwinding in time no block lies above a slab-diagonal square.')

@@ -17,7 +17,7 @@
  * schwarz), and the vector operations shared out by its share of the unknowns.
  */
 import type { SystemMatrix } from '../precond/types.js';
-import { SUBDOMAIN_SOLVERS, type PartitionSlabsMode, type Recipe } from '../solvers/recipe.js';
+import { SUBDOMAIN_SOLVERS, isDeflatedKrylov, type PartitionSlabsMode, type Recipe } from '../solvers/recipe.js';
 import type { SolveResult, WorkCounts } from '../solvers/types.js';
 import { solveSystem } from '../solvers/run-recipe.js';
 import { sparseWork } from '../solvers/work.js';
@@ -81,10 +81,36 @@ export interface ScaleReport {
 export function reductionsOf(recipe: Recipe, iterations: number, restarts: number): number {
   if (recipe.krylov === 'bicgstab') return 6 * iterations;
   if (recipe.krylov === 'none') return iterations;
+  if (isDeflatedKrylov(recipe.krylov) && (recipe.deflate ?? 0) > 0) return deflatedReductions(recipe, iterations, restarts);
   const m = recipe.restart;
   const full = Math.floor(iterations / m), rest = iterations % m;
   const cycle = (k: number): number => (recipe.orthogonalization === 'cgs2' ? 3 * k : (k * (k + 3)) / 2);
   return full * cycle(m) + cycle(rest) + restarts + 1;
+}
+
+/**
+ * GMRES-DR / GCRO-DR (one solve, no carried space): the first cycle as GMRES(m); each later cycle
+ * has m − k steps, and its step j projects against k + j + 1 vectors (gmres-dr: the deflated basis
+ * and the new ones; gcro-dr: C, then V), so mgs makes k + j + 2 reductions; cgs2 makes 3 (gmres-dr)
+ * or 5 (gcro-dr: two passes against C as well). gcro-dr's per-cycle small blocks (the norms of U
+ * and the inner products Cᵀ U, Vᵀ U of the harmonic Ritz problem) count as two fused reductions.
+ * Plus one norm per restart and the final one.
+ */
+function deflatedReductions(recipe: Recipe, iterations: number, restarts: number): number {
+  const m = recipe.restart, k = recipe.deflate ?? 0;
+  const gcro = recipe.krylov === 'gcro-dr';
+  const step = (j: number, before: number): number => (recipe.orthogonalization === 'cgs2'
+    ? (gcro && before > 0 ? 5 : 3) : before + j + 2);
+  let total = 0;
+  let left = iterations;
+  for (let cycle = 0; left > 0; cycle++) {
+    const before = cycle === 0 ? 0 : k;
+    const steps = Math.min(left, m - before);
+    for (let j = 0; j < steps; j++) total += step(j, before);
+    if (gcro && cycle > 0) total += 2;
+    left -= steps;
+  }
+  return total + restarts + 1;
 }
 
 /** How scale partitions (whatever the preconditioner; unset fields: the recipe's, else the defaults). */

@@ -85,7 +85,10 @@ export function solveBoundBytes(system: SystemMatrix, recipe: Recipe, format: 'c
   const n = system.n ?? system.bsr.nBlockRows * system.bsr.bs;
   const vec = pad(n * 8);
   const matrix = arraysBytes(format === 'csr' ? system.csr : system.bsr);
-  const basis = (recipe.restart + 1) * (recipe.krylov === 'fgmres' ? 2 : 1);
+  const deflate = recipe.deflate ?? 0;
+  // GMRES-DR: k + 1 more vectors (the new V_{k+1}); GCRO-DR: U, C and their replacements (4k)
+  const basis = (recipe.restart + 1) * (recipe.krylov === 'fgmres' ? 2 : 1)
+    + (recipe.krylov === 'gmres-dr' ? deflate + 1 : recipe.krylov === 'gcro-dr' ? 4 * deflate : 0);
   const inner = recipe.inner ? (recipe.inner.restart + 1) * 2 + 16 : 0;
   const precond = recipe.preconditioner === 'none' ? 0 : (PRECONDITIONER_MATRIX_COPIES[recipe.preconditioner] ?? 3) * matrix + 32 * vec;
   return precond + (basis + inner + 16) * vec + (1 << 20);

@@ -3,6 +3,7 @@
  *   { "schema": "slabbench-layout/1", "blockSize": 6, "slabOffsets": [0, 40, 80],
  *     "modes": { "nEquations": 2, "arrangement": "equation-major", "degrees": [0, 1, 1] },
  *     "provenance": { "generator": "duct-pulse", "order": 2 } }
+ * A system of a generated sequence also has "sequence": { "kind": "newton" | "slabs", "index", "count", … }.
  * slabOffsets are BLOCK-row offsets: slab s holds block rows slabOffsets[s] .. slabOffsets[s+1]-1.
  * Optional "centroids": { "nCoordinates": 3, "values": [x0, y0, t0, x1, …] }, one point per block
  * row (the coordinate partitioner's input; generated cases write element centroids).
@@ -73,6 +74,15 @@ export function validateLayout(obj: unknown, where: string): Layout {
   if (o.elementQuality !== undefined) validateElementQuality(o.elementQuality, where);
   if (o.modes !== undefined) validateModes(o.modes, bs, where);
   if (o.centroids !== undefined) validateCentroids(o.centroids, where);
+  if (o.sequence !== undefined) {
+    const q = o.sequence as Record<string, unknown> | null;
+    if (typeof q !== 'object' || q === null || Array.isArray(q)) throw fileError(where, undefined, `sequence: expected an object { kind, index, count, … }, found ${describe(q)}`);
+    if (q.kind !== 'newton' && q.kind !== 'slabs') throw fileError(where, undefined, `sequence.kind: expected "newton" or "slabs", found ${describe(q.kind)}`);
+    if (typeof q.count !== 'number' || !Number.isInteger(q.count) || q.count < 1) throw fileError(where, undefined, `sequence.count: expected a positive integer, found ${describe(q.count)}`);
+    if (typeof q.index !== 'number' || !Number.isInteger(q.index) || q.index < 1 || q.index > q.count) {
+      throw fileError(where, undefined, `sequence.index: expected an integer from 1 to ${q.count} (sequence.count), found ${describe(q.index)}`);
+    }
+  }
   if (o.provenance !== undefined && (typeof o.provenance !== 'object' || o.provenance === null || Array.isArray(o.provenance))) {
     throw fileError(where, undefined, `provenance: expected an object, found ${describe(o.provenance)}`);
   }

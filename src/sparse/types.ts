@@ -59,6 +59,21 @@ export interface Layout {
     readonly aspectRatio: { readonly min: number; readonly median: number; readonly max: number };
     readonly minJacobianDeterminant: number;
   };
+  /** This system's place in a generated sequence (src/dg/sequence.ts): which Newton step or slab, and what it linearizes about. */
+  readonly sequence?: SequenceLayout;
+  readonly [extra: string]: unknown;
+}
+
+/**
+ * Layout section `sequence`: the system is number `index` (from 1) of `count` in a sequence of
+ * kind 'newton' (step k: the Jacobian at the state after k − 1 Newton updates) or 'slabs' (slab k
+ * of a slab-marching sequence, its inflow the computed solution of slab k − 1). Further fields
+ * describe the step (state file, residual norm, block rows of the slab in the full system).
+ */
+export interface SequenceLayout {
+  readonly kind: 'newton' | 'slabs';
+  readonly index: number;
+  readonly count: number;
   readonly [extra: string]: unknown;
 }
 

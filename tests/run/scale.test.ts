@@ -17,6 +17,14 @@ describe('scale: the partitioned forecast', () => {
     expect(reductionsOf(recipe({ restart: 2 }), 5, 2)).toBe(2 * 5 + 2 + 3);
     expect(reductionsOf(recipe({ krylov: 'none' }), 7, 0)).toBe(7);
     expect(reductionsOf(recipe({ krylov: 'bicgstab' }), 2, 0)).toBe(12);
+    // GMRES-DR(4, 2) mgs, 6 iterations, 1 restart: first cycle 2 + 3 + 4 + 5, then m − k = 2 steps
+    // against k + j + 1 vectors (4 + 5), + 1 + 1 norms; k = 0 is GMRES(m)
+    expect(reductionsOf(recipe({ krylov: 'gmres-dr', restart: 4, deflate: 2 }), 6, 1)).toBe(14 + 9 + 2);
+    expect(reductionsOf(recipe({ krylov: 'gmres-dr', restart: 4, deflate: 0 }), 6, 1)).toBe(reductionsOf(recipe({ restart: 4 }), 6, 1));
+    // GCRO-DR(4, 2): the same steps (C then V), + 2 fused small blocks in the second cycle
+    expect(reductionsOf(recipe({ krylov: 'gcro-dr', restart: 4, deflate: 2 }), 6, 1)).toBe(14 + 9 + 2 + 2);
+    // cgs2: 3 per step in the first cycle, gcro-dr 5 per later step (two passes against C too)
+    expect(reductionsOf(recipe({ krylov: 'gcro-dr', restart: 4, deflate: 2, orthogonalization: 'cgs2' }), 6, 1)).toBe(12 + 10 + 2 + 2);
   });
 
   it('recipes per P: schwarz gets the parts; others become block Jacobi over the parts with themselves per part', () => {
