@@ -83,7 +83,15 @@ export type BufferBytes = Record<string, number>;
 export interface SolveMemory {
   matrixBytes: number;
   preconditionerBytes: number;
+  /** The Krylov buffers the run held: for GMRES the basis vectors it allocated and wrote (min(iterations, restart) + 1 when it ran). */
   krylovBytes: number;
+  /**
+   * The Krylov basis a full cycle holds: GMRES (restart + 1)·n·8, FGMRES (2·restart + 1)·n·8 (the
+   * figure `estimate` projects, an upper bound on the basis part of krylovBytes); for methods that
+   * allocate everything up front (BiCGStab, stationary) it equals krylovBytes. Absent in results
+   * written before it existed.
+   */
+  basisReservedBytes?: number;
   workBytes: number;
   /** Peak resident set size of the process during setup + solve (process.resourceUsage().maxRSS). */
   peakBytes: number;
