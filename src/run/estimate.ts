@@ -42,9 +42,16 @@
  *      slab         one slab at a time with the default inner recipe (GMRES(30) + block ILU(0)):
  *                   the inner block-ilu0 bytes and inner basis 31·n_s·8 of one slab, a buffer for
  *                   one slab's diagonal part (the one-slab BSR bytes) and two slab vectors 2·n_s·8
- *  - Krylov basis: GMRES (m+1)·n·8, FGMRES (2m+1)·n·8 (the preconditioned vectors too), BiCGStab
- *    8·n·8 (eight work vectors with a preconditioner), m = min(restart, n). The small Hessenberg
- *    and rotation arrays are left out.
+ *      p-multigrid  with its defaults, from the counts: level l keeps the C(q_l + D, D) modes of
+ *                   degree ≤ q_l on the fine block pattern (generatorModes); its blocks, vectors,
+ *                   smoother and coarse preconditioner are projected per level by
+ *                   projectPreconditioner (src/run/estimate-pattern.ts), the code estimate FILE uses
+ *    schwarz, direct and air are projected on a matrix only (estimate-pattern.ts; notProjected says why).
+ *  - Krylov basis, reserved for a full cycle (an upper bound: GMRES allocates a vector when it first
+ *    writes it, so a run stopping after k < m iterations holds k + 1; results report this figure as
+ *    memory.basisReservedBytes): GMRES (m+1)·n·8, FGMRES (2m+1)·n·8 (the preconditioned vectors
+ *    too), BiCGStab 8·n·8 (eight work vectors with a preconditioner), m = min(restart, n). The small
+ *    Hessenberg and rotation arrays are left out.
  */
 
 import type { ModalLayout } from '../sparse/types.js';

@@ -48,6 +48,12 @@ export interface KernelPlan {
   note?: string;
   /** Bytes of the kernel memory (0 without one). */
   memoryBytes: number;
+  /**
+   * Bytes of matrix arrays this plan copied into kernel memory (0 when the matrix was there from an
+   * earlier solve): while they move, the JavaScript copy and the kernel copy both exist, so the
+   * process's peak memory holds them twice for that moment.
+   */
+  movedBytes: number;
   /** Copy of v in kernel memory (or v itself without one). */
   adopt(v: Float64Array): Float64Array;
   /** Release the solve's buffers (the matrix stays) and deactivate the arena. */
@@ -115,7 +121,7 @@ export function planKernels(
   limitBytes = MAX_KERNEL_MEMORY_BYTES - (1 << 16),
 ): KernelPlan {
   const none = (note?: string): KernelPlan => ({
-    kernels: 'typescript', note, memoryBytes: 0, adopt: (v) => v, finish: () => ({ spilledBytes: 0, usedBytes: 0 }),
+    kernels: 'typescript', note, memoryBytes: 0, movedBytes: 0, adopt: (v) => v, finish: () => ({ spilledBytes: 0, usedBytes: 0 }),
   });
   if (choice === 'typescript') return none();
   if (kernelModule() === null) {
@@ -127,6 +133,7 @@ export function planKernels(
   const matrix = csrOnly ? arraysBytes(system.csr) : arraysBytes(system.bsr) + (withCsr ? arraysBytes(system.csr) : 0);
   const need = matrix + solveBoundBytes(system, recipe, format);
   let cached = arenas.get(system);
+  let moved = 0;
   const inArena = cached !== undefined && (csrOnly
     ? system.csr.values.buffer === cached.arena.buffer
     : system.bsr.values.buffer === cached.arena.buffer && (!withCsr || system.csr.values.buffer === cached.arena.buffer));
@@ -138,6 +145,7 @@ export function planKernels(
     }
     const arena = new KernelArena(need);
     moveMatrix(system, arena, withCsr, format);
+    moved = matrix;
     cached = { arena, matrixMark: arena.mark() };
     arenas.set(system, cached);
   }
@@ -149,6 +157,7 @@ export function planKernels(
   return {
     kernels: 'wasm',
     memoryBytes: arena.bytes,
+    movedBytes: moved,
     adopt(v) {
       const c = arena.f64(v.length);
       if (c === null) { arena.spilledBytes += v.byteLength; return Float64Array.from(v); }

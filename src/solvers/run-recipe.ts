@@ -90,6 +90,7 @@ export function solveSystem(
     if (plan.note !== undefined) result.kernelsNote = plan.note;
     else if (used.spilledBytes > 0) result.kernelsNote = `${used.spilledBytes} bytes did not fit kernel memory; kernels on those arrays ran in TypeScript`;
     if (plan.memoryBytes > 0) result.kernelMemoryBytes = plan.memoryBytes;
+    if (plan.movedBytes > 0) result.kernelMatrixMovedBytes = plan.movedBytes;
     return { result, x: xOut };
   } finally {
     plan.finish();

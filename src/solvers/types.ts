@@ -163,4 +163,9 @@ export interface SolveResult {
   kernelsNote?: string;
   /** Bytes of the WebAssembly memory reserved for the solve (address space; pages never written use no RAM). */
   kernelMemoryBytes?: number;
+  /**
+   * Bytes of matrix arrays this solve copied into kernel memory (absent when none moved): the
+   * JavaScript and the kernel copy coexist while they move, so peak memory holds them twice then.
+   */
+  kernelMatrixMovedBytes?: number;
 }
