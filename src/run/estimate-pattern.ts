@@ -195,7 +195,11 @@ function projectSchwarz(m: PatternMatrix, recipe: Recipe): ProjectionOutcome {
   const parts = recipe.parts ?? SCHWARZ_DEFAULTS.parts;
   const subdomain = recipe.subdomain ?? SCHWARZ_DEFAULTS.subdomain;
   if (parts > nb) return { refused: `schwarz: parts ${parts} exceeds the matrix's ${nb} block rows` };
-  const p = partitionBlocks(a, parts, { slabs: recipe.partitionSlabs ?? SCHWARZ_DEFAULTS.partitionSlabs, slabOffsets: m.slabOffsets });
+  const method = recipe.partitionMethod ?? SCHWARZ_DEFAULTS.partitionMethod;
+  if (method === 'coordinates' && !m.system?.centroids) return { refused: "schwarz: partitionMethod 'coordinates' needs the layout's element centroids: estimate a matrix file whose layout has them" };
+  const p = partitionBlocks(a, parts, {
+    slabs: recipe.partitionSlabs ?? SCHWARZ_DEFAULTS.partitionSlabs, slabOffsets: m.slabOffsets, method, centroids: m.system?.centroids,
+  });
   const rowsOf = overlappedRows(a, p, recipe.overlap ?? SCHWARZ_DEFAULTS.overlap);
   const sub = schwarzSubdomainRecipe(recipe, subdomain);
   const local = new Int32Array(nb).fill(-1);
