@@ -4,6 +4,9 @@ import {
   estimateMemory, ESTIMATE_KRYLOV, ESTIMATE_PRECONDITIONERS, peakBytes, type EstimateInput, type MemoryEstimate,
 } from '../run/estimate.js';
 import { formatBytes, formatCount } from '../report/format.js';
+import { estimateMatrix, isRefused, VARIABLE_BY_DEFAULT, type MatrixEstimate } from '../run/estimate-pattern.js';
+import { loadSystem } from '../sparse/load.js';
+import { preconditionerNames } from '../precond/registry.js';
 
 function intOption(option: string, min: number, max: number) {
   return (v: string): number => {
@@ -23,8 +26,8 @@ function cellsOption(v: string): number[] {
 }
 
 interface EstimateCliOptions {
-  dim: number;
-  order: number;
+  dim?: number;
+  order?: number;
   equations: number;
   elements?: number;
   cells?: number[];
@@ -34,10 +37,16 @@ interface EstimateCliOptions {
   restart: number;
   blocks?: number;
   json?: boolean;
+  layout?: string;
+  blockSize?: number;
 }
 
 /** The CLI options as an EstimateInput, with the cross-option rules checked. */
 export function estimateInputFromOptions(o: EstimateCliOptions): EstimateInput {
+  if (o.layout !== undefined || o.blockSize !== undefined) throw optionError(o.layout !== undefined ? '--layout' : '--block-size', 'describes a matrix file; give the file (slabbench estimate FILE) or the mesh sizes, not both');
+  if (o.dim === undefined || o.order === undefined) {
+    throw new UserError('estimate: give a matrix file (slabbench estimate FILE), or the mesh sizes with --dim d and --order p');
+  }
   if ((o.elements === undefined) === (o.cells === undefined)) {
     throw new UserError('estimate: give the mesh size as --elements N (total space-time elements) or --cells C (cells per space direction)');
   }
@@ -89,7 +98,8 @@ export function renderEstimate(e: MemoryEstimate): string {
       rows.push([`  ${p}`, formatBytes(a.preconditioners[p]!.total), one ? formatBytes(one.total) : '—']);
     }
   }
-  rows.push([`Krylov basis (restart ${e.restart})`, '', '']);
+  for (const p of Object.keys(a.notProjected)) rows.push([`  ${p}`, '—', '—']);
+  rows.push([`Krylov basis (restart ${e.restart}, reserved)`, '', '']);
   for (const k of ESTIMATE_KRYLOV) bytes(`  ${k}`, a.krylov[k], s.krylov[k]);
   rows.push(null);
   bytes('Jacobian + block-ilu0 + gmres', peakBytes(a, 'block-ilu0', 'gmres'), peakBytes(s, 'block-ilu0', 'gmres'));
@@ -110,36 +120,91 @@ export function renderEstimate(e: MemoryEstimate): string {
     ...rows.map((r) => (r ? line(r) : '')),
     '',
     '  Slab by slab holds one slab\'s Jacobian, factors and basis at a time (plus the solution vectors).',
+    ...Object.entries(a.notProjected).map(([p, why]) => `  ${p}: not projected from mesh sizes: ${why}.`),
   ];
   return `${out.join('\n')}\n`;
+}
+
+/** Options that describe mesh sizes, refused beside a matrix file. */
+const MESH_OPTIONS: Array<[keyof EstimateCliOptions, string]> = [
+  ['dim', '--dim'], ['order', '--order'], ['elements', '--elements'], ['cells', '--cells'], ['layers', '--layers'],
+  ['periodic', '--periodic'], ['slabs', '--slabs'], ['blocks', '--blocks'],
+];
+
+/** Human-readable table of a matrix file's projection: one line per registered preconditioner. */
+export function renderMatrixEstimate(file: string, e: MatrixEstimate): string {
+  const rows: Array<[string, string, string]> = [];
+  const refused: string[] = [];
+  const measured: string[] = [];
+  for (const [name, p] of Object.entries(e.preconditioners)) {
+    if (isRefused(p)) { rows.push([`  ${name}`, 'not projected', '']); refused.push(`  ${p.refused.startsWith(`${name}`) ? p.refused : `${name}: ${p.refused}`}`); continue; }
+    const matrix = name === 'jacobi' || name === 'ilu0' ? e.jacobian.csr : e.jacobian.bsr;
+    const krylov = VARIABLE_BY_DEFAULT.has(name) ? e.krylov.fgmres : e.krylov.gmres;
+    rows.push([`  ${name}${p.source === 'measured by setup' ? ' (measured by setup)' : ''}`, formatBytes(p.total), formatBytes(matrix + p.total + krylov)]);
+    if (p.source === 'measured by setup') measured.push(name);
+  }
+  const w0 = Math.max(...rows.map((r) => r[0].length), 'preconditioner'.length + 2);
+  const w1 = Math.max(...rows.map((r) => r[1].length), 'bytes'.length);
+  const line = (r: [string, string, string]): string => `${r[0].padEnd(w0)}  ${r[1].padStart(w1)}  ${r[2]}`.trimEnd();
+  const out = [
+    `memory estimate for ${file}: n = ${formatCount(e.n)}, ${formatCount(e.blockRows)} block rows of ${e.bs}, ${formatCount(e.blocks)} stored blocks${e.slabs !== undefined ? `, ${e.slabs} slabs` : ''}`,
+    `  Jacobian: BSR ${formatBytes(e.jacobian.bsr)}, CSR ${formatBytes(e.jacobian.csr)} (a solve holds CSR with jacobi and ilu0, BSR otherwise)`,
+    `  Krylov basis (restart ${e.restart}, reserved): gmres ${formatBytes(e.krylov.gmres)}, fgmres ${formatBytes(e.krylov.fgmres)}, bicgstab ${formatBytes(e.krylov.bicgstab)}`,
+    '',
+    line(['  preconditioner', 'bytes', 'with Jacobian and Krylov basis (fgmres for slab, p-multigrid; else gmres)']),
+    ...rows.map(line),
+    '',
+    '  Default options; counted from the block pattern, the slab offsets and the layout\'s modes (equal to what solve reports).',
+    ...(measured.length ? [`  ${measured.join(', ')}: the setup was run on the matrix and its kept bytes measured (its levels depend on the values).`] : []),
+    ...refused,
+  ];
+  return `${out.join('\n')}\n`;
+}
+
+async function runMatrixEstimate(file: string, opts: EstimateCliOptions): Promise<void> {
+  for (const [key, flag] of MESH_OPTIONS) {
+    if (opts[key] !== undefined) throw optionError(flag, 'describes mesh sizes; a matrix file gives them (use one or the other)');
+  }
+  const sys = await loadSystem(file, { blockSize: opts.blockSize, layoutPath: opts.layout });
+  const e = estimateMatrix(sys, preconditionerNames(), opts.restart, sys);
+  process.stdout.write(opts.json ? `${JSON.stringify(e, null, 2)}\n` : renderMatrixEstimate(file, e));
 }
 
 export function registerEstimate(program: Command): void {
   program
     .command('estimate')
     .description('Project the memory of a space-time DG solve: Jacobian, preconditioner factors, Krylov basis; all at once vs slab by slab')
-    .requiredOption('--dim <d>', 'space dimension (1, 2 or 3; elements are (d+1)-simplices)', intOption('--dim', 1, 3))
-    .requiredOption('--order <p>', 'polynomial total degree of the space-time basis', intOption('--order', 0, 20))
+    .argument('[matrix]', 'a matrix file (.mtx, .mtx.gz, .npz) with its layout: project every preconditioner on its pattern instead of from mesh sizes')
+    .option('--dim <d>', 'space dimension (1, 2 or 3; elements are (d+1)-simplices)', intOption('--dim', 1, 3))
+    .option('--order <p>', 'polynomial total degree of the space-time basis', intOption('--order', 0, 20))
     .option('--equations <m>', 'equations per point (1 scalar advection; d+1 or d+2 acoustics / linearized Euler)', intOption('--equations', 1, 1000), 1)
     .option('--elements <n>', 'total space-time elements (all slabs)', intOption('--elements', 1, Number.MAX_SAFE_INTEGER))
     .option('--cells <c>', 'instead of --elements: cells per space direction of the structured Kuhn mesh (one count, or one per axis: 12,3)', cellsOption)
     .option('--layers <l>', 'with --cells: time layers per slab (default 1)', intOption('--layers', 1, 1_000_000))
     .option('--periodic', 'with --cells: periodic space boundaries (every space face interior)')
-    .option('--slabs <s>', 'number of time slabs', intOption('--slabs', 1, 100_000_000), 1)
+    .option('--slabs <s>', 'number of time slabs (default 1)', intOption('--slabs', 1, 100_000_000))
     .option('--restart <k>', 'GMRES/FGMRES basis vectors per cycle', intOption('--restart', 1, 100_000), 30)
     .option('--blocks <n>', 'exact stored block count of the whole matrix (e.g. from `slabbench inspect`)', intOption('--blocks', 1, Number.MAX_SAFE_INTEGER))
+    .option('--layout <file>', 'with a matrix file: layout file to use instead of NAME.layout.json')
+    .option('--block-size <n>', 'with a matrix file: block size when there is no layout', intOption('--block-size', 1, 1_000_000))
     .option('--json', 'print the estimate as JSON (bytes as plain numbers) and nothing else')
     .addHelpText('after', `
 Formulas (README "Memory projection"): block size = equations × C(p+d+1, d+1); the matrix stores
 one block per element and one per element and face neighbour; bytes are 8 per value, 4 per index.
 A solve holds the Jacobian in one format: CSR with jacobi and ilu0, BSR otherwise.
 
+With a matrix file, every registered preconditioner is projected on the matrix's block pattern
+(schwarz's partition, direct's symbolic fill, p-multigrid's levels from the layout's modes), equal
+to what \`slabbench solve\` counts; air's setup is run and its bytes measured.
+
 Examples:
+  slabbench estimate matrices/ci/ci-duct.mtx.gz
   slabbench estimate --dim 3 --order 3 --equations 5 --elements 1e6 --slabs 100
   slabbench estimate --dim 2 --order 2 --cells 64 --layers 2 --slabs 8 --restart 50
   slabbench estimate --dim 1 --order 2 --equations 2 --elements 3200 --slabs 4 --blocks 13588 --json`)
-    .action((opts: EstimateCliOptions) => {
-      const estimate = estimateMemory(estimateInputFromOptions(opts));
+    .action(async (matrix: string | undefined, opts: EstimateCliOptions) => {
+      if (matrix !== undefined) { await runMatrixEstimate(matrix, opts); return; }
+      const estimate = estimateMemory(estimateInputFromOptions({ ...opts, slabs: opts.slabs ?? 1 }));
       process.stdout.write(opts.json ? `${JSON.stringify(estimate, null, 2)}\n` : renderEstimate(estimate));
     });
 }

@@ -24,7 +24,7 @@ import type { Bsr } from '../sparse/types.js';
 import { addWork, blockSweepWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { kernelF64, kernelI32 } from '../kernels-host/arena.js';
 import { blockGraph } from '../sparse/partition.js';
-import { checkApplyArgs, checkReady, factorBlock } from './common.js';
+import { checkApplyArgs, checkReady, factorBlock, totalBytes } from './common.js';
 import { blockGemm, blockGemmSub, blockMatVec, blockMatVecSub, luInverse } from './dense.js';
 import { gatherBlocks, scatterBlocks } from './block-tools.js';
 
@@ -134,8 +134,22 @@ export function symbolicBlockLu(a: Bsr, maxFilled: number): SymbolicLu | { tooLa
 /** Bytes the factors of a symbolic LU take (L and U blocks, D⁻¹, indices, permutation, work vectors). */
 export function directBytes(s: SymbolicLu, bs: number): number {
   const nb = s.perm.length;
-  const off = s.upInd.length + s.loInd.length;
-  return (off + nb) * bs * bs * 8 + off * 4 + 2 * (nb + 1) * 4 + nb * 4 * 2 + 2 * nb * bs * 8 + bs * 4 + 2 * bs * bs * 8;
+  // what memory() reports after setup, plus setup's temporaries: the inverse permutation, the
+  // diagonal block's pivots, its buffer and one block product
+  return totalBytes(directKeptBytes(s, bs)) + nb * 4 + bs * 4 + 2 * bs * bs * 8;
+}
+
+/** The bytes the factorization keeps, by the buffer names of memory() (estimate projects these). */
+export function directKeptBytes(s: SymbolicLu, bs: number): Record<string, number> {
+  const nb = s.perm.length, bb = bs * bs;
+  return {
+    'factors (L blocks)': s.loInd.length * bb * 8,
+    'factors (U blocks)': s.upInd.length * bb * 8,
+    'inverse diagonal blocks': nb * bb * 8,
+    'pattern indices': (s.upInd.length + s.loInd.length) * 4 + 2 * (nb + 1) * 4,
+    permutation: nb * 4,
+    workspace: 2 * nb * bs * 8,
+  };
 }
 
 export class DirectPreconditioner implements Preconditioner {

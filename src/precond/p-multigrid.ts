@@ -35,7 +35,7 @@ import { UserError } from '../util/errors.js';
 import { bsrResidual, bsrToCsr } from '../sparse/bsr.js';
 import { kernelF64 } from '../kernels-host/arena.js';
 import { bsrOperator, type MatrixOperator } from '../solvers/operator.js';
-import { krylovSolve } from '../solvers/krylov.js';
+import { krylovSolve, krylovWorkspaceBytes } from '../solvers/krylov.js';
 import { checkApplyArgs, checkReady, totalBytes } from './common.js';
 import { createPreconditioner } from './registry.js';
 import { extractBlocksKernel, maxDegree, prolongAddKernel, restrictKernel, truncatedModes, truncationSelection } from './p-multigrid-levels.js';
@@ -47,24 +47,39 @@ export function createPMultigrid(system: SystemMatrix, recipe: Recipe): Precondi
   if (!modes) {
     throw new UserError(`recipe ${recipe.name}: p-multigrid needs the layout field "modes" ({ nEquations, arrangement, degrees }: how each block is built from a hierarchical basis), and this matrix's layout has none; add it to NAME.layout.json (README: "Layout section modes")`);
   }
+  return new PMultigridPreconditioner(system, opts, pMultigridDegrees(modes, bs, opts, recipe.name), recipe.name);
+}
+
+/**
+ * The degrees of the levels, finest first: opts.levels or p, p−1, …, 0. [0] alone for a degree-0
+ * layout: a property of the matrix, not of the recipe, so setup() fails politely (a sweep over
+ * matrices of several orders records it as a result instead of stopping).
+ */
+export function pMultigridDegrees(modes: ModalLayout, bs: number, opts: PMultigridOptions, recipeName: string): number[] {
   if (modes.nEquations * modes.degrees.length !== bs) {
-    throw new UserError(`recipe ${recipe.name}: layout field modes describes ${modes.nEquations} × ${modes.degrees.length} = ${modes.nEquations * modes.degrees.length} unknowns per block, but the block size is ${bs}`);
+    throw new UserError(`recipe ${recipeName}: layout field modes describes ${modes.nEquations} × ${modes.degrees.length} = ${modes.nEquations * modes.degrees.length} unknowns per block, but the block size is ${bs}`);
   }
   const p = maxDegree(modes);
-  let levels: number[];
-  // degree 0 only: a property of the matrix, not of the recipe, so setup() fails politely (a sweep
-  // over matrices of several orders records it as a result instead of stopping)
-  if (p === 0) levels = [0];
-  else if (opts.levels) {
-    levels = opts.levels;
-    if (levels[0] !== p) {
-      throw new UserError(`recipe ${recipe.name}: pMultigrid.levels [${levels.join(', ')}] must start at the matrix's degree ${p} (the highest of layout field modes.degrees)`);
+  if (p === 0) return [0];
+  if (opts.levels) {
+    if (opts.levels[0] !== p) {
+      throw new UserError(`recipe ${recipeName}: pMultigrid.levels [${opts.levels.join(', ')}] must start at the matrix's degree ${p} (the highest of layout field modes.degrees)`);
     }
-  } else {
-    levels = [];
-    for (let q = p; q >= 0; q--) levels.push(q);
+    return opts.levels;
   }
-  return new PMultigridPreconditioner(system, opts, levels, recipe.name);
+  const levels: number[] = [];
+  for (let q = p; q >= 0; q--) levels.push(q);
+  return levels;
+}
+
+/** The recipe every smoother is created from (one stationary step of the smoother's method). */
+export function pMultigridSmootherRecipe(opts: PMultigridOptions, recipeName: string): Recipe {
+  const s = opts.smoother;
+  return {
+    ...DEFAULT_RECIPE, name: `${recipeName} smoother`, krylov: 'none', preconditioner: s.preconditioner,
+    omega: s.preconditioner === 'block-gs' ? s.omega : 1, sweep: s.sweep, ordering: s.ordering,
+    blockInverse: s.blockInverse, shift: s.shift, fillLevel: s.fillLevel, sweeps: 1,
+  };
 }
 
 interface Level {
@@ -120,13 +135,8 @@ export class PMultigridPreconditioner implements Preconditioner {
   ) {
     this.n = system.bsr.nBlockRows * system.bsr.bs;
     this.variable = pMultigridIsVariable(opts);
-    const s = opts.smoother;
-    this.smootherRecipe = {
-      ...DEFAULT_RECIPE, name: `${recipeName} smoother`, krylov: 'none', preconditioner: s.preconditioner,
-      omega: s.preconditioner === 'block-gs' ? s.omega : 1, sweep: s.sweep, ordering: s.ordering,
-      blockInverse: s.blockInverse, shift: s.shift, fillLevel: s.fillLevel, sweeps: 1,
-    };
-    this.stepFactor = s.preconditioner === 'block-gs' ? 1 : s.omega;
+    this.smootherRecipe = pMultigridSmootherRecipe(opts, recipeName);
+    this.stepFactor = opts.smoother.preconditioner === 'block-gs' ? 1 : opts.smoother.omega;
     this.gamma = opts.cycle === 'w' ? 2 : 1;
   }
 
@@ -168,7 +178,10 @@ export class PMultigridPreconditioner implements Preconditioner {
         res: kernelF64(coarsest ? 0 : n), cor: kernelF64(coarsest ? 0 : n),
         setupSeconds: 0, nResiduals: 0, nStepsFromZero: 0, nSteps: 0, nFills: 0, nRestricts: 0, nProlongs: 0,
       };
-      const sys = levelSystem(a, l === 0 ? this.system.csr : undefined, this.system.slabOffsets, modes);
+      // level 0 reads the input's CSR only if a point smoother asks (reading it here would build it
+      // beside the BSR in a loaded system, and count it)
+      const fineSystem = this.system;
+      const sys = levelSystem(a, l === 0 ? () => fineSystem.csr : undefined, this.system.slabOffsets, modes);
       const M = createPreconditioner(sys, coarsest ? this.opts.coarse : this.smootherRecipe);
       let out: SetupOutcome;
       try {
@@ -309,7 +322,7 @@ export class PMultigridPreconditioner implements Preconditioner {
       const role = l === this.levels.length - 1 ? 'coarse preconditioner' : 'smoother';
       if (M) for (const [k, v] of Object.entries(M.memory())) m[`${tag} ${role}: ${k}`] = v;
       if (l === this.levels.length - 1) {
-        const kb = coarseKrylovBytes(this.opts.coarse, lev.a.nBlockRows * lev.bs);
+        const kb = krylovWorkspaceBytes(this.opts.coarse, lev.a.nBlockRows * lev.bs);
         if (kb > 0) m[`${tag} coarse Krylov workspace (allocated per coarse solve)`] = kb;
       }
     }
@@ -358,24 +371,12 @@ export class PMultigridPreconditioner implements Preconditioner {
   }
 }
 
-/** A level as a SystemMatrix (CSR view built only when a point smoother asks for it). */
-function levelSystem(bsr: Bsr, csr0: Csr | undefined, slabOffsets: Int32Array | undefined, modes: ModalLayout): SystemMatrix {
-  let csr = csr0;
+/** A level as a SystemMatrix (CSR view built only when a point smoother asks for it; level 0: the input's). */
+function levelSystem(bsr: Bsr, fineCsr: (() => Csr) | undefined, slabOffsets: Int32Array | undefined, modes: ModalLayout): SystemMatrix {
+  let csr: Csr | undefined;
   return {
     bsr, modes,
     ...(slabOffsets ? { slabOffsets } : {}),
-    get csr(): Csr { return (csr ??= bsrToCsr(bsr)); },
+    get csr(): Csr { return (csr ??= fineCsr ? fineCsr() : bsrToCsr(bsr)); },
   };
-}
-
-/** Bytes the coarse solver allocates per solve (its basis and work vectors; estimate from the recipe). */
-function coarseKrylovBytes(r: Recipe, n: number): number {
-  switch (r.krylov) {
-    case 'gmres': return (r.restart + 1) * n * 8;
-    case 'fgmres': return (2 * r.restart + 1) * n * 8;
-    case 'gmres-dr': return (r.restart + (r.deflate ?? 0) + 2) * n * 8;
-    case 'gcro-dr': return (r.restart + 1 + 4 * (r.deflate ?? 0)) * n * 8;
-    case 'bicgstab': return 8 * n * 8;
-    case 'none': return 2 * n * 8;
-  }
 }

@@ -68,10 +68,16 @@ export function createSchwarz(system: SystemMatrix, recipe: Recipe): Preconditio
       if (system.slabOffsets[s + 1] - system.slabOffsets[s] < 1) throw new UserError(`recipe ${recipe.name}: slab ${s} is empty`);
     }
   }
+  const sub = schwarzSubdomainRecipe(recipe, subdomain);
+  return new SchwarzPreconditioner(system, { parts, overlap, kind, subdomain, slabs, method, sub, shift: recipe.shift });
+}
+
+/** The recipe each subdomain solver is created from: the Schwarz recipe with `preconditioner` replaced ('none' for exact). */
+export function schwarzSubdomainRecipe(recipe: Recipe, subdomain: SubdomainSolver): Recipe {
   const sub: Recipe = { ...recipe, name: `${recipe.name}/subdomain`, preconditioner: subdomain === 'exact' ? 'none' : subdomain };
   for (const f of ['parts', 'overlap', 'schwarzKind', 'subdomain', 'partitionSlabs', 'partitionMethod'] as const) delete sub[f];
   delete sub.inner;
-  return new SchwarzPreconditioner(system, { parts, overlap, kind, subdomain, slabs, method, sub, shift: recipe.shift });
+  return sub;
 }
 
 /** Coordinate bisection needs one centroid per block row (layout field `centroids`); `what` starts the message. */

@@ -35,7 +35,7 @@ import { bsrToCsr } from '../sparse/bsr.js';
 import { permuteBsr } from '../sparse/permute.js';
 import { stronglyConnectedBlocks } from '../sparse/structure.js';
 import { bsrOperator } from '../solvers/operator.js';
-import { krylovSolve } from '../solvers/krylov.js';
+import { krylovSolve, krylovWorkspaceBytes } from '../solvers/krylov.js';
 import { kernelF64, kernelI32, withScratch } from '../kernels-host/arena.js';
 import { checkApplyArgs, checkReady, totalBytes } from './common.js';
 import { blockMatVecSub } from './dense.js';
@@ -186,7 +186,7 @@ export class SlabPreconditioner implements Preconditioner {
       const bytes = totalBytes(mem);
       if (bytes > this.peakInnerBytes) { this.peakInnerBytes = bytes; this.peakInnerBuffers = mem; }
     }
-    this.peakKrylovBytes = innerKrylovBytes(this.inner, maxRows * bs);
+    this.peakKrylovBytes = krylovWorkspaceBytes(this.inner, maxRows * bs);
     this.ready = true;
     return { ok: true };
   }
@@ -350,14 +350,3 @@ function slabSystem(bsr: Bsr, modes: SystemMatrix['modes']): SystemMatrix {
   };
 }
 
-/** Bytes of the inner solver's basis for a system of n unknowns (estimate from the recipe). */
-function innerKrylovBytes(inner: Recipe, n: number): number {
-  switch (inner.krylov) {
-    case 'gmres': return (inner.restart + 1) * n * 8;
-    case 'fgmres': return (2 * inner.restart + 1) * n * 8;
-    case 'gmres-dr': return (inner.restart + (inner.deflate ?? 0) + 2) * n * 8;
-    case 'gcro-dr': return (inner.restart + 1 + 4 * (inner.deflate ?? 0)) * n * 8;
-    case 'bicgstab': return 8 * n * 8;
-    case 'none': return 2 * n * 8;
-  }
-}

@@ -42,10 +42,20 @@
  *      slab         one slab at a time with the default inner recipe (GMRES(30) + block ILU(0)):
  *                   the inner block-ilu0 bytes and inner basis 31·n_s·8 of one slab, a buffer for
  *                   one slab's diagonal part (the one-slab BSR bytes) and two slab vectors 2·n_s·8
- *  - Krylov basis: GMRES (m+1)·n·8, FGMRES (2m+1)·n·8 (the preconditioned vectors too), BiCGStab
- *    8·n·8 (eight work vectors with a preconditioner), m = min(restart, n). The small Hessenberg
- *    and rotation arrays are left out.
+ *      p-multigrid  with its defaults, from the counts: level l keeps the C(q_l + D, D) modes of
+ *                   degree ≤ q_l on the fine block pattern (generatorModes); its blocks, vectors,
+ *                   smoother and coarse preconditioner are projected per level by
+ *                   projectPreconditioner (src/run/estimate-pattern.ts), the code estimate FILE uses
+ *    schwarz, direct and air are projected on a matrix only (estimate-pattern.ts; notProjected says why).
+ *  - Krylov basis, reserved for a full cycle (an upper bound: GMRES allocates a vector when it first
+ *    writes it, so a run stopping after k < m iterations holds k + 1; results report this figure as
+ *    memory.basisReservedBytes): GMRES (m+1)·n·8, FGMRES (2m+1)·n·8 (the preconditioned vectors
+ *    too), BiCGStab 8·n·8 (eight work vectors with a preconditioner), m = min(restart, n). The small
+ *    Hessenberg and rotation arrays are left out.
  */
+
+import type { ModalLayout } from '../sparse/types.js';
+import { defaultRecipeFor, isRefused, projectPreconditioner } from './estimate-pattern.js';
 
 export type BlockCountSource = 'exact' | 'structured-mesh' | 'upper-bound';
 
@@ -77,7 +87,9 @@ export interface EstimateInput {
   fillBlocks?: number;
 }
 
-export const ESTIMATE_PRECONDITIONERS = ['none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab'] as const;
+export const ESTIMATE_PRECONDITIONERS = ['none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab', 'p-multigrid'] as const;
+/** Projected by estimateMatrix on a matrix file only (their storage needs the pattern or the values). */
+export const MATRIX_ONLY_PRECONDITIONERS = ['schwarz', 'direct', 'air'] as const;
 export type EstimatePreconditioner = (typeof ESTIMATE_PRECONDITIONERS)[number];
 export const ESTIMATE_KRYLOV = ['gmres', 'fgmres', 'bicgstab'] as const;
 export type EstimateKrylov = (typeof ESTIMATE_KRYLOV)[number];
@@ -95,8 +107,10 @@ export interface Footprint {
    * blocks of its level-k factor pattern are given (EstimateInput.fillBlocks, whole matrix only):
    * the level-k pattern is not a function of the mesh sizes alone.
    */
-  preconditioners: Record<Exclude<EstimatePreconditioner, 'block-iluk'>, { total: number; parts: Record<string, number> }>
-    & { 'block-iluk'?: { total: number; parts: Record<string, number> } };
+  preconditioners: Record<Exclude<EstimatePreconditioner, 'block-iluk' | 'p-multigrid'>, { total: number; parts: Record<string, number> }>
+    & { 'block-iluk'?: { total: number; parts: Record<string, number> }; 'p-multigrid'?: { total: number; parts: Record<string, number> } };
+  /** Why a preconditioner has no projection from the mesh sizes (block-iluk without fillBlocks, p-multigrid at p = 0, schwarz, direct, air). */
+  notProjected: Record<string, string>;
   krylov: Record<EstimateKrylov, number>;
 }
 
@@ -148,7 +162,20 @@ const sum = (p: Record<string, number>): { total: number; parts: Record<string, 
 /** Inner recipe of the slab preconditioner's default (GMRES(30) + block ILU(0)): its restart. */
 const SLAB_INNER_RESTART = 30;
 
-function footprint(elements: number, blocks: number, bs: number, restart: number, slab?: Footprint, fillBlocks?: number): Footprint {
+/**
+ * The modal layout of the generator's space-time basis (src/dg/basis.ts): hierarchical, C(q + D, D)
+ * modes of total degree ≤ q on a D-simplex, D = d + 1, equation-major.
+ */
+export function generatorModes(spaceDim: number, order: number, equations: number): ModalLayout {
+  const degrees: number[] = [];
+  for (let q = 0; q <= order; q++) {
+    const fresh = spaceTimeBasisSize(spaceDim, q) - (q > 0 ? spaceTimeBasisSize(spaceDim, q - 1) : 0);
+    for (let i = 0; i < fresh; i++) degrees.push(q);
+  }
+  return { nEquations: equations, arrangement: 'equation-major', degrees };
+}
+
+function footprint(elements: number, blocks: number, bs: number, restart: number, slab?: Footprint, fillBlocks?: number, modes?: ModalLayout): Footprint {
   const n = elements * bs;
   const bb = bs * bs;
   const nnz = blocks * bb;
@@ -160,6 +187,19 @@ function footprint(elements: number, blocks: number, bs: number, restart: number
   const blockIluOn = (nBlocks: number): { total: number; parts: Record<string, number> } =>
     sum({ factors: nBlocks * bb * 8, 'factor pattern': nBlocks * 4 + 2 * (elements + 1) * 4, workspace: bs * 8 });
   const blockIlu0 = blockIluOn(blocks);
+  const notProjected: Record<string, string> = {};
+  if (fillBlocks === undefined) notProjected['block-iluk'] = 'its level-k pattern depends on more than the mesh sizes (the library takes its block count as fillBlocks)';
+  // p-multigrid: every level lives on the fine block pattern, so the counts give its bytes
+  let pmg: { total: number; parts: Record<string, number> } | undefined;
+  if (modes) {
+    const p = projectPreconditioner({ nb: elements, bs, blocks, nnz, modes }, defaultRecipeFor('p-multigrid'));
+    if (isRefused(p)) notProjected['p-multigrid'] = p.refused; else pmg = { total: p.total, parts: p.parts };
+  }
+  for (const name of MATRIX_ONLY_PRECONDITIONERS) {
+    notProjected[name] = name === 'air'
+      ? 'its coarse levels follow from the matrix values (strength of connection, C/F splitting): estimate a matrix file, where its setup runs'
+      : `its storage follows from the block pattern (${name === 'schwarz' ? 'the partition and its overlapped subdomains' : 'the fill of the minimum-degree block LU'}): estimate a matrix file`;
+  }
   const s = slab; // one slab's footprint (undefined when this is the one-slab footprint itself)
   const ns = s ? s.unknowns : n;
   const mInner = Math.max(1, Math.min(SLAB_INNER_RESTART, ns));
@@ -176,6 +216,7 @@ function footprint(elements: number, blocks: number, bs: number, restart: number
       'block-ilu0': blockIlu0,
       // block ILU(0) on the level-k pattern (src/precond/block-iluk.ts), natural ordering
       ...(fillBlocks !== undefined ? { 'block-iluk': blockIluOn(fillBlocks) } : {}),
+      ...(pmg ? { 'p-multigrid': pmg } : {}),
       slab: sum({
         'inner block-ilu0 (one slab)': (s ? s.preconditioners['block-ilu0'] : blockIlu0).total,
         'inner Krylov basis (one slab)': (mInner + 1) * ns * 8,
@@ -184,6 +225,7 @@ function footprint(elements: number, blocks: number, bs: number, restart: number
       }),
     },
     krylov: { gmres: (m + 1) * n * 8, fgmres: (2 * m + 1) * n * 8, bicgstab: 8 * n * 8 },
+    notProjected,
   };
 }
 
@@ -249,10 +291,11 @@ export function estimateMemory(input: EstimateInput): MemoryEstimate {
     blocks = input.blocks;
     source = 'exact';
   }
-  const slab = footprint(slabElements, slabBlocks, bs, restart);
+  const modes = generatorModes(d, p, equations);
+  const slab = footprint(slabElements, slabBlocks, bs, restart, undefined, undefined, modes);
   return {
     spaceDim: d, order: p, equations, nBasis, bs, slabs, restart, blockCountSource: source,
-    allAtOnce: footprint(elements, blocks, bs, restart, slab, input.fillBlocks),
+    allAtOnce: footprint(elements, blocks, bs, restart, slab, input.fillBlocks, modes),
     slab,
   };
 }
@@ -260,6 +303,6 @@ export function estimateMemory(input: EstimateInput): MemoryEstimate {
 /** Jacobian + preconditioner + Krylov basis: what one solve holds at its peak. */
 export function peakBytes(f: Footprint, preconditioner: EstimatePreconditioner, krylov: EstimateKrylov): number {
   const p = f.preconditioners[preconditioner];
-  if (!p) throw new RangeError(`peakBytes: no projection for ${preconditioner} (block-iluk needs fillBlocks)`);
+  if (!p) throw new RangeError(`peakBytes: no projection for ${preconditioner}: ${f.notProjected[preconditioner] ?? 'unknown'}`);
   return jacobianBytes(f, preconditioner) + p.total + f.krylov[krylov];
 }

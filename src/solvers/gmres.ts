@@ -53,12 +53,15 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
 
   // ---- setup: every buffer the iterations use ----
   const ldh = m + 1;
-  const V = kernelF64((m + 1) * n); // kernel memory when the solve has one (src/kernels-host)
-  const vs: Float64Array[] = [];
-  for (let j = 0; j <= m; j++) vs.push(V.subarray(j * n, (j + 1) * n));
-  const Z = flexible && M ? kernelF64(m * n) : undefined;
+  // The basis vectors are allocated when first written (kernel memory when the solve has one,
+  // src/kernels-host): a run that stops after k < m iterations holds k + 1 of the m + 1, and its
+  // counted bytes are the ones it really touched. basisReserved is the full cycle's figure.
+  const vs: Float64Array[] = [kernelF64(n)];
+  const basisVector = (j: number): Float64Array => (vs[j] ??= kernelF64(n));
+  const Z = flexible && M;
   const zs: Float64Array[] = [];
-  if (Z) for (let j = 0; j < m; j++) zs.push(Z.subarray(j * n, (j + 1) * n));
+  const flexibleVector = (j: number): Float64Array => (zs[j] ??= kernelF64(n));
+  const basisReserved = ((m + 1) + (Z ? m : 0)) * n * 8;
   const H = new Float64Array(ldh * m);
   const wantRitz = opts.ritz !== false;
   const Hraw = wantRitz ? new Float64Array(ldh * m) : undefined;
@@ -70,8 +73,14 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
   const r = kernelF64(n);
   const w = kernelF64(n);
   const z = M ? kernelF64(n) : undefined;
-  const krylov = bytesOf({ basis: V, flexibleBasis: Z, hessenberg: H, ritzHessenberg: Hraw, rotations: cs });
-  krylov.rotations = cs.byteLength + sn.byteLength + g.byteLength + y.byteLength + hTmp.byteLength;
+  /** The Krylov buffers held now: the basis vectors allocated so far, Hessenberg and rotations. */
+  const krylovBytes = () => {
+    const k = bytesOf({ hessenberg: H, ritzHessenberg: Hraw });
+    k.basis = vs.length * n * 8;
+    if (Z) k.flexibleBasis = zs.length * n * 8;
+    k.rotations = cs.byteLength + sn.byteLength + g.byteLength + y.byteLength + hTmp.byteLength;
+    return k;
+  };
   const work = bytesOf({ residual: r, product: w, preconditioned: z });
 
   const meter = meterPreconditioner(M);
@@ -95,7 +104,7 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     method, M, cause, iterations, restarts, history, watched: left ? 'left-preconditioned' : 'plain',
     relativeTo: opts.relativeTo, referenceNorm: rule.referenceNorm, trueReferenceNorm: trueBase,
     trueResidualNorm: trueNorm, residualChecks, residualMismatch, solveSeconds: secondsSince(t0 + ritzMs), meter,
-    krylov, work, counts, ritz, failure,
+    krylov: krylovBytes(), basisReserved, work, counts, ritz, failure,
   });
 
 
@@ -148,11 +157,11 @@ export function gmres(A: LinearOperator, b: Float64Array, x: Float64Array, opts:
     let estimate = beta;
     for (let j = 0; j < m; j++) {
       const vj = vs[j];
-      const next = vs[j + 1];
+      const next = basisVector(j + 1);
       // next ← (preconditioned) operator applied to v_j
       if (!M) A.apply(vj, next);
       else if (left) { A.apply(vj, z!); meter.apply(z!, next); }
-      else if (Z) { meter.apply(vj, zs[j]); A.apply(zs[j], next); }
+      else if (Z) { const zj = flexibleVector(j); meter.apply(vj, zj); A.apply(zj, next); }
       else { meter.apply(vj, z!); A.apply(z!, next); }
       addWork(counts, Aw);
       const hc = j * ldh;

@@ -54,6 +54,12 @@ export interface KernelPlan {
   note?: string;
   /** Bytes of the kernel memory (0 without one). */
   memoryBytes: number;
+  /**
+   * Bytes of matrix arrays this plan copied into kernel memory (0 when the matrix was there from an
+   * earlier solve): while they move, the JavaScript copy and the kernel copy both exist, so the
+   * process's peak memory holds them twice for that moment.
+   */
+  movedBytes: number;
   /** Copy of v in kernel memory (or v itself without one). */
   adopt(v: Float64Array): Float64Array;
   /** Release the solve's buffers (the matrix stays) and deactivate the arena. */
@@ -145,7 +151,7 @@ export function planKernels(
   limitBytes = MAX_KERNEL_MEMORY_BYTES - (1 << 16), extraBytes = 0,
 ): KernelPlan {
   const none = (note?: string): KernelPlan => ({
-    kernels: 'typescript', note, memoryBytes: 0, adopt: (v) => v, finish: () => ({ spilledBytes: 0, usedBytes: 0 }),
+    kernels: 'typescript', note, memoryBytes: 0, movedBytes: 0, adopt: (v) => v, finish: () => ({ spilledBytes: 0, usedBytes: 0 }),
     suspend: () => undefined, scope: () => () => 0,
   });
   if (choice === 'typescript') return none();
@@ -161,6 +167,7 @@ export function planKernels(
   const base = matrix + solveBoundBytes(system, { ...recipe, preconditioner: 'none' }, format) + pad(extraBytes);
   const need = Math.min(matrix + solveBoundBytes(system, recipe, format) + pad(extraBytes), Math.max(limitBytes, base));
   let cached = arenas.get(system);
+  let moved = 0;
   const inArena = cached !== undefined && !cached.busy && (csrOnly
     ? system.csr.values.buffer === cached.arena.buffer
     : system.bsr.values.buffer === cached.arena.buffer && (!withCsr || system.csr.values.buffer === cached.arena.buffer));
@@ -172,6 +179,7 @@ export function planKernels(
     }
     const arena = new KernelArena(need);
     moveMatrix(system, arena, withCsr, format);
+    moved = matrix;
     cached = { arena, matrixMark: arena.mark(), busy: false };
     arenas.set(system, cached);
   }
@@ -186,6 +194,7 @@ export function planKernels(
   return {
     kernels: 'wasm',
     memoryBytes: arena.bytes,
+    movedBytes: moved,
     adopt(v) {
       const c = arena.f64(v.length);
       if (c === null) { arena.spilledBytes += v.byteLength; return Float64Array.from(v); }

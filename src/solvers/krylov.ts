@@ -47,3 +47,20 @@ export function krylovSolve(
       return stationary(A, b, x, { ...opts, omega: recipe.preconditioner === 'block-gs' ? 1 : recipe.omega });
   }
 }
+
+/**
+ * Bytes the Krylov method of a recipe reserves for a solve of n unknowns (its basis and work
+ * vectors at a full cycle): GMRES (restart + 1)·n·8, FGMRES (2·restart + 1)·n·8, GMRES-DR
+ * (restart + k + 2)·n·8, GCRO-DR (restart + 1 + 4k)·n·8 (k = deflate), BiCGStab 8·n·8,
+ * stationary 2·n·8. The inner solves of slab and p-multigrid's coarse solves report this figure.
+ */
+export function krylovWorkspaceBytes(r: Pick<Recipe, 'krylov' | 'restart' | 'deflate'>, n: number): number {
+  switch (r.krylov) {
+    case 'gmres': return (r.restart + 1) * n * 8;
+    case 'fgmres': return (2 * r.restart + 1) * n * 8;
+    case 'gmres-dr': return (r.restart + (r.deflate ?? 0) + 2) * n * 8;
+    case 'gcro-dr': return (r.restart + 1 + 4 * (r.deflate ?? 0)) * n * 8;
+    case 'bicgstab': return 8 * n * 8;
+    case 'none': return 2 * n * 8;
+  }
+}

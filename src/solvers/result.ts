@@ -92,6 +92,8 @@ export interface SolverOutcome {
   solveSeconds: number;
   meter: PreconditionerMeter;
   krylov: BufferBytes;
+  /** Basis bytes of a full cycle when the method allocates its basis as it goes (GMRES, FGMRES). */
+  basisReserved?: number;
   /** Work-vector bytes (memory report). */
   work: BufferBytes;
   /** The solver's own work (its products, vector operations, start and checks), preconditioner excluded. */
@@ -114,6 +116,8 @@ export function buildResult(o: SolverOutcome): SolveResult {
   memory.buffers.krylov = o.krylov;
   memory.buffers.work = o.work;
   memory.krylovBytes = sumBytes(o.krylov);
+  // methods that allocate every vector up front reserve what they hold
+  memory.basisReservedBytes = o.basisReserved ?? sumBytes(o.krylov);
   memory.workBytes = sumBytes(o.work);
   memory.peakBytes = peakRssBytes();
   const result: SolveResult = {

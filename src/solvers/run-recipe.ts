@@ -219,6 +219,8 @@ export function prepareSolve(system: SystemMatrix, recipe: Recipe, opts: Prepare
         else if (operatorSpill) result.kernelsNote = `the values of the matrix solved (lagged preconditioner) did not fit kernel memory (prepare with laggedMatrix); its products ran in TypeScript${spilled > otherValues!.byteLength ? `, and ${spilled - otherValues!.byteLength} more bytes did not fit` : ''}`;
         else if (spilled > 0) result.kernelsNote = `${spilled} bytes did not fit kernel memory; kernels on those arrays ran in TypeScript`;
         if (plan.memoryBytes > 0) result.kernelMemoryBytes = plan.memoryBytes;
+        // the matrix moved into kernel memory when the solve was prepared: the first solve reports it
+        if (plan.movedBytes > 0 && solves === 1) result.kernelMatrixMovedBytes = plan.movedBytes;
         return { result, x: xOut };
       } catch (e) {
         leave();

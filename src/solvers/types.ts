@@ -83,7 +83,15 @@ export type BufferBytes = Record<string, number>;
 export interface SolveMemory {
   matrixBytes: number;
   preconditionerBytes: number;
+  /** The Krylov buffers the run held: for GMRES the basis vectors it allocated and wrote (min(iterations, restart) + 1 when it ran). */
   krylovBytes: number;
+  /**
+   * The Krylov basis a full cycle holds: GMRES (restart + 1)·n·8, FGMRES (2·restart + 1)·n·8 (the
+   * figure `estimate` projects, an upper bound on the basis part of krylovBytes); for methods that
+   * allocate everything up front (BiCGStab, stationary) it equals krylovBytes. Absent in results
+   * written before it existed.
+   */
+  basisReservedBytes?: number;
   workBytes: number;
   /** Peak resident set size of the process during setup + solve (process.resourceUsage().maxRSS). */
   peakBytes: number;
@@ -162,4 +170,9 @@ export interface SolveResult {
   kernelsNote?: string;
   /** Bytes of the WebAssembly memory reserved for the solve (address space; pages never written use no RAM). */
   kernelMemoryBytes?: number;
+  /**
+   * Bytes of matrix arrays this solve copied into kernel memory (absent when none moved): the
+   * JavaScript and the kernel copy coexist while they move, so peak memory holds them twice then.
+   */
+  kernelMatrixMovedBytes?: number;
 }

@@ -94,6 +94,13 @@ describe('README examples match a run (deterministic figures)', () => {
     for (const line of ex.lines.slice(0, 3)) expect(got).toContain(line);
   });
 
+  it('estimate FILE: the matrix-file example, line for line', async () => {
+    const ex = exampleAfter('slabbench estimate matrices/');
+    const r = await runCli(words(ex.command));
+    expect(r.code).toBe(0);
+    expect(r.stdout.split('\n').filter((l) => l.trim() !== '')).toEqual(ex.lines);
+  });
+
   it('refine: cells, h, slabs, sizes, L2 errors, orders and solvers of the first meshes', async () => {
     // the first sizes only (each mesh is independent; the final time comes from the first): one
     // mesh of the 2D example (the next one takes seconds), two of the 1D one (an observed order)

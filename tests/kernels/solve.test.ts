@@ -112,3 +112,19 @@ describe('kernel choice and fallback', () => {
     }
   });
 });
+
+describe('solveSystem: the matrix copied into kernel memory is reported', () => {
+  it('kernelMatrixMovedBytes is the BSR arrays on the first solve and absent when the arena is reused', () => {
+    const sys = system(24, 3, 4242);
+    const a = sys.bsr;
+    const pad = (x: number) => Math.ceil(x / 16) * 16;
+    const bytes = pad(a.rowPtr.byteLength) + pad(a.colInd.byteLength) + pad(a.values.byteLength);
+    const b = randomVector(72, 5);
+    const first = solveSystem(sys, b, recipe({ preconditioner: 'block-ilu0' }), { kernels: 'wasm' }).result;
+    expect(first.kernelMatrixMovedBytes).toBe(bytes);
+    const again = solveSystem(sys, b, recipe({ preconditioner: 'block-ilu0' }), { kernels: 'wasm' }).result;
+    expect(again.kernelMatrixMovedBytes).toBeUndefined();
+    const ts = solveSystem(system(24, 3, 4242), b, recipe({ preconditioner: 'block-ilu0' }), { kernels: 'typescript' }).result;
+    expect(ts.kernelMatrixMovedBytes).toBeUndefined();
+  });
+});

@@ -2,6 +2,10 @@ import { describe, it, expect } from 'vitest';
 import { registerEstimate } from '../../src/cli/estimate.js';
 import { estimateMemory, type MemoryEstimate } from '../../src/run/estimate.js';
 import { runCommand } from '../report/cli-harness.js';
+import { fileURLToPath } from 'node:url';
+import { estimateMatrix, type MatrixEstimate } from '../../src/run/estimate-pattern.js';
+import { preconditionerNames } from '../../src/precond/registry.js';
+import { loadSystem } from '../../src/sparse/load.js';
 
 const run = (args: string[]) => runCommand(registerEstimate, ['estimate', ...args]);
 
@@ -54,6 +58,46 @@ describe('slabbench estimate', () => {
       expect(r.stderr, args.join(' ')).toMatch(re);
       expect(r.stdout).toBe('');
     }
+  });
+
+  it('projects every registered preconditioner on a matrix file (JSON equals the library on the loaded matrix)', async () => {
+    const file = fileURLToPath(new URL('../../matrices/ci/ci-duct.mtx.gz', import.meta.url));
+    const r = await run([file, '--json']);
+    expect(r.code, r.stderr).toBe(0);
+    const e = JSON.parse(r.stdout) as MatrixEstimate;
+    expect(Object.keys(e.preconditioners)).toEqual(preconditionerNames());
+    const sys = await loadSystem(file);
+    const lib = estimateMatrix(sys, preconditionerNames(), 30, sys);
+    expect(e).toEqual(lib);
+    expect(e.preconditioners.air).toMatchObject({ source: 'measured by setup' });
+    expect(e.preconditioners['block-ilu0']).toMatchObject({ source: 'counted' });
+    // this committed case's layout has no modes: p-multigrid is refused, saying why
+    expect((e.preconditioners['p-multigrid'] as { refused: string }).refused).toMatch(/modes/);
+    const text = await run([file]);
+    expect(text.code).toBe(0);
+    expect(text.stdout).toMatch(/air \(measured by setup\)/);
+    expect(text.stdout).toMatch(/p-multigrid\s+not projected/);
+  });
+
+  it('refuses mesh-size options beside a matrix file, and asks for one or the other', async () => {
+    const file = fileURLToPath(new URL('../../matrices/ci/ci-duct.mtx.gz', import.meta.url));
+    for (const [args, re] of [[[file, '--dim', '2'], /--dim/], [[file, '--slabs', '2'], /--slabs/], [['--cells', '4'], /matrix file .* --dim/], [['--dim', '1', '--order', '1', '--cells', '4', '--layout', 'x.json'], /--layout/]] as Array<[string[], RegExp]>) {
+      const r = await run(args);
+      expect(r.code, args.join(' ')).toBe(2);
+      expect(r.stderr.trim().split('\n'), args.join(' ')).toHaveLength(1);
+      expect(r.stderr).toMatch(re);
+    }
+  });
+
+  it('names what mesh sizes cannot project, and why', async () => {
+    const r = await run(['--dim', '2', '--order', '2', '--cells', '8', '--slabs', '2', '--json']);
+    const e = JSON.parse(r.stdout) as MemoryEstimate;
+    expect(Object.keys(e.allAtOnce.notProjected).sort()).toEqual(['air', 'block-iluk', 'direct', 'schwarz']);
+    expect(e.allAtOnce.notProjected.air).toMatch(/values/);
+    expect(e.allAtOnce.preconditioners['p-multigrid']!.total).toBeGreaterThan(0);
+    // degree 0 has no coarser level: p-multigrid is not projected then
+    const p0 = JSON.parse((await run(['--dim', '2', '--order', '0', '--cells', '8', '--json'])).stdout) as MemoryEstimate;
+    expect(p0.allAtOnce.notProjected['p-multigrid']).toMatch(/degree 0/);
   });
 
   it('has help with examples', async () => {
