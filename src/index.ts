@@ -32,7 +32,10 @@ export { gmres } from './solvers/gmres.js';
 export { bicgstab } from './solvers/bicgstab.js';
 export { stationary } from './solvers/stationary.js';
 export { krylovSolve } from './solvers/krylov.js';
-export { solveSystem, systemOperator, type SolveSystemOptions } from './solvers/run-recipe.js';
+export {
+  prepareSolve, solveSystem, systemOperator,
+  type PreparedSolve, type PreparedSolveOptions, type PrepareSolveOptions, type SolveSystemOptions,
+} from './solvers/run-recipe.js';
 export { krylovOptionsFromRecipe, type KrylovOptions } from './solvers/options.js';
 export { combineVotes, residualVote, type Vote, type StopRule } from './solvers/stopping.js';
 export { ritzValues } from './solvers/ritz.js';

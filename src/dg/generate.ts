@@ -16,6 +16,7 @@ import { addPseudoTimeTerm } from './pseudo-time.js';
 import { nonzeroBlockPattern, triangularStructure } from '../sparse/structure.js';
 import { projectFunction } from './projection.js';
 import { writeCaseFiles } from './write-case.js';
+import { elementCentroids, MAX_RECORDED_CENTROIDS } from '../mesh/centroids.js';
 
 /**
  * Parameters of a generated space-time DG system (JSON: suite files `generate` objects and the
@@ -287,7 +288,9 @@ export function generateWithDiscretization(
       ...(pseudoTime ? { pseudoTime: { cfl: params.pseudoCfl, minDtau: pseudoTime.minDtau, maxDtau: pseudoTime.maxDtau, term: 'M/dtau added to the diagonal blocks; rhs unchanged' } } : {}),
       physicsSummary: physics.kind === 'nonlinear-system' ? { ...physics.summary, stateScaledElements: scaledElements } : physics.summary,
       params: { ...params },
+      ...(mesh.nElements > MAX_RECORDED_CENTROIDS ? { centroids: `not recorded: more than ${MAX_RECORDED_CENTROIDS} elements` } : {}),
     },
+    ...(mesh.nElements <= MAX_RECORDED_CENTROIDS ? { centroids: { nCoordinates: mesh.dim + 1, values: elementCentroids(mesh, ordering.perm) } } : {}),
   };
   const out: GeneratedSystem = { bsr, rhs: residual, layout };
   const exact = physics.exact;

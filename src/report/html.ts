@@ -14,12 +14,16 @@ import { RESIDUAL_AXES, residualPlot, type ResidualAxis } from './svg/residuals.
 import { ritzPlot } from './svg/ritz.js';
 import { patternPlot } from './svg/pattern.js';
 import { historyPlot } from './svg/history.js';
+import { scaleForecastPlot } from './svg/scale.js';
+import type { ScaleReport } from '../run/scale.js';
 
 export interface ReportOptions {
   /** Stored runs (history file lines) for the history view; omitted or empty = no history section. */
   history?: HistoryEntry[];
   /** x axes of the residual plots, one figure each (default: iterations and matvecs). */
   axes?: readonly ResidualAxis[];
+  /** Scaling forecasts (`slabbench scale --json`) to plot, each with the file it came from. */
+  scale?: { file: string; report: ScaleReport }[];
 }
 
 export const DEFAULT_RESIDUAL_AXES: readonly ResidualAxis[] = ['iterations', 'matvecs'];
@@ -30,7 +34,7 @@ function residualFile(slug: string, axis: ResidualAxis): string {
 }
 
 /** Names `writeReport` writes (and so may remove when they no longer belong to the results). */
-export const REPORT_FILE_PATTERN = new RegExp(`^(residuals|ritz|pattern|history)-[a-z0-9-]+(\\.(${RESIDUAL_AXES.join('|')}))?\\.svg$`);
+export const REPORT_FILE_PATTERN = new RegExp(`^(residuals|ritz|pattern|history|scale)-[a-z0-9-]+(\\.(${RESIDUAL_AXES.join('|')}))?\\.svg$`);
 
 /**
  * x value of every history entry on an axis. matvecs: the solve's operator applications spread
@@ -87,7 +91,7 @@ h3 { font-size: 15px; margin: 18px 0 6px; color: var(--muted); text-transform: u
 .limits { border-left: 4px solid #c98a00; background: #fff8e6; padding: 10px 14px; margin: 16px 0 20px; font-size: 14px; }
 nav { font-size: 14px; margin: 0 0 20px; }
 nav a { margin-right: 14px; color: var(--accent); }
-section.matrix, section.history { background: #fff; border: 1px solid var(--line); border-radius: 8px; padding: 18px 20px 10px; margin: 0 0 24px; }
+section.matrix, section.history, section.scale { background: #fff; border: 1px solid var(--line); border-radius: 8px; padding: 18px 20px 10px; margin: 0 0 24px; }
 .summary { color: var(--muted); font-size: 13px; margin: 0 0 10px; }
 table.ranked { border-collapse: collapse; font-size: 13px; width: 100%; margin: 4px 0 6px; font-variant-numeric: tabular-nums; }
 table.ranked th { text-align: right; font-weight: 600; color: var(--muted); border-bottom: 2px solid var(--line); padding: 5px 8px; white-space: nowrap; }
@@ -297,6 +301,22 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
       + `<div class="plots">${h.html}</div></section>`;
   }
 
+  let scaleSection = '';
+  if (opts.scale && opts.scale.length > 0) {
+    const scaleSlug = slugger();
+    const figs = opts.scale.map(({ file, report }) => {
+      const slug = scaleSlug(file.replace(/\.scale\.json$/, ''));
+      const svg: ReportSvg = { file: `scale-${slug}.svg`, svg: scaleForecastPlot(report, `scale-${slug}-`) };
+      svgs.push(svg);
+      const m = report.machine;
+      const how = `${report.partition.method === 'coordinates' ? 'coordinate' : 'graph'} bisection, parts ${report.partition.slabs === 'within' ? 'inside' : 'across'} slabs`;
+      return figure(svg, `${file}: iterations of the partitioned algebra (exact, solved on one core; top) and the modelled time per iteration (bottom, log scale; dashed: its compute share) against the number of parts P (${how}). Target: ${m.bandwidth / 1e9} GB/s memory bandwidth, ${m.latency * 1e6} µs latency, ${m.networkBandwidth / 1e9} GB/s network per process — a model, not a measurement.`);
+    });
+    scaleSection = '<section class="scale" id="scale"><h2>Scaling forecasts</h2>'
+      + `<p class="summary">${esc(plural(opts.scale.length, 'forecast'))} of <code>slabbench scale</code> found beside the results (files *.scale.json). The time is the α–β model (Hockney 1994) on the target stated in each caption, not a measurement of a real cluster.</p>`
+      + `<div class="plots">${figs.join('')}</div></section>`;
+  }
+
   const meta = [
     `slabbench ${results.slabbench}`,
     results.commit ? `commit ${results.commit.slice(0, 12)}` : '',
@@ -307,7 +327,8 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
     results.parameters?.shard ? `shard ${results.parameters.shard.index}/${results.parameters.shard.count}` : '',
   ].filter(Boolean);
   const nav = groups.map((g) => `<a href="#m-${esc(slugOf(g.matrix))}">${esc(g.matrix)}</a>`).join('')
-    + (historySection ? '<a href="#history">history</a>' : '');
+    + (historySection ? '<a href="#history">history</a>' : '')
+    + (scaleSection ? '<a href="#scale">scaling forecasts</a>' : '');
   const html = '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
     + '<meta name="viewport" content="width=device-width, initial-scale=1">'
     + `<title>slabbench report${results.suite?.description ? ` — ${esc(results.suite.description)}` : ''}</title>`
@@ -320,6 +341,7 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
     + `<nav>${nav}</nav>`
     + (sections.length ? sections.join('') : '<p>No runs in the results.</p>')
     + historySection
+    + scaleSection
     + `<footer>Ranking: converged runs first by setup + solve time (ties: fewer iterations), then the rest by final true relative residual. ${esc(WINNER_MARK)} marks the winner.</footer>`
     + '</main></body></html>\n';
   return { html, svgs };

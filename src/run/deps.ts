@@ -19,6 +19,8 @@ export interface LoadedForRun {
   slabOffsets?: Int32Array;
   /** Layout section `modes` (p-multigrid reads it). */
   modes?: SystemMatrix['modes'];
+  /** Layout field `centroids` (the coordinate partitioner reads it). */
+  centroids?: SystemMatrix['centroids'];
 }
 
 export interface RunDeps {

@@ -106,7 +106,7 @@ export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache
   const sys = loaded.system;
   // a loaded system is passed as it is, so solveSystem can keep only the format each recipe needs
   const system = isMatrixStore(sys) ? sys
-    : { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}), ...(sys.modes ? { modes: sys.modes } : {}) };
+    : { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}), ...(sys.modes ? { modes: sys.modes } : {}), ...(sys.centroids ? { centroids: sys.centroids } : {}) };
   try {
     const warmup = task.warmup === true;
     if (warmup) deps.solveSystem(system, loaded.b, task.recipe);

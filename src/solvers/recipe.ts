@@ -1,6 +1,7 @@
 import { UserError, optionError } from '../util/errors.js';
 import { preconditionerUses } from '../precond/registry.js';
 import { defaultDeflate } from './options.js';
+import { PARTITION_METHODS, type PartitionMethod } from '../sparse/partition.js';
 /**
  * A solver recipe: one named combination of Krylov method, preconditioner, ordering and
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
@@ -85,6 +86,8 @@ export interface Recipe {
   subdomain?: SubdomainSolver;
   /** Schwarz partition: across slabs (default) or every part inside one slab. */
   partitionSlabs?: PartitionSlabsMode;
+  /** Schwarz partition: graph bisection (default) or coordinate bisection of the layout's centroids. */
+  partitionMethod?: PartitionMethod;
   /** AIR preconditioner options (filled with DEFAULT_AIR_OPTIONS when preconditioner is air). */
   air?: AirOptions;
   /** p-multigrid preconditioner: levels, cycle, smoother, coarse solve (defaults: DEFAULT_P_MULTIGRID). */
@@ -163,6 +166,7 @@ const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   schwarzKind: { kind: 'enum', values: SCHWARZ_KINDS },
   subdomain: { kind: 'enum', values: SUBDOMAIN_SOLVERS },
   partitionSlabs: { kind: 'enum', values: PARTITION_SLABS },
+  partitionMethod: { kind: 'enum', values: PARTITION_METHODS },
 };
 
 function describeSpec(s: FieldSpec): string {
@@ -376,6 +380,7 @@ export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   schwarzKind: 'schwarz-kind',
   subdomain: 'subdomain-precond',
   partitionSlabs: 'partition-slabs',
+  partitionMethod: 'partition-method',
 };
 
 /** commander's camelCase key for a flag ("max-iters" → "maxIters", "inner-precond" → "innerPrecond"). */

@@ -4,10 +4,12 @@
  *     "modes": { "nEquations": 2, "arrangement": "equation-major", "degrees": [0, 1, 1] },
  *     "provenance": { "generator": "duct-pulse", "order": 2 } }
  * slabOffsets are BLOCK-row offsets: slab s holds block rows slabOffsets[s] .. slabOffsets[s+1]-1.
+ * Optional "centroids": { "nCoordinates": 3, "values": [x0, y0, t0, x1, …] }, one point per block
+ * row (the coordinate partitioner's input; generated cases write element centroids).
  */
 import { existsSync, readFileSync } from 'node:fs';
-import type { Layout, ModalLayout } from './types.js';
-import { MAX_INT32_INDEX, MODE_ARRANGEMENTS } from './types.js';
+import type { CentroidLayout, Layout, ModalLayout } from './types.js';
+import { MAX_CENTROID_COORDINATES, MAX_INT32_INDEX, MODE_ARRANGEMENTS } from './types.js';
 import { UserError, fileError } from '../util/errors.js';
 import { writeFileAtomicSync } from '../util/atomic-write.js';
 
@@ -69,6 +71,7 @@ export function validateLayout(obj: unknown, where: string): Layout {
     if (typeof z.share !== 'number' || !(z.share >= 0 && z.share <= 1)) throw fileError(where, undefined, `zeroBlocks.share: expected a number from 0 to 1, found ${describe(z.share)}`);
   }
   if (o.modes !== undefined) validateModes(o.modes, bs, where);
+  if (o.centroids !== undefined) validateCentroids(o.centroids, where);
   if (o.provenance !== undefined && (typeof o.provenance !== 'object' || o.provenance === null || Array.isArray(o.provenance))) {
     throw fileError(where, undefined, `provenance: expected an object, found ${describe(o.provenance)}`);
   }
@@ -118,6 +121,29 @@ function validateModes(m: unknown, bs: number, where: string): asserts m is Moda
   }
 }
 
+/**
+ * The `centroids` field: { nCoordinates: 1..MAX_CENTROID_COORDINATES, values: finite numbers, a
+ * multiple of nCoordinates }; whether there is one point per block row is checked against the
+ * matrix (checkLayoutFits).
+ */
+function validateCentroids(c: unknown, where: string): asserts c is CentroidLayout {
+  const bad = (field: string, what: string): never => { throw fileError(where, undefined, `centroids${field}: ${what}`); };
+  if (typeof c !== 'object' || c === null || Array.isArray(c)) bad('', `expected an object { "nCoordinates", "values" }, found ${describe(c)}`);
+  const o = c as Record<string, unknown>;
+  for (const k of Object.keys(o)) if (k !== 'nCoordinates' && k !== 'values') bad(`.${k}`, 'unknown field (expected nCoordinates, values)');
+  const nc = o.nCoordinates;
+  if (typeof nc !== 'number' || !Number.isInteger(nc) || nc < 1 || nc > MAX_CENTROID_COORDINATES) {
+    bad('.nCoordinates', `expected an integer 1..${MAX_CENTROID_COORDINATES} (coordinates per point), found ${describe(nc)}`);
+  }
+  const v = o.values;
+  if (!Array.isArray(v)) bad('.values', `expected a flat array of coordinates (nCoordinates per block row), found ${describe(v)}`);
+  const values = v as unknown[];
+  for (let i = 0; i < values.length; i++) {
+    if (typeof values[i] !== 'number' || !Number.isFinite(values[i])) bad(`.values[${i}]`, `expected a finite number, found ${describe(values[i])}`);
+  }
+  if (values.length % (nc as number) !== 0) bad('.values', `${values.length} numbers are not a multiple of nCoordinates ${nc as number}`);
+}
+
 /** Check a layout against the matrix it describes (square, divisible, last slab offset). */
 export function checkLayoutFits(layout: Layout, nRows: number, nCols: number, where: string): void {
   const bs = layout.blockSize;
@@ -128,6 +154,15 @@ export function checkLayoutFits(layout: Layout, nRows: number, nCols: number, wh
   if (s !== undefined && s[s.length - 1] !== nRows / bs) {
     throw fileError(where, undefined, `slabOffsets: last entry must be the number of block rows, ${nRows / bs}, found ${s[s.length - 1]}`);
   }
+  const problem = layout.centroids !== undefined ? centroidsProblem(layout.centroids, nRows / bs) : undefined;
+  if (problem !== undefined) throw fileError(where, undefined, problem);
+}
+
+/** Why a centroids field does not fit a matrix of nBlockRows block rows (field named), or undefined. */
+export function centroidsProblem(c: CentroidLayout, nBlockRows: number): string | undefined {
+  const want = nBlockRows * c.nCoordinates;
+  if (c.values.length === want) return undefined;
+  return `centroids.values: expected ${nBlockRows} points (one per block row) × ${c.nCoordinates} coordinates = ${want} numbers, found ${c.values.length}`;
 }
 
 /** Read and validate a layout file. */
@@ -159,6 +194,8 @@ export function readLayoutFor(mtxPath: string): Layout | undefined {
   return existsSync(p) ? readLayout(p) : undefined;
 }
 
+const CENTROIDS_SLOT = '\u0000centroids';
+
 /** Write a layout file atomically (schema first, offsets on one line). Invalid layouts are refused. */
 export function writeLayout(path: string, layout: Layout): void {
   try {
@@ -167,15 +204,18 @@ export function writeLayout(path: string, layout: Layout): void {
     if (e instanceof UserError) throw new UserError(`refusing to write an invalid layout: ${e.message}`);
     throw e;
   }
-  const { schema: _schema, blockSize, slabOffsets, modes, provenance, ...rest } = layout as Layout & { schema?: string };
+  const { schema: _schema, blockSize, slabOffsets, modes, provenance, centroids, ...rest } = layout as Layout & { schema?: string };
   void _schema;
   const ordered: Record<string, unknown> = { schema: LAYOUT_SCHEMA, blockSize };
   if (slabOffsets !== undefined) ordered.slabOffsets = Array.from(slabOffsets);
   if (modes !== undefined) ordered.modes = { nEquations: modes.nEquations, arrangement: modes.arrangement, degrees: Array.from(modes.degrees) };
   Object.assign(ordered, rest);
   if (provenance !== undefined) ordered.provenance = provenance;
+  // one point per block row, last: spliced in as one line after formatting (not one line per number)
+  if (centroids !== undefined) ordered.centroids = { nCoordinates: centroids.nCoordinates, values: CENTROIDS_SLOT };
   let text = JSON.stringify(ordered, null, 2);
   // Keep arrays of plain numbers on one line: a long slabOffsets list stays readable.
   text = text.replace(/\[\s*(-?[\d.eE+-]+(?:,\s*-?[\d.eE+-]+)*)\s*\]/g, (_m, body: string) => `[${body.split(/,\s*/).join(', ')}]`);
+  if (centroids !== undefined) text = text.replace(JSON.stringify(CENTROIDS_SLOT), () => `[${centroids.values.join(', ')}]`);
   writeFileAtomicSync(path, `${text}\n`);
 }

@@ -48,8 +48,28 @@ export interface Layout {
   readonly provenance?: Record<string, unknown>;
   /** Stored blocks whose entries are all exactly zero, and their share of the stored blocks (generated cases write it). */
   readonly zeroBlocks?: { readonly count: number; readonly share: number };
+  /** One point per block row (element centroid); the coordinate partitioner reads it. */
+  readonly centroids?: CentroidLayout;
   readonly [extra: string]: unknown;
 }
+
+/**
+ * Layout field `centroids`: block row I's point is values[I·nCoordinates … (I+1)·nCoordinates − 1]
+ * (flat, block-row order). Generated cases write the element centroid, space axes then time.
+ */
+export interface CentroidLayout {
+  readonly nCoordinates: number;
+  readonly values: readonly number[];
+}
+
+/** Centroids as the solvers hold them (from a layout, checked against the matrix). */
+export interface Centroids {
+  readonly nCoordinates: number;
+  readonly values: Float64Array;
+}
+
+/** Most coordinates per centroid the layout accepts (3D + time). */
+export const MAX_CENTROID_COORDINATES = 4;
 
 /** Arrangement of the unknowns inside a block of nEquations × nModes unknowns. */
 export type ModeArrangement = 'equation-major' | 'mode-major';

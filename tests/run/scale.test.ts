@@ -29,6 +29,7 @@ describe('scale: the partitioned forecast', () => {
 
   it('recipes per P: schwarz gets the parts; others become block Jacobi over the parts with themselves per part', () => {
     expect(partCounts(10)).toEqual([1, 2, 4, 8]);
+    expect(partCounts(13, 3)).toEqual([3, 6, 12]);
     const s = partitionedRecipe(recipe({ preconditioner: 'schwarz', overlap: 2 }), 4);
     expect([s.parts, s.overlap]).toEqual([4, 2]);
     const j = partitionedRecipe(recipe({ preconditioner: 'block-ilu0' }), 8);
@@ -65,5 +66,9 @@ describe('scale: the partitioned forecast', () => {
     const a = csrToBsr(poisson2d(4), 1);
     expect(() => runScale(systemOf(a), randomVector(16, 1), recipe(), { maxParts: 17, machine: EXAMPLE_MACHINE })).toThrow(UserError);
     expect(() => runScale(systemOf(a), randomVector(16, 1), recipe({ preconditioner: 'schwarz', parts: 2 }), { maxParts: 2, machine: EXAMPLE_MACHINE })).toThrow(/--parts is set by scale/);
+    const within = { maxParts: 2, machine: EXAMPLE_MACHINE, partition: { slabs: 'within' as const } };
+    expect(() => runScale(systemOf(a), randomVector(16, 1), recipe(), within)).toThrow(/need slab offsets/);
+    expect(() => runScale(systemOf(a, Int32Array.of(0, 4, 8, 16)), randomVector(16, 1), recipe(), within)).toThrow(/--max-parts 2 is below the 3 slabs/);
+    expect(() => runScale(systemOf(a), randomVector(16, 1), recipe(), { ...within, partition: { method: 'coordinates' } })).toThrow(/needs element centroids/);
   });
 });
