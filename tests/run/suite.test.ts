@@ -152,7 +152,7 @@ describe('committed suites', () => {
     expect(generated.length).toBe(demo.matrices.length);
     for (const m of generated) {
       const c = prebuiltCase(m);
-      expect(c?.mtx, m.name).toMatch(new RegExp(`matrices/demo/${m.name}\\.mtx$`));
+      expect(c?.mtx, m.name).toMatch(new RegExp(`matrices/demo/${m.name}\\.mtx(\\.gz)?$`));
       expect(c?.rhs).toMatch(new RegExp(`matrices/demo/${m.name}\\.rhs\\.mtx$`));
       // A changed parameter makes the committed copy stale: the sweep must then generate.
       const changed = { ...m, generate: { ...(m.generate as Record<string, unknown>), seed: 12345 } };
