@@ -39,7 +39,8 @@ export function formatStudyHead(study: { physics: string; dim: number; order: nu
 
 /** One finished mesh as a table row. */
 export function formatStudyRow(r: RefinementRow): string {
-  const solver = r.iterations !== undefined ? `${r.solver} (${r.iterations} it)` : r.solver;
+  let solver = r.iterations !== undefined ? `${r.solver} (${r.iterations} it)` : r.solver;
+  if (r.newton) solver = solver.replace(/^newton: /, `newton ${r.newton.iterations} it, ‖R‖/‖R₀‖ ${r.newton.relativeResidual.toExponential(1)}: `);
   return [...COLUMNS.map((c) => c.cell(r).padStart(c.width)), solver].join('  ');
 }
 
@@ -58,7 +59,7 @@ export function formatStudy(study: RefinementStudy): string {
 export function registerRefine(program: Command): void {
   const cmd = program
     .command('refine')
-    .description('Refinement study of a linear generator case: solve on several meshes, print the space-time L2 error and the observed order');
+    .description('Refinement study of a generator case with an exact solution: solve on several meshes, print the space-time L2 error and the observed order');
   addGeneratorOptions(cmd);
   cmd
     .requiredOption('--sizes <n,n,...>', 'cells along x for each mesh, increasing (other axes keep their ratio to x)')
@@ -68,8 +69,10 @@ export function registerRefine(program: Command): void {
     .option('--json', 'print the study as JSON on stdout')
     .addHelpText('after', `
 The case must have an exact solution: advection with a constant velocity, advection-diffusion
-with a constant velocity and the default initial condition, or acoustics whose initial pressure
-depends on x only (the default is a plane wave). Each mesh is solved slab by slab, the inflow
+with a constant velocity and the default initial condition, acoustics whose initial pressure
+depends on x only (the default is a plane wave), or Euler with a built-in state (uniform,
+vortex, shock-tube). Euler is nonlinear: each mesh is solved by Newton's method from the
+projected exact solution to a residual reduction of 1e-10, each Newton step slab by slab. Each mesh is solved slab by slab, the inflow
 coming from the previous slab's solution: block forward substitution when the slab is
 triangular, dense LU for small slabs, banded LU when the band (element order or reverse
 Cuthill-McKee) is small enough, else GMRES + block ILU(0) to 1e-12 on the slab. Rows are
@@ -81,7 +84,8 @@ Examples:
   slabbench refine --physics advection --dim 1 --order 2 --sizes 8,16,32,64
   slabbench refine --physics advection --dim 2 --order 1 --ordering downstream --sizes 4,8,16
   slabbench refine --physics acoustics --dim 1 --order 3 --periodic x --sizes 8,16,32 --json
-  slabbench refine --physics advection-diffusion --dim 2 --periodic all --diffusivity 0.05 --sizes 4,8`)
+  slabbench refine --physics advection-diffusion --dim 2 --periodic all --diffusivity 0.05 --sizes 4,8
+  slabbench refine --physics euler --state vortex --dim 2 --extent 10 --periodic all --slabs 1 --slab-thickness 0.5 --sizes 4,8,16`)
     .action((opts: Record<string, unknown>) => {
       const sizes = parseSizes(String(opts.sizes));
       let finalTime: number | undefined;

@@ -153,7 +153,7 @@ export function registerSweep(program: Command, deps: SweepCommandDeps = REAL_DE
     .option('--target-bandwidth <GB/s>', 'streaming bandwidth of the machine to project the modeled time to (default: this machine\'s probe)', positiveRate('--target-bandwidth'))
     .option('--target-flops <GFLOP/s>', 'dense block flop rate of the machine to project the modeled time to (default: this machine\'s probe)', positiveRate('--target-flops'))
     .option('--label <text>', 'label of this run in history.jsonl (default: the commit from the CI environment, e.g. GITHUB_SHA)', parseLabel)
-    .option('--cache <dir>', 'folder for matrices built from generator entries (default OUT/matrices)')
+    .option('--cache <dir>', 'folder for matrices built from generator entries, kept as .mtx.gz (default $SLABBENCH_CACHE_DIR, else the OS cache folder: ~/.cache/slabbench/matrices on Linux)')
     .option('--no-report', 'do not write report.html and the .svg plots')
     .option('--kernels <set>', 'kernel set for every solve: wasm, typescript, or auto = wasm when a solve fits one 4 GiB WebAssembly memory (default auto, or SLABBENCH_KERNELS)')
     .addOption(new Option('-q, --quiet', 'print nothing but errors').conflicts('json'))
@@ -180,6 +180,7 @@ Examples:
   slabbench sweep --json | jq '.winners'
   slabbench sweep my-suite.json --dry-run            # which pairs, after grids ("restart": [10, 30, 60]) expand
   slabbench sweep study.json --only-matrix bore-steps   # a "sequence" entry: totals, then a per-system table
+  slabbench sweep my-suite.json --cache .slabbench-cache   # generated cases beside the suite instead of ~/.cache
 
 A matrix entry with "sequence" (a list of { "file", "rhs" }, or "generate" with { "kind": "newton",
 "steps": N } or { "kind": "slabs" }) runs each recipe through all its systems in order, with the

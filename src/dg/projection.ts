@@ -3,8 +3,8 @@ import { createElementAffine, elementAffine, referenceToPhysical, type ElementAf
 import { simplexQuadrature } from './quadrature.js';
 import { orthonormalBasis } from './basis.js';
 
-/** A function of a space-time point writing nEquations values. */
-export type SpaceTimeFunction = (X: Float64Array, xo: number, out: Float64Array) => void;
+/** A function of a space-time point writing nEquations values (`element`: for error messages). */
+export type SpaceTimeFunction = (X: Float64Array, xo: number, out: Float64Array, element?: number) => void;
 
 /** Basis values at a quadrature rule of degree 2p + 4, with scratch for one element and one point. */
 interface ElementQuadrature {
@@ -50,7 +50,7 @@ export function projectFunction(
     const o = inv[e] * bs;
     for (let q = 0; q < nPoints; q++) {
       referenceToPhysical(aff, points, q * D, X);
-      fn(X, 0, v);
+      fn(X, 0, v, e);
       const w = weights[q];
       for (let i = 0; i < nEquations; i++) {
         const c = w * v[i];

@@ -1,7 +1,11 @@
 import { UserError } from '../util/errors.js';
-import { generateWithDiscretization, resolveGenerator, type GeneratorParams } from './generate.js';
+import { buildDiscretization, generateWithDiscretization, resolveGenerator, type GeneratorParams } from './generate.js';
+import type { Discretization } from './assemble.js';
 import { spaceTimeL2Error } from './projection.js';
 import { solveBySlabs, type SlabSolveOptions } from './slab-solve.js';
+import { newtonSolve, type NewtonOptions } from './newton.js';
+import { projectFunction } from './projection.js';
+import { scaleToAdmissible } from './positivity.js';
 
 /**
  * Refinement study for a linear case with an exact solution: for each mesh size, generate, solve
@@ -11,6 +15,11 @@ import { solveBySlabs, type SlabSolveOptions } from './slab-solve.js';
  * case's CFL number (or scales with h when a thickness was given) and is rounded so an integer
  * number of slabs fills (0, T). Observed order between successive sizes:
  * log(e_{i−1}/e_i) / log(h_{i−1}/h_i).
+ *
+ * Nonlinear physics with an exact solution (Euler's uniform, vortex and shock-tube states) are
+ * solved by Newton's method (newton.ts) from the L² projection of the exact solution (scaled to
+ * admissible where needed, positivity.ts), each Newton step solved slab by slab as above, to a
+ * residual reduction of 1e-10; the error is that of the converged DG solution.
  */
 export interface RefinementRow {
   /** Cells per space axis. */
@@ -28,8 +37,10 @@ export interface RefinementRow {
   solver: string;
   /** Slabs solved by each method. */
   slabMethods: Record<string, number>;
-  /** GMRES iterations summed over the slabs solved iteratively. */
+  /** GMRES iterations summed over the slabs solved iteratively (over all Newton steps for a nonlinear case). */
   iterations?: number;
+  /** Nonlinear cases: Newton iterations taken and the final ‖R‖/‖R₀‖. */
+  newton?: { iterations: number; relativeResidual: number; residualNorms: number[] };
   seconds: number;
 }
 
@@ -68,6 +79,8 @@ export function runRefinementStudy(
     onRow?: (row: RefinementRow) => void;
     /** Options of the slab solve (limits of the direct solves, the iterative recipe). */
     slabSolve?: SlabSolveOptions;
+    /** Newton options for nonlinear cases (rtol 1e-10 by default). */
+    newton?: Omit<NewtonOptions, 'slabSolve' | 'linearSolve'>;
   } = {},
 ): RefinementStudy {
   if (sizes.length < 2) throw new UserError('refinement study: give at least two mesh sizes');
@@ -75,10 +88,10 @@ export function runRefinementStudy(
     if (!(sizes[i] > sizes[i - 1])) throw new UserError(`refinement study: mesh sizes must increase, got ${sizes.join(', ')}`);
   }
   const baseResolved = resolveGenerator(base);
-  if (base.physics === 'burgers') throw new UserError('refinement study: burgers is nonlinear (the generator writes one Newton step); choose a linear physics');
   if (!baseResolved.physics.exact) {
-    throw new UserError(`refinement study: no exact solution is known for this ${base.physics} case (use the default initial condition, a constant velocity, or a 1D acoustic profile)`);
+    throw new UserError(`refinement study: no exact solution is known for this ${base.physics} case (use the default initial condition, a constant velocity, a 1D acoustic profile, or an Euler state)`);
   }
+  if (base.pseudoCfl !== undefined) throw new UserError('refinement study: pseudoCfl changes the matrix, not the solution; leave it out');
   const finalTime = opts.finalTime ?? baseResolved.finalTime;
   if (!(finalTime > 0)) throw new UserError(`refinement study: final time must be > 0, got ${finalTime}`);
   // Every mesh's parameters and size limits are checked before the first one is built.
@@ -89,13 +102,11 @@ export function runRefinementStudy(
   const rows: RefinementRow[] = [];
   for (const params of allParams) {
     const t0 = performance.now();
-    const { system, disc } = generateWithDiscretization(params);
-    const solved = solveBySlabs(system.bsr, system.rhs, system.layout.slabOffsets as number[], opts.slabSolve);
-    if (!solved.converged) {
-      return { ...head, rows, failure: { cells: params.cells, message: solved.failure?.message ?? 'the slab solve did not converge' } };
-    }
+    const solved = solveCase(params, opts);
+    if ('failure' in solved) return { ...head, rows, failure: { cells: params.cells, message: solved.failure } };
+    const { disc, x } = solved;
     const exact = disc.physics.exact!;
-    const error = spaceTimeL2Error(disc.mesh, params.order, disc.physics.nEquations, disc.ordering.inv, solved.x, exact);
+    const error = spaceTimeL2Error(disc.mesh, params.order, disc.physics.nEquations, disc.ordering.inv, x, exact);
     let h = Infinity;
     for (let k = 0; k < params.dim; k++) h = Math.min(h, params.extent[k] / params.cells[k]);
     const prev = rows[rows.length - 1];
@@ -105,16 +116,60 @@ export function runRefinementStudy(
       slabs: params.slabs,
       slabThickness: params.slabThickness as number,
       nElements: disc.mesh.nElements,
-      nUnknowns: system.rhs.length,
+      nUnknowns: x.length,
       error,
       observedOrder: prev ? Math.log(prev.error / error) / Math.log(prev.h / h) : null,
       solver: solved.method,
-      slabMethods: { ...solved.slabMethods },
+      slabMethods: solved.slabMethods,
       seconds: (performance.now() - t0) / 1000,
     };
     if (solved.iterations !== undefined) row.iterations = solved.iterations;
+    if (solved.newton) row.newton = solved.newton;
     rows.push(row);
     opts.onRow?.(row);
   }
   return { ...head, rows };
+}
+
+type SolvedCase = {
+  disc: Discretization; x: Float64Array; method: string; slabMethods: Record<string, number>;
+  iterations?: number; newton?: RefinementRow['newton'];
+} | { failure: string };
+
+/** One mesh: the linear solve, or Newton to convergence for a nonlinear physics. */
+function solveCase(params: GeneratorParams, opts: Parameters<typeof runRefinementStudy>[2] & object): SolvedCase {
+  if (resolveGenerator(params).physics.state === null) {
+    const { system, disc } = generateWithDiscretization(params);
+    const solved = solveBySlabs(system.bsr, system.rhs, system.layout.slabOffsets as number[], opts.slabSolve);
+    if (!solved.converged) return { failure: solved.failure?.message ?? 'the slab solve did not converge' };
+    const out: SolvedCase = { disc, x: solved.x, method: solved.method, slabMethods: { ...solved.slabMethods } };
+    if (solved.iterations !== undefined) out.iterations = solved.iterations;
+    return out;
+  }
+  const { disc } = buildDiscretization(params);
+  const physics = disc.physics;
+  const U0 = projectFunction(disc.mesh, params.order, physics.nEquations, disc.ordering.inv, physics.exact!);
+  if (physics.kind === 'nonlinear-system') scaleToAdmissible(disc, physics, U0);
+  const methods = new Set<string>();
+  const slabMethods: Record<string, number> = {};
+  let iterations: number | undefined;
+  const result = newtonSolve(disc, U0, {
+    ...opts.newton,
+    linearSolve: (J, rhs, offsets) => {
+      const s = solveBySlabs(J, rhs, offsets, opts.slabSolve);
+      for (const [k, v] of Object.entries(s.slabMethods)) { slabMethods[k] = (slabMethods[k] ?? 0) + v!; methods.add(k); }
+      if (s.iterations !== undefined) iterations = (iterations ?? 0) + s.iterations;
+      const o: ReturnType<NonNullable<NewtonOptions['linearSolve']>> = { x: s.x, converged: s.converged, method: s.method };
+      if (s.failure) o.message = s.failure.message;
+      return o;
+    },
+  });
+  if (!result.converged) return { failure: `Newton stopped (${result.cause}) after ${result.iterations} iterations: ${result.message ?? ''}`.trim() };
+  const method = `newton: ${[...methods].join('+')}`;
+  const out: SolvedCase = {
+    disc, x: result.state, method, slabMethods,
+    newton: { iterations: result.iterations, relativeResidual: result.finalResidualNorm / result.initialResidualNorm, residualNorms: result.residualNorms },
+  };
+  if (iterations !== undefined) out.iterations = iterations;
+  return out;
 }

@@ -54,7 +54,8 @@ export interface SuiteParsers {
 }
 
 export interface CaseBuilder {
-  writeGeneratedCase(params: unknown, outDir: string, name: string): Promise<{ mtx: string; rhs: string; layout: string }>;
+  /** Writes NAME.mtx (NAME.mtx.gz with gzip), NAME.rhs.mtx and NAME.layout.json into outDir. */
+  writeGeneratedCase(params: unknown, outDir: string, name: string, opts?: { gzip?: boolean }): Promise<{ mtx: string; rhs: string; layout: string }>;
   /** Builds the systems of a generated sequence in order (absent: sequences not supported). */
   writeGeneratedSequence?(params: unknown, spec: unknown, outDir: string, name: string): Promise<{ systems: Array<{ mtx: string; rhs: string; layout: string; label: string }> }>;
 }

@@ -17,6 +17,7 @@ import { appendHistory, historyEntry, lastHistoryEntry } from './history.js';
 import type { MachineProbe, MatrixInfo, ModelRates, ParallelNote, ResultsDoc, RunRecord } from './results-types.js';
 import { modeledSeconds, modelRates, probeMachine, runWork } from './probe.js';
 import { environment, newResultsDoc, writeResults } from './results.js';
+import { defaultCacheDir } from './cache-dir.js';
 import { executeTask, type RunTask, type TaskCache, type TaskDone, type TaskMatrix } from './run-task.js';
 import { recordedRecipe } from '../solvers/recipe.js';
 import { shardPairs, type ShardSpec } from './shard.js';
@@ -34,7 +35,7 @@ export interface SweepOptions {
   shard?: ShardSpec;
   onlyMatrix?: string[];
   onlyRecipe?: string[];
-  /** Where generated cases are built (default OUT/matrices). */
+  /** Where generated cases are built, as .mtx.gz (default: defaultCacheDir(), outside the results folder). */
   cacheDir?: string;
   /** Builds generator cases (default: the real writeGeneratedCase, loaded when a generated matrix is needed). */
   builder?: CaseBuilder;
@@ -122,7 +123,8 @@ export async function ensureGeneratedCase(
   }
   log?.(`building matrix ${m.name} into ${dir}`);
   mkdirSync(dir, { recursive: true });
-  const files = await builder.writeGeneratedCase(m.generate, dir, m.name);
+  // gzip-compressed: the cache holds every case of every suite swept on the machine
+  const files = await builder.writeGeneratedCase(m.generate, dir, m.name, { gzip: true });
   const mtx = resolve(dir, files.mtx);
   const rhs = resolve(dir, files.rhs);
   // Written last, so a half-built case is never reused.
@@ -276,7 +278,7 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
   const files = { results: join(outDir, RESULTS_FILE), csv: join(outDir, CSV_FILE) };
 
   // Build generated cases this shard needs, in suite order, before any run starts.
-  const cacheDir = resolve(opts.cacheDir ?? join(outDir, 'matrices'));
+  const cacheDir = resolve(opts.cacheDir ?? defaultCacheDir());
   const needed = [...new Set(pairs.map((p) => p.matrixIndex))];
   const taskMatrices = new Map<number, TaskMatrix>();
   for (const mi of needed) {

@@ -87,7 +87,7 @@ describe('Euler options', () => {
   const bad: [Record<string, unknown>, RegExp][] = [
     [{ gamma: 1 }, /gamma/],
     [{ flux: 'hllc' }, /\.flux: expected one of llf, roe, got "hllc"/],
-    [{ state: 'blast' }, /\.state: expected one of uniform, vortex, shock-tube, got "blast"/],
+    [{ state: 'blast' }, /\.state: expected one of uniform, vortex, shock-tube or primitive expressions 'rho = …; u = …; p = …', got "blast"/],
     [{ state: 'vortex', dim: 1 }, /the isentropic vortex is two-dimensional, expected dim 2, got 1/],
     [{ state: 'shock-tube', density: 2 }, /\.density: has no effect with state shock-tube/],
     [{ state: 'uniform', left: [1, 0, 1] }, /\.left: has no effect with state uniform/],

@@ -154,7 +154,7 @@ describe('committed suites', () => {
     expect(demo.matrices.filter((m) => m.kind === 'generate' && m.sequence !== undefined).map((m) => m.name)).toEqual(['channel-bore-newton']);
     for (const m of generated) {
       const c = prebuiltCase(m);
-      expect(c?.mtx, m.name).toMatch(new RegExp(`matrices/demo/${m.name}\\.mtx$`));
+      expect(c?.mtx, m.name).toMatch(new RegExp(`matrices/demo/${m.name}\\.mtx(\\.gz)?$`));
       expect(c?.rhs).toMatch(new RegExp(`matrices/demo/${m.name}\\.rhs\\.mtx$`));
       // A changed parameter makes the committed copy stale: the sweep must then generate.
       const changed = { ...m, generate: { ...(m.generate as Record<string, unknown>), seed: 12345 } };

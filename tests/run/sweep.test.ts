@@ -2,6 +2,7 @@ import { describe, expect, it, afterAll } from 'vitest';
 import { existsSync, readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { runSweep, caseFolder } from '../../src/run/sweep.js';
+import { defaultCacheDir } from '../../src/run/cache-dir.js';
 import { readResults } from '../../src/run/results.js';
 import { readHistory } from '../../src/run/history.js';
 import type { ResultsDoc } from '../../src/run/results-types.js';
@@ -25,6 +26,8 @@ describe('runSweep', () => {
   it('runs every matrix × recipe in suite order (in-process) and writes results, CSV and history', async () => {
     const out = join(t.dir, 'inproc');
     const progress: Array<[number, number]> = [];
+    // the default cache folder, fresh for this file (test files run in parallel processes)
+    process.env.SLABBENCH_CACHE_DIR = join(t.dir, 'default-cache');
     const o = await runSweep({ suite, outDir: out, jobs: 1, builder: fake, inProcess: fake, onProgress: (d, n) => progress.push([d, n]) });
     expect(o.interrupted).toBe(false);
     expect(o.errors).toBe(0);
@@ -37,11 +40,15 @@ describe('runSweep', () => {
     expect(readResults(o.files.results)).toEqual(JSON.parse(JSON.stringify(o.doc)));
     expect(readFileSync(o.files.csv, 'utf8').trim().split('\n')).toHaveLength(5);
     expect(readHistory(join(out, 'history.jsonl'))).toHaveLength(1);
-    // Matrix info for both matrices, in suite order; the generated one is built into the cache folder.
+    // Matrix info for both matrices, in suite order; the generated one is built into the cache
+    // folder (the default: outside the results folder), gzip-compressed.
     expect(o.doc.matrices.map((m) => [m.name, m.source, m.n])).toEqual([['alpha', 'file', 6], ['beta', 'generated', 9]]);
     expect(o.doc.matrices[0].path).toBe('../a.mtx');
     const beta = suite.matrices[1];
-    expect(beta.kind === 'generate' && existsSync(join(caseFolder(join(out, 'matrices'), beta), 'case.json'))).toBe(true);
+    expect(defaultCacheDir()).toBe(join(t.dir, 'default-cache'));
+    expect(beta.kind === 'generate' && existsSync(join(caseFolder(defaultCacheDir(), beta), 'case.json'))).toBe(true);
+    expect(existsSync(join(out, 'matrices'))).toBe(false);
+    expect(fake.builtOptions.at(-1)).toEqual({ gzip: true });
   });
 
   it('reuses a generated case from the cache instead of building it again', async () => {

@@ -3,6 +3,9 @@ import { readNumber, readVector, show, wrap } from './fields.js';
 import type { NonlinearSystemPhysics, PhysicsDefinition } from './types.js';
 import { eulerSpatialFlux, eulerNumericalFlux, pressureOf, toConserved, type EulerFluxName } from './euler-flux.js';
 import { sampleRiemann, solveRiemann, type Primitive } from './euler-riemann.js';
+import {
+  checkPrimitiveState, compilePrimitiveState, parsePrimitiveExpressions, sampledWaveSpeed, type PrimitiveExpressions,
+} from './euler-state.js';
 
 /**
  * Compressible Euler equations of an ideal gas (d + 2 equations: ρ, ρu, E) in 1D+t, 2D+t and
@@ -17,7 +20,11 @@ import { sampleRiemann, solveRiemann, type Primitive } from './euler-riemann.js'
  *    to the nearest periodic image, vortex centred in Ω at t = 0;
  *  - shock-tube: the exact Riemann solution (src/dg/physics/euler-riemann.ts, Toro 2009 ch. 4)
  *    of left/right primitive states separated at x = diaphragm (default Sod 1978:
- *    (1, 0, 1) | (0.125, 0, 0.1)), varying along x only, evaluated exactly at every point.
+ *    (1, 0, 1) | (0.125, 0, 0.1)), varying along x only, evaluated exactly at every point;
+ *  - primitive expressions of (x, y, z, t) for ρ, the velocity and p (euler-state.ts): any state,
+ *    not necessarily a solution (no exact solution then).
+ * Boundary data on space-boundary faces come from the state unless `inflow` gives primitive
+ * expressions of their own (then no exact solution either); initial data are the state at t = 0.
  */
 
 export type EulerStateName = 'uniform' | 'vortex' | 'shock-tube';
@@ -34,19 +41,28 @@ function readChoice<T extends string>(raw: Record<string, unknown>, key: string,
 export const euler: PhysicsDefinition = {
   name: 'euler',
   description: 'compressible Euler (ideal gas), local Lax–Friedrichs or Roe flux, one Newton step at a uniform, vortex or shock-tube state',
-  fields: ['gamma', 'flux', 'state', 'density', 'velocity', 'pressure', 'vortexStrength', 'left', 'right', 'diaphragm'],
+  fields: ['gamma', 'flux', 'state', 'density', 'velocity', 'pressure', 'vortexStrength', 'left', 'right', 'diaphragm', 'inflow'],
   nEquations: (dim) => dim + 2,
   normalize(raw, ctx) {
     const d = ctx.dim;
     const gamma = readNumber(raw, 'gamma', ctx.label, 1.4, { min: 1, minExclusive: true, max: 5 / 3 + 1e-12 });
     const flux = readChoice(raw, 'flux', ctx.label, FLUXES, 'roe');
-    const state = readChoice(raw, 'state', ctx.label, STATES, 'uniform');
+    const rawState = raw.state;
+    const expression = rawState !== undefined && !(typeof rawState === 'string' && STATES.includes(rawState as EulerStateName));
+    const state = expression ? 'expression' : readChoice(raw, 'state', ctx.label, STATES, 'uniform');
     const out: Record<string, unknown> = { gamma, flux, state };
+    if (raw.inflow !== undefined) out.inflow = parsePrimitiveExpressions(raw.inflow, d, ctx.label('inflow'), ctx.extent);
     const given = (k: string) => raw[k] !== undefined;
     const refuse = (keys: string[]) => {
-      for (const k of keys) if (given(k)) throw new UserError(`${ctx.label(k)}: has no effect with state ${state}`);
+      for (const k of keys) if (given(k)) throw new UserError(`${ctx.label(k)}: has no effect with ${expression ? 'an expression state (give rho, u, …, p in the state)' : `state ${state}`}`);
     };
-    if (state === 'uniform' || state === 'vortex') {
+    if (expression) {
+      if (typeof rawState === 'string' && !rawState.includes('=')) {
+        throw new UserError(`${ctx.label('state')}: expected one of ${STATES.join(', ')} or primitive expressions 'rho = …; ${['u', 'v', 'w'].slice(0, d).map((n) => `${n} = …`).join('; ')}; p = …', got ${show(rawState)}`);
+      }
+      refuse(['density', 'pressure', 'velocity', 'vortexStrength', 'left', 'right', 'diaphragm']);
+      out.state = parsePrimitiveExpressions(rawState, d, ctx.label('state'), ctx.extent);
+    } else if (state === 'uniform' || state === 'vortex') {
       refuse(['left', 'right', 'diaphragm']);
       out.density = readNumber(raw, 'density', ctx.label, 1, { min: 0, minExclusive: true });
       out.pressure = readNumber(raw, 'pressure', ctx.label, 1, { min: 0, minExclusive: true });
@@ -78,22 +94,44 @@ export const euler: PhysicsDefinition = {
     }
     return out;
   },
-  check() {
-    // every state is closed-form: nothing to sample
+  check(fields, ctx, T) {
+    // built-in states are closed-form; expressions are sampled over Ω×[0, T]
+    for (const key of ['state', 'inflow']) {
+      const v = fields[key];
+      if (typeof v !== 'object' || v === null) continue;
+      const compiled = compilePrimitiveState(v as PrimitiveExpressions, ctx.dim, ctx.label(key), ctx.extent, key === 'state' ? 'state' : 'boundary data');
+      checkPrimitiveState(compiled, ctx.dim, ctx.extent, T);
+    }
   },
   create(fields, ctx): NonlinearSystemPhysics {
     const d = ctx.dim;
     const m = d + 2;
     const gamma = fields.gamma as number;
     const fluxName = fields.flux as EulerFluxName;
-    const stateName = fields.state as EulerStateName;
-    const primitiveAt = makeState(stateName, fields, ctx.extent, d, gamma);
+    const stateName = typeof fields.state === 'string' ? fields.state as EulerStateName : 'expression';
     const vel = new Float64Array(3);
-    const conservedAt = (X: Float64Array, xo: number, out: Float64Array): void => {
-      const s = primitiveAt(X, xo, vel);
+    const conserved = (at: PrimitiveAt) => (X: Float64Array, xo: number, out: Float64Array, element?: number): void => {
+      const s = at(X, xo, vel, element);
       toConserved(s.rho, vel.subarray(0, d), s.p, gamma, out);
     };
-    const maxWaveSpeed = waveSpeedBound(stateName, fields, d, gamma);
+    let primitiveAt: PrimitiveAt;
+    let maxWaveSpeed: number;
+    let alignVelocity: number[] | null = null;
+    if (stateName === 'expression') {
+      const compiled = compilePrimitiveState(fields.state as PrimitiveExpressions, d, ctx.label('state'), ctx.extent, 'state');
+      primitiveAt = compiled.at;
+      maxWaveSpeed = sampledWaveSpeed(compiled, d, ctx.extent, gamma);
+      alignVelocity = compiled.constantVelocity;
+    } else {
+      primitiveAt = makeState(stateName, fields, ctx.extent, d, gamma);
+      maxWaveSpeed = waveSpeedBound(stateName, fields, d, gamma);
+      if (stateName === 'uniform') alignVelocity = (fields.velocity as number[]).slice(0, d);
+    }
+    const conservedAt = conserved(primitiveAt);
+    const boundaryAt = fields.inflow !== undefined
+      ? conserved(compilePrimitiveState(fields.inflow as PrimitiveExpressions, d, ctx.label('inflow'), ctx.extent, 'boundary data').at)
+      : conservedAt;
+    const exact = stateName !== 'expression' && fields.inflow === undefined ? conservedAt : null;
     const fk = new Float64Array(m), dfk = new Float64Array(m * m);
     const check = (U: Float64Array, where: string): void => {
       const p = pressureOf(U, d, gamma);
@@ -107,8 +145,8 @@ export const euler: PhysicsDefinition = {
       admissible: (U, mean) => U[0]! >= 0.1 * mean[0]! && pressureOf(U, d, gamma) >= 0.1 * pressureOf(mean, d, gamma),
       nEquations: m,
       maxWaveSpeed,
-      alignVelocity: stateName === 'uniform' ? (fields.velocity as number[]).slice(0, d) : null,
-      exact: conservedAt,
+      alignVelocity,
+      exact,
       state: conservedAt,
       // rational flux: not integrated exactly; a degree p + 2 above the 2p of a linear flux (our choice)
       extraQuadratureDegree: (p) => p + 2,
@@ -116,6 +154,8 @@ export const euler: PhysicsDefinition = {
         flux: fluxName === 'roe' ? 'Roe with the Harten-Hyman entropy fix' : 'local Lax-Friedrichs',
         jacobian: 'exact (forward-mode differentiation of the discrete residual; nothing frozen)',
         state: stateName, gamma, maxWaveSpeed, rhs: 'minus the residual at the state (Newton step)',
+        boundaryData: fields.inflow !== undefined ? 'primitive expressions (inflow)' : 'the state',
+        exactSolution: exact !== null,
       },
       transportVelocity(X, xo, out) {
         primitiveAt(X, xo, vel);
@@ -127,7 +167,7 @@ export const euler: PhysicsDefinition = {
         conservedAt(X, xo, out);
         X[xo + d] = t;
       },
-      boundaryData: conservedAt,
+      boundaryData: boundaryAt,
       volumeFlux(_X, _xo, U, G, dG, element) {
         check(U, `a quadrature point of element ${element}`);
         for (let l = 0; l < d; l++) {
@@ -149,10 +189,12 @@ export const euler: PhysicsDefinition = {
   },
 };
 
-/** The primitive state (ρ, p returned; velocity written to vel) at a space-time point. */
+/** The primitive state (ρ, p returned; velocity written to vel) at a space-time point (element: for messages). */
+type PrimitiveAt = (X: Float64Array, xo: number, vel: Float64Array, element?: number) => { rho: number; p: number };
+
 function makeState(
   name: EulerStateName, fields: Record<string, unknown>, extent: readonly number[], d: number, gamma: number,
-): (X: Float64Array, xo: number, vel: Float64Array) => { rho: number; p: number } {
+): PrimitiveAt {
   if (name === 'uniform') {
     const rho = fields.density as number, p = fields.pressure as number;
     const u = fields.velocity as number[];

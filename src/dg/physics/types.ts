@@ -30,9 +30,12 @@ interface PhysicsCommon {
   /** Exterior state on space-boundary faces (inflow data), nEquations values. */
   boundaryData(X: Float64Array, xo: number, out: Float64Array): void;
   /** Exact solution, when known. */
-  readonly exact: ((X: Float64Array, xo: number, out: Float64Array) => void) | null;
-  /** Linearization state (nonlinear physics): the matrix is the Jacobian there. null = linear, state 0. */
-  readonly state: ((X: Float64Array, xo: number, out: Float64Array) => void) | null;
+  readonly exact: ((X: Float64Array, xo: number, out: Float64Array, element?: number) => void) | null;
+  /**
+   * Linearization state (nonlinear physics): the matrix is the Jacobian there. null = linear, state 0.
+   * `element` (when the caller knows it) goes into error messages.
+   */
+  readonly state: ((X: Float64Array, xo: number, out: Float64Array, element?: number) => void) | null;
   /** Extra polynomial degree of the integrands beyond 2p (nonlinear fluxes need more quadrature). */
   readonly extraQuadratureDegree: (order: number) => number;
   /** Facts recorded in the layout provenance (resolved defaults, exact solution used…). */
