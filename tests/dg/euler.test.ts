@@ -70,7 +70,7 @@ describe('Euler: free-stream preservation', () => {
     for (const dim of [1, 2, 3] as const) {
       it(`${dim}D+t, ${flux}: a uniform state has zero residual on a jittered${dim > 1 ? ', sheared' : ''} mesh`, () => {
         const p = params({
-          physics: 'euler', dim, order: dim === 3 ? 1 : 2, cells: dim === 3 ? 2 : 4, slabs: 2, jitter: 0.2, flux,
+          physics: 'euler', dim, order: dim === 3 ? 1 : 2, cells: dim === 3 ? 2 : 4, slabs: dim === 3 ? 1 : 2, jitter: 0.2, flux,
           ...(dim > 1 ? { shear: dim === 2 ? [0.3, -0.2] : [0.2, 0.1, -0.1] } : {}),
           velocity: [0.4, -0.3, 0.2].slice(0, dim), density: 1.3, pressure: 0.8,
         });
@@ -78,7 +78,9 @@ describe('Euler: free-stream preservation', () => {
         let worst = 0;
         for (const v of system.rhs) worst = Math.max(worst, Math.abs(v));
         expect(worst).toBeLessThan(1e-12);
-      });
+        // 3D+t with the Roe flux assembles its Jacobian through dual numbers: about 15 s on a quiet
+        // machine, over a minute on a loaded one
+      }, 180_000);
     }
   }
 });
