@@ -158,6 +158,9 @@ export function generateSequence(params: GeneratorParams, spec: SequenceSpec): G
       provenance: { ...full.layout.provenance, system: `slab ${s + 1} of ${nSlabs} of the generated system (${String(full.layout.provenance?.system)}), inflow from the computed solution of the slab before` },
     };
     delete (layout as { zeroBlocks?: unknown }).zeroBlocks; // counted on the whole system, not this slab
+    // the centroids of this slab's block rows only (one point per block row of the slab's system)
+    const c = full.layout.centroids;
+    if (c !== undefined) (layout as { centroids?: unknown }).centroids = { nCoordinates: c.nCoordinates, values: c.values.slice(lo * c.nCoordinates, hi * c.nCoordinates) };
     systems.push({ bsr: a, rhs, layout, solution: xs });
   }
   return { systems };
