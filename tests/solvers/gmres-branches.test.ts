@@ -1,0 +1,147 @@
+/**
+ * GMRES branches the reference-value tests in gmres.test.ts do not reach: Ritz values after
+ * restarts, the basis-size limit, a singular Hessenberg matrix, left preconditioning from a
+ * nonzero x₀, a preconditioner that annihilates the residual, and the left-preconditioned residual
+ * recorded at each restart. Each expected value is computed independently in the test (named
+ * beside it) or worked out by hand. Found by mutation testing (README, "Mutation testing").
+ */
+import { describe, it, expect } from 'vitest';
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
+import { gmres } from '../../src/solvers/gmres.js';
+import { csrOperator } from '../../src/solvers/operator.js';
+import type { LinearOperator } from '../../src/solvers/types.js';
+import type { Preconditioner } from '../../src/precond/types.js';
+import { csrFromTriplets, csrMatVec, ilu0Double, maxAbsDiff, noWork, opts, tridiag } from './helpers.js';
+
+/** The 5×5 matrix of J. Burkardt's MGMRES ILU(0) example (shared/references.md), 1-based CSR. */
+function burkardt5() {
+  const ia = [1, 4, 5, 7, 8, 10], ja = [1, 4, 5, 2, 1, 3, 4, 2, 5], av = [1, 2, 1, 2, 3, 3, 4, 1, 5];
+  const t: Array<[number, number, number]> = [];
+  for (let i = 0; i < 5; i++) for (let k = ia[i] - 1; k < ia[i + 1] - 1; k++) t.push([i, ja[k] - 1, av[k]]);
+  return { A: csrFromTriplets(5, t), b: Float64Array.from([14, 4, 12, 16, 27]) };
+}
+
+describe('gmres: Ritz values are those of the first cycle, also when the run restarts', () => {
+  it('GMRES(5) on tridiag(−1, 2, −1), N = 20: the eigenvalues of the test\'s own 5-step Arnoldi matrix', () => {
+    // Reference: Arnoldi with modified Gram–Schmidt from v₁ = b/‖b‖ (Saad 2003, Alg. 6.2), written
+    // here, and the eigenvalues of its 5×5 Hessenberg matrix by ml-matrix (EISPACK hqr2 port).
+    const N = 20, m = 5;
+    const A = tridiag(N, -1, 2, -1);
+    const b = Float64Array.from({ length: N }, (_, i) => 1 + 0.1 * i);
+    const V: Float64Array[] = [];
+    const H = Matrix.zeros(m, m);
+    const nb = Math.hypot(...b);
+    V.push(b.map((v) => v / nb));
+    for (let j = 0; j < m; j++) {
+      const w = csrMatVec(A, V[j]);
+      for (let i = 0; i <= j; i++) {
+        let h = 0;
+        for (let q = 0; q < N; q++) h += w[q] * V[i][q];
+        H.set(i, j, h);
+        for (let q = 0; q < N; q++) w[q] -= h * V[i][q];
+      }
+      const h = Math.hypot(...w);
+      if (j + 1 < m) H.set(j + 1, j, h);
+      V.push(w.map((v) => v / h));
+    }
+    const want = new EigenvalueDecomposition(H).realEigenvalues.slice().sort((p, q) => p - q);
+    const r = gmres(csrOperator(A), b, new Float64Array(N), opts({ restart: m, rtol: 1e-10 }));
+    expect(r.converged).toBe(true);
+    expect(r.restarts).toBeGreaterThan(2); // the later cycles have other Hessenberg matrices
+    const got = r.ritz!.re.slice().sort((p, q) => p - q);
+    expect(got.length).toBe(m);
+    expect(maxAbsDiff(got, want)).toBeLessThan(1e-10);
+    expect(Math.max(...r.ritz!.im.map(Math.abs))).toBe(0); // a symmetric A gives a real spectrum
+  });
+
+  it('ritz: false computes none', () => {
+    const A = tridiag(8, -1, 2, -1);
+    const r = gmres(csrOperator(A), new Float64Array(8).fill(1), new Float64Array(8), opts({ ritz: false }));
+    expect(r.converged).toBe(true);
+    expect(r.ritz).toBeUndefined();
+  });
+});
+
+describe('gmres: the basis-size limit is checked before allocating', () => {
+  it('restart = n = 65536 needs 65537 · 65536 > 2³² − 1 entries: a one-line error, no allocation', () => {
+    // (m + 1)·n = 65537 · 65536 = 4 295 032 832 > 4 294 967 295 (derived); allocating it would need 34 GB.
+    const n = 65536;
+    const identity: LinearOperator = { n, apply: (x, y) => { y.set(x); } };
+    expect(() => gmres(identity, new Float64Array(n).fill(1), new Float64Array(n), opts({ restart: n })))
+      .toThrow(/^gmres: option restart: a basis of 65537 vectors of length 65536 is too large$/);
+  });
+});
+
+describe('gmres: a singular operator ends as method-breakdown at the step where H is singular', () => {
+  it('A = diag(1, 0), b = e₂: A v₁ = 0 at step 1', () => {
+    // v₁ = e₂ and A v₁ = 0, so the first Hessenberg column is zero (no rotation can make its
+    // diagonal nonzero) and the least-squares problem is singular (derived). x stays x₀ = 0.
+    const A = csrFromTriplets(2, [[0, 0, 1], [1, 1, 0]]);
+    const x = new Float64Array(2);
+    const r = gmres(csrOperator(A), Float64Array.of(0, 1), x, opts());
+    expect(r.cause).toBe('method-breakdown');
+    expect(r.failure?.message).toBe('gmres: the Hessenberg matrix is singular at step 1 (operator singular on the Krylov space)');
+    expect(Array.from(x)).toEqual([0, 0]);
+    expect(r.trueRelativeResidual).toBe(1);
+  });
+});
+
+describe('gmres, left preconditioning: reference norm and recorded residuals', () => {
+  it('relativeTo rhs from a nonzero x₀: the reference is still ‖M⁻¹b‖ = 12.0830 (Burkardt\'s ILU(0) example)', () => {
+    // Source: J. Burkardt, MGMRES test output (shared/references.md): ‖M⁻¹b‖ = 12.0830 for this
+    // matrix with ILU(0); the reference norm does not depend on x₀ (relativeTo 'rhs').
+    const { A, b } = burkardt5();
+    const x = Float64Array.of(1, 1, 1, 1, 1);
+    const r = gmres(csrOperator(A), b, x, opts({ side: 'left', M: ilu0Double(A) }));
+    expect(Math.abs(r.referenceNorm - 12.083)).toBeLessThan(0.5e-4);
+    expect(r.cause).toBe('relative-target');
+    expect(maxAbsDiff(x, [1, 2, 3, 4, 5])).toBeLessThan(1e-12);
+  });
+
+  it('relativeTo start-residual: the reference is ‖M⁻¹r₀‖, computed here from r₀ = b − A x₀', () => {
+    const { A, b } = burkardt5();
+    const M = ilu0Double(A);
+    const x0 = Float64Array.of(1, 0, 2, 0, 1);
+    const Ax = csrMatVec(A, x0);
+    const r0 = b.map((v, i) => v - Ax[i]);
+    const z = new Float64Array(5);
+    M.apply(r0, z);
+    const r = gmres(csrOperator(A), b, x0.slice(), opts({ side: 'left', M, relativeTo: 'start-residual' }));
+    expect(r.referenceNorm).toBeCloseTo(Math.hypot(...z), 12);
+    expect(r.history[0]).toBe(1);
+    expect(r.converged).toBe(true);
+  });
+
+  it('each restart records ‖M⁻¹(b − A x)‖ / ‖M⁻¹b‖ as the watched value, recomputed here from the final x', () => {
+    const A = tridiag(30, -1, 2.5, -1.3);
+    const M = ilu0Double(tridiag(30, -1, 2.5, 0)); // lower bidiagonal part: an inexact preconditioner
+    const b = Float64Array.from({ length: 30 }, (_, i) => Math.cos(i));
+    const x = new Float64Array(30);
+    const r = gmres(csrOperator(A), b, x, opts({ side: 'left', M, restart: 3, maxIterations: 9 }));
+    expect(r.cause).toBe('iteration-budget');
+    expect(r.residualChecks.length).toBe(3);
+    const Mb = new Float64Array(30), z = new Float64Array(30);
+    M.apply(b, Mb);
+    const Ax = csrMatVec(A, x);
+    M.apply(b.map((v, i) => v - Ax[i]), z);
+    const last = r.residualChecks.at(-1)!;
+    expect(last.iteration).toBe(9);
+    expect(last.watchedValue).toBeCloseTo(Math.hypot(...z) / Math.hypot(...Mb), 12);
+    expect(last.trueValue).toBeCloseTo(Math.hypot(...b.map((v, i) => v - Ax[i])) / Math.hypot(...b), 12);
+    // left GMRES minimizes the preconditioned residual: its recursive estimate equals the recomputation
+    expect(Math.abs(last.estimate - last.watchedValue!)).toBeLessThan(1e-10);
+  });
+
+  it('a preconditioner that maps the residual to zero is a breakdown, not convergence', () => {
+    const A = tridiag(6, -1, 2, -1);
+    const zero: Preconditioner = {
+      name: 'zero', n: 6, variable: false, setup: () => ({ ok: true }), memory: () => ({}), work: noWork,
+      apply(_r, z) { z.fill(0); },
+    };
+    const r = gmres(csrOperator(A), new Float64Array(6).fill(1), new Float64Array(6), opts({ side: 'left', M: zero }));
+    expect(r.cause).toBe('method-breakdown');
+    expect(r.converged).toBe(false);
+    expect(r.failure?.message).toBe('the preconditioner maps the residual to zero');
+    expect(r.iterations).toBe(0);
+  });
+});
