@@ -81,3 +81,34 @@ describe('Burgers volume flux G(u) = (b u²/2, u) and dG/du = (b u, 1) (the PDE,
     expect(out[0]).toBeCloseTo(0.5 + 0.5, 14);
   });
 });
+
+describe('Burgers parameters: the checks that run before any assembly', () => {
+  function ctx(dim: 1 | 2 | 3): PhysicsContext {
+    return { dim, extent: [2, 1, 1].slice(0, dim), periodic: [false, false, false].slice(0, dim), label: (f) => `test.${f}` };
+  }
+  const def = PHYSICS.get('burgers')!;
+
+  it('a zero direction is rejected naming the field', () => {
+    expect(() => def.normalize({ direction: [0, 0] }, ctx(2))).toThrow(/^test\.direction: expected a non-zero vector$/);
+  });
+
+  it('each expression is evaluated over the space-time box and a non-real value names its field', () => {
+    // log(x − 3) is NaN on the whole domain [0, 2] (the compiler accepts it; only evaluation fails)
+    for (const field of ['initial', 'state', 'inflow']) {
+      const c = ctx(1);
+      const fields = def.normalize({ [field]: 'log(x - 3)' }, c);
+      expect(() => def.check(fields, c, 0.5)).toThrow(new RegExp(`^test\\.${field}: `));
+    }
+    // a state that is fine at t = 0 and NaN at the final time: sampled up to it
+    const c = ctx(1);
+    const fields = def.normalize({ state: 'sqrt(0.25 - t)' }, c);
+    expect(() => def.check(fields, c, 0.2)).not.toThrow();
+    expect(() => def.check(fields, c, 0.5)).toThrow(/^test\.state: /);
+  });
+
+  it('the wave speed is the largest |state| sampled over the domain at t = 0 (|b| = 1)', () => {
+    const c = ctx(1);
+    const p = def.create(def.normalize({ state: '0.3 - x + 5 * t' }, c), c) as ScalarPhysics;
+    expect(p.maxWaveSpeed).toBeCloseTo(1.7, 14); // |0.3 − 2| at x = Lx = 2
+  });
+});

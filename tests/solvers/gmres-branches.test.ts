@@ -83,6 +83,11 @@ describe('gmres: a singular operator ends as method-breakdown at the step where 
     expect(r.failure?.message).toBe('gmres: the Hessenberg matrix is singular at step 1 (operator singular on the Krylov space)');
     expect(Array.from(x)).toEqual([0, 0]);
     expect(r.trueRelativeResidual).toBe(1);
+    // Work by hand (README "Work model", the same items as work-counts.test.ts's diag(1, 2) case, n = 2,
+    // nnz 2, SpMV 4 fl / 68 B): start 14 fl / 196 B; v₁ scaled 2 / 32; step 1: SpMV, ‖w‖ (4, 16),
+    // dot (4, 32), axpyNorm2 (8, 48), no scale (breakdown), one rotation with d = 0: 3 + 2 flops (no
+    // divisions) → 25 fl / 164 B; back substitution stops at once: 0; true residual 10 fl / 132 B.
+    expect(r.work.solve).toEqual({ matvecs: 3, preconditionerApplies: 0, innerIterations: 0, flops: 51, bytes: 524 });
   });
 });
 
@@ -143,5 +148,51 @@ describe('gmres, left preconditioning: reference norm and recorded residuals', (
     expect(r.converged).toBe(false);
     expect(r.failure?.message).toBe('the preconditioner maps the residual to zero');
     expect(r.iterations).toBe(0);
+    expect(r.history).toEqual([Infinity]); // no relative residual exists with a zero reference
+  });
+});
+
+describe('gmres: options that shape the run', () => {
+  const A = tridiag(20, -1, 2, -1);
+  const b = Float64Array.from({ length: 20 }, (_, i) => Math.sin(i + 1));
+
+  it('side left without a preconditioner is plain GMRES: the plain residual is watched', () => {
+    const x1 = new Float64Array(20), x2 = new Float64Array(20);
+    const r1 = gmres(csrOperator(A), b, x1, opts({ side: 'left' }));
+    const r2 = gmres(csrOperator(A), b, x2, opts());
+    expect(r1.watched).toBe('plain');
+    expect(r1.history).toEqual(r2.history);
+    expect(Array.from(x1)).toEqual(Array.from(x2));
+  });
+
+  it('a restart above n is cut to n: the basis holds n + 1 vectors', () => {
+    const r = gmres(csrOperator(A), b, new Float64Array(20), opts({ restart: 50 }));
+    expect(r.converged).toBe(true);
+    expect(r.memory.buffers.krylov.basis).toBe(21 * 20 * 8);
+  });
+
+  it('maxIterations 0 returns x₀ untouched with the iteration-budget cause', () => {
+    const x = Float64Array.from({ length: 20 }, () => 0.5);
+    const r = gmres(csrOperator(A), b, x, opts({ maxIterations: 0 }));
+    expect(r.cause).toBe('iteration-budget');
+    expect(r.iterations).toBe(0);
+    expect(r.history.length).toBe(1);
+    expect(Array.from(x).every((v) => v === 0.5)).toBe(true);
+  });
+});
+
+describe('gmres work counts with classical Gram–Schmidt twice (cgs2)', () => {
+  it('A = diag(1, 2), b = (1, 1): every count by hand, from the MGS count of tests/solvers/work-counts.test.ts', () => {
+    // work-counts.test.ts derives 108 flops and 912 bytes for this solve with MGS (README "Work model";
+    // n = 2, 8-byte doubles). Its orthogonalization part: j = 0 dot (4 fl, 32 B) + axpyNorm2 (8, 48);
+    // j = 1 dot (4, 32) + axpyDot (8, 64) + axpyNorm2 (8, 48): 32 flops, 224 bytes.
+    // cgs2 instead, per step j: 2(j+1) dots (4 fl, 32 B each), 2(j+1) axpys (4 fl, 48 B each),
+    // 2(j+1) additions into H, one norm (4 fl, 16 B): j = 0 → 22 fl, 176 B; j = 1 → 40 fl, 336 B.
+    // Total: 108 − 32 + 62 = 138 flops; 912 − 224 + 512 = 1200 bytes.
+    const A = csrOperator(csrFromTriplets(2, [[0, 0, 1], [1, 1, 2]]));
+    const r = gmres(A, Float64Array.of(1, 1), new Float64Array(2), opts({ restart: 30, ritz: false, orthogonalization: 'cgs2' }));
+    expect(r.iterations).toBe(2);
+    expect(r.cause).toBe('relative-target');
+    expect(r.work.solve).toEqual({ matvecs: 4, preconditionerApplies: 0, innerIterations: 0, flops: 138, bytes: 1200 });
   });
 });
