@@ -91,6 +91,35 @@ describe('gmres: a singular operator ends as method-breakdown at the step where 
   });
 });
 
+describe('gmres: a singular Hessenberg matrix found at the second step of a cycle', () => {
+  it('A = [[0, 1], [0, 0]] (nilpotent), b = e₂: K₂ = span(e₂, e₁), A e₁ = 0, singular at step 2', () => {
+    // Derived: v₁ = e₂, A v₁ = e₁ = v₂ (h₁₁ = 0, h₂₁ = 1), A v₂ = 0 (h₁₂ = h₂₂ = 0, breakdown); after the
+    // rotations R = [[1, 0], [0, 0]]: the second diagonal entry is zero. All exact in floating point.
+    const A = csrFromTriplets(2, [[0, 1, 1]]);
+    const x = new Float64Array(2);
+    const r = gmres(csrOperator(A), Float64Array.of(0, 1), x, opts());
+    expect(r.cause).toBe('method-breakdown');
+    expect(r.iterations).toBe(2);
+    expect(r.failure?.message).toBe('gmres: the Hessenberg matrix is singular at step 2 (operator singular on the Krylov space)');
+    expect(Array.from(x)).toEqual([0, 0]);
+    // Work by hand (README "Work model"; n = 2, nnz 1: SpMV 2 fl, 12 + 12 + 32 = 56 B):
+    // start: scan 16 B, ‖b‖ (4 fl, 16 B), residual SpMV + subtraction (2 fl, 48 B) + norm (4, 16), copy 32 B
+    //        → 12 fl, 184 B; v₁ scaled 2 fl, 32 B;
+    // step 1: SpMV, ‖w‖ (4, 16), dot (4, 32), axpyNorm2 (8, 48), scale (2, 32), rotation 3 + 2 + 2 → 27 fl, 184 B;
+    // step 2: SpMV, ‖w‖, dot, axpyDot (8, 64), axpyNorm2, no scale, rotations 6 + 3 + 0 + 2 → 37 fl, 216 B;
+    // back substitution stops at its first row (k − i − 1 = 0 products): 0; true residual 8 fl, 120 B.
+    expect(r.work.solve).toEqual({ matvecs: 4, preconditionerApplies: 0, innerIterations: 0, flops: 86, bytes: 736 });
+  });
+});
+
+describe('gmres: the rotation buffers are counted as allocated', () => {
+  it('restart m: cs, sn, y (m each), g and the Gram–Schmidt scratch (m + 1 each): (5m + 2) doubles', () => {
+    const A = tridiag(12, -1, 2, -1);
+    const r = gmres(csrOperator(A), new Float64Array(12).fill(1), new Float64Array(12), opts({ restart: 7 }));
+    expect(r.memory.buffers.krylov.rotations).toBe((5 * 7 + 2) * 8);
+  });
+});
+
 describe('gmres, left preconditioning: reference norm and recorded residuals', () => {
   it('relativeTo rhs from a nonzero x₀: the reference is still ‖M⁻¹b‖ = 12.0830 (Burkardt\'s ILU(0) example)', () => {
     // Source: J. Burkardt, MGMRES test output (shared/references.md): ‖M⁻¹b‖ = 12.0830 for this
@@ -194,5 +223,45 @@ describe('gmres work counts with classical Gram–Schmidt twice (cgs2)', () => {
     expect(r.iterations).toBe(2);
     expect(r.cause).toBe('relative-target');
     expect(r.work.solve).toEqual({ matvecs: 4, preconditionerApplies: 0, innerIterations: 0, flops: 138, bytes: 1200 });
+  });
+});
+
+describe('gmres: more reported facts', () => {
+  it('the method is named gmres, and a monitor stop at iteration 0 carries its message', () => {
+    const A = tridiag(6, -1, 2, -1);
+    const r = gmres(csrOperator(A), new Float64Array(6).fill(1), new Float64Array(6), opts({ onIteration: () => true }));
+    expect(r.method).toBe('gmres');
+    expect(r.cause).toBe('iteration-budget');
+    expect(r.iterations).toBe(0);
+    expect(r.failure?.message).toBe('stopped by the onIteration monitor');
+  });
+
+  it('happy breakdown is relative to ‖A v‖: A = 10⁸·diag(1, 1, 2, 2, 3, 3) still stops at step 3', () => {
+    // As gmres.test.ts's diag(1, 1, 2, 2, 3, 3) case (minimal polynomial of degree 3, derived), scaled:
+    // round-off in h_{4,3} scales with ‖A v‖, so the test h ≤ 1e-14·‖A v‖ must scale with it.
+    const D = csrFromTriplets(6, [0, 1, 2, 3, 4, 5].map((i) => [i, i, 1e8 * (Math.floor(i / 2) + 1)] as [number, number, number]));
+    const x = new Float64Array(6);
+    const r = gmres(csrOperator(D), new Float64Array(6).fill(1e8), x, opts({ rtol: 1e-13 }));
+    expect(r.iterations).toBe(3);
+    expect(r.cause).toBe('relative-target');
+    expect(maxAbsDiff(x, [1, 1, 0.5, 0.5, 1 / 3, 1 / 3])).toBeLessThan(1e-13);
+  });
+
+  it('right preconditioning with M = I: the counts of the unpreconditioned diag(1, 2) solve plus the update through M', () => {
+    // work-counts.test.ts: 108 flops, 912 bytes without M. With a right preconditioner the update
+    // is w ← 0 (16 B), w += Σ y_l v_l (2 axpys, as before x +=), z = M w, x += z (one axpy: 4 fl, 48 B):
+    // +4 flops, +64 bytes. M's own work (applies included) comes from M.work(), zero for this double;
+    // the solver meters 3 applications (2 steps + the update).
+    const I: Preconditioner = {
+      name: 'identity', n: 2, variable: false, setup: () => ({ ok: true }), memory: () => ({}), work: noWork,
+      apply(r, z) { z.set(r); },
+    };
+    const A = csrOperator(csrFromTriplets(2, [[0, 0, 1], [1, 1, 2]]));
+    const x = new Float64Array(2);
+    const r = gmres(A, Float64Array.of(1, 1), x, opts({ restart: 30, ritz: false, M: I }));
+    expect(r.iterations).toBe(2);
+    expect(maxAbsDiff(x, [1, 0.5])).toBeLessThan(1e-15);
+    expect(r.work.solve).toEqual({ matvecs: 4, preconditionerApplies: 0, innerIterations: 0, flops: 112, bytes: 976 });
+    expect(r.timing.preconditionerApplications).toBe(3);
   });
 });
