@@ -14,11 +14,11 @@ import {
 } from '../../src/precond/dense.js';
 
 describe('block reductions read exactly the block at its offset', () => {
-  // 2×2 block [[3, −4], [0, 12]] at offset 2, with larger decoys outside it
-  const a = Float64Array.of(100, -200, 3, -4, 0, 12, 300, -400);
-  it('max |entry| = 12, Frobenius norm = √(9 + 16 + 144) = 13', () => {
-    expect(blockMaxAbs(a, 2, 2)).toBe(12);
-    expect(blockFrobenius(a, 2, 2)).toBe(13);
+  // 2×2 block [[2, −6], [9, 0]] at offset 2 (its largest entry is not the last), larger decoys outside
+  const a = Float64Array.of(100, -200, 2, -6, 9, 0, 300, -400);
+  it('max |entry| = 9, Frobenius norm = √(4 + 36 + 81) = 11', () => {
+    expect(blockMaxAbs(a, 2, 2)).toBe(9);
+    expect(blockFrobenius(a, 2, 2)).toBe(11);
     expect(blockMaxAbs(Float64Array.of(-7), 0, 1)).toBe(7); // a negative entry counts by its size
     expect(blockMaxAbs(new Float64Array(4), 0, 2)).toBe(0);
   });
