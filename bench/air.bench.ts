@@ -18,7 +18,8 @@
  * the same run (bench/stream.ts).
  * Study (unless --no-study): order 1 advection as in tests/precond/air.test.ts, h and slab
  * thickness halved together on [0,1]² × [0, 0.5]: 8² × 1 slab … 64² × 8 slabs (--quick: to 32²);
- * GMRES iterations of AIR and block Jacobi, AIR operator/grid complexity and levels.
+ * GMRES iterations of AIR (V- and W-cycle) and block Jacobi, AIR operator/grid complexity and levels,
+ * and the solve flops of both cycles (exact work counts).
  * Prints only; no assertions. The machine is shared: read ratios, not absolute times.
  */
 import os from 'node:os';
@@ -102,20 +103,24 @@ console.log(`streaming triad: ${bandwidth.toFixed(2)} GB/s`);
 
 if (study) {
   console.log('\nrefinement study: order 1 advection, velocity (1, 0.5), periodic, [0,1]² × [0, 0.5], h and slab thickness halved together');
-  console.log('  cells  slabs  block rows  M nnz  block-jacobi  air  growth  levels  op. complexity  grid complexity  air setup s');
-  let prev = 0;
+  console.log('  cells  slabs  block rows  M nnz  block-jacobi  air  growth  levels  op. complexity  grid complexity  air setup s  air W-cycle  growth  solve GFlop V / W');
+  let prev = 0, prevW = 0;
   for (let r = 0; r < (quick ? 3 : 4); r++) {
     const cells = 8 << r, slabs = 1 << r;
     const g = advection(1, cells, slabs, 0.5 / slabs);
     const system = systemOf(g.bsr, g.layout.slabOffsets);
     const bj = solveSystem(system, g.rhs, { ...DEFAULT_RECIPE, preconditioner: 'block-jacobi', maxIterations: 3000 }).result;
     const air = solveSystem(system, g.rhs, airRecipe).result;
+    const airW = solveSystem(system, g.rhs, { ...airRecipe, air: { ...airRecipe.air!, cycle: 'W' } }).result;
+    const growthW = prevW > 0 ? `${(((airW.iterations / prevW) - 1) * 100).toFixed(0)}%` : '–';
+    prevW = airW.iterations;
     const st = air.preconditionerStats as unknown as AirStats;
     const growth = prev > 0 ? `${(((air.iterations / prev) - 1) * 100).toFixed(0)}%` : '–';
     prev = air.iterations;
     const nnz = g.bsr.rowPtr[g.bsr.nBlockRows] * g.bsr.bs ** 2;
     console.log(`  ${String(cells).padStart(5)}  ${String(slabs).padStart(5)}  ${String(g.bsr.nBlockRows).padStart(10)}  ${(nnz / 1e6).toFixed(2).padStart(5)}` +
       `  ${String(bj.iterations).padStart(12)}  ${String(air.iterations).padStart(3)}  ${growth.padStart(6)}  ${String(st.levels).padStart(6)}` +
-      `  ${st.operatorComplexity.toFixed(2).padStart(14)}  ${st.gridComplexity.toFixed(2).padStart(15)}  ${air.timing.setupSeconds.toFixed(2).padStart(11)}`);
+      `  ${st.operatorComplexity.toFixed(2).padStart(14)}  ${st.gridComplexity.toFixed(2).padStart(15)}  ${air.timing.setupSeconds.toFixed(2).padStart(11)}` +
+      `  ${String(airW.iterations).padStart(11)}  ${growthW.padStart(6)}  ${(air.work.solve.flops / 1e9).toFixed(2)} / ${(airW.work.solve.flops / 1e9).toFixed(2)}`);
   }
 }

@@ -18,6 +18,8 @@ export * from './dg/quadrature.js';
 export * from './dg/basis.js';
 export * from './mesh/space-time.js';
 export * from './mesh/geometry.js';
+export { prepareFrontMap, MAX_FRONT_ASPECT_RATIO, MAX_FRONT_GRADING, type FrontMap, type FrontMapOptions, type FrontMapSummary } from './mesh/front-map.js';
+export { meshQuality, simplexAspectRatio, checkElementOrientation, type ElementQuality } from './mesh/quality.js';
 export { parseGeneratorParams, resolveGenerator, generateSystem, writeGeneratedCase, type GeneratorParams, type GeneratedSystem } from './dg/generate.js';
 export { runRefinementStudy, type RefinementStudy, type RefinementRow } from './dg/refine.js';
 export { PHYSICS, PHYSICS_NAMES } from './dg/physics/registry.js';
@@ -32,7 +34,10 @@ export { gmres } from './solvers/gmres.js';
 export { bicgstab } from './solvers/bicgstab.js';
 export { stationary } from './solvers/stationary.js';
 export { krylovSolve } from './solvers/krylov.js';
-export { solveSystem, systemOperator, type SolveSystemOptions } from './solvers/run-recipe.js';
+export {
+  prepareSolve, solveSystem, systemOperator,
+  type PreparedSolve, type PreparedSolveOptions, type PrepareSolveOptions, type SolveSystemOptions,
+} from './solvers/run-recipe.js';
 export { krylovOptionsFromRecipe, type KrylovOptions } from './solvers/options.js';
 export { combineVotes, residualVote, type Vote, type StopRule } from './solvers/stopping.js';
 export { ritzValues } from './solvers/ritz.js';

@@ -116,7 +116,14 @@ export async function convertMatrix(input: string, output: string, opts: Convert
   if (opts.fields !== undefined) summary.interleaved = { nFields: opts.fields, blockSize: bs! };
 
   if (bs !== undefined) {
-    const { slabOffsets, provenance, ...rest } = layout ?? { blockSize: bs };
+    const { slabOffsets, provenance, centroids, ...rest } = layout ?? { blockSize: bs };
+    let newCentroids = centroids;
+    if (centroids !== undefined && perm !== undefined) {
+      // one point per block row: it moves with its row
+      const moved = new Float64Array(centroids.values.length);
+      permuteVectorBlocks(Float64Array.from(centroids.values), perm, centroids.nCoordinates, moved);
+      newCentroids = { nCoordinates: centroids.nCoordinates, values: Array.from(moved) };
+    }
     let newOffsets = slabOffsets ? Array.from(slabOffsets) : undefined;
     if (newOffsets !== undefined && perm !== undefined) {
       newOffsets = permuteSlabOffsets(newOffsets, perm);
@@ -128,6 +135,7 @@ export async function convertMatrix(input: string, output: string, opts: Convert
       ...rest,
       blockSize: bs,
       ...(newOffsets !== undefined ? { slabOffsets: newOffsets } : {}),
+      ...(newCentroids !== undefined ? { centroids: newCentroids } : {}),
       provenance: { ...prev, conversions: [...conversions, { from: basename(input), ...(permDesc ? { permutation: permDesc } : {}), slabbench: VERSION }] },
     };
     const layoutOut = layoutPathFor(output);

@@ -6,6 +6,15 @@ import { writeGeneratedCase, type GeneratorParams } from '../dg/generate.js';
 import { readSuiteCases } from '../dg/suite-cases.js';
 import { addGeneratorOptions, generatorParamsFromOptions, progressPrinter, rejectGeneratorOptions } from './generator-options.js';
 import { readFileSync } from 'node:fs';
+import { parseSequenceSpec, writeGeneratedSequence, type SequenceSpec } from '../dg/sequence.js';
+
+/** `--sequence newton:N` or `--sequence slabs`, validated against the parameters. */
+function sequenceOption(raw: unknown, params: GeneratorParams): SequenceSpec {
+  const text = String(raw);
+  const m = /^newton:(\d+)$/.exec(text);
+  if (!m && text !== 'slabs') throw optionError('--sequence', `expected newton:N (N Newton steps) or slabs (slab marching), got "${text}"`);
+  return parseSequenceSpec(m ? { kind: 'newton', steps: Number(m[1]) } : { kind: 'slabs' }, 'option --sequence', params);
+}
 
 /** The demo suite shipped with the package (matrices/suite.json). */
 export function defaultSuitePath(): string {
@@ -41,6 +50,10 @@ async function buildCase(params: GeneratorParams, outDir: string, name: string, 
   };
 }
 
+function plural(n: number): string {
+  return `${n} system${n === 1 ? '' : 's'}`;
+}
+
 export function registerGenerate(program: Command): void {
   const cmd = program
     .command('generate')
@@ -53,6 +66,7 @@ export function registerGenerate(program: Command): void {
     .option('--suite <FILE>', 'suite file for --case / --all-cases (default: the demo suite matrices/suite.json)')
     .option('--all-cases', 'build every generator case of the suite into --out')
     .option('--gzip', 'write the matrix gzip-compressed (NAME.mtx.gz); every command reads it as it is')
+    .option('--sequence <KIND>', 'write a sequence of systems sharing one pattern: newton:N (N Newton steps, burgers/euler) or slabs (one system per slab); files NAME-s01.mtx, NAME-s01.rhs.mtx, … in order')
     .option('--json', 'print a machine-readable summary on stdout')
     .addHelpText('after', `
 Examples:
@@ -64,14 +78,30 @@ Examples:
   slabbench generate --case duct-pulse --out /tmp/demo
   slabbench generate --all-cases --out matrices/demo
   slabbench generate --physics euler --dim 2 --order 2 --cells 16 --state vortex --extent 10 --periodic all --gzip
+  slabbench generate --physics advection --dim 1 --cells 64 --aspect-ratio 1000 --front-grading 2 --name front
+  slabbench generate --physics advection --dim 2 --cells 32,8 --velocity 1 --velocity 0.3 --periodic x \
+      --aspect-ratio 100 --front-grading 1.5 --front-position 0.4 --jitter 0.1
+  slabbench generate --physics burgers --dim 1 --order 2 --cells 40 --periodic x --initial "0.6+0.2*sin(2*pi*x)" --sequence newton:3 --name bore
+  slabbench generate --physics advection --dim 2 --cells 8 --slabs 4 --velocity 1 --velocity 0.5 --sequence slabs --name march
 
 A generated matrix whose numerically nonzero block graph has no cycles (upwind transport without
 recirculation) is block triangular under a permutation: one block Gauss–Seidel sweep in that order
 solves it, so it ranks nothing. generate says so on stderr (and "triangularUnderPermutation" in --json).
 
-The layout file records the block size, the slab offsets (in block rows) and every parameter
-needed to rebuild the case (with defaults filled in). Elements are numbered slab by slab; the
-matrix is block lower triangular by slabs.`)
+--aspect-ratio switches on the front-aligned mesh map: the cells of one axis cluster at the front
+x·n = x0 + s·t (--front-direction, --front-speed: 'align' = the constant velocity) with geometric
+grading (--front-grading) and move with it, giving thin elements along its trajectory.
+
+The layout file records the block size, the slab offsets (in block rows), the element quality
+(aspect ratio min/median/max, smallest det J) and every parameter needed to rebuild the case
+(with defaults filled in). Elements are numbered slab by slab; the
+matrix is block lower triangular by slabs.
+
+--sequence newton:N writes the Jacobians of N Newton steps (each at the state after the previous
+update, computed by a tight slab-by-slab solve) with right-hand side minus the residual;
+--sequence slabs writes each slab's diagonal block with the computed solution of the slab before
+as inflow. Each layout records its place ("sequence": kind, index, count, …). List the files in a
+suite entry "sequence": [ { "file", "rhs" }, … ] to run a sequence study (README "Sequences").`)
     .action(async (opts: Record<string, unknown>) => {
       const outDir = String(opts.out ?? '.');
       const json = opts.json === true;
@@ -97,6 +127,22 @@ matrix is block lower triangular by slabs.`)
         const params = generatorParamsFromOptions(opts);
         const name = opts.name !== undefined ? String(opts.name) : `${params.physics}-${params.dim}d-p${params.order}`;
         jobs.push({ params, name });
+      }
+      if (opts.sequence !== undefined) {
+        if (opts.case !== undefined || opts.allCases) throw optionError('--sequence', 'only with generator options (a suite case gets its sequence from the suite; sweep builds it)');
+        if (opts.gzip === true) throw optionError('--gzip', 'has no effect with --sequence (the systems are written uncompressed); remove it');
+        const job = jobs[0]!;
+        const spec = sequenceOption(opts.sequence, job.params);
+        const t0 = performance.now();
+        const out = await writeGeneratedSequence(job.params, spec, outDir, job.name);
+        const seconds = (performance.now() - t0) / 1000;
+        if (json) {
+          process.stdout.write(`${JSON.stringify({ schema: 'slabbench-generate/1', outDir: join(outDir), sequence: { name: job.name, kind: spec.kind, systems: out.systems, seconds } }, null, 2)}\n`);
+        } else {
+          process.stdout.write(`${job.name}: ${plural(out.systems.length)} (${spec.kind === 'newton' ? 'Newton steps' : 'slab marching'}, ${job.params.physics} ${job.params.dim}D+t, order ${job.params.order}; ${seconds.toFixed(2)} s)\n`);
+          for (const f of out.systems) process.stdout.write(`  ${f.label}: ${f.mtx}, ${f.rhs}\n`);
+        }
+        return;
       }
       const summaries: CaseSummary[] = [];
       for (const job of jobs) {

@@ -54,6 +54,8 @@ export interface InspectReport {
     triangularUnderPermutation: boolean;
   };
   storage: { csr: Record<string, number>; bsr: Record<string, number>; csrBytes: number; bsrBytes: number };
+  /** The layout's elementQuality (mesh aspect ratios and smallest det J); null without one. */
+  elementQuality: { aspectRatio: { min: number; median: number; max: number }; minJacobianDeterminant: number } | null;
 }
 
 function sum(r: Record<string, number>): number {
@@ -121,6 +123,7 @@ export function buildInspectReport(sys: LoadedSystem): InspectReport {
       triangularUnderPermutation: nonzero.triangularUnderPermutation,
     },
     storage: { csr: csrBuf, bsr: bsrBuf, csrBytes: sum(csrBuf), bsrBytes: sum(bsrBuf) },
+    elementQuality: sys.layout?.elementQuality ?? null,
   };
 }
 
@@ -195,6 +198,11 @@ export function formatInspectReport(r: InspectReport): string {
   row('components', `stored pattern: ${componentText(c.nComponents, c.largestBlockRows, c.givenOrderBlockLowerTriangular, c.triangularUnderPermutation)}`);
   row('', z.zeroBlocks === 0 ? 'nonzero pattern: the same (no zero blocks)'
     : `nonzero pattern: ${componentText(z.nComponents, z.largestBlockRows, z.givenOrderBlockLowerTriangular, z.triangularUnderPermutation)}`);
+  if (r.elementQuality !== null) {
+    const q = r.elementQuality;
+    row('elements (layout)', `aspect ratio min ${num(q.aspectRatio.min)}, median ${num(q.aspectRatio.median)}, max ${num(q.aspectRatio.max)} `
+      + `(longest edge / smallest altitude, regular simplex = 1); smallest det J ${num(q.minJacobianDeterminant)}`);
+  }
   const st = r.storage;
   row('storage CSR', buffers(st.csrBytes, st.csr));
   row('storage BSR', `${buffers(st.bsrBytes, st.bsr)}; BSR/CSR ${num(st.bsrBytes / st.csrBytes)}`);

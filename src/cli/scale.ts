@@ -2,13 +2,14 @@ import { Option, type Command } from 'commander';
 import { loadSystem } from '../sparse/load.js';
 import { readMatrixMarketVector } from '../sparse/matrix-market.js';
 import { csrSpmv } from '../sparse/csr.js';
-import { RECIPE_FIELDS, RECIPE_FLAGS, describeRecipeField, recipeFromOptions } from '../solvers/recipe.js';
+import { PARTITION_SLABS, RECIPE_FIELDS, RECIPE_FLAGS, describeRecipeField, recipeFromOptions, type PartitionSlabsMode } from '../solvers/recipe.js';
+import { PARTITION_METHODS, type PartitionMethod } from '../sparse/partition.js';
 import { EXAMPLE_MACHINE, runScale, type ScaleReport } from '../run/scale.js';
 import { EXIT, fileError, optionError } from '../util/errors.js';
 import { writeFileAtomic } from '../util/atomic-write.js';
 import { formatBytes, formatNumber, jsonNonFiniteAsNull } from '../report/format.js';
 import { esc } from '../report/svg/common.js';
-import { scalePlot } from '../report/svg/scale.js';
+import { scaleForecastPlot } from '../report/svg/scale.js';
 
 interface ScaleCommandOptions extends Record<string, unknown> {
   rhs?: string;
@@ -20,6 +21,14 @@ interface ScaleCommandOptions extends Record<string, unknown> {
   networkBandwidth?: string;
   json?: string;
   html?: string;
+  partitionMethod?: string;
+  partitionSlabs?: string;
+}
+
+function oneOf<T extends string>(option: string, v: string | undefined, values: readonly T[]): T | undefined {
+  if (v === undefined) return undefined;
+  if (!(values as readonly string[]).includes(v)) throw optionError(option, `expected one of ${values.join(', ')}, got "${v}"`);
+  return v as T;
 }
 
 function positive(option: string, v: string): number {
@@ -29,7 +38,13 @@ function positive(option: string, v: string): number {
 }
 
 export async function runScaleCommand(file: string, opts: ScaleCommandOptions): Promise<ScaleReport> {
-  const recipe = recipeFromOptions(opts);
+  // the partition options apply to every P whatever the preconditioner, so they are not recipe checks here
+  const { partitionMethod, partitionSlabs, ...recipeOptions } = opts;
+  const partition = {
+    method: oneOf<PartitionMethod>('--partition-method', partitionMethod, PARTITION_METHODS),
+    slabs: oneOf<PartitionSlabsMode>('--partition-slabs', partitionSlabs, PARTITION_SLABS),
+  };
+  const recipe = recipeFromOptions(recipeOptions);
   const maxParts = /^\d+$/.test(opts.maxParts.trim()) ? Number(opts.maxParts) : NaN;
   if (!(maxParts >= 1)) throw optionError('--max-parts', `expected a positive integer, got "${opts.maxParts}"`);
   const machine = {
@@ -54,7 +69,7 @@ export async function runScaleCommand(file: string, opts: ScaleCommandOptions): 
     b = new Float64Array(n);
     csrSpmv(sys.csr, new Float64Array(n).fill(1), b);
   }
-  return runScale(sys, b, recipe, { maxParts, machine });
+  return runScale(sys, b, recipe, { maxParts, machine, partition, matrix: file });
 }
 
 function us(s: number): string {
@@ -72,23 +87,13 @@ export function formatScaleReport(r: ScaleReport): string {
   const line = (cells: string[]): string => cells.map((c, i) => (i === 0 ? c.padStart(widths[i]) : c.padStart(widths[i]))).join('  ');
   const m = r.machine;
   return [
-    `recipe ${r.rows[0]?.recipe.name.replace(/-P1$/, '') ?? ''}: P parts solved exactly on one core; time is a model, not a measurement`,
+    `recipe ${r.recipe}: P parts solved exactly on one core; time is a model, not a measurement`,
     `target (α–β model): ${formatBytes(m.bandwidth)}/s memory per process, latency ${us(m.latency)} µs, ${formatBytes(m.networkBandwidth)}/s network`,
+    `partition: ${r.partition.method === 'coordinates' ? 'coordinate bisection of the centroids' : 'graph bisection'}, parts ${r.partition.slabs === 'within' ? 'inside slabs' : 'across slabs'}`,
     '',
     line(head),
     ...rows.map(line),
   ].join('\n');
-}
-
-/** The forecast plot of a report (iterations and modelled time per iteration against P). */
-export function scaleReportSvg(r: ScaleReport, file: string): string {
-  const name = r.rows[0]?.recipe.name.replace(/-P1$/, '') ?? 'recipe';
-  return scalePlot({
-    title: `${name} on P parts: iterations and modelled time`, recipe: name,
-    parts: r.rows.map((x) => x.parts), iterations: r.rows.map((x) => x.iterations),
-    perIteration: r.rows.map((x) => x.modelled.perIteration), compute: r.rows.map((x) => x.modelled.compute),
-    converged: r.rows.map((x) => x.converged), idPrefix: 'scale-',
-  });
 }
 
 /** A self-contained page: the plot, the table and the model's caution. */
@@ -99,7 +104,7 @@ export function scaleReportHtml(r: ScaleReport, file: string): string {
 <body><h1>Scaling forecast: ${esc(file)}</h1>
 <p>The iterations are exact (the partitioned algebra carried out on one core). The time is a model
 (α–β: Hockney 1994) on an example target, not a measurement of a real cluster; check decisions on the machine itself.</p>
-${scaleReportSvg(r, file)}
+${scaleForecastPlot(r, 'scale-')}
 <pre>${esc(formatScaleReport(r))}</pre>
 </body></html>
 `;
@@ -114,12 +119,15 @@ export function registerScale(program: Command): void {
     .option('--bandwidth <bytes/s>', `target memory bandwidth per process (example default ${EXAMPLE_MACHINE.bandwidth})`)
     .option('--latency <seconds>', `target message latency α (example default ${EXAMPLE_MACHINE.latency})`)
     .option('--network-bandwidth <bytes/s>', `target network bandwidth per process (example default ${EXAMPLE_MACHINE.networkBandwidth})`)
+    .option('--partition-method <method>', `how every P is partitioned: ${PARTITION_METHODS.join(' or ')} (graph bisection, or coordinate bisection of the layout's centroids); default graph`)
+    .option('--partition-slabs <mode>', `parts ${PARTITION_SLABS.join(' or ')} slabs (within: every part inside one slab); default across`)
     .option('--rhs <file>', 'right-hand side (Matrix Market vector); default b = A·1')
     .option('--block-size <n>', 'block size when there is no layout (default: detected from the pattern)')
     .option('--layout <file>', 'layout file to use instead of NAME.layout.json')
     .option('--json <file>', 'write the forecast as JSON to FILE (atomically), or to stdout with "-" (then nothing else goes to stdout)')
     .option('--html <file>', 'also write a self-contained HTML page with the plot (iterations and modelled time against P) and the table');
   for (const field of RECIPE_FIELDS) {
+    if (field === 'partitionMethod' || field === 'partitionSlabs') continue;
     cmd.addOption(new Option(`--${RECIPE_FLAGS[field]} <value>`, `recipe: as in solve; ${describeRecipeField(field)}`).hideHelp());
   }
   for (const field of RECIPE_FIELDS) cmd.addOption(new Option(`--inner-${RECIPE_FLAGS[field]} <value>`).hideHelp());
@@ -136,6 +144,7 @@ Examples:
   $ slabbench scale duct.mtx --max-parts 16 --precond block-ilu0
   $ slabbench scale tank.mtx --max-parts 32 --precond schwarz --overlap 1 --subdomain-precond block-ilu0
   $ slabbench scale duct.mtx --max-parts 8 --precond schwarz --overlap 2 --html duct-scale.html
+  $ slabbench scale duct.mtx --max-parts 8 --precond block-ilu0 --partition-method coordinates --json duct.scale.json
   $ slabbench scale room.mtx --max-parts 8 --precond schwarz --schwarz-kind additive --subdomain-precond exact --latency 5e-6 --json -
 
 Exit codes: 0 every P solved, 1 some P unsolved or failed, 2 bad input or option, 3 internal error.`);

@@ -178,7 +178,13 @@ Examples:
   slabbench sweep my-suite.json --shard 2/4 --out shard-2   # then: slabbench merge shard-*/results.json --out all
   slabbench sweep matrices/ci/suite.json --out .ci-results --quiet
   slabbench sweep --json | jq '.winners'
-  slabbench sweep my-suite.json --dry-run            # which pairs, after grids ("restart": [10, 30, 60]) expand`)
+  slabbench sweep my-suite.json --dry-run            # which pairs, after grids ("restart": [10, 30, 60]) expand
+  slabbench sweep study.json --only-matrix bore-steps   # a "sequence" entry: totals, then a per-system table
+
+A matrix entry with "sequence" (a list of { "file", "rhs" }, or "generate" with { "kind": "newton",
+"steps": N } or { "kind": "slabs" }) runs each recipe through all its systems in order, with the
+recipe's "reuse" ("rebuild", "fixed" + "reuseSystems", "on-growth" + "refreshFactor") and
+"initialGuess" ("zero", "previous"); README "Sequences of systems".`)
     .action(async (suiteArg: string | undefined, opts: SweepCliOptions, cmd: Command) => {
       if (opts.dryRun) {
         // Everything else only shapes a run that --dry-run does not start: refuse it rather than ignore it.

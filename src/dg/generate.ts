@@ -16,6 +16,9 @@ import { addPseudoTimeTerm } from './pseudo-time.js';
 import { nonzeroBlockPattern, triangularStructure } from '../sparse/structure.js';
 import { projectFunction } from './projection.js';
 import { writeCaseFiles } from './write-case.js';
+import { elementCentroids, MAX_RECORDED_CENTROIDS } from '../mesh/centroids.js';
+import { meshQuality } from '../mesh/quality.js';
+import { MAX_FRONT_ASPECT_RATIO, MAX_FRONT_GRADING, type FrontMapOptions } from '../mesh/front-map.js';
 
 /**
  * Parameters of a generated space-time DG system (JSON: suite files `generate` objects and the
@@ -48,6 +51,20 @@ export interface GeneratorParams {
   dropZeroBlocks?: boolean;
   /** Pseudo-time term M/Δτ added to the diagonal blocks, Δτ = pseudoCfl·h_K/λ (absent: none). */
   pseudoCfl?: number;
+  /**
+   * Front-aligned mesh map (src/mesh/front-map.ts), on when aspectRatio is given: the target aspect
+   * ratio of the elements at the front x·n = x₀ + s·t. The four front fields are then filled in
+   * (absent otherwise, so earlier cases keep their parameters).
+   */
+  aspectRatio?: number;
+  /** Front normal n (d entries) or 'align' = the constant transport velocity's direction. */
+  frontDirection?: number[] | 'align';
+  /** Front speed s along n, or 'align' = the transport velocity's component a·n. */
+  frontSpeed?: number | 'align';
+  /** x₀ (n normalized), or 'center' = n·(L/2): through the domain centre at t = 0. */
+  frontPosition?: number | 'center';
+  /** Geometric growth ratio of the cell size per cell away from the front, 1 < r ≤ 3 (default 1.2). */
+  frontGrading?: number;
   /** Physics-specific fields (velocity, diffusivity, soundSpeed, meanFlow, travelling, direction, initial, state, inflow). */
   [field: string]: unknown;
 }
@@ -56,8 +73,10 @@ export const MAX_ORDER = 4;
 export const MAX_ORDER_3D = 3;
 const COMMON_FIELDS = [
   'physics', 'dim', 'order', 'cells', 'extent', 'slabs', 'layersPerSlab', 'cfl', 'slabThickness',
-  'periodic', 'shear', 'jitter', 'seed', 'ordering', 'dropZeroBlocks', 'pseudoCfl',
+  'periodic', 'shear', 'jitter', 'seed', 'ordering', 'dropZeroBlocks', 'pseudoCfl', ...['aspectRatio', 'frontDirection', 'frontSpeed', 'frontPosition', 'frontGrading'],
 ];
+const FRONT_FIELDS = ['frontDirection', 'frontSpeed', 'frontPosition', 'frontGrading'];
+export const DEFAULT_FRONT_GRADING = 1.2;
 /** Largest generated value array (entries), checked before anything is allocated. */
 export const MAX_GENERATED_VALUES = 1.5e9;
 
@@ -141,17 +160,85 @@ export function parseGeneratorParams(obj: unknown, where: string, label?: FieldL
   if (pseudoCfl !== undefined && !(typeof pseudoCfl === 'number' && Number.isFinite(pseudoCfl) && pseudoCfl > 0)) {
     fail('pseudoCfl', `expected a number > 0 (the pseudo-time CFL number), got ${show(pseudoCfl)}`);
   }
+  const front = parseFrontFields(raw, d, fail, name);
   const ctx: PhysicsContext = { dim: d, extent, periodic, label: name };
   const physicsFields = def.normalize(raw, ctx);
   const params: GeneratorParams = {
     physics: def.name, dim: d, order: order as number, cells, extent, slabs: slabs as number,
     layersPerSlab: layersPerSlab as number, cfl, slabThickness, periodic, shear, jitter: jitter as number,
     seed: seed as number, ordering: ordering as ElementOrdering, ...(dropZeroBlocks ? { dropZeroBlocks: true } : {}),
-    ...(pseudoCfl !== undefined ? { pseudoCfl: pseudoCfl as number } : {}), ...physicsFields,
+    ...(pseudoCfl !== undefined ? { pseudoCfl: pseudoCfl as number } : {}), ...front, ...physicsFields,
   };
   // Everything that depends on the physics: slab thickness, shear, sizes, expressions over [0, T].
   resolveGenerator(params, name);
   return params;
+}
+
+/** The front-map fields with defaults filled in, or none when aspectRatio is absent (then none may be given). */
+function parseFrontFields(
+  raw: Record<string, unknown>, d: number, fail: (field: string, what: string) => never, name: FieldLabel,
+): Partial<GeneratorParams> {
+  if (raw.aspectRatio === undefined) {
+    const given = FRONT_FIELDS.find((f) => raw[f] !== undefined);
+    if (given !== undefined) fail(given, `has no effect without ${name('aspectRatio')} (the target aspect ratio switches the front-aligned mesh map on)`);
+    return {};
+  }
+  const ar = raw.aspectRatio;
+  if (typeof ar !== 'number' || !(ar > 1 && ar <= MAX_FRONT_ASPECT_RATIO)) {
+    fail('aspectRatio', `expected a target aspect ratio 1 < A ≤ ${MAX_FRONT_ASPECT_RATIO}, got ${show(ar)}`);
+  }
+  let direction = raw.frontDirection ?? 'align';
+  if (direction !== 'align') {
+    if (typeof direction === 'number') direction = [direction];
+    const a = direction as unknown[];
+    if (!Array.isArray(a) || a.length !== d || !a.every((v) => typeof v === 'number' && Number.isFinite(v))) {
+      fail('frontDirection', `expected ${d} finite number${d > 1 ? 's' : ''} (the front normal) or 'align', got ${show(direction)}`);
+    }
+    if (!a.some((v) => v !== 0)) fail('frontDirection', 'expected a nonzero normal, got all zeros');
+  }
+  const speed = raw.frontSpeed ?? 'align';
+  if (speed !== 'align' && !(typeof speed === 'number' && Number.isFinite(speed))) fail('frontSpeed', `expected a finite number or 'align', got ${show(speed)}`);
+  const position = raw.frontPosition ?? 'center';
+  if (position !== 'center' && !(typeof position === 'number' && Number.isFinite(position))) fail('frontPosition', `expected a finite number or 'center', got ${show(position)}`);
+  const grading = raw.frontGrading ?? DEFAULT_FRONT_GRADING;
+  if (typeof grading !== 'number' || !(grading > 1 && grading <= MAX_FRONT_GRADING)) {
+    fail('frontGrading', `expected a growth ratio of the cell size per cell, 1 < r ≤ ${MAX_FRONT_GRADING}, got ${show(grading)}`);
+  }
+  return {
+    aspectRatio: ar as number, frontDirection: direction as number[] | 'align', frontSpeed: speed as number | 'align',
+    frontPosition: position as number | 'center', frontGrading: grading as number,
+  };
+}
+
+/** The mesh map of resolved front fields; 'align' takes the constant transport velocity a. */
+function resolveFront(params: GeneratorParams, align: readonly number[] | null, name: FieldLabel): FrontMapOptions | null {
+  if (params.aspectRatio === undefined) return null;
+  const d = params.dim;
+  const needAlign = (field: string): number[] => {
+    if (!align) throw new UserError(`${name(field)}: 'align' needs a constant transport velocity (advection with constant velocity, or acoustics' mean flow); give it explicitly`);
+    return align.slice(0, d);
+  };
+  let n = params.frontDirection === 'align' || params.frontDirection === undefined ? needAlign('frontDirection') : params.frontDirection;
+  const norm = Math.hypot(...n);
+  if (!(norm > 0)) throw new UserError(`${name('frontDirection')}: 'align' needs a nonzero transport velocity`);
+  n = n.map((v) => v / norm);
+  let speed: number;
+  if (params.frontSpeed === 'align' || params.frontSpeed === undefined) {
+    const a = needAlign('frontSpeed');
+    speed = a.reduce((s, v, k) => s + v * n[k], 0);
+  } else speed = params.frontSpeed;
+  const position = params.frontPosition === 'center' || params.frontPosition === undefined
+    ? n.reduce((s, v, k) => s + (v * params.extent[k]) / 2, 0) : params.frontPosition;
+  return { direction: n, position, speed, grading: params.frontGrading ?? DEFAULT_FRONT_GRADING, aspectRatio: params.aspectRatio };
+}
+
+/** Mesh option fields named as generator parameters (front.grading → frontGrading, …). */
+function meshLabel(name: FieldLabel): (field: string) => string {
+  const front: Record<string, string> = {
+    'front.direction': 'frontDirection', 'front.position': 'frontPosition', 'front.speed': 'frontSpeed',
+    'front.grading': 'frontGrading', 'front.aspectRatio': 'aspectRatio',
+  };
+  return (field) => name(front[field] ?? (field === 'nSlabs' ? 'slabs' : field));
 }
 
 /** What a parameter set turns into before the mesh is built. */
@@ -196,6 +283,7 @@ export function resolveGenerator(params: GeneratorParams, label?: FieldLabel): R
   const meshOptions: SlabMeshOptions = {
     dim: d, cells: params.cells, extent: params.extent, nSlabs: params.slabs, layersPerSlab: params.layersPerSlab,
     slabThickness, periodic: params.periodic, shear, jitter: params.jitter, seed: params.seed,
+    front: resolveFront(params, physics.alignVelocity ?? null, name),
   };
   let nElements = params.slabs * params.layersPerSlab;
   for (let k = 0; k < d; k++) nElements *= params.cells[k];
@@ -207,7 +295,7 @@ export function resolveGenerator(params: GeneratorParams, label?: FieldLabel): R
   if (maxValues > MAX_GENERATED_VALUES || nElements * blockSize > MAX_INT32_INDEX) {
     throw new UserError(`${name('cells')}: ${nElements} elements with ${blockSize}×${blockSize} blocks would need about ${(maxValues * 8 / 2 ** 30).toFixed(1)} GiB of matrix values (limit ${(MAX_GENERATED_VALUES * 8 / 2 ** 30).toFixed(0)} GiB); reduce cells, slabs or order`);
   }
-  normalizeSlabMeshOptions(meshOptions, 'mesh');
+  normalizeSlabMeshOptions(meshOptions, meshLabel(name));
   def.check(params, ctx, finalTime);
   return { definition: def, physics, meshOptions, slabThickness, finalTime, nElements, nBasis, blockSize };
 }
@@ -215,7 +303,7 @@ export function resolveGenerator(params: GeneratorParams, label?: FieldLabel): R
 /** The discretization of a parameter set: mesh, physics, element order, tables and BSR pattern. */
 export function buildDiscretization(params: GeneratorParams): { resolved: ResolvedGenerator; disc: Discretization } {
   const resolved = resolveGenerator(params);
-  const mesh: SpaceTimeMesh = buildSlabMesh(resolved.meshOptions, 'mesh');
+  const mesh: SpaceTimeMesh = buildSlabMesh(resolved.meshOptions, meshLabel((f) => `generator parameter ${f}`));
   const ordering = orderElements(mesh, params.ordering, params.seed, (X, xo, out) => resolved.physics.transportVelocity(X, xo, out));
   const disc = prepareDiscretization(mesh, resolved.physics, params.order, ordering);
   return { resolved, disc };
@@ -243,11 +331,29 @@ export function generateWithDiscretization(
   params: GeneratorParams, onProgress?: ProgressSink,
 ): { system: GeneratedSystem; disc: Discretization } {
   const { resolved, disc } = buildDiscretization(params);
-  const { mesh, physics, tables, ordering } = disc;
+  const { state, scaledElements } = initialState(disc, params);
+  return { system: assembleCase(params, resolved, disc, state, scaledElements, onProgress), disc };
+}
+
+/**
+ * The state a nonlinear physics linearizes about: the L² projection of its `state` expression,
+ * scaled toward element means where it is not admissible (Euler); null for linear physics.
+ */
+export function initialState(disc: Discretization, params: GeneratorParams): { state: Float64Array | null; scaledElements: number } {
+  const { mesh, physics, ordering } = disc;
   let state: Float64Array | null = null;
   if (physics.state) state = projectFunction(mesh, params.order, physics.nEquations, ordering.inv, physics.state);
   // a projected discontinuous state can undershoot (negative pressure): scale those elements
   const scaledElements = state && physics.kind === 'nonlinear-system' ? scaleToAdmissible(disc, physics, state) : 0;
+  return { state, scaledElements };
+}
+
+/** Assemble the case at a state (null for linear physics): matrix, right-hand side −R(state) and layout. */
+export function assembleCase(
+  params: GeneratorParams, resolved: ResolvedGenerator, disc: Discretization, state: Float64Array | null,
+  scaledElements: number, onProgress?: ProgressSink,
+): GeneratedSystem {
+  const { mesh, physics, tables, ordering } = disc;
   const assembled = assembleDg(disc, state, { onProgress });
   const { residual } = assembled;
   for (let i = 0; i < residual.length; i++) residual[i] = -residual[i];
@@ -261,6 +367,7 @@ export function generateWithDiscretization(
   const layout: Layout = {
     blockSize: disc.bs,
     slabOffsets,
+    elementQuality: meshQuality(mesh),
     zeroBlocks: { count: zeroKept, share: bsr.colInd.length === 0 ? 0 : zeroKept / bsr.colInd.length },
     modes: { nEquations: physics.nEquations, arrangement: 'equation-major', degrees: Array.from(tables.basis.degrees) },
     provenance: {
@@ -284,10 +391,13 @@ export function generateWithDiscretization(
         ? `numerical: the ${zeroOnFacePattern} off-diagonal blocks of the face pattern whose entries are all exactly zero are dropped`
         : 'full face pattern: one block per element pair sharing a face, zero or not',
       droppedZeroBlocks: full.colInd.length - bsr.colInd.length,
+      ...(mesh.front ? { frontMap: { ...mesh.front } } : {}),
       ...(pseudoTime ? { pseudoTime: { cfl: params.pseudoCfl, minDtau: pseudoTime.minDtau, maxDtau: pseudoTime.maxDtau, term: 'M/dtau added to the diagonal blocks; rhs unchanged' } } : {}),
       physicsSummary: physics.kind === 'nonlinear-system' ? { ...physics.summary, stateScaledElements: scaledElements } : physics.summary,
       params: { ...params },
+      ...(mesh.nElements > MAX_RECORDED_CENTROIDS ? { centroids: `not recorded: more than ${MAX_RECORDED_CENTROIDS} elements` } : {}),
     },
+    ...(mesh.nElements <= MAX_RECORDED_CENTROIDS ? { centroids: { nCoordinates: mesh.dim + 1, values: elementCentroids(mesh, ordering.perm) } } : {}),
   };
   const out: GeneratedSystem = { bsr, rhs: residual, layout };
   const exact = physics.exact;
@@ -300,7 +410,7 @@ export function generateWithDiscretization(
       get: () => (cached ??= projectFunction(mesh, params.order, physics.nEquations, ordering.inv, exact)),
     });
   }
-  return { system: out, disc };
+  return out;
 }
 
 /** Stored blocks whose bs² entries are all exactly 0 (upwind faces whose coupling vanishes, …). */

@@ -13,7 +13,8 @@ export interface SuiteCase {
 /**
  * Read the generator cases of a suite file (schema slabbench-suite/1). Only the `matrices`
  * entries with a `generate` object are read here (file entries and recipes belong to the sweep);
- * every case is validated before any is built.
+ * entries that are sequences (`"sequence"` beside `generate`) are left to the sweep, which builds
+ * them into its cache (`generate --sequence` writes one as files). Every case is validated before any is built.
  */
 export function readSuiteCases(path: string): SuiteCase[] {
   const obj = readJsonFile(path, 'suite file');
@@ -23,7 +24,7 @@ export function readSuiteCases(path: string): SuiteCase[] {
   if (!Array.isArray(top.matrices)) throw new UserError(`${path}: matrices: expected an array`);
   const cases: SuiteCase[] = [];
   (top.matrices as unknown[]).forEach((m, i) => {
-    if (typeof m !== 'object' || m === null || !('generate' in m)) return;
+    if (typeof m !== 'object' || m === null || !('generate' in m) || 'sequence' in m) return;
     const entry = m as Record<string, unknown>;
     if (typeof entry.name !== 'string') throw new UserError(`${path}: matrices[${i}].name: expected a string`);
     const params = parseGeneratorParams(entry.generate, `${path}: matrices[${i}].generate`);

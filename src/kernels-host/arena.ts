@@ -24,6 +24,8 @@ export class KernelArena {
   spilledBytes = 0;
   /** Kernel calls handed to WebAssembly so far (the tests check that a path really dispatched). */
   dispatched = 0;
+  /** Kernel calls made while this arena was active that ran in TypeScript (an array outside it). */
+  missed = 0;
 
   constructor(bytes: number) {
     const pages = Math.ceil((bytes + BASE) / WASM_PAGE_BYTES);
@@ -93,6 +95,16 @@ export function kernelI32(n: number): Int32Array {
   return new Int32Array(n);
 }
 
+/**
+ * src itself when no arena is active or src lives in it already, else its copy in the active arena
+ * (for arrays built on the JavaScript heap that kernels will read).
+ */
+export function kernelResident<T extends Float64Array | Int32Array>(src: T): T {
+  const a = current;
+  if (a === null || src.buffer === a.buffer) return src;
+  return (src instanceof Float64Array ? kernelCopyF64(src) : kernelCopyI32(src as Int32Array)) as T;
+}
+
 /** A copy of src in the active arena (or the JavaScript heap). */
 export function kernelCopyF64(src: Float64Array): Float64Array { const v = kernelF64(src.length); v.set(src); return v; }
 export function kernelCopyI32(src: Int32Array): Int32Array { const v = kernelI32(src.length); v.set(src); return v; }
@@ -119,10 +131,10 @@ export function wasmFor(a: Arr, b?: Arr, c?: Arr, d?: Arr): KernelExports | null
   const A = current;
   if (A === null) return null;
   const buf = A.buffer;
-  if (a.buffer !== buf) return null;
-  if (b !== undefined && b.buffer !== buf) return null;
-  if (c !== undefined && c.buffer !== buf) return null;
-  if (d !== undefined && d.buffer !== buf) return null;
+  if (a.buffer !== buf || (b !== undefined && b.buffer !== buf) || (c !== undefined && c.buffer !== buf) || (d !== undefined && d.buffer !== buf)) {
+    A.missed++;
+    return null;
+  }
   A.dispatched++;
   return A.k;
 }
@@ -131,7 +143,7 @@ export function wasmFor(a: Arr, b?: Arr, c?: Arr, d?: Arr): KernelExports | null
 export function allInArena(arrays: ReadonlyArray<Arr | null | undefined>): boolean {
   const A = current;
   if (A === null) return false;
-  for (const a of arrays) if (a && a.buffer !== A.buffer) return false;
+  for (const a of arrays) if (a && a.buffer !== A.buffer) { A.missed++; return false; }
   A.dispatched++;
   return true;
 }

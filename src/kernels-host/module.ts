@@ -43,6 +43,10 @@ export interface KernelExports {
   iluPointSweeps(n: number, rowPtr: number, colInd: number, lu: number, diag: number, r: number, z: number): void;
   gatherBlocks(n: number, x: number, perm: number, bs: number, out: number): void;
   scatterBlocks(n: number, x: number, perm: number, bs: number, out: number): void;
+  airRelax(nPts: number, pts: number, bs: number, rowPtr: number, colInd: number, values: number, dinv: number,
+    b: number, x: number, t: number, zeroGuess: number): void;
+  airRestrict(nC: number, cPoints: number, bs: number, zRowPtr: number, zColInd: number, zValues: number, res: number, bc: number): void;
+  airProlong(nC: number, cPoints: number, nF: number, fPoints: number, wCol: number, wValues: number, bs: number, xc: number, x: number): void;
 }
 
 /** The part of the WebAssembly JS API used here (the project's lib setting has no DOM types). */

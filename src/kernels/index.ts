@@ -4,3 +4,4 @@ export * from './vector';
 export * from './sparse';
 export * from './dense';
 export * from './precond';
+export * from './air';

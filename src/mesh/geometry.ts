@@ -60,7 +60,7 @@ export function elementAffine(mesh: SpaceTimeMesh, e: number, out: ElementAffine
  * inv = m⁻¹ by Gauss–Jordan with partial pivoting; sets target.det/absDet. A singular matrix gives
  * det 0 and a NaN-filled inverse (a degenerate element is a bug upstream, not a user error).
  */
-function invertSmall(m: Float64Array, inv: Float64Array, work: Float64Array, n: number, target: { det: number; absDet: number }): void {
+export function invertSmall(m: Float64Array, inv: Float64Array, work: Float64Array, n: number, target: { det: number; absDet: number }): void {
   const w = 2 * n; // augmented [m | I] in work, n rows of width 2n
   for (let r = 0; r < n; r++) {
     for (let c = 0; c < n; c++) { work[r * w + c] = m[r * n + c]; work[r * w + n + c] = r === c ? 1 : 0; }

@@ -14,10 +14,20 @@
  * up to jitter·h_k along axis k: time coordinates never move (slab interfaces stay flat t = const),
  * vertices on a non-periodic side keep their normal coordinate (they slide along the side or stay),
  * and the two copies of a periodic vertex move identically.
+ *
+ * Optional front map (front-map.ts): concentrates the points of one space axis at a moving planar
+ * front and lets them travel with it, for thin elements aligned with its space-time trajectory.
+ * Order of the moves: lattice → jitter (in cell units, so it scales with the graded cells) → front
+ * map → shear. Time coordinates never move. Whenever jitter or the front map moved vertices, every
+ * element's orientation is checked and an inverted one is refused (quality.ts).
  */
 import { UserError } from '../util/errors.js';
-import { kuhnPermutations, kuhnVertexOffsets, permutationSign } from './kuhn.js';
+import { kuhnPermutations, kuhnVertexOffsets } from './kuhn.js';
 import { buildFaces } from './faces.js';
+import { prepareFrontMap, type FrontMap, type FrontMapOptions, type FrontMapSummary } from './front-map.js';
+import { checkElementOrientation } from './quality.js';
+
+export { determinant } from './quality.js';
 
 export interface SlabMeshOptions {
   dim: 1 | 2 | 3;
@@ -37,6 +47,8 @@ export interface SlabMeshOptions {
   jitter?: number;
   /** Seed of the jitter (integer 0 … 2^32 − 1); default 1. */
   seed?: number;
+  /** Front-aligned grading (front-map.ts); default none. */
+  front?: FrontMapOptions | null;
 }
 
 export { FaceKind, type FaceKindValue } from './face-kind.js';
@@ -71,20 +83,30 @@ export interface SpaceTimeMesh {
   readonly options: Readonly<Required<SlabMeshOptions>>;
   /** Final time T = nSlabs·slabThickness. */
   readonly finalTime: number;
+  /** What the front map resolved to; null without one. */
+  readonly front: FrontMapSummary | null;
 }
 
 /** Largest mesh built (elements); checked before allocating. */
 export const MAX_MESH_ELEMENTS = 20_000_000;
 
 /**
- * Validates the options and returns them with defaults. `where` prefixes error messages
- * (e.g. "suite.json: matrices[2].generate"); default "mesh option".
+ * Where error messages point: a prefix (e.g. "suite.json: matrices[2].generate"; default
+ * "mesh option"), or a function naming each field ('cells', 'jitter', 'front.aspectRatio', …).
  */
-export function normalizeSlabMeshOptions(opts: SlabMeshOptions, where?: string): Required<SlabMeshOptions> {
-  const name = (field: string): string => (where === undefined ? `mesh option ${field}` : `${where}.${field}`);
+export type MeshLabel = string | ((field: string) => string);
+
+function meshFieldName(where: MeshLabel | undefined): (field: string) => string {
+  if (typeof where === 'function') return where;
+  return (field) => (where === undefined ? `mesh option ${field}` : `${where}.${field}`);
+}
+
+/** Validates the options and returns them with defaults; errors are labelled by `where`. */
+export function normalizeSlabMeshOptions(opts: SlabMeshOptions, where?: MeshLabel): Required<SlabMeshOptions> {
+  const name = meshFieldName(where);
   const fail = (field: string, what: string): never => { throw new UserError(`${name(field)}: ${what}`); };
   const show = (x: unknown): string => (typeof x === 'number' ? String(x) : JSON.stringify(x) ?? String(x));
-  if (typeof opts !== 'object' || opts === null) throw new UserError(`${where ?? 'mesh options'}: expected an object`);
+  if (typeof opts !== 'object' || opts === null) throw new UserError(`${typeof where === 'string' ? where : 'mesh options'}: expected an object`);
   const dim = opts.dim;
   if (dim !== 1 && dim !== 2 && dim !== 3) fail('dim', `expected 1, 2 or 3, got ${String(dim)}`);
   const arrayOf = (field: string, v: unknown, check: (x: unknown) => boolean, what: string): void => {
@@ -119,14 +141,25 @@ export function normalizeSlabMeshOptions(opts: SlabMeshOptions, where?: string):
   if (nElements > MAX_MESH_ELEMENTS) {
     fail('cells', `mesh would have ${nElements} elements (limit ${MAX_MESH_ELEMENTS}); reduce cells, nSlabs or layersPerSlab`);
   }
-  return {
+  const out: Required<SlabMeshOptions> = {
     dim, cells: [...opts.cells], extent: [...extent], nSlabs: opts.nSlabs, layersPerSlab: opts.layersPerSlab,
     slabThickness: opts.slabThickness, periodic: [...opts.periodic], shear: [...shear], jitter, seed,
+    front: opts.front ?? null,
   };
+  if (out.front !== null) frontMapOf(out, where);
+  return out;
+}
+
+/** The prepared front map of normalized options (validated: throws UserError naming the front field). */
+function frontMapOf(o: Required<SlabMeshOptions>, where?: MeshLabel): FrontMap {
+  const label = meshFieldName(where);
+  const name = (field: string): string => label(`front.${field}`);
+  const m = { dim: o.dim, cells: o.cells, extent: o.extent, periodic: o.periodic, shear: o.shear, layerThickness: o.slabThickness / o.layersPerSlab };
+  return prepareFrontMap(o.front as FrontMapOptions, m, name, o.nSlabs * o.slabThickness);
 }
 
 /** Builds the slab mesh; throws UserError naming the bad option (see normalizeSlabMeshOptions). */
-export function buildSlabMesh(opts: SlabMeshOptions, where?: string): SpaceTimeMesh {
+export function buildSlabMesh(opts: SlabMeshOptions, where?: MeshLabel): SpaceTimeMesh {
   const o = normalizeSlabMeshOptions(opts, where);
   const d = o.dim;
   const D = d + 1;
@@ -138,7 +171,8 @@ export function buildSlabMesh(opts: SlabMeshOptions, where?: string): SpaceTimeM
   const stride = new Int32Array(D);
   let nVertices = 1;
   for (let k = 0; k < D; k++) { stride[k] = nVertices; nVertices *= nPts[k]; }
-  const coords = buildCoordinates(o, nPts, stride, nVertices);
+  const front = o.front === null ? null : frontMapOf(o, where);
+  const coords = buildCoordinates(o, nPts, stride, nVertices, front);
 
   // Elements: slab, layer, space box (axis 0 fastest), Kuhn permutation.
   const perms = kuhnPermutations(D);
@@ -176,22 +210,31 @@ export function buildSlabMesh(opts: SlabMeshOptions, where?: string): SpaceTimeM
   const slabOffsets = new Int32Array(o.nSlabs + 1);
   for (let s = 0; s <= o.nSlabs; s++) slabOffsets[s] = s * perSlab;
 
-  if (o.jitter > 0) checkOrientation(coords, elements, nElements, D, perms, where);
+  if (o.jitter > 0 || front !== null) {
+    const moved = [o.jitter > 0 ? 'jitter' : '', front !== null ? 'front' : ''].filter((x) => x !== '');
+    const label = meshFieldName(where);
+    const cause = moved.map((f) => label(f === 'front' ? 'front.aspectRatio' : f)).join(' with ');
+    const hint = front === null ? 'use a smaller jitter (0.2 or less is safe)' : 'lower the jitter, the aspect ratio or the grading';
+    checkElementOrientation(coords, elements, nElements, D, slabOffsets, cause, hint);
+  }
 
   const faces = buildFaces({ D, nVertices, elements, nElements, nPts, stride, periodic: o.periodic, extent: o.extent, slabOffsets });
   return {
     dim: d, nVertices, coords, nElements, elements, nSlabs: o.nSlabs, slabOffsets,
-    ...faces, options: o, finalTime: o.nSlabs * o.slabThickness,
+    ...faces, options: o, finalTime: o.nSlabs * o.slabThickness, front: front?.summary ?? null,
   };
 }
 
-/** Lattice coordinates with shear and jitter; time levels exactly s·thickness at slab interfaces. */
-function buildCoordinates(o: Required<SlabMeshOptions>, nPts: Int32Array, stride: Int32Array, nVertices: number): Float64Array {
+/** Lattice coordinates with jitter, front map and shear; time levels exactly s·thickness at slab interfaces. */
+function buildCoordinates(o: Required<SlabMeshOptions>, nPts: Int32Array, stride: Int32Array, nVertices: number, front: FrontMap | null): Float64Array {
   const d = o.dim;
   const D = d + 1;
   const coords = new Float64Array(nVertices * D);
   const h = o.extent.map((L, k) => L / o.cells[k]);
   const idx = new Int32Array(D);
+  const jitter = new Float64Array(d);
+  const pre = new Float64Array(d); // jittered lattice coordinates, before the front map and the shear
+  const fk = front === null ? -1 : front.summary.axis;
   for (let v = 0; v < nVertices; v++) {
     let r = v;
     for (let k = 0; k < D; k++) { idx[k] = r % nPts[k]; r = (r - idx[k]) / nPts[k]; }
@@ -200,8 +243,7 @@ function buildCoordinates(o: Required<SlabMeshOptions>, nPts: Int32Array, stride
     const t = slab * o.slabThickness + (inSlab * o.slabThickness) / o.layersPerSlab;
     coords[v * D + d] = t;
     for (let k = 0; k < d; k++) {
-      // the last lattice point uses L_k itself so that periodic images differ by exactly L_k
-      let x = idx[k] === o.cells[k] ? o.extent[k] : idx[k] * h[k];
+      jitter[k] = 0;
       if (o.jitter > 0) {
         const onSide = idx[k] === 0 || idx[k] === o.cells[k];
         if (!(onSide && !o.periodic[k])) {
@@ -211,8 +253,19 @@ function buildCoordinates(o: Required<SlabMeshOptions>, nPts: Int32Array, stride
             const ia = o.periodic[a] && idx[a] === o.cells[a] ? 0 : idx[a];
             key = key * nPts[a] + ia;
           }
-          x += o.jitter * h[k] * (2 * hashUniform(o.seed, key, k) - 1);
+          jitter[k] = o.jitter * h[k] * (2 * hashUniform(o.seed, key, k) - 1);
         }
+      }
+      // the last lattice point uses L_k itself so that periodic images differ by exactly L_k
+      pre[k] = (idx[k] === o.cells[k] ? o.extent[k] : idx[k] * h[k]) + jitter[k];
+    }
+    for (let k = 0; k < d; k++) {
+      let x = pre[k];
+      if (k === fk && front !== null) {
+        const N = o.cells[k];
+        const j = jitter[k] / h[k]; // in cell units: the jitter scales with the graded cells
+        if (o.periodic[k] && idx[k] === N) x = front.position(j, pre, t, false) + o.extent[k]; // the low copy, moved by L
+        else x = front.position(idx[k] + j, pre, t, !o.periodic[k] && (idx[k] === 0 || idx[k] === N));
       }
       coords[v * D + k] = x + o.shear[k] * t;
     }
@@ -233,46 +286,4 @@ function hashUniform(seed: number, key: number, axis: number): number {
   mix(Math.floor(key / 4294967296) >>> 0);
   mix(axis + 1);
   return (hsh >>> 0) / 4294967296;
-}
-
-/** Jitter must not invert an element: its signed volume keeps the sign of its Kuhn permutation. */
-function checkOrientation(coords: Float64Array, elements: Int32Array, nElements: number, D: number, perms: Int32Array, where?: string): void {
-  const nv = D + 1;
-  const nKuhn = perms.length / D;
-  const signs = new Int8Array(nKuhn);
-  for (let s = 0; s < nKuhn; s++) signs[s] = permutationSign(perms, s * D, D);
-  const m = new Float64Array(D * D);
-  for (let e = 0; e < nElements; e++) {
-    const v0 = elements[e * nv];
-    for (let j = 0; j < D; j++) {
-      const vj = elements[e * nv + j + 1];
-      for (let i = 0; i < D; i++) m[i * D + j] = coords[vj * D + i] - coords[v0 * D + i];
-    }
-    const det = determinant(m, D);
-    if (!(det * signs[e % nKuhn] > 0)) {
-      const name = where === undefined ? 'mesh option jitter' : `${where}.jitter`;
-      throw new UserError(`${name}: the jittered mesh has an inverted or flat element (${e}); use a smaller jitter (0.2 or less is safe)`);
-    }
-  }
-}
-
-/** Determinant of a small row-major matrix by Gaussian elimination with partial pivoting; m is overwritten. */
-export function determinant(m: Float64Array, n: number): number {
-  let det = 1;
-  for (let c = 0; c < n; c++) {
-    let p = c;
-    for (let r = c + 1; r < n; r++) if (Math.abs(m[r * n + c]) > Math.abs(m[p * n + c])) p = r;
-    if (m[p * n + c] === 0) return 0;
-    if (p !== c) {
-      for (let k = 0; k < n; k++) { const t = m[c * n + k]; m[c * n + k] = m[p * n + k]; m[p * n + k] = t; }
-      det = -det;
-    }
-    const piv = m[c * n + c];
-    det *= piv;
-    for (let r = c + 1; r < n; r++) {
-      const f = m[r * n + c] / piv;
-      if (f !== 0) for (let k = c; k < n; k++) m[r * n + k] -= f * m[c * n + k];
-    }
-  }
-  return det;
 }

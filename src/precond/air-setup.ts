@@ -15,6 +15,7 @@ import { bsrMultiply } from '../sparse/bsr-product.js';
 import type { WorkCounts } from '../solvers/types.js';
 import { addWork, denseWork, zeroWork } from '../solvers/work.js';
 import { blockFrobenius, blockGemm, luFactor, luSolve, PIVOT_RTOL, blockMaxAbs, allFinite } from './dense.js';
+import { kernelF64, kernelI32 } from '../kernels-host/arena.js';
 
 /** Strong connections of each block row (diagonal excluded), CSR-like on the block graph. */
 export interface StrengthGraph {
@@ -196,10 +197,11 @@ export function airRestriction(
   const seen = new Int32Array(nb).fill(-1);  // BFS marker (C point index)
   let frontier: number[] = [], nextFrontier: number[] = [];
   const hood: number[] = [];
-  let mat = new Float64Array(0), rhs = new Float64Array(0), piv = new Int32Array(0);
+  let mat: Float64Array = new Float64Array(0), rhs: Float64Array = new Float64Array(0), piv: Int32Array = new Int32Array(0);
   let fallbacks = 0, largest = 0;
   const work = zeroWork();
-  const tmp = new Float64Array(bb), tmpPiv = new Int32Array(bs), inv = new Float64Array(bb);
+  // dense operands in kernel memory when the solve has one (the dense kernels then run in WebAssembly)
+  const tmp = kernelF64(bb), tmpPiv = kernelI32(bs), inv = kernelF64(bb), col = kernelF64(bs);
   for (let c = 0; c < nc; c++) {
     const i = cPoints[c];
     // neighbourhood: BFS over strong connections through F points
@@ -234,8 +236,8 @@ export function airRestriction(
     for (let t = 0; t < h; t++) { zCol[zPtr[c] + t] = hood[t]; local[hood[t]] = t; }
     const m = h * bs;
     if (m > largest) largest = m;
-    if (mat.length < m * m) { mat = new Float64Array(m * m); piv = new Int32Array(m); }
-    if (rhs.length < m * bs) rhs = new Float64Array(m * bs);
+    if (mat.length < m * m) { mat = kernelF64(2 * m * m); piv = kernelI32(2 * m); }
+    if (rhs.length < m * bs) rhs = kernelF64(2 * m * bs);
     // M = A_FF[N,N]ᵀ: M[(j,q),(k,p)] = (A_kj)[p][q]
     mat.fill(0, 0, m * m);
     for (let t = 0; t < h; t++) {
@@ -280,7 +282,7 @@ export function airRestriction(
         if (dk < 0) continue;
         tmp.set(values.subarray(dk * bb, dk * bb + bb));
         if (luFactor(tmp, 0, bs, tmpPiv, 0, PIVOT_RTOL * blockMaxAbs(tmp, 0, bs)) >= 0) continue;
-        invertInto(tmp, tmpPiv, bs, inv);
+        invertInto(tmp, tmpPiv, bs, inv, col);
         // Z_ik = −A_ik · inv
         const o = p * bb, d = zo + u * bb;
         for (let r = 0; r < bs; r++) {
@@ -301,8 +303,7 @@ export function airRestriction(
   };
 }
 
-function invertInto(lu: Float64Array, piv: Int32Array, bs: number, out: Float64Array): void {
-  const col = new Float64Array(bs);
+function invertInto(lu: Float64Array, piv: Int32Array, bs: number, out: Float64Array, col: Float64Array): void {
   for (let j = 0; j < bs; j++) {
     col.fill(0); col[j] = 1;
     luSolve(lu, 0, piv, 0, bs, col, 0);
@@ -327,8 +328,8 @@ export function onePointProlongation(
 ): OnePoint {
   const { nBlockRows: nb, bs, rowPtr, colInd, values } = a;
   const bb = bs * bs;
-  const col = new Int32Array(nb).fill(-1);
-  const w = new Float64Array(nb * bb);
+  const col = kernelI32(nb).fill(-1);
+  const w = kernelF64(nb * bb);
   for (let f = 0; f < nb; f++) {
     if (type[f] !== F_POINT) continue;
     let best = -1, bestNorm = -1;

@@ -28,6 +28,7 @@ import type { Bsr } from '../sparse/types.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { addWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { bsrBytes, bsrSpmvKernel } from '../sparse/bsr.js';
+import { kernelF64, kernelI32, kernelResident, ptr, wasmFor } from '../kernels-host/arena.js';
 import { diagonalBlockIndex } from '../sparse/blocks.js';
 import { checkApplyArgs, checkReady, factorBlock, nonFinite, zeroPivot } from './common.js';
 import { PIVOT_RTOL, allFinite, blockGemm, blockMatVec, blockMatVecSub, blockMaxAbs, luFactor, luInverse, luSolve } from './dense.js';
@@ -115,11 +116,11 @@ export class AirPreconditioner implements Preconditioner {
       const t0 = performance.now();
       const scaled = scaleByBlockDiagonal(this.name, a);
       if ('fail' in scaled) return scaled.fail;
-      this.scaleInv = scaled.dinv;
+      this.scaleInv = kernelResident(scaled.dinv);
       const nbs = a.nBlockRows;
       addWork(this.setupWork, addWork(denseWork.factorBlock(bs, 0), denseWork.inverse(bs)), nbs);
       addWork(this.setupWork, denseWork.gemm(bs), a.rowPtr[nbs]);
-      this.scaled = new Float64Array(this.n);
+      this.scaled = kernelF64(this.n);
       a = scaled.matrix;
       this.scalingSeconds = (performance.now() - t0) / 1000;
     }
@@ -128,6 +129,7 @@ export class AirPreconditioner implements Preconditioner {
     const needC = this.post.includes(C_POINT) || this.pre.includes(C_POINT);
     for (let l = 0; ; l++) {
       const t0 = performance.now();
+      a = bsrInKernelMemory(a); // the level's operator in kernel memory before setup reads it
       const nb = a.nBlockRows;
       const atCoarsest = l + 1 >= o.maxLevels || nb * bs <= o.coarsest;
       const diag = diagonalBlockIndex(a);
@@ -162,8 +164,8 @@ export class AirPreconditioner implements Preconditioner {
       // strength: one Frobenius norm per stored block
       const lw = scaledWork(kernel(2 * bb, bb * 8), a.rowPtr[nb]);
       // diagonal inverses for the relaxed points
-      const piv = new Int32Array(bs);
-      const work = new Float64Array(bb);
+      const piv = kernelI32(bs);
+      const work = kernelF64(bb);
       for (let i = 0; i < nb; i++) {
         if (type![i] === C_POINT && !needC) continue;
         const d = diag[i];
@@ -184,6 +186,9 @@ export class AirPreconditioner implements Preconditioner {
       }
       const r = restrictionMatrix(level.z, cPoints, nb, bs);
       const { ac, blockProducts } = galerkin(r, a, coarseOf, cPoints.length, p);
+      const z = level.z;
+      level.z = { ...z, rowPtr: kernelResident(z.rowPtr), colInd: kernelResident(z.colInd), values: kernelResident(z.values) };
+      if (level.w) level.w = { col: kernelResident(level.w.col), values: kernelResident(level.w.values) };
       // each block product of the Galerkin products is a C += A·B (the cost of a C −= A·B)
       addWork(lw, denseWork.gemmSub(bs), blockProducts);
       addWork(this.setupWork, lw);
@@ -207,11 +212,13 @@ export class AirPreconditioner implements Preconditioner {
     const n = nb * bs;
     const first = this.levels.length === 0;
     return {
-      a, nb, coarseOf, cPoints, fPoints, z: null, w: null,
-      dinv: new Float64Array(cPoints.length > 0 ? nb * bs * bs : 0),
-      b: first ? new Float64Array(0) : new Float64Array(n),
-      x: first ? new Float64Array(0) : new Float64Array(n),
-      r: new Float64Array(n),
+      // point lists, inverses and vectors in kernel memory when the solve has one (the cycle's
+      // kernels then run in WebAssembly); the operator is there already (setup)
+      a, nb, coarseOf, cPoints: kernelResident(cPoints), fPoints: kernelResident(fPoints), z: null, w: null,
+      dinv: kernelF64(cPoints.length > 0 ? nb * bs * bs : 0),
+      b: kernelF64(first ? 0 : n),
+      x: kernelF64(first ? 0 : n),
+      r: kernelF64(n),
       setupSeconds: 0, setupFlops: 0, fBlocks: 0, cBlocks: 0,
     };
   }
@@ -221,14 +228,14 @@ export class AirPreconditioner implements Preconditioner {
     const bs = a.bs, bb = bs * bs;
     const n = nb * bs;
     if (n <= DENSE_LIMIT && !blockDiagonal) {
-      const lu = new Float64Array(n * n);
+      const lu = kernelF64(n * n);
       for (let i = 0; i < nb; i++) {
         for (let p = a.rowPtr[i]; p < a.rowPtr[i + 1]; p++) {
           const j = a.colInd[p];
           for (let r = 0; r < bs; r++) for (let c = 0; c < bs; c++) lu[(i * bs + r) * n + j * bs + c] = a.values[p * bb + r * bs + c];
         }
       }
-      const piv = new Int32Array(n);
+      const piv = kernelI32(n);
       const norm = blockMaxAbs(lu, 0, n);
       const k = luFactor(lu, 0, n, piv, 0, PIVOT_RTOL * norm);
       const lw = addWork(denseWork.lu(n), kernel(0, a.rowPtr[nb] * bb * 8 + n * n * 8));
@@ -246,9 +253,9 @@ export class AirPreconditioner implements Preconditioner {
     }
     // block diagonal (no C point: no off-diagonal block at all): one exact block Jacobi step;
     // too large for a dense LU: COARSEST_SWEEPS block Jacobi sweeps
-    level.dinv = new Float64Array(nb * bb);
-    const piv = new Int32Array(bs);
-    const work = new Float64Array(bb);
+    level.dinv = kernelF64(nb * bb);
+    const piv = kernelI32(bs);
+    const work = kernelF64(bb);
     for (let i = 0; i < nb; i++) {
       const d = diag[i];
       if (d >= 0) work.set(a.values.subarray(d * bb, d * bb + bb)); else work.fill(0);
@@ -301,62 +308,18 @@ export class AirPreconditioner implements Preconditioner {
     // b_c = R r = r_C + Z r_F
     const next = this.levels[l + 1];
     const bc = next.b, xc = next.x;
-    const { cPoints } = L;
-    const zr = L.z!;
-    for (let c = 0; c < cPoints.length; c++) {
-      const i = cPoints[c];
-      for (let q = 0; q < bs; q++) bc[c * bs + q] = res[i * bs + q];
-      for (let p = zr.rowPtr[c]; p < zr.rowPtr[c + 1]; p++) {
-        // bc_c += Z_ck r_k  (blockMatVecSub with −Z would need a copy; accumulate directly)
-        const k = zr.colInd[p], zo = p * bb;
-        for (let u = 0; u < bs; u++) {
-          let sum = 0;
-          for (let v = 0; v < bs; v++) sum += zr.values[zo + u * bs + v] * res[k * bs + v];
-          bc[c * bs + u] += sum;
-        }
-      }
-    }
+    airRestrict(L.cPoints, bs, L.z!, res, bc);
     xc.fill(0);
     const visits = this.options.cycle === 'W' ? 2 : 1;
     for (let t = 0; t < visits; t++) this.cycle(l + 1, bc, xc, t === 0);
     // x += P x_c
-    for (let c = 0; c < cPoints.length; c++) {
-      const i = cPoints[c];
-      for (let q = 0; q < bs; q++) x[i * bs + q] += xc[c * bs + q];
-    }
-    if (L.w) {
-      const { col, values } = L.w;
-      for (const f of L.fPoints) {
-        const c = col[f];
-        if (c < 0) continue;
-        const fo = f * bb;
-        for (let u = 0; u < bs; u++) {
-          let sum = 0;
-          for (let v = 0; v < bs; v++) sum += values[fo + u * bs + v] * xc[c * bs + v];
-          x[f * bs + u] += sum;
-        }
-      }
-    }
+    airProlong(L.cPoints, L.fPoints, L.w, bs, xc, x);
     for (let s = 0; s < this.options.sweeps; s++) for (const step of this.post) this.relax(L, b, x, step, false);
   }
 
   /** One block Jacobi sweep on the F points (step F) or C points (step C): x_i += D_ii⁻¹ (b − A x)_i, all residuals from the old x. */
   private relax(L: Level, b: Float64Array, x: Float64Array, step: Step, zeroGuess: boolean): void {
-    const { a } = L;
-    const bs = a.bs, bb = bs * bs;
-    const pts = step === F_POINT ? L.fPoints : L.cPoints;
-    const t = L.r;
-    const { rowPtr, colInd, values } = a;
-    for (const i of pts) {
-      const io = i * bs;
-      for (let q = 0; q < bs; q++) t[io + q] = b[io + q];
-      if (zeroGuess) continue;
-      for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) blockMatVecSub(values, p * bb, bs, x, colInd[p] * bs, t, io);
-    }
-    for (const i of pts) {
-      const io = i * bs;
-      addScaledBlock(L.dinv, i * bb, bs, t, io, x, io);
-    }
+    airRelax(step === F_POINT ? L.fPoints : L.cPoints, L.a, L.dinv, b, x, L.r, zeroGuess);
   }
 
   private coarsestSolve(L: Level, b: Float64Array, x: Float64Array, zeroGuess: boolean): void {
@@ -522,6 +485,72 @@ export class AirPreconditioner implements Preconditioner {
 }
 
 /** x[xo..] += A t[to..] for a bs×bs row-major block. */
+/** Copy of a in kernel memory (a itself when it is there already or there is none). */
+function bsrInKernelMemory(a: Bsr): Bsr {
+  const values = kernelResident(a.values);
+  return values === a.values ? a : { ...a, rowPtr: kernelResident(a.rowPtr), colInd: kernelResident(a.colInd), values };
+}
+
+/**
+ * One block Jacobi sweep on the points pts: t_i = b_i − Σ_j A_ij x_j for every i (all from the old
+ * x), then x_i += D_ii⁻¹ t_i. From a zero guess the products are skipped. Twin: airRelax in
+ * src/kernels/air.ts.
+ */
+export function airRelax(pts: Int32Array, a: Bsr, dinv: Float64Array, b: Float64Array, x: Float64Array, t: Float64Array, zeroGuess: boolean): void {
+  const bs = a.bs, bb = bs * bs;
+  const { rowPtr, colInd, values } = a;
+  const k = wasmFor(pts, rowPtr, colInd, values);
+  if (k !== null && wasmFor(dinv, b, x, t) !== null) {
+    k.airRelax(pts.length, ptr(pts), bs, ptr(rowPtr), ptr(colInd), ptr(values), ptr(dinv), ptr(b), ptr(x), ptr(t), zeroGuess ? 1 : 0);
+    return;
+  }
+  for (const i of pts) {
+    const io = i * bs;
+    for (let q = 0; q < bs; q++) t[io + q] = b[io + q];
+    if (zeroGuess) continue;
+    for (let p = rowPtr[i]; p < rowPtr[i + 1]; p++) blockMatVecSub(values, p * bb, bs, x, colInd[p] * bs, t, io);
+  }
+  for (const i of pts) {
+    const io = i * bs;
+    addScaledBlock(dinv, i * bb, bs, t, io, x, io);
+  }
+}
+
+/** b_c = r_C + Z r_F (the restriction R = [Z I] applied to the residual). Twin: airRestrict in src/kernels/air.ts. */
+export function airRestrict(cPoints: Int32Array, bs: number, zr: { rowPtr: Int32Array; colInd: Int32Array; values: Float64Array }, res: Float64Array, bc: Float64Array): void {
+  const bb = bs * bs;
+  const k = wasmFor(cPoints, zr.rowPtr, zr.colInd, zr.values);
+  if (k !== null && wasmFor(res, bc) !== null) {
+    k.airRestrict(cPoints.length, ptr(cPoints), bs, ptr(zr.rowPtr), ptr(zr.colInd), ptr(zr.values), ptr(res), ptr(bc));
+    return;
+  }
+  for (let c = 0; c < cPoints.length; c++) {
+    const i = cPoints[c];
+    for (let q = 0; q < bs; q++) bc[c * bs + q] = res[i * bs + q];
+    for (let p = zr.rowPtr[c]; p < zr.rowPtr[c + 1]; p++) addScaledBlock(zr.values, p * bb, bs, res, zr.colInd[p] * bs, bc, c * bs);
+  }
+}
+
+/** x += P x_c: injection at the C points, then the one-point rule W at the F points (w null: injection only). Twin: airProlong in src/kernels/air.ts. */
+export function airProlong(cPoints: Int32Array, fPoints: Int32Array, w: OnePoint | null, bs: number, xc: Float64Array, x: Float64Array): void {
+  const bb = bs * bs;
+  const k = wasmFor(cPoints, fPoints, xc, x);
+  if (k !== null && (w === null || wasmFor(w.col, w.values) !== null)) {
+    k.airProlong(cPoints.length, ptr(cPoints), fPoints.length, ptr(fPoints), w ? ptr(w.col) : 0, w ? ptr(w.values) : 0, bs, ptr(xc), ptr(x));
+    return;
+  }
+  for (let c = 0; c < cPoints.length; c++) {
+    const i = cPoints[c];
+    for (let q = 0; q < bs; q++) x[i * bs + q] += xc[c * bs + q];
+  }
+  if (w === null) return;
+  for (const f of fPoints) {
+    const c = w.col[f];
+    if (c < 0) continue;
+    addScaledBlock(w.values, f * bb, bs, xc, c * bs, x, f * bs);
+  }
+}
+
 function addScaledBlock(a: Float64Array, ao: number, bs: number, t: Float64Array, to: number, x: Float64Array, xo: number): void {
   for (let u = 0; u < bs; u++) {
     let sum = 0;
@@ -551,10 +580,10 @@ function scaleByBlockDiagonal(name: string, a: Bsr): { matrix: Bsr; dinv: Float6
   const { nBlockRows: nb, bs, rowPtr, colInd, values } = a;
   const bb = bs * bs;
   const diag = diagonalBlockIndex(a);
-  const dinv = new Float64Array(nb * bb);
-  const work = new Float64Array(bb);
-  const piv = new Int32Array(bs);
-  const out = new Float64Array(values.length);
+  const dinv = kernelF64(nb * bb);
+  const work = kernelF64(bb);
+  const piv = kernelI32(bs);
+  const out = kernelF64(values.length);
   for (let i = 0; i < nb; i++) {
     if (diag[i] >= 0) work.set(values.subarray(diag[i] * bb, diag[i] * bb + bb)); else work.fill(0);
     const fail = factorBlock(name, i, work, 0, bs, piv, 0, 0);

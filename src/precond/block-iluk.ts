@@ -14,6 +14,7 @@ import type { Preconditioner, SetupOutcome, SystemMatrix } from './types.js';
 import type { OrderingName, Recipe } from '../solvers/recipe.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { addWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
+import { kernelCopyI32, kernelF64 } from '../kernels-host/arena.js';
 import type { Bsr } from '../sparse/types.js';
 import { permuteBsr } from '../sparse/permute.js';
 import { fillPattern } from '../sparse/fill-levels.js';
@@ -67,7 +68,7 @@ export class BlockIlukPreconditioner implements Preconditioner {
       };
     }
     // A's blocks scattered into the level-k pattern (both sorted by column in each row)
-    const values = new Float64Array(pat.rowPtr[ap.nBlockRows]! * bb);
+    const values = kernelF64(pat.rowPtr[ap.nBlockRows]! * bb);
     for (let I = 0; I < ap.nBlockRows; I++) {
       let q = pat.rowPtr[I]!;
       for (let p = ap.rowPtr[I]!; p < ap.rowPtr[I + 1]!; p++) {
@@ -79,7 +80,8 @@ export class BlockIlukPreconditioner implements Preconditioner {
     // of A (read + write), and zero-filling then scattering into the extended pattern
     const nA = a.rowPtr[a.nBlockRows]!;
     this.copyWork = kernel(0, (perm ? 2 * nA * bb * 8 : 0) + values.length * 8 + 2 * nA * bb * 8);
-    const extended: Bsr = { nBlockRows: ap.nBlockRows, nBlockCols: ap.nBlockCols, bs, rowPtr: pat.rowPtr, colInd: pat.colInd, values };
+    // the pattern in kernel memory too, so the factorization and sweeps run on the WebAssembly kernels
+    const extended: Bsr = { nBlockRows: ap.nBlockRows, nBlockCols: ap.nBlockCols, bs, rowPtr: kernelCopyI32(pat.rowPtr), colInd: kernelCopyI32(pat.colInd), values };
     // block-ilu0 reads only the block view
     const inner = new BlockIlu0Preconditioner({ bsr: extended } as SystemMatrix, 'natural', this.shift);
     const out = inner.setup();
@@ -91,8 +93,8 @@ export class BlockIlukPreconditioner implements Preconditioner {
       const blockRow = out.blockRow !== undefined && perm ? perm[out.blockRow]! : out.blockRow;
       return { ...out, blockRow, message: out.message.replace(/^block-ilu0/, 'block-iluk').replace(/block row (\d+)/, () => `block row ${blockRow}`) };
     }
-    this.rp = new Float64Array(perm ? this.n : 0);
-    this.zp = new Float64Array(perm ? this.n : 0);
+    this.rp = kernelF64(perm ? this.n : 0);
+    this.zp = kernelF64(perm ? this.n : 0);
     this.ready = true;
     return { ok: true };
   }

@@ -22,6 +22,7 @@ import type { Recipe } from '../solvers/recipe.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import type { Bsr } from '../sparse/types.js';
 import { addWork, blockSweepWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
+import { kernelF64, kernelI32 } from '../kernels-host/arena.js';
 import { blockGraph } from '../sparse/partition.js';
 import { checkApplyArgs, checkReady, factorBlock } from './common.js';
 import { blockGemm, blockGemmSub, blockMatVec, blockMatVecSub, luInverse } from './dense.js';
@@ -142,11 +143,11 @@ export class DirectPreconditioner implements Preconditioner {
   readonly variable = false;
   readonly n: number;
   private sym?: SymbolicLu;
-  private lower = new Float64Array(0);
-  private upper = new Float64Array(0);
-  private dinv = new Float64Array(0);
-  private t = new Float64Array(0);
-  private y = new Float64Array(0);
+  private lower: Float64Array = new Float64Array(0);
+  private upper: Float64Array = new Float64Array(0);
+  private dinv: Float64Array = new Float64Array(0);
+  private t: Float64Array = new Float64Array(0);
+  private y: Float64Array = new Float64Array(0);
   private applies = 0;
   private ready = false;
   private setupWork: WorkCounts = zeroWork();
@@ -183,15 +184,17 @@ export class DirectPreconditioner implements Preconditioner {
     const { perm, upPtr, upInd, loPtr, loInd } = s;
     const inv = new Int32Array(nb);
     for (let k = 0; k < nb; k++) inv[perm[k]] = k;
-    this.lower = new Float64Array(loInd.length * bb);
-    this.upper = new Float64Array(upInd.length * bb);
-    this.dinv = new Float64Array(nb * bb);
-    this.t = new Float64Array(nb * bs);
-    this.y = new Float64Array(nb * bs);
+    // factors, vectors and the dense kernels' operands in kernel memory when the solve has one (the
+    // block kernels then run in WebAssembly)
+    this.lower = kernelF64(loInd.length * bb);
+    this.upper = kernelF64(upInd.length * bb);
+    this.dinv = kernelF64(nb * bb);
+    this.t = kernelF64(nb * bs);
+    this.y = kernelF64(nb * bs);
     const pos = new Int32Array(nb).fill(-1); // new column → slot in the row buffer
-    const diagBuf = new Float64Array(bb);
-    const prod = new Float64Array(bb);
-    const piv = new Int32Array(bs);
+    const diagBuf = kernelF64(bb);
+    const prod = kernelF64(bb);
+    const piv = kernelI32(bs);
     const work = zeroWork();
     this.setupWork = work;
     let flops = 0;

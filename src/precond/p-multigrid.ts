@@ -32,7 +32,8 @@ import type { Bsr, Csr, ModalLayout } from '../sparse/types.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { addWork, kernel, sparseWork, vectorWork, zeroWork } from '../solvers/work.js';
 import { UserError } from '../util/errors.js';
-import { bsrMultiplyAddKernel, bsrToCsr } from '../sparse/bsr.js';
+import { bsrResidual, bsrToCsr } from '../sparse/bsr.js';
+import { kernelF64 } from '../kernels-host/arena.js';
 import { bsrOperator, type MatrixOperator } from '../solvers/operator.js';
 import { krylovSolve } from '../solvers/krylov.js';
 import { checkApplyArgs, checkReady, totalBytes } from './common.js';
@@ -153,7 +154,8 @@ export class PMultigridPreconditioner implements Preconditioner {
         sel = truncationSelection(modes, q);
         modes = truncatedModes(modes, q);
         const bsC = sel.length;
-        const values = new Float64Array(nBlocks * bsC * bsC);
+        // coarse matrices and level vectors in kernel memory when the solve has one (WebAssembly kernels)
+        const values = kernelF64(nBlocks * bsC * bsC);
         extractBlocksKernel(nBlocks, (prev as Level).bs, (prev as Level).a.values, sel, values);
         addWork(this.setupWork, kernel(0, 2 * values.length * 8)); // the kept entries read, the coarse blocks written
         a = { nBlockRows: nb, nBlockCols: nb, bs: bsC, rowPtr: fine.rowPtr, colInd: fine.colInd, values };
@@ -162,8 +164,8 @@ export class PMultigridPreconditioner implements Preconditioner {
       const coarsest = l === L;
       const level: Level = {
         degree: q, bs: a.bs, a, modes, sel,
-        b: new Float64Array(l === 0 ? 0 : n), x: new Float64Array(l === 0 ? 0 : n),
-        res: new Float64Array(coarsest ? 0 : n), cor: new Float64Array(coarsest ? 0 : n),
+        b: kernelF64(l === 0 ? 0 : n), x: kernelF64(l === 0 ? 0 : n),
+        res: kernelF64(coarsest ? 0 : n), cor: kernelF64(coarsest ? 0 : n),
         setupSeconds: 0, nResiduals: 0, nStepsFromZero: 0, nSteps: 0, nFills: 0, nRestricts: 0, nProlongs: 0,
       };
       const sys = levelSystem(a, l === 0 ? this.system.csr : undefined, this.system.slabOffsets, modes);
@@ -230,7 +232,7 @@ export class PMultigridPreconditioner implements Preconditioner {
   /** res ← b − A x on level lev. */
   private residual(lev: Level, b: Float64Array, x: Float64Array): void {
     const a = lev.a;
-    bsrMultiplyAddKernel(a.nBlockRows, a.bs, a.rowPtr, a.colInd, a.values, x, -1, b, lev.res);
+    bsrResidual(a, x, b, lev.res);
     lev.nResiduals++;
   }
 
@@ -371,6 +373,8 @@ function coarseKrylovBytes(r: Recipe, n: number): number {
   switch (r.krylov) {
     case 'gmres': return (r.restart + 1) * n * 8;
     case 'fgmres': return (2 * r.restart + 1) * n * 8;
+    case 'gmres-dr': return (r.restart + (r.deflate ?? 0) + 2) * n * 8;
+    case 'gcro-dr': return (r.restart + 1 + 4 * (r.deflate ?? 0)) * n * 8;
     case 'bicgstab': return 8 * n * 8;
     case 'none': return 2 * n * 8;
   }

@@ -79,7 +79,7 @@ registerPreconditioner('ilu0', createIlu0, { uses: ['shift'] });
 registerPreconditioner('block-ilu0', createBlockIlu0, { uses: ['ordering', 'shift'] });
 registerPreconditioner('block-iluk', createBlockIluk, { uses: ['fillLevel', 'ordering', 'shift'] });
 registerPreconditioner('slab', createSlab, { uses: ['inner', 'shift'] });
-registerPreconditioner('schwarz', createSchwarz, { uses: ['parts', 'overlap', 'schwarzKind', 'subdomain', 'partitionSlabs', 'shift', 'ordering', 'blockInverse', 'sweep', 'omega', 'sweeps', 'fillLevel'] });
+registerPreconditioner('schwarz', createSchwarz, { uses: ['parts', 'overlap', 'schwarzKind', 'subdomain', 'partitionSlabs', 'partitionMethod', 'shift', 'ordering', 'blockInverse', 'sweep', 'omega', 'sweeps', 'fillLevel'] });
 registerPreconditioner('direct', createDirect, { uses: ['shift'] });
 registerPreconditioner('air', createAir, { uses: ['air'] });
 registerPreconditioner('p-multigrid', createPMultigrid, { uses: ['pMultigrid'] });

@@ -1,7 +1,8 @@
 /**
  * One-level Schwarz on a partition of the block graph (src/sparse/partition.ts).
  *
- * Parts Ω_1…Ω_P of the block rows are grown by `overlap` layers of graph neighbours (the
+ * Parts Ω_1…Ω_P of the block rows (graph bisection, or coordinate bisection of the layout's
+ * centroids with partitionMethod 'coordinates') are grown by `overlap` layers of graph neighbours (the
  * symmetrized block pattern) into Ω'_i. Each subdomain matrix A_i = A(Ω'_i, Ω'_i) (couplings
  * leaving Ω'_i dropped) gets its own solver M_i:
  *   additive:   z = Σ_i R_iᵀ M_i⁻¹ R_i r        (R_i restricts to Ω'_i)
@@ -24,9 +25,10 @@ import type { Recipe, SchwarzKind, SubdomainSolver, PartitionSlabsMode } from '.
 import type { Bsr, Csr } from '../sparse/types.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 import { addWork, denseWork, kernel, scaledWork, vectorWork, zeroWork } from '../solvers/work.js';
+import { kernelCopyI32, kernelF64, kernelI32 } from '../kernels-host/arena.js';
 import { UserError } from '../util/errors.js';
 import { bsrToCsr } from '../sparse/bsr.js';
-import { blockGraph, partitionBlocks, partitionSummary, type Partition } from '../sparse/partition.js';
+import { blockGraph, partitionBlocks, partitionSummary, type Partition, type PartitionMethod } from '../sparse/partition.js';
 import { checkApplyArgs, checkReady, isFailure, totalBytes } from './common.js';
 import { PIVOT_RTOL, allFinite, luFactor, luSolve } from './dense.js';
 import { validSlabOffsets } from './block-tools.js';
@@ -34,7 +36,7 @@ import { createPreconditioner } from './registry.js';
 
 export const SCHWARZ_DEFAULTS = Object.freeze({
   parts: 4, overlap: 1, schwarzKind: 'restricted' as SchwarzKind, subdomain: 'block-ilu0' as SubdomainSolver,
-  partitionSlabs: 'across' as PartitionSlabsMode,
+  partitionSlabs: 'across' as PartitionSlabsMode, partitionMethod: 'graph' as PartitionMethod,
 });
 /** Largest subdomain (unknowns) an 'exact' subdomain solve factors densely. */
 export const EXACT_MAX_UNKNOWNS = 4096;
@@ -49,7 +51,9 @@ export function createSchwarz(system: SystemMatrix, recipe: Recipe): Preconditio
   const kind = recipe.schwarzKind ?? SCHWARZ_DEFAULTS.schwarzKind;
   const subdomain = recipe.subdomain ?? SCHWARZ_DEFAULTS.subdomain;
   const slabs = recipe.partitionSlabs ?? SCHWARZ_DEFAULTS.partitionSlabs;
+  const method = recipe.partitionMethod ?? SCHWARZ_DEFAULTS.partitionMethod;
   const nb = system.bsr.nBlockRows;
+  if (method === 'coordinates') checkCentroids(system, `recipe ${recipe.name}: schwarz partitionMethod 'coordinates'`);
   if (parts > nb) throw new UserError(`recipe ${recipe.name}: schwarz parts ${parts} exceeds the matrix's ${nb} block rows`);
   if ((subdomain as string) === 'schwarz' || (subdomain as string) === 'slab') {
     throw new UserError(`recipe ${recipe.name}: schwarz subdomain solve cannot be ${subdomain}`);
@@ -65,14 +69,25 @@ export function createSchwarz(system: SystemMatrix, recipe: Recipe): Preconditio
     }
   }
   const sub: Recipe = { ...recipe, name: `${recipe.name}/subdomain`, preconditioner: subdomain === 'exact' ? 'none' : subdomain };
-  for (const f of ['parts', 'overlap', 'schwarzKind', 'subdomain', 'partitionSlabs'] as const) delete sub[f];
+  for (const f of ['parts', 'overlap', 'schwarzKind', 'subdomain', 'partitionSlabs', 'partitionMethod'] as const) delete sub[f];
   delete sub.inner;
-  return new SchwarzPreconditioner(system, { parts, overlap, kind, subdomain, slabs, sub, shift: recipe.shift });
+  return new SchwarzPreconditioner(system, { parts, overlap, kind, subdomain, slabs, method, sub, shift: recipe.shift });
+}
+
+/** Coordinate bisection needs one centroid per block row (layout field `centroids`); `what` starts the message. */
+export function checkCentroids(system: SystemMatrix, what: string): void {
+  const nb = system.bsr.nBlockRows, c = system.centroids;
+  if (c === undefined) {
+    throw new UserError(`${what} needs element centroids: the layout has no "centroids" field (generated cases record it; for your own matrix see README "The layout file"), or use partitionMethod graph`);
+  }
+  if (c.values.length !== nb * c.nCoordinates) {
+    throw new UserError(`${what}: the centroids hold ${c.values.length / c.nCoordinates} points, expected one per block row (${nb})`);
+  }
 }
 
 interface SchwarzOptions {
   parts: number; overlap: number; kind: SchwarzKind; subdomain: SubdomainSolver; slabs: PartitionSlabsMode;
-  sub: Recipe; shift: number;
+  method: PartitionMethod; sub: Recipe; shift: number;
 }
 
 /** One subdomain: its rows (caller numbering, ascending), matrix and solver. */
@@ -98,8 +113,9 @@ export function extractSubmatrix(a: Bsr, rows: Int32Array, local: Int32Array): B
     for (let k = a.rowPtr[rows[i]]; k < a.rowPtr[rows[i] + 1]; k++) if (a.colInd[k] < local.length && local[a.colInd[k]] >= 0) c++;
     rowPtr[i + 1] = rowPtr[i] + c;
   }
-  const colInd = new Int32Array(rowPtr[rows.length]);
-  const values = new Float64Array(rowPtr[rows.length] * bb);
+  // in kernel memory when a solve has one, so the subdomain solvers run on the WebAssembly kernels
+  const colInd = kernelI32(rowPtr[rows.length]);
+  const values = kernelF64(rowPtr[rows.length] * bb);
   let w = 0;
   for (let i = 0; i < rows.length; i++) {
     for (let k = a.rowPtr[rows[i]]; k < a.rowPtr[rows[i] + 1]; k++) {
@@ -111,7 +127,7 @@ export function extractSubmatrix(a: Bsr, rows: Int32Array, local: Int32Array): B
     }
   }
   for (let i = 0; i < rows.length; i++) local[rows[i]] = -1;
-  return { nBlockRows: rows.length, nBlockCols: rows.length, bs: a.bs, rowPtr, colInd, values };
+  return { nBlockRows: rows.length, nBlockCols: rows.length, bs: a.bs, rowPtr: kernelCopyI32(rowPtr), colInd, values };
 }
 
 /** Grow each part by `layers` rings of graph neighbours; returns ascending row lists. */
@@ -144,8 +160,8 @@ export class SchwarzPreconditioner implements Preconditioner {
   variable = false;
   private partition?: Partition;
   private subs: Subdomain[] = [];
-  private rLoc = new Float64Array(0);
-  private zLoc = new Float64Array(0);
+  private rLoc: Float64Array = new Float64Array(0);
+  private zLoc: Float64Array = new Float64Array(0);
   private applies = 0;
   private ready = false;
   private setupWork: WorkCounts = zeroWork();
@@ -166,7 +182,9 @@ export class SchwarzPreconditioner implements Preconditioner {
     this.setupFlops = 0;
     const work = zeroWork();
     this.setupWork = work;
-    const p = partitionBlocks(a, this.o.parts, { slabs: this.o.slabs, slabOffsets: this.system.slabOffsets });
+    const p = partitionBlocks(a, this.o.parts, {
+      slabs: this.o.slabs, slabOffsets: this.system.slabOffsets, method: this.o.method, centroids: this.system.centroids,
+    });
     this.partition = p;
     const rowsOf = overlappedRows(a, p, this.o.overlap);
     if (this.o.subdomain === 'exact') {
@@ -201,7 +219,7 @@ export class SchwarzPreconditioner implements Preconditioner {
       const m = rows.length * bs;
       const pw = kernel(0, 2 * m * 8 + rows.length * 4); // gather r into rLoc
       if (this.o.subdomain === 'exact') {
-        const lu = new Float64Array(m * m);
+        const lu = kernelF64(m * m);
         for (let i = 0; i < rows.length; i++) {
           for (let k = matrix.rowPtr[i]; k < matrix.rowPtr[i + 1]; k++) {
             const j = matrix.colInd[k];
@@ -209,7 +227,7 @@ export class SchwarzPreconditioner implements Preconditioner {
           }
         }
         if (this.o.shift !== 0) for (let i = 0; i < m; i++) lu[i * m + i] += this.o.shift;
-        const piv = new Int32Array(m);
+        const piv = kernelI32(m);
         let norm = 0;
         for (let i = 0; i < lu.length; i++) norm = Math.max(norm, Math.abs(lu[i]));
         addWork(work, denseWork.lu(m));
@@ -249,8 +267,8 @@ export class SchwarzPreconditioner implements Preconditioner {
       this.partApply.push(pw);
       this.subs.push(sd);
     }
-    this.rLoc = new Float64Array(maxRows * bs);
-    this.zLoc = new Float64Array(maxRows * bs);
+    this.rLoc = kernelF64(maxRows * bs);
+    this.zLoc = kernelF64(maxRows * bs);
     this.ready = true;
     return { ok: true };
   }
@@ -343,7 +361,7 @@ export class SchwarzPreconditioner implements Preconditioner {
     const p = this.partition;
     const bs = this.system.bsr.bs;
     const base: Record<string, unknown> = {
-      kind: this.o.kind, overlap: this.o.overlap, subdomain: this.o.subdomain, partitionSlabs: this.o.slabs,
+      kind: this.o.kind, overlap: this.o.overlap, subdomain: this.o.subdomain, partitionSlabs: this.o.slabs, partitionMethod: this.o.method,
       setupFlops: this.setupFlops, applications: this.applies,
     };
     if (!p) return { ...base, parts: this.o.parts };

@@ -355,6 +355,8 @@ function innerKrylovBytes(inner: Recipe, n: number): number {
   switch (inner.krylov) {
     case 'gmres': return (inner.restart + 1) * n * 8;
     case 'fgmres': return (2 * inner.restart + 1) * n * 8;
+    case 'gmres-dr': return (inner.restart + (inner.deflate ?? 0) + 2) * n * 8;
+    case 'gcro-dr': return (inner.restart + 1 + 4 * (inner.deflate ?? 0)) * n * 8;
     case 'bicgstab': return 8 * n * 8;
     case 'none': return 2 * n * 8;
   }

@@ -1,4 +1,4 @@
-import type { Bsr, Csr, ModalLayout } from '../sparse/types.js';
+import type { Bsr, Centroids, Csr, ModalLayout } from '../sparse/types.js';
 import type { BufferBytes, WorkCounts } from '../solvers/types.js';
 
 /** The matrix as a preconditioner factory sees it. */
@@ -18,6 +18,8 @@ export interface SystemMatrix {
   readonly bs?: number;
   /** How each block is built from a hierarchical basis (layout section `modes`), when known; p-multigrid needs it. */
   readonly modes?: ModalLayout;
+  /** One point per block row (layout field `centroids`), when known; the coordinate partitioner needs it. */
+  readonly centroids?: Centroids;
 }
 
 export type SetupOutcome =

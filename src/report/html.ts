@@ -6,7 +6,8 @@ import type { SolveResult } from '../solvers/types.js';
 import { withPrefix } from '../util/errors.js';
 import { runsByMatrix, recipeOrder, statusWarning, type MatrixRuns } from './group.js';
 import { plural } from './format.js';
-import { matrixSummary, MISMATCH_MARK, rankForTable, rowCells, solveWork, WIDE_COLUMN_TITLES, WINNER_MARK } from './table.js';
+import { matrixSummary, MISMATCH_MARK, rankForTable, REBUILD_MARK, rowCells, sequenceTable, solveWork, WIDE_COLUMN_TITLES, WINNER_MARK } from './table.js';
+import { formatCount, formatSeconds } from './format.js';
 import { verdictLine } from './rank.js';
 import { LIMITS_STATEMENT } from './limits.js';
 import { esc } from './svg/common.js';
@@ -14,12 +15,16 @@ import { RESIDUAL_AXES, residualPlot, type ResidualAxis } from './svg/residuals.
 import { ritzPlot } from './svg/ritz.js';
 import { patternPlot } from './svg/pattern.js';
 import { historyPlot } from './svg/history.js';
+import { scaleForecastPlot } from './svg/scale.js';
+import type { ScaleReport } from '../run/scale.js';
 
 export interface ReportOptions {
   /** Stored runs (history file lines) for the history view; omitted or empty = no history section. */
   history?: HistoryEntry[];
   /** x axes of the residual plots, one figure each (default: iterations and matvecs). */
   axes?: readonly ResidualAxis[];
+  /** Scaling forecasts (`slabbench scale --json`) to plot, each with the file it came from. */
+  scale?: { file: string; report: ScaleReport }[];
 }
 
 export const DEFAULT_RESIDUAL_AXES: readonly ResidualAxis[] = ['iterations', 'matvecs'];
@@ -30,7 +35,7 @@ function residualFile(slug: string, axis: ResidualAxis): string {
 }
 
 /** Names `writeReport` writes (and so may remove when they no longer belong to the results). */
-export const REPORT_FILE_PATTERN = new RegExp(`^(residuals|ritz|pattern|history)-[a-z0-9-]+(\\.(${RESIDUAL_AXES.join('|')}))?\\.svg$`);
+export const REPORT_FILE_PATTERN = new RegExp(`^(residuals|ritz|pattern|history|scale|sequence)-[a-z0-9-]+(\\.(${RESIDUAL_AXES.join('|')}))?\\.svg$`);
 
 /**
  * x value of every history entry on an axis. matvecs: the solve's operator applications spread
@@ -48,6 +53,17 @@ export function historyX(res: SolveResult, axis: ResidualAxis): number[] | undef
   }
   const setup = res.timing.setupSeconds, solve = res.timing.solveSeconds;
   return Array.from({ length: n }, (_v, i) => setup + (i * solve) / it);
+}
+
+/** The result a residual plot draws: a sequence run's last system (its history is the one stored), else the result itself. */
+function lastSystemResult(r: RunRecord): SolveResult {
+  const res = r.result!;
+  const last = r.sequence?.systems[r.sequence.systems.length - 1];
+  if (!last) return res;
+  return {
+    ...res, iterations: last.iterations, cause: last.cause, outcome: last.outcome, converged: last.outcome === 'solved',
+    timing: { ...res.timing, setupSeconds: last.setupSeconds, solveSeconds: last.solveSeconds }, work: last.work,
+  };
 }
 
 /** True when the history is the left-preconditioned residual ‖M⁻¹r‖. */
@@ -87,7 +103,7 @@ h3 { font-size: 15px; margin: 18px 0 6px; color: var(--muted); text-transform: u
 .limits { border-left: 4px solid #c98a00; background: #fff8e6; padding: 10px 14px; margin: 16px 0 20px; font-size: 14px; }
 nav { font-size: 14px; margin: 0 0 20px; }
 nav a { margin-right: 14px; color: var(--accent); }
-section.matrix, section.history { background: #fff; border: 1px solid var(--line); border-radius: 8px; padding: 18px 20px 10px; margin: 0 0 24px; }
+section.matrix, section.history, section.scale { background: #fff; border: 1px solid var(--line); border-radius: 8px; padding: 18px 20px 10px; margin: 0 0 24px; }
 .summary { color: var(--muted); font-size: 13px; margin: 0 0 10px; }
 table.ranked { border-collapse: collapse; font-size: 13px; width: 100%; margin: 4px 0 6px; font-variant-numeric: tabular-nums; }
 table.ranked th { text-align: right; font-weight: 600; color: var(--muted); border-bottom: 2px solid var(--line); padding: 5px 8px; white-space: nowrap; }
@@ -129,6 +145,8 @@ function tableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): stri
     'matvecs = operator applications and applies = preconditioner applications in the solve: iteration counts of different methods are not comparable (one BiCGStab iteration is two of each)',
     'memory = preconditioner + Krylov basis bytes (the matrix itself is not included)',
   ];
+  const seq = results.matrices.find((m) => m.name === matrix)?.sequence;
+  if (seq) notes.unshift(`a sequence of ${plural(seq.systems, 'system')}: iterations, work and times are totals over the sequence, true res. the largest of its systems (per system below)`);
   if (missing.length > 0) {
     s += `<p class="incomplete" data-incomplete="${missing.length}">Incomplete: ${esc(plural(missing.length, 'recipe'))} of the sweep did not run on this matrix (${esc(missing.join(', '))}), so no winner is named.</p>`;
   } else {
@@ -140,6 +158,23 @@ function tableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): stri
     if (why) notes.push(withPrefix(r.run.recipe, why));
   }
   return `${s}<ul class="notes">${notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>`;
+}
+
+/** The per-system table of a sequence matrix (empty when the matrix is not a sequence). */
+function sequenceTableHtml(results: ResultsDoc, matrix: string, runs: RunRecord[]): string {
+  const { ranked } = rankForTable(results, matrix, runs);
+  const t = sequenceTable(ranked, (it, rb, sec) => `${formatCount(it)}${rb ? REBUILD_MARK : ''} · ${formatSeconds(sec)} s`);
+  if (!t) return '';
+  let s = '<div class="table-wrap"><table class="ranked sequence" data-systems="' + (t.heads.length - 4) + '"><thead><tr>';
+  t.heads.forEach((h, j) => { s += `<th${j === 0 ? ' class="text"' : ''}>${esc(h)}</th>`; });
+  s += '</tr></thead><tbody>';
+  t.rows.forEach((row, i) => {
+    s += `<tr data-recipe="${esc(t.recipes[i]!)}">`;
+    row.forEach((c, j) => { s += `<td${j === 0 ? ' class="text"' : ''}>${esc(c)}</td>`; });
+    s += '</tr>';
+  });
+  s += '</tbody></table></div>';
+  return `${s}<ul class="notes"><li>${esc(`per system: iterations ${REBUILD_MARK} (preconditioner set up for that system; without the mark an earlier set-up was reused) · setup + solve seconds of the stored repeat; then the totals over the sequence, which the ranking above uses`)}</li></ul>`;
 }
 
 function figure(svg: ReportSvg, caption: string): string {
@@ -241,11 +276,12 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
     const resSvgs: ReportSvg[] = axes.map((axis) => ({
       file: residualFile(sl, axis),
       svg: residualPlot({
-        title: `${g.matrix}: residual histories`,
+        title: `${g.matrix}: residual histories${g.info?.sequence ? ' (last system)' : ''}`,
         idPrefix: `residuals-${sl}-${axis}`,
         axis,
         series: withResult.map((r) => {
-          const res = r.result!;
+          // a sequence's result holds totals; its history is the last system's, so plot that system's own figures
+          const res = lastSystemResult(r);
           return {
             name: r.recipe,
             history: res.history,
@@ -273,6 +309,23 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
       svg: patternPlot({ title: `${g.matrix}: block sparsity`, pattern: g.info?.pattern, idPrefix: `pattern-${sl}` }),
     };
     svgs.push(...resSvgs, ritz, pat);
+    const seqRuns = withResult.filter((r) => r.sequence);
+    const seqSvg: ReportSvg | undefined = seqRuns.length === 0 ? undefined : {
+      file: `sequence-${sl}.svg`,
+      svg: historyPlot({
+        kind: 'sequence',
+        title: `${g.matrix}: cost per system of the sequence`,
+        idPrefix: `sequence-${sl}`,
+        runLabels: seqRuns[0]!.sequence!.systems.map((q) => q.label),
+        series: seqRuns.map((r) => ({
+          name: r.recipe, colorIndex: color(r.recipe),
+          iterations: r.sequence!.systems.map((q) => q.iterations),
+          seconds: r.sequence!.systems.map((q) => q.setupSeconds + q.solveSeconds),
+          converged: r.sequence!.systems.map((q) => q.outcome === 'solved'),
+        })),
+      }),
+    };
+    if (seqSvg) svgs.push(seqSvg);
     const source = g.info ? `${g.info.source === 'generated' ? 'generated' : 'file'} ${g.info.path}` : '';
     sections.push(
       `<section class="matrix" id="m-${esc(sl)}" data-matrix="${esc(g.matrix)}">`
@@ -280,7 +333,9 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
       + `<p class="summary">${esc(matrixSummary(g.info))}${source ? ` · ${esc(source)}` : ''}${g.info?.note ? ` · ${esc(g.info.note)}` : ''}</p>`
       + '<h3>Ranking</h3>'
       + tableHtml(results, g.matrix, g.runs)
+      + (seqSvg ? '<h3>Per system</h3>' + sequenceTableHtml(results, g.matrix, g.runs) : '')
       + '<h3>Plots</h3><div class="plots">'
+      + (seqSvg ? figure(seqSvg, 'Iterations (top) and setup + solve seconds (bottom) of each system of the sequence, per recipe. A recipe that reuses its preconditioner has no setup time on the systems it reuses it for; the residual plots beside show the last system.') : '')
       + resSvgs.map((f, k) => figure(f, RESIDUAL_CAPTION[axes[k]])).join('')
       + figure(ritz, 'Ritz values of the first GMRES cycle: estimates of the eigenvalues of the preconditioned operator. Values gathered tightly around 1 and away from 0 mean fast convergence.')
       + figure(pat, 'Where the stored blocks sit (darker = more blocks per cell). Dashed lines are slab boundaries; with upwinding in time no block lies above a slab-diagonal square.')
@@ -297,6 +352,22 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
       + `<div class="plots">${h.html}</div></section>`;
   }
 
+  let scaleSection = '';
+  if (opts.scale && opts.scale.length > 0) {
+    const scaleSlug = slugger();
+    const figs = opts.scale.map(({ file, report }) => {
+      const slug = scaleSlug(file.replace(/\.scale\.json$/, ''));
+      const svg: ReportSvg = { file: `scale-${slug}.svg`, svg: scaleForecastPlot(report, `scale-${slug}-`) };
+      svgs.push(svg);
+      const m = report.machine;
+      const how = `${report.partition.method === 'coordinates' ? 'coordinate' : 'graph'} bisection, parts ${report.partition.slabs === 'within' ? 'inside' : 'across'} slabs`;
+      return figure(svg, `${file}: iterations of the partitioned algebra (exact, solved on one core; top) and the modelled time per iteration (bottom, log scale; dashed: its compute share) against the number of parts P (${how}). Target: ${m.bandwidth / 1e9} GB/s memory bandwidth, ${m.latency * 1e6} µs latency, ${m.networkBandwidth / 1e9} GB/s network per process — a model, not a measurement.`);
+    });
+    scaleSection = '<section class="scale" id="scale"><h2>Scaling forecasts</h2>'
+      + `<p class="summary">${esc(plural(opts.scale.length, 'forecast'))} of <code>slabbench scale</code> found beside the results (files *.scale.json). The time is the α–β model (Hockney 1994) on the target stated in each caption, not a measurement of a real cluster.</p>`
+      + `<div class="plots">${figs.join('')}</div></section>`;
+  }
+
   const meta = [
     `slabbench ${results.slabbench}`,
     results.commit ? `commit ${results.commit.slice(0, 12)}` : '',
@@ -307,7 +378,8 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
     results.parameters?.shard ? `shard ${results.parameters.shard.index}/${results.parameters.shard.count}` : '',
   ].filter(Boolean);
   const nav = groups.map((g) => `<a href="#m-${esc(slugOf(g.matrix))}">${esc(g.matrix)}</a>`).join('')
-    + (historySection ? '<a href="#history">history</a>' : '');
+    + (historySection ? '<a href="#history">history</a>' : '')
+    + (scaleSection ? '<a href="#scale">scaling forecasts</a>' : '');
   const html = '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
     + '<meta name="viewport" content="width=device-width, initial-scale=1">'
     + `<title>slabbench report${results.suite?.description ? ` — ${esc(results.suite.description)}` : ''}</title>`
@@ -320,6 +392,7 @@ export function renderReport(results: ResultsDoc, opts: ReportOptions = {}): { h
     + `<nav>${nav}</nav>`
     + (sections.length ? sections.join('') : '<p>No runs in the results.</p>')
     + historySection
+    + scaleSection
     + `<footer>Ranking: converged runs first by setup + solve time (ties: fewer iterations), then the rest by final true relative residual. ${esc(WINNER_MARK)} marks the winner.</footer>`
     + '</main></body></html>\n';
   return { html, svgs };

@@ -91,6 +91,7 @@ export function matrixSummary(info: MatrixInfo | undefined): string {
     `${formatCount(info.nBlocks)} stored blocks`,
     plural(info.nSlabs, 'slab'),
   ];
+  if (info.sequence) parts.unshift(`sequence of ${plural(info.sequence.systems, 'system')} (${info.sequence.kind})`);
   return parts.join(', ');
 }
 
@@ -228,6 +229,7 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean;
     });
     if (ranked.length === 0) lines.push(`${INDENT}(no runs)`);
     const notes: string[] = [];
+    if (g.info?.sequence) notes.push(`sequence of ${plural(g.info.sequence.systems, 'system')}: figures above are totals over the sequence (true res. the largest)`);
     if (missing.length > 0) {
       notes.push(`incomplete: ${plural(missing.length, 'recipe')} of the sweep did not run here (${missing.join(', ')}), so no winner is named`);
     }
@@ -243,8 +245,55 @@ export function renderRankedTables(results: ResultsDoc, opts: { color?: boolean;
       if (why) notes.push(withPrefix(r.run.recipe, why));
     }
     for (const n of notes) lines.push(...wrap(n, width, INDENT).map((l) => c.dim(l)));
+    const perSystem = sequenceLines(ranked, width);
+    if (perSystem.length) lines.push('', ...perSystem.map((l, i) => (i === 0 ? c.dim(l) : l)));
     blocks.push(lines.join('\n'));
   }
   const warn = warning ? `${wrap(`warning: ${warning}`, width, '').map((l) => c.yellow(c.bold(l))).join('\n')}\n\n` : '';
   return blocks.length ? `${warn}${blocks.join('\n\n')}\n` : `${warn}no runs in the results\n`;
+}
+
+/** Marks a system for which the preconditioner was set up (the others reused an earlier set-up). */
+export const REBUILD_MARK = '*';
+
+/**
+ * The per-system table of a sequence matrix: one row per ranked recipe, one column per system
+ * (iterations, REBUILD_MARK when its preconditioner was set up for that system), then the
+ * totals: iterations, rebuilds and setup + solve seconds. Undefined when no run is a sequence.
+ */
+export function sequenceTable(ranked: RankedRun[], cell: (iterations: number, rebuilt: boolean, seconds: number) => string = (it, rb) => `${formatCount(it)}${rb ? REBUILD_MARK : ''}`): { heads: string[]; rows: string[][]; recipes: string[] } | undefined {
+  const seqRuns = ranked.filter((r) => r.run.sequence);
+  if (seqRuns.length === 0) return undefined;
+  const labels = seqRuns[0]!.run.sequence!.systems.map((s) => s.label);
+  const heads = ['recipe', ...labels, 'total', 'rebuilds', 'time s'];
+  const rows = seqRuns.map((r) => {
+    const q = r.run.sequence!;
+    return [
+      r.run.recipe,
+      ...labels.map((_l, k) => { const s = q.systems[k]; return s ? cell(s.iterations, s.rebuilt, s.setupSeconds + s.solveSeconds) : dash; }),
+      formatCount(q.totals.iterations), formatCount(q.totals.rebuilds), formatSeconds(q.totals.totalSeconds),
+    ];
+  });
+  return { heads, rows, recipes: seqRuns.map((r) => r.run.recipe) };
+}
+
+/** Terminal lines of the per-system table (a table when it fits, else one wrapped line per recipe). */
+function sequenceLines(ranked: RankedRun[], width: number): string[] {
+  const t = sequenceTable(ranked);
+  if (!t) return [];
+  const widths = t.heads.map((h, j) => Math.max(len(h), ...t.rows.map((row) => len(row[j]!))));
+  const total = len(INDENT) + widths.reduce((a, b) => a + b, 0) + len(GAP) * (widths.length - 1);
+  const out = [`${INDENT}per system: iterations (${REBUILD_MARK} = preconditioner set up for that system), then totals`];
+  if (total <= width) {
+    out.push(INDENT + t.heads.map((h, j) => pad(h, widths[j]!, j === 0 ? 'left' : 'right')).join(GAP));
+    out.push(INDENT + widths.map((w) => '─'.repeat(w)).join(GAP));
+    for (const row of t.rows) out.push(INDENT + row.map((c, j) => pad(c, widths[j]!, j === 0 ? 'left' : 'right')).join(GAP));
+    return out;
+  }
+  const nSys = t.heads.length - 4;
+  for (const row of t.rows) {
+    const line = `${row[0]}: ${row.slice(1, 1 + nSys).join(' ')} | total ${row[1 + nSys]}, rebuilds ${row[2 + nSys]}, ${row[3 + nSys]} s`;
+    out.push(...wrap(line, width, INDENT));
+  }
+  return out;
 }

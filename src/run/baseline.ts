@@ -6,7 +6,9 @@
  * bytes moved, per phase) may grow by at most workPercent (exact by default) — the solve phase's are not
  * compared when the iterations grew within an allowed slack (its work follows the iterations); the final true relative
  * residual must stay ≤ max(rtol, baseline · residualFactor); counted buffer bytes (matrix + preconditioner
- * + Krylov + work, never RSS) within memoryPercent. Iterations, causes, work counters and byte counts are
+ * + Krylov + work, never RSS) within memoryPercent. A sequence run is compared on its totals (the
+ * aggregate result: iterations and work summed over the systems, the largest true residual), and its
+ * preconditioner rebuilds may not grow. Iterations, causes, work counters and byte counts are
  * deterministic for one code version, so the default check is machine-independent.
  *
  * Time only when asked, always as medians of the timed repeats (setup + solve seconds):
@@ -342,6 +344,15 @@ export function compareWithBaseline(current: ResultsDoc, baseline: ResultsDoc, o
     } else if (!workMissingNoted && (bw || cw)) {
       workMissingNoted = true;
       notes.push(`work counters are missing from the ${bw ? 'current results' : 'baseline'}: not compared (refresh the baseline with --update)`);
+    }
+    // sequences: the totals above; the preconditioner set-ups must match too (deterministic for a policy)
+    const bq = b.sequence?.totals, cq = c.sequence?.totals;
+    if (bq && cq) {
+      if (bq.systems !== cq.systems) row.problems.push(`sequence length ${bq.systems} → ${cq.systems} systems: numbers not comparable, update the baseline`);
+      else if (cq.rebuilds > bq.rebuilds) row.problems.push(`preconditioner rebuilds ${bq.rebuilds} → ${cq.rebuilds} over the sequence`);
+      else if (cq.rebuilds < bq.rebuilds) row.notes.push(`preconditioner rebuilds ${bq.rebuilds} → ${cq.rebuilds} over the sequence`);
+    } else if (bq || cq) {
+      row.problems.push(`${bq ? 'was' : 'is now'} a sequence of ${(bq ?? cq)!.systems} systems: numbers not comparable, update the baseline`);
     }
     if (tol.timeRatio !== undefined || opts.time === 'noise') {
       timeCompared = true;

@@ -26,12 +26,20 @@ export interface SweepPlan {
   grids: NonNullable<Suite['grids']>;
 }
 
+function describeSpec(spec: unknown): string {
+  const s = spec as { kind?: string; steps?: number };
+  return s.kind === 'newton' ? `${s.steps} Newton steps` : 'slab marching';
+}
+
 export function planSweep(suite: Suite, opts: { shard?: ShardSpec; onlyMatrix?: string[]; onlyRecipe?: string[] } = {}): SweepPlan {
   const { matrices, recipes } = selectFromSuite(suite, opts.onlyMatrix, opts.onlyRecipe);
   const pairs = shardPairs(matrices.length, recipes.length, opts.shard).map(({ matrixIndex, recipeIndex }) => {
     const m = matrices[matrixIndex]!;
     const r = recipes[recipeIndex]!;
-    const source = m.kind === 'file' ? `file ${m.file}` : m.prebuilt !== undefined ? `generated (committed copy ${m.prebuilt})` : 'generated';
+    const source = m.kind === 'file' ? `file ${m.file}`
+      : m.kind === 'sequence-files' ? `sequence of ${m.files.length} files`
+        : m.sequence !== undefined ? `generated sequence (${describeSpec(m.sequence)})`
+          : m.prebuilt !== undefined ? `generated (committed copy ${m.prebuilt})` : 'generated';
     return { matrix: m.name, source, recipe: r.name, fields: r };
   });
   return { suite: suite.path, fingerprint: suite.fingerprint, shard: opts.shard ?? null, pairs, grids: suite.grids ?? [] };

@@ -1,5 +1,6 @@
 import type { RecordedRecipe } from '../solvers/recipe.js';
-import type { SolveResult } from '../solvers/types.js';
+import type { SolveResult, WorkCounts } from '../solvers/types.js';
+import type { SequencePolicy } from '../solvers/sequence-policy.js';
 
 export const RESULTS_SCHEMA = 'slabbench-results/2' as const;
 /** The earlier schema, still read (converted on reading by validateResults). */
@@ -33,6 +34,8 @@ export interface MatrixInfo {
   pattern?: BlockPattern;
   /** How the block size was found (loadSystem's blockSizeSource), when known. */
   blockSizeSource?: string;
+  /** A sequence of systems sharing this pattern (the other fields describe the first system). */
+  sequence?: { kind: 'files' | 'newton' | 'slabs'; systems: number; labels: string[] };
 }
 
 export interface RunRecord {
@@ -49,6 +52,60 @@ export interface RunRecord {
   /** Modeled seconds = bytes / bandwidth + flops / flop rate per phase, with the document's `model`
    *  rates; absent when the result carries no work counters or the sweep ran no probe. */
   modeled?: PhaseSeconds;
+  /**
+   * Present when the matrix is a sequence: per system and in total (src/run/sequence.ts). `result`
+   * then holds the whole sequence: iterations, timing and work are the totals, cause and outcome
+   * those of the first system that was not solved (else of the last), trueRelativeResidual the
+   * largest over the systems, history, memory and statistics the last system's. `repeats` repeat
+   * the whole sequence (their seconds are sequence totals); this is the stored repeat's detail.
+   */
+  sequence?: SequenceRecord;
+}
+
+/** One recipe on a sequence of systems: what happened at each system, and the totals. */
+export interface SequenceRecord {
+  /** 'files' (a list in the suite), 'newton' (generated Newton steps) or 'slabs' (generated slab marching). */
+  kind: 'files' | 'newton' | 'slabs';
+  /** The recipe's reuse policy and initial guess (defaults filled in). */
+  policy: SequencePolicy;
+  systems: SequenceSystemRecord[];
+  totals: SequenceTotals;
+}
+
+export interface SequenceSystemRecord {
+  /** Position in the sequence, from 1. */
+  index: number;
+  /** "newton 2", "slab 3", "file 1". */
+  label: string;
+  /** The preconditioner was set up for this system; false: the set-up of an earlier system was reused. */
+  rebuilt: boolean;
+  /** The initial guess this solve started from. */
+  x0: 'zero' | 'previous';
+  outcome: SolveResult['outcome'];
+  cause: SolveResult['cause'];
+  iterations: number;
+  trueRelativeResidual: number;
+  /** 0 when the preconditioner was reused. */
+  setupSeconds: number;
+  solveSeconds: number;
+  /** Work counters; setup is all zeros when the preconditioner was reused. */
+  work: { setup: WorkCounts; solve: WorkCounts };
+  /** Relative residual history of this solve. */
+  history: number[];
+}
+
+/** Sums over the systems (exactly the sums of the per-system figures). */
+export interface SequenceTotals {
+  systems: number;
+  /** Systems that reached the tolerance. */
+  solved: number;
+  /** Preconditioner set-ups (the first system always has one, unless the recipe has no preconditioner). */
+  rebuilds: number;
+  iterations: number;
+  setupSeconds: number;
+  solveSeconds: number;
+  totalSeconds: number;
+  work: { setup: WorkCounts; solve: WorkCounts };
 }
 
 /** Seconds of one run split by phase. */

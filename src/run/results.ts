@@ -97,6 +97,8 @@ export const CSV_COLUMNS = [
   'error',
   // timing protocol (added at the end, so older readers keep their columns)
   'repeats', 'totalSecondsMedian', 'totalSecondsMin', 'totalSecondsMax', 'repeatsConsistent', 'modeledSeconds',
+  // sequences (empty for a single system): systems solved in order and preconditioner set-ups
+  'systems', 'rebuilds',
 ] as const;
 
 function csvCell(v: unknown): string {
@@ -127,6 +129,7 @@ export function resultsCsv(doc: ResultsDoc): string {
       repeats: run.repeats?.count, totalSecondsMedian: run.repeats?.median.totalSeconds,
       totalSecondsMin: run.repeats?.min.totalSeconds, totalSecondsMax: run.repeats?.max.totalSeconds,
       repeatsConsistent: run.repeats?.consistent, modeledSeconds: run.modeled?.totalSeconds,
+      systems: run.sequence?.totals.systems, rebuilds: run.sequence?.totals.rebuilds,
     };
     lines.push(CSV_COLUMNS.map((c) => csvCell(row[c])).join(','));
   }

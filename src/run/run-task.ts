@@ -17,6 +17,7 @@ import type { RunDeps, LoadedForRun } from './deps.js';
 import type { MatrixInfo, RunRecord } from './results-types.js';
 import { matrixInfo } from './results.js';
 import { collectGarbage, repeatDifferences, summarizeRepeats } from './timing.js';
+import { executeSequence, loadSequence, sequenceInfo, sequenceKey, type LoadedSequence, type TaskSequence } from './sequence.js';
 
 export interface TaskMatrix {
   name: string;
@@ -29,6 +30,8 @@ export interface TaskMatrix {
   note?: string;
   /** Path recorded in MatrixInfo (relative to the results folder when possible). */
   displayPath: string;
+  /** A sequence of systems (mtx/rhs above are its first system); see src/run/sequence.ts. */
+  sequence?: TaskSequence;
 }
 
 export interface RunTask {
@@ -56,8 +59,8 @@ interface Loaded {
   infoSent: boolean;
 }
 
-/** Holds the last matrix a thread loaded; tasks arrive matrix by matrix, so one is enough. */
-export interface TaskCache { last?: Loaded }
+/** Holds the last matrix (or sequence) a thread loaded; tasks arrive matrix by matrix, so one is enough. */
+export interface TaskCache { last?: Loaded; lastSequence?: LoadedSequence }
 
 function errorText(e: unknown): string {
   if (e instanceof UserError) return e.message;
@@ -88,9 +91,11 @@ async function load(m: TaskMatrix, deps: RunDeps): Promise<Loaded> {
 
 export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache): Promise<TaskDone> {
   const m = task.matrix;
+  if (m.sequence) return executeSequenceTask(task, m.sequence, deps, cache);
   const key = JSON.stringify([m.mtx, m.rhs ?? null, m.blockSize ?? null]);
   if (!cache.last || cache.last.key !== key) {
     cache.last = undefined; // let the previous matrix go before loading the next
+    cache.lastSequence = undefined;
     cache.last = await load(m, deps);
   }
   const loaded = cache.last;
@@ -106,7 +111,7 @@ export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache
   const sys = loaded.system;
   // a loaded system is passed as it is, so solveSystem can keep only the format each recipe needs
   const system = isMatrixStore(sys) ? sys
-    : { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}), ...(sys.modes ? { modes: sys.modes } : {}) };
+    : { csr: sys.csr, bsr: sys.bsr, ...(sys.slabOffsets ? { slabOffsets: sys.slabOffsets } : {}), ...(sys.modes ? { modes: sys.modes } : {}), ...(sys.centroids ? { centroids: sys.centroids } : {}) };
   try {
     const warmup = task.warmup === true;
     if (warmup) deps.solveSystem(system, loaded.b, task.recipe);
@@ -123,6 +128,31 @@ export async function executeTask(task: RunTask, deps: RunDeps, cache: TaskCache
     const differences = results.slice(1).flatMap((r, k) => repeatDifferences(results[0], r, k + 2));
     const repeats = { ...summary, consistent: differences.length === 0, ...(differences.length ? { differences } : {}) };
     return { id: task.id, record: { ...base, result: results[summary.stored], repeats }, info };
+  } catch (e) {
+    return { id: task.id, record: { ...base, error: errorText(e) }, info };
+  }
+}
+
+/** executeTask for a sequence matrix: load all its systems (kept for the next recipe), then run the sequence protocol. */
+async function executeSequenceTask(task: RunTask, seq: TaskSequence, deps: RunDeps, cache: TaskCache): Promise<TaskDone> {
+  const m = task.matrix;
+  const key = sequenceKey(seq, m.blockSize);
+  if (!cache.lastSequence || cache.lastSequence.key !== key) {
+    cache.last = undefined;
+    cache.lastSequence = undefined;
+    cache.lastSequence = await loadSequence(seq, deps, m.blockSize, errorText);
+  }
+  const loaded = cache.lastSequence;
+  const base = { matrix: m.name, recipe: task.recipe.name, recipeParams: recordedRecipe(task.recipe) };
+  if (loaded.error !== undefined || !loaded.systems) return { id: task.id, record: { ...base, error: loaded.error ?? 'sequence not loaded' } };
+  let info: MatrixInfo | undefined;
+  if (!loaded.infoSent) {
+    loaded.infoSent = true;
+    info = sequenceInfo({ name: m.name, source: m.source, path: m.displayPath, note: m.note }, loaded, seq.kind);
+  }
+  try {
+    const run = executeSequence(loaded, seq.kind, task.recipe, deps, { warmup: task.warmup === true, repeats: task.repeats ?? 1 });
+    return { id: task.id, record: { ...base, ...run }, info };
   } catch (e) {
     return { id: task.id, record: { ...base, error: errorText(e) }, info };
   }

@@ -17,11 +17,12 @@
  * schwarz), and the vector operations shared out by its share of the unknowns.
  */
 import type { SystemMatrix } from '../precond/types.js';
-import { SUBDOMAIN_SOLVERS, type Recipe } from '../solvers/recipe.js';
+import { SUBDOMAIN_SOLVERS, isDeflatedKrylov, type PartitionSlabsMode, type Recipe } from '../solvers/recipe.js';
 import type { SolveResult, WorkCounts } from '../solvers/types.js';
 import { solveSystem } from '../solvers/run-recipe.js';
 import { sparseWork } from '../solvers/work.js';
-import { partitionBlocks } from '../sparse/partition.js';
+import { partitionBlocks, type PartitionMethod } from '../sparse/partition.js';
+import { checkCentroids } from '../precond/schwarz.js';
 import { UserError } from '../util/errors.js';
 
 export interface TargetMachine {
@@ -60,7 +61,13 @@ export interface ScaleRow {
 
 export interface ScaleReport {
   schema: 'slabbench-scale/1';
+  /** The matrix file as given to scale, when known. */
+  matrix?: string;
+  /** The recipe's name before partitioning (rows[].recipe.name adds -P<parts>). */
+  recipe: string;
   machine: TargetMachine;
+  /** How every P was partitioned. */
+  partition: { method: PartitionMethod; slabs: PartitionSlabsMode };
   rows: ScaleRow[];
 }
 
@@ -74,34 +81,71 @@ export interface ScaleReport {
 export function reductionsOf(recipe: Recipe, iterations: number, restarts: number): number {
   if (recipe.krylov === 'bicgstab') return 6 * iterations;
   if (recipe.krylov === 'none') return iterations;
+  if (isDeflatedKrylov(recipe.krylov) && (recipe.deflate ?? 0) > 0) return deflatedReductions(recipe, iterations, restarts);
   const m = recipe.restart;
   const full = Math.floor(iterations / m), rest = iterations % m;
   const cycle = (k: number): number => (recipe.orthogonalization === 'cgs2' ? 3 * k : (k * (k + 3)) / 2);
   return full * cycle(m) + cycle(rest) + restarts + 1;
 }
 
+/**
+ * GMRES-DR / GCRO-DR (one solve, no carried space): the first cycle as GMRES(m); each later cycle
+ * has m − k steps, and its step j projects against k + j + 1 vectors (gmres-dr: the deflated basis
+ * and the new ones; gcro-dr: C, then V), so mgs makes k + j + 2 reductions; cgs2 makes 3 (gmres-dr)
+ * or 5 (gcro-dr: two passes against C as well). gcro-dr's per-cycle small blocks (the norms of U
+ * and the inner products Cᵀ U, Vᵀ U of the harmonic Ritz problem) count as two fused reductions.
+ * Plus one norm per restart and the final one.
+ */
+function deflatedReductions(recipe: Recipe, iterations: number, restarts: number): number {
+  const m = recipe.restart, k = recipe.deflate ?? 0;
+  const gcro = recipe.krylov === 'gcro-dr';
+  const step = (j: number, before: number): number => (recipe.orthogonalization === 'cgs2'
+    ? (gcro && before > 0 ? 5 : 3) : before + j + 2);
+  let total = 0;
+  let left = iterations;
+  for (let cycle = 0; left > 0; cycle++) {
+    const before = cycle === 0 ? 0 : k;
+    const steps = Math.min(left, m - before);
+    for (let j = 0; j < steps; j++) total += step(j, before);
+    if (gcro && cycle > 0) total += 2;
+    left -= steps;
+  }
+  return total + restarts + 1;
+}
+
+/** How scale partitions (whatever the preconditioner; unset fields: the recipe's, else the defaults). */
+export interface ScalePartition {
+  method?: PartitionMethod;
+  slabs?: PartitionSlabsMode;
+}
+
 /** The recipe a run with P parts uses (see the file comment). */
-export function partitionedRecipe(recipe: Recipe, parts: number): Recipe {
-  if (recipe.preconditioner === 'schwarz') return { ...recipe, parts, name: `${recipe.name}-P${parts}` };
+export function partitionedRecipe(recipe: Recipe, parts: number, partition: ScalePartition = {}): Recipe {
+  const how = {
+    ...(partition.method !== undefined ? { partitionMethod: partition.method } : {}),
+    ...(partition.slabs !== undefined ? { partitionSlabs: partition.slabs } : {}),
+  };
+  if (recipe.preconditioner === 'schwarz') return { ...recipe, ...how, parts, name: `${recipe.name}-P${parts}` };
   if (recipe.preconditioner === 'none') return { ...recipe, name: `${recipe.name}-P${parts}` };
   if (!(SUBDOMAIN_SOLVERS as readonly string[]).includes(recipe.preconditioner)) {
     throw new UserError(`scale: preconditioner ${recipe.preconditioner} cannot be applied part by part; use schwarz or one of ${SUBDOMAIN_SOLVERS.filter((s) => s !== 'exact').join(', ')}`);
   }
   return {
-    ...recipe, name: `${recipe.name}-P${parts}`, preconditioner: 'schwarz', parts, overlap: 0, schwarzKind: 'restricted',
+    ...recipe, ...how, name: `${recipe.name}-P${parts}`, preconditioner: 'schwarz', parts, overlap: 0, schwarzKind: 'restricted',
     subdomain: recipe.preconditioner as Recipe['subdomain'],
   };
 }
 
-/** P = 1, 2, 4, … ≤ maxParts. */
-export function partCounts(maxParts: number): number[] {
+/** P = first, 2·first, 4·first, … ≤ maxParts (first = 1, or the number of slabs when parts lie inside slabs). */
+export function partCounts(maxParts: number, first = 1): number[] {
   const out: number[] = [];
-  for (let p = 1; p <= maxParts; p *= 2) out.push(p);
+  for (let p = first; p <= maxParts; p *= 2) out.push(p);
   return out;
 }
 
 export function runScale(
-  system: SystemMatrix, b: Float64Array, recipe: Recipe, opts: { maxParts: number; machine: TargetMachine },
+  system: SystemMatrix, b: Float64Array, recipe: Recipe,
+  opts: { maxParts: number; machine: TargetMachine; partition?: ScalePartition; matrix?: string },
 ): ScaleReport {
   const a = system.bsr;
   const nb = a.nBlockRows, bs = a.bs, n = nb * bs;
@@ -109,11 +153,24 @@ export function runScale(
     throw new UserError(`scale: --max-parts must be an integer from 1 to the ${nb} block rows, got ${opts.maxParts}`);
   }
   if (recipe.parts !== undefined) throw new UserError('scale: --parts is set by scale itself (P = 1, 2, 4, … up to --max-parts); leave it out');
+  const method = opts.partition?.method ?? recipe.partitionMethod ?? 'graph';
+  const slabs = opts.partition?.slabs ?? recipe.partitionSlabs ?? 'across';
+  if (method === 'coordinates') checkCentroids(system, 'scale: partition method coordinates');
+  // parts inside slabs: at least one part per slab, so P starts at the number of slabs
+  let first = 1;
+  if (slabs === 'within') {
+    const offs = system.slabOffsets;
+    if (offs === undefined || offs.length < 2) throw new UserError('scale: parts inside slabs (--partition-slabs within) need slab offsets (a layout file with slabOffsets)');
+    first = offs.length - 1;
+    if (opts.maxParts < first) throw new UserError(`scale: --max-parts ${opts.maxParts} is below the ${first} slabs; parts inside slabs (--partition-slabs within) need at least one part per slab`);
+  }
   const rows: ScaleRow[] = [];
-  for (const P of partCounts(opts.maxParts)) {
-    const r = partitionedRecipe(recipe, P);
+  for (const P of partCounts(opts.maxParts, first)) {
+    const r = partitionedRecipe(recipe, P, opts.partition);
     const { result } = solveSystem(system, b, r);
-    const part = partitionBlocks(a, P, { slabs: r.partitionSlabs ?? 'across', slabOffsets: system.slabOffsets });
+    const part = partitionBlocks(a, P, {
+      slabs, slabOffsets: system.slabOffsets, method, centroids: system.centroids,
+    });
     const its = Math.max(result.iterations, 1);
     const solve = result.work.solve;
     const stats = (result.preconditionerStats ?? {}) as Record<string, unknown>;
@@ -166,5 +223,8 @@ export function runScale(
       modelled: { compute, messages: tMsg, network: tNet, reductions: tRed, perIteration, total: perIteration * result.iterations },
     });
   }
-  return { schema: 'slabbench-scale/1', machine: { ...opts.machine }, rows };
+  return {
+    schema: 'slabbench-scale/1', ...(opts.matrix !== undefined ? { matrix: opts.matrix } : {}), recipe: recipe.name,
+    machine: { ...opts.machine }, partition: { method, slabs }, rows,
+  };
 }

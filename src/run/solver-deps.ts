@@ -4,4 +4,4 @@
  */
 export { loadSystem } from '../sparse/load.js';
 export { readMatrixMarketVector } from '../sparse/matrix-market.js';
-export { solveSystem } from '../solvers/run-recipe.js';
+export { solveSystem, prepareSolve } from '../solvers/run-recipe.js';

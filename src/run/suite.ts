@@ -3,7 +3,9 @@
  *
  *   { "schema": "slabbench-suite/1", "description": "…",
  *     "matrices": [ { "name": "duct-pulse", "note": "invented scenario", "generate": { …generator parameters… } },
- *                   { "name": "mine", "file": "A.mtx", "rhs": "b.mtx", "blockSize": 6 } ],
+ *                   { "name": "mine", "file": "A.mtx", "rhs": "b.mtx", "blockSize": 6 },
+ *                   { "name": "steps", "sequence": [ { "file": "J1.mtx", "rhs": "r1.mtx" }, { "file": "J2.mtx", "rhs": "r2.mtx" } ] },
+ *                   { "name": "bore", "generate": { … }, "sequence": { "kind": "newton", "steps": 3 } } ],
  *     "recipes":  [ { "name": "gmres-block-ilu0", "krylov": "gmres", "preconditioner": "block-ilu0", … } ] }
  *
  * Paths are relative to the suite file. Every error is one line naming the file and the field path.
@@ -18,6 +20,7 @@ import type { SuiteParsers } from './deps.js';
 import { readJsonFile } from '../util/json-file.js';
 import { layoutPathFor, readLayoutFor } from '../sparse/layout.js';
 import { expandRecipeGrid, gridRecipeName } from './recipe-grid.js';
+import { SEQUENCE_FIELDS } from '../solvers/sequence-policy.js';
 
 /** Names become file names (cache, reports) and CSV cells: keep them plain. */
 export const NAME_PATTERN = /^[A-Za-z0-9][A-Za-z0-9._+-]{0,79}$/;
@@ -49,9 +52,40 @@ export interface GeneratedMatrixEntry {
    */
   prebuilt?: string;
   prebuiltPath?: string;
+  /** A generated sequence (src/dg/sequence.ts: newton steps or slab marching), validated; absent: one system. */
+  sequence?: unknown;
+  /** The `sequence` object as written (part of the cache key). */
+  sequenceRaw?: Record<string, unknown>;
 }
 
-export type SuiteMatrix = FileMatrixEntry | GeneratedMatrixEntry;
+/** One system of a sequence given as files. */
+export interface SequenceFile {
+  /** As written (relative to the suite file). */
+  file: string;
+  rhs: string;
+  /** Absolute paths. */
+  filePath: string;
+  rhsPath: string;
+}
+
+/** A sequence of systems sharing one pattern, given as an ordered list of Matrix Market (or .npz) files. */
+export interface SequenceFilesEntry {
+  kind: 'sequence-files';
+  name: string;
+  note?: string;
+  files: SequenceFile[];
+  blockSize?: number;
+}
+
+export type SuiteMatrix = FileMatrixEntry | GeneratedMatrixEntry | SequenceFilesEntry;
+
+/** Largest number of files of a sequence entry. */
+export const MAX_SEQUENCE_FILES = 1000;
+
+/** True when a suite entry is a sequence of systems (files or generated). */
+export function isSequenceEntry(m: SuiteMatrix): boolean {
+  return m.kind === 'sequence-files' || (m.kind === 'generate' && m.sequence !== undefined);
+}
 
 export interface Suite {
   /** Path as given by the user (used in messages). */
@@ -107,7 +141,8 @@ function parseTiming(v: unknown, fail: (field: string, what: string) => never): 
 
 const TOP_KEYS = new Set(['schema', 'description', 'matrices', 'recipes', 'timing', '$comment']);
 const FILE_KEYS = new Set(['name', 'note', 'file', 'rhs', 'blockSize']);
-const GEN_KEYS = new Set(['name', 'note', 'generate', 'prebuilt']);
+const GEN_KEYS = new Set(['name', 'note', 'generate', 'prebuilt', 'sequence']);
+const SEQ_KEYS = new Set(['name', 'note', 'sequence', 'blockSize']);
 
 function isPlainObject(v: unknown): v is Record<string, unknown> {
   return typeof v === 'object' && v !== null && !Array.isArray(v);
@@ -180,7 +215,12 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
     const note = m.note as string | undefined;
     const hasFile = m.file !== undefined;
     const hasGen = m.generate !== undefined;
-    if (hasFile === hasGen) fail(at, 'expected exactly one of "file" (a Matrix Market file) or "generate" (generator parameters)');
+    const fileList = Array.isArray(m.sequence);
+    if (fileList && !hasFile && !hasGen) {
+      matrices.push(parseSequenceFiles(m, at, name, note, dir, fail));
+      return undefined;
+    }
+    if (hasFile === hasGen) fail(at, 'expected exactly one of "file" (a Matrix Market file), "generate" (generator parameters) or "sequence" (a list of { "file", "rhs" })');
     if (hasFile) {
       for (const k of Object.keys(m)) if (!FILE_KEYS.has(k)) fail(`${at}.${k}`, `unknown key for a file matrix (expected ${[...FILE_KEYS].join(', ')})`);
       if (typeof m.file !== 'string' || m.file === '') fail(`${at}.file`, `expected a path to a .mtx, .mtx.gz or .npz file, got ${describe(m.file)}`);
@@ -205,9 +245,17 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
         fail(`${at}.prebuilt`, `expected a path ending in .mtx or .mtx.gz (a committed copy of the case), got ${describe(m.prebuilt)}`);
       }
       const prebuilt = m.prebuilt as string | undefined;
+      let sequence: unknown;
+      if (m.sequence !== undefined) {
+        if (!isPlainObject(m.sequence)) fail(`${at}.sequence`, `expected { "kind": "newton", "steps": N } or { "kind": "slabs" } with generate, got ${describe(m.sequence)}`);
+        if (prebuilt !== undefined) fail(`${at}.prebuilt`, 'a generated sequence has no committed copy (it is built into the cache); remove prebuilt');
+        if (!parsers.parseSequenceSpec) fail(`${at}.sequence`, 'generated sequences are not supported by this build');
+        sequence = parsers.parseSequenceSpec!(m.sequence, `${file}: ${at}.sequence`, generate);
+      }
       matrices.push({
         kind: 'generate', name, note, generate, generateRaw: m.generate as Record<string, unknown>,
         prebuilt, prebuiltPath: prebuilt === undefined ? undefined : isAbsolute(prebuilt) ? prebuilt : resolve(dir, prebuilt),
+        ...(sequence !== undefined ? { sequence, sequenceRaw: m.sequence as Record<string, unknown> } : {}),
       });
     }
     return undefined;
@@ -244,10 +292,20 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
     return undefined;
   });
 
+  // recipes that set a sequence policy need a sequence to act on
+  if (!matrices.some(isSequenceEntry)) {
+    rawRecipes.forEach((r, i) => {
+      const key = isPlainObject(r) ? SEQUENCE_FIELDS.find((k) => r[k] !== undefined) : undefined;
+      if (key) fail(`recipes[${i}].${key}`, 'has no effect: the suite has no sequence matrices (a "sequence" entry); remove it');
+    });
+  }
+
   const fingerprint = shortHash(canonicalJson({
     matrices: matrices.map((m) => m.kind === 'file'
       ? { name: m.name, file: m.file, rhs: m.rhs, blockSize: m.blockSize }
-      : { name: m.name, generate: m.generateRaw }),
+      : m.kind === 'sequence-files'
+        ? { name: m.name, sequence: m.files.map((f) => ({ file: f.file, rhs: f.rhs })), blockSize: m.blockSize }
+        : { name: m.name, generate: m.generateRaw, ...(m.sequenceRaw ? { sequence: m.sequenceRaw } : {}) }),
     recipes,
   }));
   const suite: Suite = { path: file, dir, description: top.description as string | undefined, matrices, recipes, fingerprint, ...(timing ? { timing } : {}) };
@@ -255,11 +313,42 @@ export function parseSuite(obj: unknown, file: string, dir: string, parsers: Sui
   return suite;
 }
 
+/** A sequence given as a list of files: `"sequence": [ { "file": "J1.mtx", "rhs": "r1.mtx" }, … ]`. */
+function parseSequenceFiles(
+  m: Record<string, unknown>, at: string, name: string, note: string | undefined, dir: string,
+  fail: (field: string, what: string) => never,
+): SequenceFilesEntry {
+  for (const k of Object.keys(m)) if (!SEQ_KEYS.has(k)) fail(`${at}.${k}`, `unknown key for a sequence of files (expected ${[...SEQ_KEYS].join(', ')})`);
+  const list = m.sequence as unknown[];
+  if (list.length < 1) fail(`${at}.sequence`, 'expected at least one { "file", "rhs" } entry');
+  if (list.length > MAX_SEQUENCE_FILES) fail(`${at}.sequence`, `expected at most ${MAX_SEQUENCE_FILES} systems, got ${list.length}`);
+  if (m.blockSize !== undefined && !(Number.isInteger(m.blockSize) && (m.blockSize as number) >= 1 && (m.blockSize as number) <= 4096)) {
+    fail(`${at}.blockSize`, `expected an integer from 1 to 4096, got ${describe(m.blockSize)}`);
+  }
+  const abs = (p: string): string => (isAbsolute(p) ? p : resolve(dir, p));
+  const files = list.map((e, k): SequenceFile => {
+    const where = `${at}.sequence[${k}]`;
+    if (!isPlainObject(e)) return fail(where, `expected { "file": "….mtx", "rhs": "….mtx" }, got ${describe(e)}`);
+    for (const key of Object.keys(e)) if (key !== 'file' && key !== 'rhs') fail(`${where}.${key}`, 'unknown key (expected file, rhs)');
+    if (typeof e.file !== 'string' || !/\.(mtx(\.gz)?|npz)$/i.test(e.file)) fail(`${where}.file`, `expected a path ending in .mtx, .mtx.gz or .npz, got ${describe(e.file)}`);
+    if (typeof e.rhs !== 'string' || e.rhs === '') fail(`${where}.rhs`, `expected a path to a Matrix Market vector (each system of a sequence has its own right-hand side), got ${describe(e.rhs)}`);
+    return { file: e.file as string, rhs: e.rhs as string, filePath: abs(e.file as string), rhsPath: abs(e.rhs as string) };
+  });
+  return { kind: 'sequence-files', name, note, files, blockSize: m.blockSize as number | undefined };
+}
+
 /** Read, parse and validate a suite file; also checks that every referenced file exists. */
 export function readSuite(path: string, parsers: SuiteParsers): Suite {
   const obj = readJsonFile(path, 'suite file');
   const suite = parseSuite(obj, path, dirname(resolve(path)), parsers);
   suite.matrices.forEach((m, i) => {
+    if (m.kind === 'sequence-files') {
+      m.files.forEach((f, k) => {
+        if (!existsSync(f.filePath)) throw new UserError(`${path}: matrices[${i}].sequence[${k}].file: no such file "${f.file}" (looked for ${f.filePath})`);
+        if (!existsSync(f.rhsPath)) throw new UserError(`${path}: matrices[${i}].sequence[${k}].rhs: no such file "${f.rhs}" (looked for ${f.rhsPath})`);
+      });
+      return;
+    }
     if (m.kind !== 'file') return;
     if (!existsSync(m.filePath)) throw new UserError(`${path}: matrices[${i}].file: no such file "${m.file}" (looked for ${m.filePath})`);
     if (m.rhsPath !== undefined && !existsSync(m.rhsPath)) throw new UserError(`${path}: matrices[${i}].rhs: no such file "${m.rhs}" (looked for ${m.rhsPath})`);

@@ -75,9 +75,10 @@ export interface SweepOutcome {
   files: { results: string; csv: string; history?: string };
 }
 
-/** Folder of a generated case in the cache: name plus a hash of the parameters and slabbench version. */
+/** Folder of a generated case in the cache: name plus a hash of the parameters (and sequence) and slabbench version. */
 export function caseFolder(cacheDir: string, m: GeneratedMatrixEntry): string {
-  return join(cacheDir, `${m.name}-${shortHash(canonicalJson({ slabbench: VERSION, generate: m.generate }))}`);
+  const key = m.sequence === undefined ? { slabbench: VERSION, generate: m.generate } : { slabbench: VERSION, generate: m.generate, sequence: m.sequence };
+  return join(cacheDir, `${m.name}-${shortHash(canonicalJson(key))}`);
 }
 
 const CASE_MARKER = 'case.json';
@@ -127,6 +128,31 @@ export async function ensureGeneratedCase(
   // Written last, so a half-built case is never reused.
   writeFileAtomicSync(marker, `${JSON.stringify({ mtx: relative(dir, mtx), rhs: relative(dir, rhs), layout: relative(dir, resolve(dir, files.layout)) })}\n`);
   return { mtx, rhs };
+}
+
+/**
+ * Build (or reuse) a generated sequence: its systems in order, cached like a generated case (one
+ * folder per parameters + sequence + version, `case.json` listing the systems written last).
+ */
+export async function ensureGeneratedSequence(
+  cacheDir: string, m: GeneratedMatrixEntry, builder: CaseBuilder, log?: (line: string) => void,
+): Promise<Array<{ mtx: string; rhs: string; label: string }>> {
+  const dir = caseFolder(cacheDir, m);
+  const marker = join(dir, CASE_MARKER);
+  if (existsSync(marker)) {
+    try {
+      const c = JSON.parse(readFileSync(marker, 'utf8')) as { systems: Array<{ mtx: string; rhs: string; label: string }> };
+      const systems = c.systems.map((x) => ({ mtx: resolve(dir, x.mtx), rhs: resolve(dir, x.rhs), label: x.label }));
+      if (systems.length > 0 && systems.every((x) => existsSync(x.mtx) && existsSync(x.rhs))) return systems;
+    } catch { /* rebuild below */ }
+  }
+  if (!builder.writeGeneratedSequence) throw new UserError(`${m.name}: this build cannot generate sequences`);
+  log?.(`building sequence ${m.name} into ${dir}`);
+  mkdirSync(dir, { recursive: true });
+  const built = await builder.writeGeneratedSequence(m.generate, m.sequence, dir, m.name);
+  const systems = built.systems.map((x) => ({ mtx: resolve(dir, x.mtx), rhs: resolve(dir, x.rhs), label: x.label }));
+  writeFileAtomicSync(marker, `${JSON.stringify({ systems: systems.map((x) => ({ mtx: relative(dir, x.mtx), rhs: relative(dir, x.rhs), label: x.label })) })}\n`);
+  return systems;
 }
 
 function displayPath(outDir: string, p: string): string {
@@ -260,6 +286,22 @@ export async function runSweep(opts: SweepOptions): Promise<SweepOutcome> {
       taskMatrices.set(mi, {
         name: m.name, source: 'file', mtx: m.filePath, rhs: m.rhsPath, blockSize: m.blockSize, note: m.note,
         displayPath: displayPath(outDir, m.filePath),
+      });
+    } else if (m.kind === 'sequence-files') {
+      const first = m.files[0]!;
+      taskMatrices.set(mi, {
+        name: m.name, source: 'file', mtx: first.filePath, rhs: first.rhsPath, blockSize: m.blockSize, note: m.note,
+        displayPath: displayPath(outDir, first.filePath),
+        sequence: { kind: 'files', systems: m.files.map((f, k) => ({ mtx: f.filePath, rhs: f.rhsPath, label: `file ${k + 1}` })) },
+      });
+    } else if (m.sequence !== undefined) {
+      const builder = opts.builder ?? (await import('./real-deps.js'));
+      opts.onStatus?.(`preparing ${m.name} (generated sequence: cached or built now)`);
+      const systems = await ensureGeneratedSequence(cacheDir, m, builder, opts.log);
+      const kind = (m.sequence as { kind: 'newton' | 'slabs' }).kind;
+      taskMatrices.set(mi, {
+        name: m.name, source: 'generated', mtx: systems[0]!.mtx, rhs: systems[0]!.rhs, note: m.note,
+        displayPath: displayPath(outDir, systems[0]!.mtx), sequence: { kind, systems },
       });
     } else {
       const builder = opts.builder ?? (await import('./real-deps.js'));

@@ -17,12 +17,18 @@
  * shares the same arrays) is replaced by views of the arena, so the JavaScript copies can be
  * collected. A later solve on the same system reuses the arena when its bound fits, else a larger
  * arena is created and the matrix moved again.
+ *
+ * A prepared solve (prepareSolve in run-recipe.ts) keeps its plan open from setup to dispose: the
+ * preconditioner's arrays stay in the arena, suspend() deactivates it between solves, and each
+ * solve runs in a scope() that hands back what it allocated. While a plan is open its arena is
+ * busy: another plan on the same system gets an arena of its own (the matrix is copied again), so
+ * one prepared solve never releases another's factors.
  */
 import type { Bsr, Csr } from '../sparse/types.js';
 import type { SystemMatrix } from '../precond/types.js';
 import type { Recipe } from './recipe.js';
 import { UserError } from '../util/errors.js';
-import { KernelArena, MAX_KERNEL_MEMORY_BYTES, setActiveArena } from '../kernels-host/arena.js';
+import { KernelArena, MAX_KERNEL_MEMORY_BYTES, activeArena, setActiveArena } from '../kernels-host/arena.js';
 import { kernelModule, kernelModuleProblem } from '../kernels-host/module.js';
 
 export type KernelChoice = 'auto' | 'wasm' | 'typescript';
@@ -52,9 +58,17 @@ export interface KernelPlan {
   adopt(v: Float64Array): Float64Array;
   /** Release the solve's buffers (the matrix stays) and deactivate the arena. */
   finish(): { spilledBytes: number; usedBytes: number };
+  /** Deactivate the arena, keeping everything allocated so far (a prepared preconditioner). */
+  suspend(): void;
+  /**
+   * Activate the arena for one solve; the returned leave() releases what the solve allocated,
+   * restores the arena active before, and returns the bytes that did not fit kernel memory
+   * (those allocated before suspend() plus this solve's).
+   */
+  scope(): () => number;
 }
 
-interface Cached { arena: KernelArena; matrixMark: number }
+interface Cached { arena: KernelArena; matrixMark: number; busy: boolean }
 const arenas = new WeakMap<object, Cached>();
 
 const pad = (bytes: number): number => Math.ceil(bytes / 16) * 16;
@@ -71,11 +85,27 @@ export function solveBoundBytes(system: SystemMatrix, recipe: Recipe, format: 'c
   const n = system.n ?? system.bsr.nBlockRows * system.bsr.bs;
   const vec = pad(n * 8);
   const matrix = arraysBytes(format === 'csr' ? system.csr : system.bsr);
-  const basis = (recipe.restart + 1) * (recipe.krylov === 'fgmres' ? 2 : 1);
+  const deflate = recipe.deflate ?? 0;
+  // GMRES-DR: k + 1 more vectors (the new V_{k+1}); GCRO-DR: U, C and their replacements (4k)
+  const basis = (recipe.restart + 1) * (recipe.krylov === 'fgmres' ? 2 : 1)
+    + (recipe.krylov === 'gmres-dr' ? deflate + 1 : recipe.krylov === 'gcro-dr' ? 4 * deflate : 0);
   const inner = recipe.inner ? (recipe.inner.restart + 1) * 2 + 16 : 0;
-  const precond = recipe.preconditioner === 'none' ? 0 : 3 * matrix + 32 * vec;
+  const precond = recipe.preconditioner === 'none' ? 0 : (PRECONDITIONER_MATRIX_COPIES[recipe.preconditioner] ?? 3) * matrix + 32 * vec;
   return precond + (basis + inner + 16) * vec + (1 << 20);
 }
+
+/**
+ * Bound on a preconditioner's storage in copies of the matrix arrays (default 3: factors of the
+ * same pattern, a permuted copy, the diagonal inverses). The multilevel and partitioned methods
+ * hold more: AIR its coarse operators, Z and W, a scaled copy of the matrix and dense scratch; p-multigrid its coarse levels and a smoother per level; schwarz overlapped subdomain
+ * copies and their factors; block-iluk fill; direct the fill of a sparse LU. What exceeds the bound
+ * is allocated on the JavaScript heap (spilledBytes; those kernels run in TypeScript). A larger
+ * bound costs address space, not RAM; solves whose bound would pass one memory's 4 GiB are capped
+ * there (see planKernels).
+ */
+const PRECONDITIONER_MATRIX_COPIES: Readonly<Record<string, number>> = {
+  air: 8, 'p-multigrid': 5, schwarz: 5, 'block-iluk': 6, direct: 12,
+};
 
 function moveMatrix(system: SystemMatrix, arena: KernelArena, withCsr: boolean, format: 'csr' | 'bsr'): void {
   const copy = <T extends Float64Array | Int32Array>(a: T): T => {
@@ -112,10 +142,11 @@ function moveMatrix(system: SystemMatrix, arena: KernelArena, withCsr: boolean, 
  */
 export function planKernels(
   system: SystemMatrix, recipe: Recipe, choice: KernelChoice, format: 'csr' | 'bsr' = 'bsr',
-  limitBytes = MAX_KERNEL_MEMORY_BYTES - (1 << 16),
+  limitBytes = MAX_KERNEL_MEMORY_BYTES - (1 << 16), extraBytes = 0,
 ): KernelPlan {
   const none = (note?: string): KernelPlan => ({
     kernels: 'typescript', note, memoryBytes: 0, adopt: (v) => v, finish: () => ({ spilledBytes: 0, usedBytes: 0 }),
+    suspend: () => undefined, scope: () => () => 0,
   });
   if (choice === 'typescript') return none();
   if (kernelModule() === null) {
@@ -125,9 +156,12 @@ export function planKernels(
   const csrOnly = format === 'csr';
   const withCsr = !csrOnly && system.bsr.bs > 1 && usesCsr(recipe);
   const matrix = csrOnly ? arraysBytes(system.csr) : arraysBytes(system.bsr) + (withCsr ? arraysBytes(system.csr) : 0);
-  const need = matrix + solveBoundBytes(system, recipe, format);
+  // the bound past the 4 GiB one memory holds is capped there: what then does not fit spills to
+  // the JavaScript heap; the matrix with the Krylov and work vectors (the 'none' bound) must fit
+  const base = matrix + solveBoundBytes(system, { ...recipe, preconditioner: 'none' }, format) + pad(extraBytes);
+  const need = Math.min(matrix + solveBoundBytes(system, recipe, format) + pad(extraBytes), Math.max(limitBytes, base));
   let cached = arenas.get(system);
-  const inArena = cached !== undefined && (csrOnly
+  const inArena = cached !== undefined && !cached.busy && (csrOnly
     ? system.csr.values.buffer === cached.arena.buffer
     : system.bsr.values.buffer === cached.arena.buffer && (!withCsr || system.csr.values.buffer === cached.arena.buffer));
   if (!(cached !== undefined && inArena && cached.arena.bytes - cached.matrixMark >= need - matrix)) {
@@ -138,14 +172,17 @@ export function planKernels(
     }
     const arena = new KernelArena(need);
     moveMatrix(system, arena, withCsr, format);
-    cached = { arena, matrixMark: arena.mark() };
+    cached = { arena, matrixMark: arena.mark(), busy: false };
     arenas.set(system, cached);
   }
-  const { arena, matrixMark } = cached;
+  const entry = cached;
+  const { arena, matrixMark } = entry;
   arena.release(matrixMark);
   arena.spilledBytes = 0;
+  entry.busy = true;
   setActiveArena(arena);
   let finished: { spilledBytes: number; usedBytes: number } | null = null;
+  let suspendedSpill = 0;
   return {
     kernels: 'wasm',
     memoryBytes: arena.bytes,
@@ -160,8 +197,27 @@ export function planKernels(
         finished = { spilledBytes: arena.spilledBytes, usedBytes: arena.usedBytes() };
         setActiveArena(null);
         arena.release(matrixMark);
+        entry.busy = false;
       }
       return finished;
+    },
+    suspend() {
+      suspendedSpill = arena.spilledBytes;
+      setActiveArena(null);
+    },
+    scope() {
+      if (finished !== null) throw new Error('kernel plan: scope() after finish()');
+      const before = activeArena();
+      const mark = arena.mark();
+      arena.spilledBytes = suspendedSpill;
+      setActiveArena(arena);
+      return () => {
+        const spilled = arena.spilledBytes;
+        arena.release(mark);
+        arena.spilledBytes = suspendedSpill;
+        setActiveArena(before);
+        return spilled;
+      };
     },
   };
 }

@@ -5,15 +5,17 @@ import { krylovOptionsFromRecipe, type KrylovOptions } from './options.js';
 import { gmres } from './gmres.js';
 import { bicgstab } from './bicgstab.js';
 import { stationary } from './stationary.js';
+import { gmresDr } from './gmres-dr.js';
+import { gcroDr } from './gcro-dr.js';
 import { UserError } from '../util/errors.js';
 
 /**
- * GMRES needs M to be the same linear map at every application; a variable preconditioner (inner
+ * GMRES (and GMRES-DR, GCRO-DR) needs M to be the same linear map at every application; a variable preconditioner (inner
  * iterative solves) is refused with a one-line error naming the recipe. FGMRES takes it.
  */
 export function checkVariablePreconditioner(recipe: Recipe, M?: Preconditioner): void {
-  if (M?.variable && recipe.krylov === 'gmres') {
-    throw new UserError(`recipe ${recipe.name}: preconditioner ${M.name} changes between applications (variable: it runs an inner iterative solve); gmres needs a fixed preconditioner, use krylov fgmres`);
+  if (M?.variable && (recipe.krylov === 'gmres' || recipe.krylov === 'gmres-dr' || recipe.krylov === 'gcro-dr')) {
+    throw new UserError(`recipe ${recipe.name}: preconditioner ${M.name} changes between applications (variable: it runs an inner iterative solve); ${recipe.krylov} needs a fixed preconditioner, use krylov fgmres`);
   }
 }
 
@@ -37,6 +39,10 @@ export function krylovSolve(
       return gmres(A, b, x, opts);
     case 'bicgstab':
       return bicgstab(A, b, x, opts);
+    case 'gmres-dr':
+      return gmresDr(A, b, x, opts);
+    case 'gcro-dr':
+      return gcroDr(A, b, x, opts);
     case 'none':
       return stationary(A, b, x, { ...opts, omega: recipe.preconditioner === 'block-gs' ? 1 : recipe.omega });
   }

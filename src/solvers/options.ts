@@ -25,6 +25,11 @@ export interface KrylovOptions {
   flexible?: boolean;
   /** Stationary iteration step factor ω in x ← x + ω M⁻¹(b − A x). Default 1. */
   omega?: number;
+  /**
+   * GMRES-DR and GCRO-DR: harmonic Ritz vectors kept at each restart (and, GCRO-DR, carried to the
+   * next solve), 0 ≤ deflate < restart. Default defaultDeflate(restart).
+   */
+  deflate?: number;
   /** GMRES: compute Ritz values of the first cycle (default true). */
   ritz?: boolean;
   /**
@@ -61,6 +66,7 @@ export function krylovOptionsFromRecipe(recipe: Recipe, M?: Preconditioner): Kry
     relativeTo: recipe.relativeTo,
     flexible: recipe.krylov === 'fgmres',
     omega: recipe.omega,
+    deflate: recipe.deflate,
   };
 }
 
@@ -87,6 +93,34 @@ export function checkKrylovOptions(method: string, o: KrylovOptions): void {
   if (o.omega !== undefined && (!(o.omega > 0) || !Number.isFinite(o.omega))) {
     throw bad(method, 'omega', `expected a finite number > 0, got ${o.omega}`);
   }
+}
+
+/** Most harmonic Ritz vectors kept when a recipe or caller gives no deflate. */
+export const DEFAULT_DEFLATE = 10;
+
+/** The deflation dimension when none is given: 10, or ⌊restart/3⌋ when smaller (k well below m; common practice). */
+export function defaultDeflate(restart: number): number {
+  return Math.min(DEFAULT_DEFLATE, Math.floor(restart / 3));
+}
+
+/**
+ * The checks of the deflated GMRES variants (gmres-dr, gcro-dr) beyond checkKrylovOptions: right
+ * preconditioning with a fixed M only, and 0 ≤ deflate < restart. Returns the cycle length m
+ * (restart capped at n) and the deflation dimension k (capped at m − 1).
+ */
+export function checkDeflatedOptions(method: string, o: KrylovOptions, n: number): { m: number; k: number } {
+  checkKrylovOptions(method, o);
+  if (o.flexible) throw bad(method, 'flexible', 'not supported (the deflated methods need a fixed preconditioner)');
+  if (o.side === 'left' && o.M) throw bad(method, 'side', `${method} preconditions on the right only`);
+  if (o.M?.variable) {
+    throw new UserError(`${method}: preconditioner ${o.M.name} changes between applications (variable: it runs an inner iterative solve); ${method} needs a fixed preconditioner, use krylov fgmres`);
+  }
+  const kReq = o.deflate ?? defaultDeflate(o.restart);
+  if (!Number.isInteger(kReq) || kReq < 0 || kReq >= o.restart) {
+    throw bad(method, 'deflate', `expected an integer from 0 to restart − 1 = ${o.restart - 1}, got ${kReq}`);
+  }
+  const m = Math.max(1, Math.min(o.restart, n));
+  return { m, k: Math.min(kReq, m - 1) };
 }
 
 /** Check b and x against the operator size; b and x must be different arrays. */

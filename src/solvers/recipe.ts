@@ -1,10 +1,13 @@
 import { UserError, optionError } from '../util/errors.js';
 import { preconditionerUses } from '../precond/registry.js';
+import { PARTITION_METHODS, type PartitionMethod } from '../sparse/partition.js';
+import { SEQUENCE_FIELDS, parseSequencePolicy, type InitialGuess, type ReusePolicy, type SequenceField } from './sequence-policy.js';
+import { defaultDeflate } from './options.js';
 /**
  * A solver recipe: one named combination of Krylov method, preconditioner, ordering and
  * stopping rule. Used by `slabbench solve` (built from options) and by suite files.
  */
-export type KrylovName = 'gmres' | 'fgmres' | 'bicgstab' | 'none';
+export type KrylovName = 'gmres' | 'fgmres' | 'bicgstab' | 'gmres-dr' | 'gcro-dr' | 'none';
 export type PreconditionerName = 'none' | 'jacobi' | 'block-jacobi' | 'block-gs' | 'ilu0' | 'block-ilu0' | 'block-iluk' | 'slab'
   | 'p-multigrid' | 'air' | 'schwarz' | 'direct';
 export type SweepDirection = 'forward' | 'backward' | 'symmetric';
@@ -13,7 +16,12 @@ export type PreconditionSide = 'right' | 'left';
 export type Orthogonalization = 'mgs' | 'cgs2';
 export type BlockInverse = 'lu' | 'inverse';
 
-export const KRYLOV_NAMES: readonly KrylovName[] = ['gmres', 'fgmres', 'bicgstab', 'none'];
+export const KRYLOV_NAMES: readonly KrylovName[] = ['gmres', 'fgmres', 'bicgstab', 'gmres-dr', 'gcro-dr', 'none'];
+/** The deflated GMRES variants: they read `deflate` (src/solvers/gmres-dr.ts, gcro-dr.ts). */
+export const DEFLATED_KRYLOV: readonly KrylovName[] = ['gmres-dr', 'gcro-dr'];
+export function isDeflatedKrylov(k: KrylovName): boolean {
+  return DEFLATED_KRYLOV.includes(k);
+}
 export const PRECONDITIONER_NAMES: readonly PreconditionerName[] = [
   'none', 'jacobi', 'block-jacobi', 'block-gs', 'ilu0', 'block-ilu0', 'block-iluk', 'slab',
   'p-multigrid', 'air', 'schwarz', 'direct',
@@ -38,6 +46,8 @@ export interface Recipe {
   krylov: KrylovName;
   /** GMRES/FGMRES basis size per cycle. */
   restart: number;
+  /** GMRES-DR/GCRO-DR: harmonic Ritz vectors kept at each restart (and carried, GCRO-DR), below restart. */
+  deflate?: number;
   side: PreconditionSide;
   orthogonalization: Orthogonalization;
   preconditioner: PreconditionerName;
@@ -77,10 +87,20 @@ export interface Recipe {
   subdomain?: SubdomainSolver;
   /** Schwarz partition: across slabs (default) or every part inside one slab. */
   partitionSlabs?: PartitionSlabsMode;
+  /** Schwarz partition: graph bisection (default) or coordinate bisection of the layout's centroids. */
+  partitionMethod?: PartitionMethod;
   /** AIR preconditioner options (filled with DEFAULT_AIR_OPTIONS when preconditioner is air). */
   air?: AirOptions;
   /** p-multigrid preconditioner: levels, cycle, smoother, coarse solve (defaults: DEFAULT_P_MULTIGRID). */
   pMultigrid?: PMultigridOptions;
+  /** Sequences only (src/solvers/sequence-policy.ts): when the preconditioner is rebuilt (absent: every system). */
+  reuse?: ReusePolicy;
+  /** reuse "fixed": systems one set-up serves. */
+  reuseSystems?: number;
+  /** reuse "on-growth": rebuild after a solve needing more than this factor × the iterations right after the last rebuild. */
+  refreshFactor?: number;
+  /** Sequences only: x₀ = 0 (absent) or the previous system's solution. */
+  initialGuess?: InitialGuess;
 }
 
 export const DEFAULT_RECIPE: Readonly<Recipe> = Object.freeze({
@@ -128,12 +148,13 @@ type FieldSpec =
   | { kind: 'int'; min: number; max: number }
   | { kind: 'number'; min: number; minOpen: boolean; max?: number; maxOpen?: boolean };
 
-type ScalarField = Exclude<keyof Recipe, 'name' | 'inner' | 'air' | 'pMultigrid'>;
+type ScalarField = Exclude<keyof Recipe, 'name' | 'inner' | 'air' | 'pMultigrid' | SequenceField>;
 
 /** One spec per recipe field: the single source for suite files and command-line options. */
 const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   krylov: { kind: 'enum', values: KRYLOV_NAMES },
   restart: { kind: 'int', min: 1, max: 10000 },
+  deflate: { kind: 'int', min: 0, max: 9999 },
   side: { kind: 'enum', values: PRECONDITION_SIDES },
   orthogonalization: { kind: 'enum', values: ORTHOGONALIZATIONS },
   preconditioner: { kind: 'enum', values: PRECONDITIONER_NAMES },
@@ -154,6 +175,7 @@ const FIELD_SPECS: Record<ScalarField, FieldSpec> = {
   schwarzKind: { kind: 'enum', values: SCHWARZ_KINDS },
   subdomain: { kind: 'enum', values: SUBDOMAIN_SOLVERS },
   partitionSlabs: { kind: 'enum', values: PARTITION_SLABS },
+  partitionMethod: { kind: 'enum', values: PARTITION_METHODS },
 };
 
 function describeSpec(s: FieldSpec): string {
@@ -190,12 +212,20 @@ function crossCheck(r: Recipe, isInner: boolean): [keyof Recipe, string] | undef
     return ['omega', `block-gs relaxation must be below 2, got ${r.omega}`];
   }
   if (r.krylov === 'fgmres' && r.side === 'left') return ['side', 'fgmres preconditions on the right only'];
+  if (r.deflate !== undefined && isDeflatedKrylov(r.krylov) && !(r.deflate < r.restart)) {
+    return ['deflate', `${r.krylov} keeps deflate harmonic Ritz vectors of a restart-${r.restart} cycle, so deflate must be below restart; got deflate ${r.deflate}`];
+  }
   if (r.inner && r.preconditioner !== 'slab') return ['inner', 'an inner recipe is only used by preconditioner slab'];
   if (isInner && r.preconditioner === 'slab') return ['preconditioner', 'a slab inner recipe cannot itself use slab'];
   if (r.air && r.preconditioner !== 'air') return ['air', 'AIR options are only used by preconditioner air'];
   const pmg = pMultigridCrossCheck(r);
   if (pmg) return pmg;
   return undefined;
+}
+
+/** A deflated method without `deflate` gets defaultDeflate(restart) (recorded in results like any field it reads). */
+function fillDeflate(r: Recipe): void {
+  if (isDeflatedKrylov(r.krylov) && r.deflate === undefined) r.deflate = defaultDeflate(r.restart);
 }
 
 /**
@@ -225,9 +255,10 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?:
       continue;
     }
     if (key === 'inner' || key === 'air' || key === 'pMultigrid') continue;
+    if (!isInner && (SEQUENCE_FIELDS as readonly string[]).includes(key)) continue;
     const spec = (FIELD_SPECS as Record<string, FieldSpec | undefined>)[key];
     if (!spec) {
-      throw new UserError(`${where}: unknown field "${key}" (recipe fields: name, ${Object.keys(FIELD_SPECS).join(', ')}, inner, air, pMultigrid)`);
+      throw new UserError(`${where}: unknown field "${key}" (recipe fields: name, ${Object.keys(FIELD_SPECS).join(', ')}, inner, air, pMultigrid${isInner ? "" : `, ${SEQUENCE_FIELDS.join(", ")}`})`);
     }
     const c = checkValue(spec, src[key], false);
     if (c.error) throw new UserError(`${where}.${key}: ${c.error}`);
@@ -235,6 +266,7 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?:
   }
   if (src.name === undefined) out.name = isInner ? base.name : `${out.krylov}-${out.preconditioner}`;
   const recipe = out as unknown as Recipe;
+  fillDeflate(recipe);
   if (src.inner !== undefined) {
     if (isInner) throw new UserError(`${where}.inner: an inner recipe cannot have its own inner recipe`);
     recipe.inner = parseRecipeAt(src.inner, `${where}.inner`, true);
@@ -244,6 +276,7 @@ function parseRecipeAt(obj: unknown, where: string, isInner: boolean, defaults?:
   else if (recipe.preconditioner === 'p-multigrid') recipe.pMultigrid = defaultPMultigrid();
   const bad = crossCheck(recipe, isInner);
   if (bad) throw new UserError(`${where}.${bad[0]}: ${bad[1]}`);
+  if (!isInner) Object.assign(recipe, parseSequencePolicy(src, where, recipe.preconditioner) ?? {});
   const given = Object.keys(src).filter((k) => k === 'inner' || k === 'air' || k === 'pMultigrid' || k in FIELD_SPECS) as RecipeField[];
   const unused = firstUnused(recipe, given);
   if (unused) throw new UserError(`${where}.${unused.field}: ${unused.why}`);
@@ -276,6 +309,8 @@ export const KRYLOV_USES: Readonly<Record<KrylovName, readonly ScalarField[]>> =
   gmres: ['restart', 'side', 'orthogonalization'],
   fgmres: ['restart', 'orthogonalization'],
   bicgstab: [],
+  'gmres-dr': ['restart', 'deflate', 'orthogonalization'],
+  'gcro-dr': ['restart', 'deflate', 'orthogonalization'],
   none: ['omega'],
 };
 
@@ -328,6 +363,8 @@ export function recordedRecipe(r: Recipe): RecordedRecipe {
   if (r.inner && (used === 'all' || used.has('inner'))) out.inner = recordedRecipe(r.inner);
   if (r.air && (used === 'all' || used.has('air'))) out.air = { ...r.air };
   if (r.pMultigrid && (used === 'all' || used.has('pMultigrid'))) out.pMultigrid = r.pMultigrid;
+  // the sequence policy, when set (a recipe without one rebuilds every system from x₀ = 0)
+  for (const f of SEQUENCE_FIELDS) if (r[f] !== undefined) out[f] = r[f];
   return out as RecordedRecipe;
 }
 
@@ -335,6 +372,7 @@ export function recordedRecipe(r: Recipe): RecordedRecipe {
 export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   krylov: 'krylov',
   restart: 'restart',
+  deflate: 'deflate',
   side: 'side',
   orthogonalization: 'ortho',
   preconditioner: 'precond',
@@ -355,6 +393,7 @@ export const RECIPE_FLAGS: Readonly<Record<ScalarField, string>> = {
   schwarzKind: 'schwarz-kind',
   subdomain: 'subdomain-precond',
   partitionSlabs: 'partition-slabs',
+  partitionMethod: 'partition-method',
 };
 
 /** commander's camelCase key for a flag ("max-iters" → "maxIters", "inner-precond" → "innerPrecond"). */
@@ -399,11 +438,11 @@ export function recipeFromOptions(opts: Record<string, unknown>): Recipe {
   }
   outer.name = `${outer.krylov}-${outer.preconditioner}`;
   const recipe = outer as unknown as Recipe;
+  fillDeflate(recipe);
   const outerAir = airOptionsFromFlags(opts, '');
   const innerAir = airOptionsFromFlags(opts, 'inner-');
   if (innerAir.firstFlag) innerGiven ??= innerAir.firstFlag;
-  if (recipe.preconditioner === 'slab') recipe.inner = inner as unknown as Recipe;
-  else if (innerGiven) throw optionError(innerGiven, 'inner options are only used with --precond slab');
+  if (recipe.preconditioner === 'slab') { recipe.inner = inner as unknown as Recipe; fillDeflate(recipe.inner); } else if (innerGiven) throw optionError(innerGiven, 'inner options are only used with --precond slab');
   if (outerAir.options) {
     if (recipe.preconditioner !== 'air') throw optionError(outerAir.firstFlag!, 'AIR options are only used with --precond air');
     recipe.air = outerAir.options;
@@ -646,7 +685,7 @@ function levelsProblem(v: unknown): string | undefined {
 function pMultigridCrossCheck(r: Recipe): [keyof Recipe, string] | undefined {
   if (r.pMultigrid && r.preconditioner !== 'p-multigrid') return ['pMultigrid', 'p-multigrid options are only used by preconditioner p-multigrid'];
   if (r.preconditioner !== 'p-multigrid' || !r.pMultigrid) return undefined;
-  if ((r.krylov === 'gmres' || r.krylov === 'bicgstab') && pMultigridIsVariable(r.pMultigrid)) {
+  if ((r.krylov === 'gmres' || r.krylov === 'bicgstab' || isDeflatedKrylov(r.krylov)) && pMultigridIsVariable(r.pMultigrid)) {
     const c = r.pMultigrid.coarse;
     return ['krylov', `p-multigrid with a ${c.krylov === 'none' ? 'stationary coarse solve that stops at rtol' : `${c.krylov} coarse solve`} changes between applications (variable); ${r.krylov} needs a fixed preconditioner: use krylov fgmres, or a coarse solve with krylov none and rtol 0 (a fixed number of steps)`];
   }
@@ -814,6 +853,7 @@ function applyPMultigridFlags(opts: Record<string, unknown>, recipe: Recipe): vo
     coarse[field] = c.value;
   }
   const cr = coarse as unknown as Recipe;
+  fillDeflate(cr);
   const cBad = crossCheck(cr, false);
   if (cBad) throw optionError(`--${PMG_COARSE_PREFIX}${RECIPE_FLAGS[cBad[0] as ScalarField] ?? cBad[0]}`, cBad[1]);
   const cUnused = firstUnused(cr, Object.keys(coarseRaw) as RecipeField[]);

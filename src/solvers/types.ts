@@ -149,6 +149,13 @@ export interface SolveResult {
   failure?: { message: string; blockRow?: number };
   /** Preconditioner-specific statistics, e.g. inner iterations per slab. */
   preconditionerStats?: Record<string, unknown>;
+  /**
+   * True when the solve used a preconditioner set up for an earlier solve (prepareSolve: a later
+   * right-hand side, or a later system of a sequence with a lagged preconditioner): this solve did
+   * no setup work, so timing.setupSeconds is 0 and work.setup is zeros. Absent: the setup reported
+   * is this solve's own (or there is no preconditioner).
+   */
+  setupReused?: boolean;
   /** Kernel set the solve ran on (set by solveSystem; absent in results written before it existed). */
   kernels?: 'wasm' | 'typescript';
   /** Why the TypeScript kernels ran under --kernels auto, or what did not fit kernel memory. */

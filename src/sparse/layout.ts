@@ -3,11 +3,14 @@
  *   { "schema": "slabbench-layout/1", "blockSize": 6, "slabOffsets": [0, 40, 80],
  *     "modes": { "nEquations": 2, "arrangement": "equation-major", "degrees": [0, 1, 1] },
  *     "provenance": { "generator": "duct-pulse", "order": 2 } }
+ * A system of a generated sequence also has "sequence": { "kind": "newton" | "slabs", "index", "count", … }.
  * slabOffsets are BLOCK-row offsets: slab s holds block rows slabOffsets[s] .. slabOffsets[s+1]-1.
+ * Optional "centroids": { "nCoordinates": 3, "values": [x0, y0, t0, x1, …] }, one point per block
+ * row (the coordinate partitioner's input; generated cases write element centroids).
  */
 import { existsSync, readFileSync } from 'node:fs';
-import type { Layout, ModalLayout } from './types.js';
-import { MAX_INT32_INDEX, MODE_ARRANGEMENTS } from './types.js';
+import type { CentroidLayout, Layout, ModalLayout } from './types.js';
+import { MAX_CENTROID_COORDINATES, MAX_INT32_INDEX, MODE_ARRANGEMENTS } from './types.js';
 import { UserError, fileError } from '../util/errors.js';
 import { writeFileAtomicSync } from '../util/atomic-write.js';
 
@@ -68,11 +71,44 @@ export function validateLayout(obj: unknown, where: string): Layout {
     if (typeof z.count !== 'number' || !Number.isInteger(z.count) || z.count < 0) throw fileError(where, undefined, `zeroBlocks.count: expected a non-negative integer, found ${describe(z.count)}`);
     if (typeof z.share !== 'number' || !(z.share >= 0 && z.share <= 1)) throw fileError(where, undefined, `zeroBlocks.share: expected a number from 0 to 1, found ${describe(z.share)}`);
   }
+  if (o.elementQuality !== undefined) validateElementQuality(o.elementQuality, where);
   if (o.modes !== undefined) validateModes(o.modes, bs, where);
+  if (o.centroids !== undefined) validateCentroids(o.centroids, where);
+  if (o.sequence !== undefined) {
+    const q = o.sequence as Record<string, unknown> | null;
+    if (typeof q !== 'object' || q === null || Array.isArray(q)) throw fileError(where, undefined, `sequence: expected an object { kind, index, count, … }, found ${describe(q)}`);
+    if (q.kind !== 'newton' && q.kind !== 'slabs') throw fileError(where, undefined, `sequence.kind: expected "newton" or "slabs", found ${describe(q.kind)}`);
+    if (typeof q.count !== 'number' || !Number.isInteger(q.count) || q.count < 1) throw fileError(where, undefined, `sequence.count: expected a positive integer, found ${describe(q.count)}`);
+    if (typeof q.index !== 'number' || !Number.isInteger(q.index) || q.index < 1 || q.index > q.count) {
+      throw fileError(where, undefined, `sequence.index: expected an integer from 1 to ${q.count} (sequence.count), found ${describe(q.index)}`);
+    }
+  }
   if (o.provenance !== undefined && (typeof o.provenance !== 'object' || o.provenance === null || Array.isArray(o.provenance))) {
     throw fileError(where, undefined, `provenance: expected an object, found ${describe(o.provenance)}`);
   }
   return o as Layout;
+}
+
+/** `elementQuality`: { aspectRatio: { min, median, max }, minJacobianDeterminant }, positive finite, min ≤ median ≤ max. */
+function validateElementQuality(q: unknown, where: string): void {
+  const bad = (field: string, what: string): never => { throw fileError(where, undefined, `elementQuality${field}: ${what}`); };
+  const isObject = (x: unknown): x is Record<string, unknown> => typeof x === 'object' && x !== null && !Array.isArray(x);
+  if (!isObject(q)) bad('', `expected an object { "aspectRatio", "minJacobianDeterminant" }, found ${describe(q)}`);
+  const o = q as Record<string, unknown>;
+  const ar = o.aspectRatio;
+  if (!isObject(ar)) bad('.aspectRatio', `expected an object { "min", "median", "max" }, found ${describe(ar)}`);
+  const a = ar as Record<string, unknown>;
+  for (const k of ['min', 'median', 'max']) {
+    const v = a[k];
+    if (typeof v !== 'number' || !Number.isFinite(v) || v <= 0) bad(`.aspectRatio.${k}`, `expected a positive number, found ${describe(v)}`);
+  }
+  if (!((a.min as number) <= (a.median as number) && (a.median as number) <= (a.max as number))) {
+    bad('.aspectRatio', `expected min ≤ median ≤ max, found ${a.min as number}, ${a.median as number}, ${a.max as number}`);
+  }
+  const det = o.minJacobianDeterminant;
+  if (typeof det !== 'number' || !Number.isFinite(det) || det <= 0) {
+    bad('.minJacobianDeterminant', `expected a positive number (no inverted or flat element), found ${describe(det)}`);
+  }
 }
 
 const MODES_FIELDS = ['nEquations', 'arrangement', 'degrees'];
@@ -118,6 +154,29 @@ function validateModes(m: unknown, bs: number, where: string): asserts m is Moda
   }
 }
 
+/**
+ * The `centroids` field: { nCoordinates: 1..MAX_CENTROID_COORDINATES, values: finite numbers, a
+ * multiple of nCoordinates }; whether there is one point per block row is checked against the
+ * matrix (checkLayoutFits).
+ */
+function validateCentroids(c: unknown, where: string): asserts c is CentroidLayout {
+  const bad = (field: string, what: string): never => { throw fileError(where, undefined, `centroids${field}: ${what}`); };
+  if (typeof c !== 'object' || c === null || Array.isArray(c)) bad('', `expected an object { "nCoordinates", "values" }, found ${describe(c)}`);
+  const o = c as Record<string, unknown>;
+  for (const k of Object.keys(o)) if (k !== 'nCoordinates' && k !== 'values') bad(`.${k}`, 'unknown field (expected nCoordinates, values)');
+  const nc = o.nCoordinates;
+  if (typeof nc !== 'number' || !Number.isInteger(nc) || nc < 1 || nc > MAX_CENTROID_COORDINATES) {
+    bad('.nCoordinates', `expected an integer 1..${MAX_CENTROID_COORDINATES} (coordinates per point), found ${describe(nc)}`);
+  }
+  const v = o.values;
+  if (!Array.isArray(v)) bad('.values', `expected a flat array of coordinates (nCoordinates per block row), found ${describe(v)}`);
+  const values = v as unknown[];
+  for (let i = 0; i < values.length; i++) {
+    if (typeof values[i] !== 'number' || !Number.isFinite(values[i])) bad(`.values[${i}]`, `expected a finite number, found ${describe(values[i])}`);
+  }
+  if (values.length % (nc as number) !== 0) bad('.values', `${values.length} numbers are not a multiple of nCoordinates ${nc as number}`);
+}
+
 /** Check a layout against the matrix it describes (square, divisible, last slab offset). */
 export function checkLayoutFits(layout: Layout, nRows: number, nCols: number, where: string): void {
   const bs = layout.blockSize;
@@ -128,6 +187,15 @@ export function checkLayoutFits(layout: Layout, nRows: number, nCols: number, wh
   if (s !== undefined && s[s.length - 1] !== nRows / bs) {
     throw fileError(where, undefined, `slabOffsets: last entry must be the number of block rows, ${nRows / bs}, found ${s[s.length - 1]}`);
   }
+  const problem = layout.centroids !== undefined ? centroidsProblem(layout.centroids, nRows / bs) : undefined;
+  if (problem !== undefined) throw fileError(where, undefined, problem);
+}
+
+/** Why a centroids field does not fit a matrix of nBlockRows block rows (field named), or undefined. */
+export function centroidsProblem(c: CentroidLayout, nBlockRows: number): string | undefined {
+  const want = nBlockRows * c.nCoordinates;
+  if (c.values.length === want) return undefined;
+  return `centroids.values: expected ${nBlockRows} points (one per block row) × ${c.nCoordinates} coordinates = ${want} numbers, found ${c.values.length}`;
 }
 
 /** Read and validate a layout file. */
@@ -159,6 +227,8 @@ export function readLayoutFor(mtxPath: string): Layout | undefined {
   return existsSync(p) ? readLayout(p) : undefined;
 }
 
+const CENTROIDS_SLOT = '\u0000centroids';
+
 /** Write a layout file atomically (schema first, offsets on one line). Invalid layouts are refused. */
 export function writeLayout(path: string, layout: Layout): void {
   try {
@@ -167,15 +237,18 @@ export function writeLayout(path: string, layout: Layout): void {
     if (e instanceof UserError) throw new UserError(`refusing to write an invalid layout: ${e.message}`);
     throw e;
   }
-  const { schema: _schema, blockSize, slabOffsets, modes, provenance, ...rest } = layout as Layout & { schema?: string };
+  const { schema: _schema, blockSize, slabOffsets, modes, provenance, centroids, ...rest } = layout as Layout & { schema?: string };
   void _schema;
   const ordered: Record<string, unknown> = { schema: LAYOUT_SCHEMA, blockSize };
   if (slabOffsets !== undefined) ordered.slabOffsets = Array.from(slabOffsets);
   if (modes !== undefined) ordered.modes = { nEquations: modes.nEquations, arrangement: modes.arrangement, degrees: Array.from(modes.degrees) };
   Object.assign(ordered, rest);
   if (provenance !== undefined) ordered.provenance = provenance;
+  // one point per block row, last: spliced in as one line after formatting (not one line per number)
+  if (centroids !== undefined) ordered.centroids = { nCoordinates: centroids.nCoordinates, values: CENTROIDS_SLOT };
   let text = JSON.stringify(ordered, null, 2);
   // Keep arrays of plain numbers on one line: a long slabOffsets list stays readable.
   text = text.replace(/\[\s*(-?[\d.eE+-]+(?:,\s*-?[\d.eE+-]+)*)\s*\]/g, (_m, body: string) => `[${body.split(/,\s*/).join(', ')}]`);
+  if (centroids !== undefined) text = text.replace(JSON.stringify(CENTROIDS_SLOT), () => `[${centroids.values.join(', ')}]`);
   writeFileAtomicSync(path, `${text}\n`);
 }

@@ -619,9 +619,29 @@ export async function readMatrixMarketVector(path: string, opts: ReadMatrixMarke
     throw fileError(path, undefined, `expected a vector (vector object or n×1 matrix), found a ${csr.nRows}×${csr.nCols} matrix`);
   }
   void header;
-  const out = new Float64Array(csr.nRows);
+  return denseColumns(csr)[0];
+}
+
+/** The columns of a matrix as dense arrays (entries not stored are 0). */
+function denseColumns(csr: Csr): Float64Array[] {
+  const cols: Float64Array[] = [];
+  for (let j = 0; j < csr.nCols; j++) cols.push(new Float64Array(csr.nRows));
   for (let i = 0; i < csr.nRows; i++) {
-    if (csr.rowPtr[i + 1] > csr.rowPtr[i]) out[i] = csr.values[csr.rowPtr[i]];
+    for (let k = csr.rowPtr[i]; k < csr.rowPtr[i + 1]; k++) cols[csr.colInd[k]][i] = csr.values[k];
   }
-  return out;
+  return cols;
+}
+
+/**
+ * Read dense columns: a `vector` object (array or coordinate), an n×1 matrix (array or
+ * coordinate; coordinate entries not listed are 0), or an n×k `array` matrix (dense columns, k ≥ 1),
+ * one Float64Array per column. A coordinate matrix with more than one column is refused (it is
+ * most likely a sparse matrix given by mistake).
+ */
+export async function readMatrixMarketColumns(path: string, opts: ReadMatrixMarketOptions = {}): Promise<Float64Array[]> {
+  const { header, csr } = await readMatrixMarket(path, opts);
+  if (csr.nCols !== 1 && header.format !== 'array') {
+    throw fileError(path, undefined, `expected a vector, an n×1 matrix or an n×k array (dense columns), found a ${csr.nRows}×${csr.nCols} coordinate matrix`);
+  }
+  return denseColumns(csr);
 }

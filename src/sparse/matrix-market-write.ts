@@ -138,17 +138,29 @@ export async function writeMatrixMarket(path: string, a: Csr, opts: WriteMatrixM
   await writeStreamed(path, coordinateChunks(a, symmetric, opts.comments));
 }
 
-function* vectorChunks(v: Float64Array, object: 'matrix' | 'vector', comments?: string[]): Generator<string> {
-  let s = `%%MatrixMarket ${object} array real general\n${commentLines(comments)}${object === 'matrix' ? `${v.length} 1` : `${v.length}`}\n`;
-  for (let i = 0; i < v.length; i++) {
-    const x = v[i];
-    s += (x === 0 && 1 / x < 0 ? '-0' : String(x)) + '\n';
-    if (s.length >= CHUNK_CHARS) { yield s; s = ''; }
+function* columnChunks(columns: readonly Float64Array[], object: 'matrix' | 'vector', comments?: string[]): Generator<string> {
+  const n = columns.length > 0 ? columns[0].length : 0;
+  let s = `%%MatrixMarket ${object} array real general\n${commentLines(comments)}${object === 'matrix' ? `${n} ${columns.length}` : `${n}`}\n`;
+  // array files are column-major (Boisvert, Pozo & Remington 1996, §3)
+  for (const v of columns) {
+    for (let i = 0; i < v.length; i++) {
+      const x = v[i];
+      s += (x === 0 && 1 / x < 0 ? '-0' : String(x)) + '\n';
+      if (s.length >= CHUNK_CHARS) { yield s; s = ''; }
+    }
   }
   if (s.length > 0) yield s;
 }
 
 /** Write a dense vector (right-hand side) as an n×1 array (default) or a `vector` object. */
 export async function writeMatrixMarketVector(path: string, v: Float64Array, opts: WriteVectorOptions = {}): Promise<void> {
-  await writeStreamed(path, vectorChunks(v, opts.object ?? 'matrix', opts.comments));
+  await writeStreamed(path, columnChunks([v], opts.object ?? 'matrix', opts.comments));
+}
+
+/** Write k dense columns of equal length as an n×k `matrix array real general` file (column-major). */
+export async function writeMatrixMarketColumns(path: string, columns: readonly Float64Array[], opts: { comments?: string[] } = {}): Promise<void> {
+  if (columns.length === 0) throw new RangeError('writeMatrixMarketColumns: no columns');
+  const n = columns[0].length;
+  for (const c of columns) if (c.length !== n) throw new RangeError(`writeMatrixMarketColumns: columns of length ${c.length} and ${n}`);
+  await writeStreamed(path, columnChunks(columns, 'matrix', opts.comments));
 }

@@ -5,10 +5,10 @@
  */
 export type { MatrixMarketHeader } from './matrix-market-header.js';
 export {
-  readMatrixMarket, readMatrixMarketVector, readMatrixMarketFrom, defaultReadLimitBytes, type ByteSource,
+  readMatrixMarket, readMatrixMarketVector, readMatrixMarketColumns, readMatrixMarketFrom, defaultReadLimitBytes, type ByteSource,
   type ReadMatrixMarketOptions, type MatrixMarketFile,
 } from './matrix-market-read.js';
 export {
-  writeMatrixMarket, writeMatrixMarketVector, formatValue,
+  writeMatrixMarket, writeMatrixMarketVector, writeMatrixMarketColumns, formatValue,
   type WriteMatrixMarketOptions, type WriteVectorOptions,
 } from './matrix-market-write.js';

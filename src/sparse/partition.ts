@@ -1,6 +1,7 @@
 /**
- * Partitioning the block graph into P parts by recursive graph bisection, written here (no
- * well-kept partitioner exists on npm).
+ * Partitioning the block rows into P parts by recursive graph bisection of the block graph or by
+ * recursive coordinate bisection of their centroids, written here (no well-kept partitioner
+ * exists on npm).
  *
  * The graph: one vertex per block row, an edge I–J when block (I, J) or (J, I) is stored (I ≠ J),
  * i.e. the symmetrized block pattern. Each bisection of a vertex set:
@@ -15,7 +16,12 @@
  *    J. 49, 1970; from memory): a few passes that swap the left and right vertex of largest gain
  *    (cut edges removed minus created) while the pair's combined gain is positive; sizes never change.
  *
- * No geometric bisection: layouts do not record element centroids; this is graph only.
+ * Or recursive coordinate bisection on one point per block row (the layout's element centroids):
+ * each set is cut across the axis along which its points spread furthest (bounding box), at the
+ * same proportional share, points ordered by that coordinate (ties by block row) — Berger &
+ * Bokhari, A partitioning strategy for nonuniform problems on multiprocessors, IEEE Trans.
+ * Computers C-36(5), 1987 (from memory). No refinement: the cut is purely geometric, so its edge
+ * cut is whatever the geometry gives (reported the same way).
  *
  * Slabs: 'across' (default) bisects the whole space-time graph (parts may hold several slabs:
  * time-parallel); 'within' makes every part lie inside one slab: parts are shared out over the
@@ -25,12 +31,17 @@
  * All figures are in the caller's block-row numbering. The permutation maps new → old (as
  * permute.ts expects) and lists part 0's block rows in ascending order, then part 1's, …
  */
-import type { Bsr } from './types.js';
+import type { Bsr, Centroids } from './types.js';
 
 export type PartitionSlabs = 'across' | 'within';
+/** graph: recursive graph bisection of the block graph; coordinates: recursive coordinate bisection. */
+export type PartitionMethod = 'graph' | 'coordinates';
+export const PARTITION_METHODS: readonly PartitionMethod[] = ['graph', 'coordinates'];
 
 export interface Partition {
   nParts: number;
+  /** How the parts were found (describePartition of a given assignment: 'given'). */
+  method: PartitionMethod | 'given';
   /** part[I] = the part owning block row I. */
   part: Int32Array;
   /** New → old block-row permutation grouping each part's rows (ascending inside a part). */
@@ -113,7 +124,12 @@ function innerDegree(g: Graph, v: number, mark: Int32Array, tag: number): number
   return d;
 }
 
-class Bisector {
+/** Shares parts first..first+k−1 out over a set of block rows. */
+interface Splitter {
+  split(set: Int32Array, first: number, k: number): void;
+}
+
+class Bisector implements Splitter {
   private readonly mark: Int32Array;
   private readonly seen: Int32Array;
   private readonly level: Int32Array;
@@ -215,8 +231,31 @@ class Bisector {
   }
 }
 
+/** Recursive coordinate bisection (see the file comment). */
+class CoordinateBisector implements Splitter {
+  constructor(private readonly points: Centroids, private readonly part: Int32Array) {}
+
+  split(set: Int32Array, first: number, k: number): void {
+    if (k <= 1 || set.length <= 1) { for (const v of set) this.part[v] = first; return; }
+    const kLeft = Math.floor(k / 2);
+    const nLeft = Math.round((set.length * kLeft) / k);
+    const { nCoordinates: nc, values } = this.points;
+    let axis = 0, widest = -1;
+    for (let d = 0; d < nc; d++) {
+      let lo = Infinity, hi = -Infinity;
+      for (const v of set) { const x = values[v * nc + d]; if (x < lo) lo = x; if (x > hi) hi = x; }
+      if (hi - lo > widest) { widest = hi - lo; axis = d; }
+    }
+    const ordered = set.slice().sort((u, v) => values[u * nc + axis] - values[v * nc + axis] || u - v);
+    const left = ordered.slice(0, nLeft).sort();
+    const right = ordered.slice(nLeft).sort();
+    this.split(left, first, kLeft);
+    this.split(right, first + kLeft, k - kLeft);
+  }
+}
+
 /** Figures of a given part assignment (sizes, cut, halo, neighbours, grouping permutation). */
-export function describePartition(a: Bsr, part: Int32Array, nParts: number): Partition {
+export function describePartition(a: Bsr, part: Int32Array, nParts: number, method: Partition['method'] = 'given'): Partition {
   const nb = a.nBlockRows;
   const sizes = new Array<number>(nParts).fill(0);
   for (let I = 0; I < nb; I++) sizes[part[I]]++;
@@ -246,25 +285,36 @@ export function describePartition(a: Bsr, part: Int32Array, nParts: number): Par
   }
   const bytes = a.bs * 8;
   return {
-    nParts, part, perm, partOffsets, sizes, edgeCut, cutBlocksPerPart, haloBlocksPerPart,
+    nParts, method, part, perm, partOffsets, sizes, edgeCut, cutBlocksPerPart, haloBlocksPerPart,
     haloBytesPerPart: haloBlocksPerPart.map((h) => h * bytes), neighboursPerPart,
   };
 }
 
 /**
  * Partition the block rows of a square BSR matrix into nParts parts (1 ≤ nParts ≤ nBlockRows;
- * the caller validates and names the option). Deterministic: no random choices.
+ * the caller validates and names the option). Deterministic: no random choices. Method
+ * 'coordinates' needs `centroids` (one point per block row).
  */
 export function partitionBlocks(
-  a: Bsr, nParts: number, opts: { slabs?: PartitionSlabs; slabOffsets?: Int32Array } = {},
+  a: Bsr, nParts: number,
+  opts: { slabs?: PartitionSlabs; slabOffsets?: Int32Array; method?: PartitionMethod; centroids?: Centroids } = {},
 ): Partition {
   const nb = a.nBlockRows;
   if (!Number.isInteger(nParts) || nParts < 1 || nParts > nb) {
     throw new RangeError(`partitionBlocks: nParts ${nParts} must be an integer from 1 to ${nb}`);
   }
-  const g = blockGraph(a);
+  const method = opts.method ?? 'graph';
   const part = new Int32Array(nb);
-  const bis = new Bisector(g, nb, part);
+  let bis: Splitter;
+  if (method === 'coordinates') {
+    const c = opts.centroids;
+    if (!c || c.values.length !== nb * c.nCoordinates) {
+      throw new RangeError(`partitionBlocks: coordinate bisection needs one point per block row (${nb} block rows, ${c ? `${c.values.length / c.nCoordinates} points` : 'no centroids'})`);
+    }
+    bis = new CoordinateBisector(c, part);
+  } else {
+    bis = new Bisector(blockGraph(a), nb, part);
+  }
   const offs = opts.slabOffsets;
   if (opts.slabs === 'within' && offs && offs.length >= 2) {
     const nSlabs = offs.length - 1;
@@ -292,13 +342,14 @@ export function partitionBlocks(
     for (let i = 0; i < nb; i++) all[i] = i;
     bis.split(all, 0, nParts);
   }
-  return describePartition(a, part, nParts);
+  return describePartition(a, part, nParts, method);
 }
 
 /** JSON-ready summary of a partition (for stats and results). */
 export function partitionSummary(p: Partition, withPermutation: boolean): Record<string, unknown> {
   const out: Record<string, unknown> = {
     parts: p.nParts,
+    partitionMethod: p.method,
     partSizes: p.sizes,
     edgeCut: p.edgeCut,
     cutBlocksPerPart: p.cutBlocksPerPart,

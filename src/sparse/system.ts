@@ -1,10 +1,11 @@
-import type { Bsr, Csr, Layout, ModalLayout } from './types.js';
+import type { Bsr, Centroids, Csr, Layout, ModalLayout } from './types.js';
 import { MAX_INT32_INDEX } from './types.js';
 import type { MatrixMarketHeader } from './matrix-market-header.js';
 import { bsrBlockCount, bsrToCsr, csrToBsr } from './bsr.js';
 import { blocksAreFull, bsrToCsrInPlace, csrAsPointBsr, csrToBsrInPlace, pointBsrAsCsr } from './convert-in-place.js';
 import { detectBlockSize, slabOffsetsProblem, type BlockSizeDetection } from './structure.js';
 import { UserError } from '../util/errors.js';
+import { centroidsProblem } from './layout.js';
 
 /** 'file': the matrix file itself stores square blocks (a scipy bsr .npz). */
 export type BlockSizeSource = 'layout' | 'option' | 'file' | 'detected' | 'none';
@@ -54,6 +55,8 @@ export interface LoadedSystem extends MatrixStore {
   slabOffsets?: Int32Array;
   /** The layout's `modes` section (how each block is built from a hierarchical basis), when present. */
   modes?: ModalLayout;
+  /** The layout's `centroids` (one point per block row), when present. */
+  centroids?: Centroids;
   /** Pattern detection, when it was run (no layout and no --block-size). */
   detection?: BlockSizeDetection;
   header: MatrixMarketHeader;
@@ -128,12 +131,19 @@ export function systemFromMatrix(
     if (problem !== undefined) throw new UserError(`${layoutName}: slabOffsets ${problem} (of ${path})`);
     slabOffsets = Int32Array.from(layout.slabOffsets);
   }
+  let centroids: Centroids | undefined;
+  if (layout?.centroids !== undefined) {
+    const problem = centroidsProblem(layout.centroids, n / bs);
+    if (problem !== undefined) throw new UserError(`${layoutName}: ${problem} (of ${path})`);
+    centroids = { nCoordinates: layout.centroids.nCoordinates, values: Float64Array.from(layout.centroids.values) };
+  }
 
   const store = matrixStore(csr, bs, nBlocks);
   const out = Object.assign(store, { path, blockSizeSource: source, fillRatio, header }) as LoadedSystem;
   if (layout !== undefined) { out.layout = layout; out.layoutPath = opts.layoutPath; }
   if (slabOffsets !== undefined) out.slabOffsets = slabOffsets;
   if (layout?.modes !== undefined) out.modes = layout.modes;
+  if (centroids !== undefined) out.centroids = centroids;
   if (detection !== undefined) out.detection = detection;
   return out;
 }

@@ -48,8 +48,52 @@ export interface Layout {
   readonly provenance?: Record<string, unknown>;
   /** Stored blocks whose entries are all exactly zero, and their share of the stored blocks (generated cases write it). */
   readonly zeroBlocks?: { readonly count: number; readonly share: number };
+  /** One point per block row (element centroid); the coordinate partitioner reads it. */
+  readonly centroids?: CentroidLayout;
+  /**
+   * Element quality of the mesh (generated cases write it): aspect ratio = longest edge / smallest
+   * altitude scaled so a regular simplex gives 1, and the smallest det J (orientation-corrected,
+   * D!·volume) — see src/mesh/quality.ts.
+   */
+  readonly elementQuality?: {
+    readonly aspectRatio: { readonly min: number; readonly median: number; readonly max: number };
+    readonly minJacobianDeterminant: number;
+  };
+  /** This system's place in a generated sequence (src/dg/sequence.ts): which Newton step or slab, and what it linearizes about. */
+  readonly sequence?: SequenceLayout;
   readonly [extra: string]: unknown;
 }
+
+/**
+ * Layout section `sequence`: the system is number `index` (from 1) of `count` in a sequence of
+ * kind 'newton' (step k: the Jacobian at the state after k − 1 Newton updates) or 'slabs' (slab k
+ * of a slab-marching sequence, its inflow the computed solution of slab k − 1). Further fields
+ * describe the step (state file, residual norm, block rows of the slab in the full system).
+ */
+export interface SequenceLayout {
+  readonly kind: 'newton' | 'slabs';
+  readonly index: number;
+  readonly count: number;
+  readonly [extra: string]: unknown;
+}
+
+/**
+ * Layout field `centroids`: block row I's point is values[I·nCoordinates … (I+1)·nCoordinates − 1]
+ * (flat, block-row order). Generated cases write the element centroid, space axes then time.
+ */
+export interface CentroidLayout {
+  readonly nCoordinates: number;
+  readonly values: readonly number[];
+}
+
+/** Centroids as the solvers hold them (from a layout, checked against the matrix). */
+export interface Centroids {
+  readonly nCoordinates: number;
+  readonly values: Float64Array;
+}
+
+/** Most coordinates per centroid the layout accepts (3D + time). */
+export const MAX_CENTROID_COORDINATES = 4;
 
 /** Arrangement of the unknowns inside a block of nEquations × nModes unknowns. */
 export type ModeArrangement = 'equation-major' | 'mode-major';

@@ -96,6 +96,16 @@ describe('slabbench convert', () => {
     expect(Array.from(await readMatrixMarketVector(p('r-rev.rhs.mtx')))).toEqual([5, 6, 3, 4, 1, 2]);
   });
 
+  it('a block permutation moves each centroid with its block row', async () => {
+    writeFileSync(p('c.mtx'), A_TEXT);
+    writeFileSync(p('c.layout.json'), JSON.stringify({ blockSize: 2, centroids: { nCoordinates: 2, values: [0, 10, 1, 11, 2, 12] } }));
+    writeFileSync(p('c-order.txt'), '2\n0\n1\n');
+    expect((await run('convert', p('c.mtx'), p('c-perm.mtx'), '--permute', p('c-order.txt'))).code).toBe(0);
+    expect(readLayout(p('c-perm.layout.json')).centroids).toEqual({ nCoordinates: 2, values: [2, 12, 0, 10, 1, 11] });
+    expect((await run('convert', p('c.mtx'), p('c-same.mtx'))).code).toBe(0);
+    expect(readLayout(p('c-same.layout.json')).centroids).toEqual({ nCoordinates: 2, values: [0, 10, 1, 11, 2, 12] });
+  });
+
   it('--permute reads a 0-based block order; a permutation that splits slabs drops them and says so', async () => {
     writeFileSync(p('q.mtx'), A_TEXT);
     writeFileSync(p('q.layout.json'), JSON.stringify({ blockSize: 2, slabOffsets: [0, 2, 3] }));

@@ -126,3 +126,35 @@ describe('slabbench refine', () => {
     expect(s.stderr).toBe("slabbench: option --sizes: sizes must increase, got '8,4'\n");
   });
 });
+
+describe('slabbench generate: front-aligned mesh map', () => {
+  it('writes the element quality to the layout and inspect shows it; --help has an example', async () => {
+    const r = await runCli(['generate', '--physics', 'advection', '--dim', '1', '--cells', '64', '--aspect-ratio', '1000', '--front-grading', '2',
+      '--name', 'front', '--out', dir]);
+    expect(r.code).toBe(0);
+    const layout = JSON.parse(readFileSync(join(dir, 'front.layout.json'), 'utf8'));
+    expect(layout.elementQuality.aspectRatio.max).toBeGreaterThan(900);
+    expect(layout.provenance.params).toMatchObject({ aspectRatio: 1000, frontGrading: 2, frontDirection: 'align', frontSpeed: 'align', frontPosition: 'center' });
+    const ins = await runCli(['inspect', join(dir, 'front.mtx')]);
+    expect(ins.stdout).toMatch(/\n {2}elements \(layout\) aspect ratio min [\d.]+, median [\d.]+, max (9\d\d|1000)(\.\d+)? \(longest edge \/ smallest altitude, regular simplex = 1\); smallest det J [\d.e-]+\n/);
+    const json = JSON.parse((await runCli(['inspect', join(dir, 'front.mtx'), '--json'])).stdout);
+    expect(json.elementQuality).toEqual(layout.elementQuality);
+    const help = await runCli(['generate', '--help']);
+    expect(help.stdout).toContain('slabbench generate --physics advection --dim 1 --cells 64 --aspect-ratio 1000 --front-grading 2 --name front');
+  });
+
+  it('an inverting map is refused in one line naming the options and the element, and nothing is written', async () => {
+    const out = join(dir, 'inverted');
+    const r = await runCli(['generate', '--physics', 'advection', '--dim', '2', '--cells', '30,4', '--slabs', '2', '--slab-thickness', '0.02',
+      '--velocity', '1.5', '--velocity', '0', '--jitter', '0.45', '--aspect-ratio', '1000', '--front-grading', '2', '--front-position', '0.7', '--out', out]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/^slabbench: generator parameter jitter with generator parameter aspectRatio: element \d+ \(slab \d\) would be inverted \(det J -[^)]+\), vertices \(x…, t\) .*; lower the jitter, the aspect ratio or the grading\n$/);
+    expect(existsSync(out) ? readdirSync(out) : []).toEqual([]);
+  });
+
+  it('a front option without --aspect-ratio has no effect and is refused', async () => {
+    const r = await runCli(['generate', '--physics', 'advection', '--dim', '1', '--front-grading', '1.5', '--out', dir]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toBe('slabbench: option --front-grading: has no effect without option --aspect-ratio (the target aspect ratio switches the front-aligned mesh map on)\n');
+  });
+});

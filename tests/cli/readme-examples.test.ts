@@ -3,7 +3,7 @@
 // column added or moved elsewhere does not break the comparison; a checked column or line that
 // disappears from either side does.
 import { describe, it, expect } from 'vitest';
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -136,6 +136,33 @@ describe('README examples match a run (deterministic figures)', () => {
       compareTables(doc, run, ['iters', 'restarts', 'cause', 'memory'], 'stirred-tank');
     } finally {
       rmSync(out, { recursive: true, force: true });
+    }
+  });
+});
+
+describe('README sequence study', () => {
+  it('generate --sequence, the suite of files, and the per-system table (iterations, rebuilds)', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'slabbench-readme-seq-'));
+    try {
+      const gen = exampleAfter('npx slabbench generate --physics burgers');
+      const args = words(gen.command).slice(1); // drop "slabbench"
+      args[args.indexOf('--out') + 1] = join(dir, 'steps');
+      const g = await runCli(args);
+      expect(g.code).toBe(0);
+      // the first line up to the (machine-dependent) seconds
+      expect(g.stdout.split('\n')[0].replace(/; [\d.]+ s\)$/, '')).toBe(gen.lines[0].replace(/; [\d.]+ s\)$/, ''));
+      const suite = blockWith('  "description": "Newton steps from my code');
+      writeFileSync(join(dir, 'study.json'), suite.join('\n'));
+      const sw = exampleAfter('npx slabbench sweep study.json');
+      const r = await runCli(['sweep', join(dir, 'study.json'), '--out', join(dir, 'out'), '--no-report', '--repeats', '1', '--no-warmup']);
+      expect(r.code).toBe(0);
+      const got = r.stdout.split('\n');
+      const ranked = (lines: string[]) => table(lines, 'rank', 'recipe');
+      compareTables(ranked(sw.lines), ranked(got), ['iters', 'matvecs', 'applies', 'true res.', 'memory'], 'sequence study totals');
+      const per = (lines: string[]) => table(lines.slice(lines.findIndex((l) => l.includes('per system:'))), 'recipe', 'recipe');
+      compareTables(per(sw.lines), per(got), ['file 1', 'file 2', 'file 3', 'total', 'rebuilds'], 'sequence study per system');
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
     }
   });
 });

@@ -93,6 +93,44 @@ describe('generateSystem', () => {
   });
 });
 
+describe('generateSystem: element centroids in the layout', () => {
+  it('1D+t: the Kuhn triangles of each space-time box have centroids (x₀ + h/3, t₀ + 2τ/3) and (x₀ + 2h/3, t₀ + τ/3)', () => {
+    // cells 4 on [0, 2] (h = 0.5), 2 slabs of τ = 0.25: 16 triangles, the mean of the three vertices each
+    const s = generateSystem(parse({ physics: 'advection', dim: 1, cells: 4, extent: 2, slabs: 2, slabThickness: 0.25 }));
+    const c = s.layout.centroids!;
+    expect(c.nCoordinates).toBe(2);
+    expect(c.values.length).toBe(2 * s.bsr.nBlockRows);
+    const got = Array.from({ length: 16 }, (_v, I) => [c.values[2 * I], c.values[2 * I + 1]]).sort((p, q) => p[0] - q[0] || p[1] - q[1]);
+    const want: number[][] = [];
+    for (let i = 0; i < 4; i++) {
+      for (let k = 0; k < 2; k++) {
+        const x0 = 0.5 * i, t0 = 0.25 * k;
+        want.push([x0 + 0.5 / 3, t0 + 0.5 / 3], [x0 + 1 / 3, t0 + 0.25 / 3]);
+      }
+    }
+    want.sort((p, q) => p[0] - q[0] || p[1] - q[1]);
+    for (let j = 0; j < 16; j++) for (let k = 0; k < 2; k++) expect(got[j][k]).toBeCloseTo(want[j][k], 6);
+    // slab by slab: the first slab's block rows have t < 0.25
+    for (let I = 0; I < s.layout.slabOffsets![1]; I++) expect(c.values[2 * I + 1]).toBeLessThan(0.25);
+  });
+
+  it('2D+t, random element order: the points follow the block rows (face neighbours are close, the rest far)', () => {
+    const s = generateSystem(parse({ physics: 'advection', dim: 2, cells: [4, 3], slabs: 1, ordering: 'random', seed: 3 }));
+    const { nCoordinates: nc, values } = s.layout.centroids!;
+    expect(nc).toBe(3);
+    const a = s.bsr;
+    const dist = (I: number, J: number) => Math.hypot(...[0, 1, 2].map((k) => values[I * nc + k] - values[J * nc + k]));
+    // neighbours sharing a face lie inside two adjacent boxes of 0.25 × 0.33 × τ: closer than one box diagonal
+    const diag = Math.hypot(1 / 4, 1 / 3, s.layout.provenance!.slabThickness as number);
+    let far = 0;
+    for (let I = 0; I < a.nBlockRows; I++) {
+      for (let k = a.rowPtr[I]; k < a.rowPtr[I + 1]; k++) expect(dist(I, a.colInd[k])).toBeLessThan(diag);
+      if (dist(I, (I + 1) % a.nBlockRows) > diag) far++;
+    }
+    expect(far).toBeGreaterThan(a.nBlockRows / 4); // consecutive rows of a random order are mostly not neighbours
+  });
+});
+
 describe('orderElements', () => {
   it('every ordering is a permutation that keeps each slab in place', () => {
     const mesh = buildSlabMesh({ dim: 2, cells: [4, 4], nSlabs: 3, layersPerSlab: 1, slabThickness: 0.1, periodic: [true, false] });

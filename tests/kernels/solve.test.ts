@@ -33,6 +33,8 @@ const RECIPES: Array<Partial<Recipe>> = [
   { preconditioner: 'block-ilu0', krylov: 'bicgstab' },
   { preconditioner: 'block-gs', krylov: 'none', maxIterations: 40 },
   { preconditioner: 'block-jacobi', side: 'left', orthogonalization: 'cgs2', restart: 7 },
+  { preconditioner: 'block-ilu0', krylov: 'gmres-dr', restart: 8, deflate: 3 },
+  { preconditioner: 'block-jacobi', krylov: 'gcro-dr', restart: 8, deflate: 3, orthogonalization: 'cgs2' },
 ];
 
 describe('solveSystem: WebAssembly kernels against TypeScript kernels', () => {

@@ -321,7 +321,7 @@ describe('buildSlabMesh: option validation', () => {
     const copy = JSON.parse(JSON.stringify(opts)) as SlabMeshOptions;
     const m = buildSlabMesh(opts);
     expect(opts).toEqual(copy);
-    expect(m.options).toEqual({ ...copy, extent: [1, 1] });
+    expect(m.options).toEqual({ ...copy, extent: [1, 1], front: null });
   });
 });
 

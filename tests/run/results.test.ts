@@ -66,9 +66,10 @@ describe('results document', () => {
     expect(first[CSV_COLUMNS.indexOf('outcome')]).toBe('solved');
     expect(first[CSV_COLUMNS.indexOf('cause')]).toBe('relative-target');
     // timing-protocol columns are at the end; empty when the run carries no repeats or modeled time
-    expect(CSV_COLUMNS.slice(-6)).toEqual(['repeats', 'totalSecondsMedian', 'totalSecondsMin', 'totalSecondsMax', 'repeatsConsistent', 'modeledSeconds']);
+    expect(CSV_COLUMNS.slice(-2)).toEqual(['systems', 'rebuilds']);
+    expect(CSV_COLUMNS.slice(-8, -2)).toEqual(['repeats', 'totalSecondsMedian', 'totalSecondsMin', 'totalSecondsMax', 'repeatsConsistent', 'modeledSeconds']);
     expect(first[CSV_COLUMNS.indexOf('repeats')]).toBe(doc.runs[0].repeats === undefined ? '' : String(doc.runs[0].repeats.count));
-    expect(lines[lines.length - 1].endsWith(',"bad ""thing"", here",,,,,,')).toBe(true);
+    expect(lines[lines.length - 1].endsWith(',"bad ""thing"", here",,,,,,,,')).toBe(true);
     expect(lines[lines.length - 1]).toContain(',error,false,');
   });
 

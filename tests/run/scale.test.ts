@@ -17,10 +17,19 @@ describe('scale: the partitioned forecast', () => {
     expect(reductionsOf(recipe({ restart: 2 }), 5, 2)).toBe(2 * 5 + 2 + 3);
     expect(reductionsOf(recipe({ krylov: 'none' }), 7, 0)).toBe(7);
     expect(reductionsOf(recipe({ krylov: 'bicgstab' }), 2, 0)).toBe(12);
+    // GMRES-DR(4, 2) mgs, 6 iterations, 1 restart: first cycle 2 + 3 + 4 + 5, then m − k = 2 steps
+    // against k + j + 1 vectors (4 + 5), + 1 + 1 norms; k = 0 is GMRES(m)
+    expect(reductionsOf(recipe({ krylov: 'gmres-dr', restart: 4, deflate: 2 }), 6, 1)).toBe(14 + 9 + 2);
+    expect(reductionsOf(recipe({ krylov: 'gmres-dr', restart: 4, deflate: 0 }), 6, 1)).toBe(reductionsOf(recipe({ restart: 4 }), 6, 1));
+    // GCRO-DR(4, 2): the same steps (C then V), + 2 fused small blocks in the second cycle
+    expect(reductionsOf(recipe({ krylov: 'gcro-dr', restart: 4, deflate: 2 }), 6, 1)).toBe(14 + 9 + 2 + 2);
+    // cgs2: 3 per step in the first cycle, gcro-dr 5 per later step (two passes against C too)
+    expect(reductionsOf(recipe({ krylov: 'gcro-dr', restart: 4, deflate: 2, orthogonalization: 'cgs2' }), 6, 1)).toBe(12 + 10 + 2 + 2);
   });
 
   it('recipes per P: schwarz gets the parts; others become block Jacobi over the parts with themselves per part', () => {
     expect(partCounts(10)).toEqual([1, 2, 4, 8]);
+    expect(partCounts(13, 3)).toEqual([3, 6, 12]);
     const s = partitionedRecipe(recipe({ preconditioner: 'schwarz', overlap: 2 }), 4);
     expect([s.parts, s.overlap]).toEqual([4, 2]);
     const j = partitionedRecipe(recipe({ preconditioner: 'block-ilu0' }), 8);
@@ -57,5 +66,9 @@ describe('scale: the partitioned forecast', () => {
     const a = csrToBsr(poisson2d(4), 1);
     expect(() => runScale(systemOf(a), randomVector(16, 1), recipe(), { maxParts: 17, machine: EXAMPLE_MACHINE })).toThrow(UserError);
     expect(() => runScale(systemOf(a), randomVector(16, 1), recipe({ preconditioner: 'schwarz', parts: 2 }), { maxParts: 2, machine: EXAMPLE_MACHINE })).toThrow(/--parts is set by scale/);
+    const within = { maxParts: 2, machine: EXAMPLE_MACHINE, partition: { slabs: 'within' as const } };
+    expect(() => runScale(systemOf(a), randomVector(16, 1), recipe(), within)).toThrow(/need slab offsets/);
+    expect(() => runScale(systemOf(a, Int32Array.of(0, 4, 8, 16)), randomVector(16, 1), recipe(), within)).toThrow(/--max-parts 2 is below the 3 slabs/);
+    expect(() => runScale(systemOf(a), randomVector(16, 1), recipe(), { ...within, partition: { method: 'coordinates' } })).toThrow(/needs element centroids/);
   });
 });

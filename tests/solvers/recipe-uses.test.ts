@@ -9,7 +9,7 @@ describe('recipe fields a method does not read are refused (suite files)', () =>
   it('an ordering for block Jacobi, restart or side for BiCGStab, omega with GMRES + ILU(0): one line naming the field', () => {
     expect(() => parseRecipe({ preconditioner: 'block-jacobi', ordering: 'rcm' }, 'suite.json: recipes[1]'))
       .toThrow(/^suite\.json: recipes\[1\]\.ordering: has no effect with gmres \+ block-jacobi \(read only by block-gs, block-ilu0, block-iluk, schwarz\); remove it$/);
-    expect(() => parseRecipe({ krylov: 'bicgstab', restart: 50 }, 'r')).toThrow(/^r\.restart: has no effect with bicgstab \+ none \(read only by gmres, fgmres\)/);
+    expect(() => parseRecipe({ krylov: 'bicgstab', restart: 50 }, 'r')).toThrow(/^r\.restart: has no effect with bicgstab \+ none \(read only by gmres, fgmres, gmres-dr, gcro-dr\)/);
     expect(() => parseRecipe({ krylov: 'bicgstab', side: 'left' }, 'r')).toThrow(/^r\.side: has no effect with bicgstab/);
     expect(() => parseRecipe({ krylov: 'fgmres', side: 'right' }, 'r')).toThrow(/^r\.side: has no effect with fgmres/);
     expect(() => parseRecipe({ preconditioner: 'ilu0', omega: 1.2 }, 'r')).toThrow(/^r\.omega: has no effect with gmres \+ ilu0 \(read only by krylov none \(stationary iteration\), block-gs, schwarz\)/);

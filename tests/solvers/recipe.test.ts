@@ -11,7 +11,7 @@ describe('parseRecipe (suite files)', () => {
   it('names the bad field and what was expected, in one line', () => {
     expect(() => parseRecipe({ restart: 0 }, 'suite.json: recipes[2]'))
       .toThrow('suite.json: recipes[2].restart: expected an integer from 1 to 10000, got 0');
-    expect(() => parseRecipe({ krylov: 'cg' }, 'r')).toThrow('r.krylov: expected one of gmres, fgmres, bicgstab, none, got "cg"');
+    expect(() => parseRecipe({ krylov: 'cg' }, 'r')).toThrow('r.krylov: expected one of gmres, fgmres, bicgstab, gmres-dr, gcro-dr, none, got "cg"');
     expect(() => parseRecipe({ rtol: '1e-8' }, 'r')).toThrow(/r\.rtol: expected a finite number ≥ 0 and < 1, got "1e-8"/);
     expect(() => parseRecipe({ restrat: 10 }, 'r')).toThrow(/r: unknown field "restrat"/);
     expect(() => parseRecipe([], 'r')).toThrow(/r: expected an object/);

@@ -136,3 +136,30 @@ describe('layout section modes (how each block is built from a hierarchical basi
     expect(() => validateLayout({ blockSize: 6, modes }, 'x')).toThrow(pattern);
   });
 });
+
+describe('layout field centroids (one point per block row)', () => {
+  const c = { nCoordinates: 3, values: [0.125, 0.5, 0.05, 0.375, 0.5, 1e-7, -2.5, 0, 3] };
+  it('is written last on one line, read back exactly, and checked against the matrix', () => {
+    const p = join(dir, 'centroids.layout.json');
+    writeLayout(p, { blockSize: 2, centroids: c, provenance: { order: 0 } });
+    const text = readFileSync(p, 'utf8');
+    expect(text).toMatch(/"centroids": \{\n {4}"nCoordinates": 3,\n {4}"values": \[0\.125, 0\.5, 0\.05, 0\.375, 0\.5, 1e-7, -2\.5, 0, 3\]\n {2}\}\n\}\n$/);
+    expect(text.indexOf('"provenance"')).toBeLessThan(text.indexOf('"centroids"'));
+    expect(readLayout(p).centroids).toEqual(c);
+    expect(() => checkLayoutFits(readLayout(p), 6, 6, p)).not.toThrow();
+    expect(() => checkLayoutFits(readLayout(p), 8, 8, p)).toThrow(/centroids\.values: expected 4 points \(one per block row\) × 3 coordinates = 12 numbers, found 9$/);
+  });
+
+  it.each([
+    ['not an object', [1, 2], /^x: centroids: expected an object \{ "nCoordinates", "values" \}, found an array$/],
+    ['unknown field', { ...c, axes: ['x'] }, /^x: centroids\.axes: unknown field \(expected nCoordinates, values\)$/],
+    ['nCoordinates 0', { ...c, nCoordinates: 0 }, /^x: centroids\.nCoordinates: expected an integer 1\.\.4 \(coordinates per point\), found 0$/],
+    ['nCoordinates 5', { ...c, nCoordinates: 5 }, /^x: centroids\.nCoordinates: expected an integer 1\.\.4/],
+    ['values missing', { nCoordinates: 3 }, /^x: centroids\.values: expected a flat array of coordinates \(nCoordinates per block row\), found undefined$/],
+    ['a string value', { nCoordinates: 1, values: [0, '1'] }, /^x: centroids\.values\[1\]: expected a finite number, found "1"$/],
+    ['a null value (NaN in JSON)', { nCoordinates: 1, values: [0, null] }, /^x: centroids\.values\[1\]: expected a finite number, found null$/],
+    ['not a multiple', { nCoordinates: 2, values: [0, 1, 2] }, /^x: centroids\.values: 3 numbers are not a multiple of nCoordinates 2$/],
+  ])('%s → one-line error naming the field', (_name, centroids, pattern) => {
+    expect(() => validateLayout({ blockSize: 2, centroids }, 'x')).toThrow(pattern);
+  });
+});

@@ -62,6 +62,14 @@ describe('systemFromMatrix (the checks behind loadSystem)', () => {
     const same = systemFromMatrix('A.mtx', header(30, 30), blocked, { blockSize: 3, layout: { blockSize: 3 }, layoutPath: 'A.layout.json' });
     expect(same.blockSizeSource).toBe('layout');
   });
+  it('a layout with centroids gives one point per block row; a wrong count names the field', () => {
+    const values = Array.from({ length: 20 }, (_v, i) => i / 4);
+    const s = systemFromMatrix('A.mtx', header(30, 30), blocked, { layout: { blockSize: 3, centroids: { nCoordinates: 2, values } }, layoutPath: 'A.layout.json' });
+    expect(s.centroids?.nCoordinates).toBe(2);
+    expect(Array.from(s.centroids!.values)).toEqual(values);
+    expect(userError(() => systemFromMatrix('A.mtx', header(30, 30), blocked, { layout: { blockSize: 3, centroids: { nCoordinates: 3, values } }, layoutPath: 'A.layout.json' })))
+      .toBe('A.layout.json: centroids.values: expected 10 points (one per block row) × 3 coordinates = 30 numbers, found 20 (of A.mtx)');
+  });
   it('one-line errors naming the file, option or layout field', () => {
     expect(userError(() => systemFromMatrix('A.mtx', header(30, 30), blocked, { blockSize: 7 })))
       .toBe('A.mtx: block size 7 (from --block-size) does not divide the size 30');

@@ -8,7 +8,7 @@ import { join, dirname } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { spawnSync } from 'node:child_process';
 import type { Csr } from '../../src/sparse/types.js';
-import { readMatrixMarket, readMatrixMarketVector, writeMatrixMarket, writeMatrixMarketVector } from '../../src/sparse/matrix-market.js';
+import { readMatrixMarket, readMatrixMarketVector, writeMatrixMarket, writeMatrixMarketColumns, writeMatrixMarketVector } from '../../src/sparse/matrix-market.js';
 import { tempDir, expectValidCsr } from './matrix-market-helpers.js';
 import { mulberry32 } from '../../src/util/random.js';
 
@@ -112,7 +112,10 @@ describe.runIf(hasScipy)('Matrix Market against scipy.io, live', () => {
       [join(dir, 'g.mtx.gz')]: dense(g),
       [join(dir, 's.mtx')]: dense(s),
       [join(dir, 'b.mtx')]: Array.from(rhs, (x) => [x]),
+      // an n×k array (several right-hand sides or solutions): column-major on file
+      [join(dir, 'x3.mtx')]: Array.from(rhs, (x, i) => [x, 2 * i + 0.5, -x]),
     };
+    await writeMatrixMarketColumns(join(dir, 'x3.mtx'), [rhs, Float64Array.from(rhs, (_, i) => 2 * i + 0.5), Float64Array.from(rhs, (x) => -x)]);
     await writeMatrixMarket(join(dir, 'g.mtx'), g);
     await writeMatrixMarket(join(dir, 'g.mtx.gz'), g);
     await writeMatrixMarket(join(dir, 's.mtx'), s, { symmetric: true });
@@ -120,7 +123,7 @@ describe.runIf(hasScipy)('Matrix Market against scipy.io, live', () => {
     const out = spawnSync(PY, [script, 'read', ...Object.keys(files)], { encoding: 'utf8' });
     expect(out.stderr).toBe('');
     const got = JSON.parse(out.stdout) as Record<string, DenseCase>;
-    for (const [f, want] of Object.entries(files)) expectSameDense(got[f].dense, want, f, f.endsWith('b.mtx'));
+    for (const [f, want] of Object.entries(files)) expectSameDense(got[f].dense, want, f, f.endsWith('b.mtx') || f.endsWith('x3.mtx'));
   });
 
   it('slabbench reads what scipy writes now, to what scipy reads back', async () => {

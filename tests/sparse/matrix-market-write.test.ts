@@ -5,7 +5,8 @@ import { gunzipSync } from 'node:zlib';
 import type { Csr } from '../../src/sparse/types.js';
 import { UserError } from '../../src/util/errors.js';
 import {
-  readMatrixMarket, readMatrixMarketVector, writeMatrixMarket, writeMatrixMarketVector, formatValue,
+  readMatrixMarket, readMatrixMarketColumns, readMatrixMarketVector, writeMatrixMarket, writeMatrixMarketColumns,
+  writeMatrixMarketVector, formatValue,
 } from '../../src/sparse/matrix-market.js';
 import { tempDir, expectValidCsr } from './matrix-market-helpers.js';
 
@@ -141,5 +142,27 @@ describe('writeMatrixMarketVector', () => {
     const p = join(dir, 'c.mtx');
     writeFileSync(p, '%%MatrixMarket vector coordinate integer general\n5 2\n5 -3\n1 2\n');
     expect(Array.from(await readMatrixMarketVector(p))).toEqual([2, 0, 0, 0, -3]);
+  });
+});
+
+describe('writeMatrixMarketColumns / readMatrixMarketColumns', () => {
+  it('an n×k array, column-major (NISTIR 5935 §3), read back bit for bit', async () => {
+    const cols = [Float64Array.from([1.5, -0]), Float64Array.from([1e-300, -1 / 3]), Float64Array.from([0, 7])];
+    const p = join(dir, 'x3.mtx');
+    await writeMatrixMarketColumns(p, cols, { comments: ['three'] });
+    expect(readFileSync(p, 'utf8')).toBe('%%MatrixMarket matrix array real general\n% three\n2 3\n1.5\n-0\n1e-300\n-0.3333333333333333\n0\n7\n');
+    const back = await readMatrixMarketColumns(p);
+    expect(back).toHaveLength(3);
+    back.forEach((c, j) => { for (let i = 0; i < 2; i++) expect(Object.is(c[i], cols[j][i])).toBe(true); });
+  });
+
+  it('a vector or an n×1 coordinate file is one column; a coordinate n×k matrix is refused naming the file', async () => {
+    const v = join(dir, 'cv.mtx');
+    writeFileSync(v, '%%MatrixMarket vector coordinate real general\n3 1\n2 4\n');
+    expect((await readMatrixMarketColumns(v)).map((c) => Array.from(c))).toEqual([[0, 4, 0]]);
+    const m = join(dir, 'cm.mtx');
+    writeFileSync(m, '%%MatrixMarket matrix coordinate real general\n3 2 1\n1 2 4\n');
+    await expect(readMatrixMarketColumns(m)).rejects.toThrow(UserError);
+    await expect(readMatrixMarketColumns(m)).rejects.toThrow(`${m}: expected a vector, an n×1 matrix or an n×k array (dense columns), found a 3×2 coordinate matrix`);
   });
 });

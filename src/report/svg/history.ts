@@ -24,6 +24,8 @@ export interface HistoryPlotInput {
   idPrefix: string;
   /** Indices i where run i used a different suite than run i − 1: a vertical line between them. */
   suiteChanges?: number[];
+  /** data-plot of the root element (default 'history'); 'sequence' draws the systems of a sequence instead of stored runs. */
+  kind?: 'history' | 'sequence';
 }
 
 const W = 560, PH = 170, GAP = 56;
@@ -39,15 +41,16 @@ export function historyPlot(input: HistoryPlotInput): string {
   const lw = legendWidth(entries);
   const width = M.left + W + M.right + lw + 8;
   const height = Math.max(M.top + 2 * PH + GAP + M.bottom, M.top + entries.length * LEGEND_ROW + 16);
-  if (nRuns === 0 || input.series.length === 0) return emptyPlot(width, 200, input.title, 'history', 'no stored runs');
+  const kind = input.kind ?? 'history';
+  if (nRuns === 0 || input.series.length === 0) return emptyPlot(width, 200, input.title, kind, kind === 'history' ? 'no stored runs' : 'no runs');
 
   const x = scaleLinear().domain(nRuns === 1 ? [-1, 1] : [0, nRuns - 1]).range([M.left + 12, M.left + W - 12]);
   // as many labels as fit side by side (the widest label decides)
   const labelW = Math.max(20, ...input.runLabels.map((l) => textWidth(l, 10))) + 8;
   const step = Math.max(1, Math.ceil(nRuns / Math.max(1, Math.floor((W - 24) / labelW))));
-  let s = svgOpen(width, height, input.title, 'history', { 'data-series-count': input.series.length, 'data-runs': nRuns });
+  let s = svgOpen(width, height, input.title, kind, { 'data-series-count': input.series.length, 'data-runs': nRuns });
   s += text(M.left, 20, input.title, { 'font-weight': 600, 'font-size': 13 });
-  if (nRuns === 1) {
+  if (nRuns === 1 && kind === 'history') {
     s += text(M.left + W, 31, 'one stored run: trends appear from the second', { 'text-anchor': 'end', fill: AXIS_COLOR, 'font-size': 10, 'data-note': 'one-run' });
   }
   const changes = (input.suiteChanges ?? []).filter((i) => i > 0 && i < nRuns);
@@ -97,7 +100,8 @@ export function historyPlot(input: HistoryPlotInput): string {
       s += '</g>';
     }
   }
-  s += text(M.left + W / 2, height - 12, 'stored run (oldest left; hollow marker = did not converge)', { 'text-anchor': 'middle', fill: AXIS_COLOR });
+  const xLabel = kind === 'history' ? 'stored run (oldest left; hollow marker = did not converge)' : 'system of the sequence, in order (hollow marker = did not converge)';
+  s += text(M.left + W / 2, height - 12, xLabel, { 'text-anchor': 'middle', fill: AXIS_COLOR });
   s += legend(entries, M.left + W + M.right + 8, M.top);
   return `${s}</svg>`;
 }
