@@ -31,6 +31,20 @@ beforeAll(() => {
 });
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
+describe('slabbench solve: the matrix copied into kernel memory', () => {
+  it('is reported whether the warm-up or the timed solve moved it (the peak RSS holds it either way)', async () => {
+    // 40×40 tridiagonal, 118 entries, bs 1 (CSR): row pointers 41·4 = 164 → 176, column indices
+    // 118·4 = 472 → 480, values 118·8 = 944 bytes, each padded to 16 bytes: 1600
+    for (const extra of [[], ['--no-warmup']]) {
+      const r = await run(['solve', tri, '--json', '-', ...extra]);
+      expect(r.code).toBe(0);
+      const doc = JSON.parse(r.out);
+      expect(doc.kernels).toBe('wasm');
+      expect(doc.kernelMatrixMovedBytes, extra.join(' ')).toBe(1600);
+    }
+  });
+});
+
 describe('slabbench solve', () => {
   it('solves with b = A·1 by default, prints a short summary and exits 0', async () => {
     const r = await run(['solve', tri]);
