@@ -15,6 +15,7 @@ import { readMatrixMarketVector } from '../../src/sparse/matrix-market.js';
 import { solveSystem } from '../../src/solvers/run-recipe.js';
 import { generateSystem, parseGeneratorParams } from '../../src/dg/generate.js';
 import type { SystemMatrix } from '../../src/precond/types.js';
+import { bsrToCsr } from '../../src/sparse/bsr.js';
 import type { Recipe } from '../../src/solvers/recipe.js';
 
 interface Outcome { converged: boolean; iterations: number; applies: number; bytes: number }
@@ -49,7 +50,7 @@ describe('floor screed (p = 3 stiff diffusion): multilevel recipes against singl
     // the 6×6 twin (h and Δt refined by 3/2), generated in memory from its suite entry
     const twin = suite.matrices.find((m) => m.name === 'floor-screed-6') as GeneratedMatrixEntry;
     const g = generateSystem(parseGeneratorParams(twin.generate, 'floor-screed-6'));
-    const sys: SystemMatrix = { bsr: g.bsr, slabOffsets: Int32Array.from(g.layout.slabOffsets ?? []), modes: g.layout.modes };
+    const sys: SystemMatrix = { bsr: g.bsr, csr: bsrToCsr(g.bsr), slabOffsets: Int32Array.from(g.layout.slabOffsets ?? []), modes: g.layout.modes };
     for (const name of ['gmres-block-ilu0-downstream', 'gmres-air', 'gmres-air-w']) {
       const recipe = suite.recipes.find((r) => r.name === name) as Recipe;
       const { result } = solveSystem(sys, g.rhs, recipe);
