@@ -1,6 +1,7 @@
 // Dense bs×bs row-major block kernels: twins of src/precond/dense.ts with the same arithmetic.
 // Mat-vec tiles keep the TypeScript partial sums (s even columns, t odd columns) in the lanes of
-// one f64x2 (bit-identical); loops whose iterations are independent (row operations of LU, the
+// one f64x2 (bit-identical; the column loop takes two pairs per pass, both into the same lanes in
+// column order); loops whose iterations are independent (row operations of LU, the
 // inverse and C −= A·B, over the column index j) take two columns per v128 (also bit-identical:
 // the same operations per entry). Pointers are byte addresses of the block's first entry.
 import { f64At, setF64, i32At, setI32, pairAt } from './common';
@@ -12,11 +13,22 @@ import { f64At, setF64, i32At, setI32, pairAt } from './common';
     const r1 = r0 + rowBytes, r2 = r1 + rowBytes;
     let a0 = f64x2.splat(0), a1 = f64x2.splat(0), a2 = f64x2.splat(0);
     let j = 0;
-    for (; j + 1 < bs; j += 2) {
+    for (; j + 3 < bs; j += 4) {
+      const o = <usize>j << 3;
+      const xv = v128.load(x + o), xw = v128.load(x + o, 16);
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o), xv));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o), xv));
+      a2 = f64x2.add(a2, f64x2.mul(v128.load(r2 + o), xv));
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o, 16), xw));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o, 16), xw));
+      a2 = f64x2.add(a2, f64x2.mul(v128.load(r2 + o, 16), xw));
+    }
+    if (j + 1 < bs) {
       const xv = pairAt(x, j);
       a0 = f64x2.add(a0, f64x2.mul(pairAt(r0, j), xv));
       a1 = f64x2.add(a1, f64x2.mul(pairAt(r1, j), xv));
       a2 = f64x2.add(a2, f64x2.mul(pairAt(r2, j), xv));
+      j += 2;
     }
     let s0 = f64x2.extract_lane(a0, 0), s1 = f64x2.extract_lane(a1, 0), s2 = f64x2.extract_lane(a2, 0);
     if (j < bs) { const xa = f64At(x, j); s0 += f64At(r0, j) * xa; s1 += f64At(r1, j) * xa; s2 += f64At(r2, j) * xa; }
@@ -38,10 +50,19 @@ import { f64At, setF64, i32At, setI32, pairAt } from './common';
     const r1 = r0 + rowBytes;
     let a0 = f64x2.splat(0), a1 = f64x2.splat(0);
     let j = 0;
-    for (; j + 1 < bs; j += 2) {
+    for (; j + 3 < bs; j += 4) {
+      const o = <usize>j << 3;
+      const xv = v128.load(x + o), xw = v128.load(x + o, 16);
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o), xv));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o), xv));
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o, 16), xw));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o, 16), xw));
+    }
+    if (j + 1 < bs) {
       const xv = pairAt(x, j);
       a0 = f64x2.add(a0, f64x2.mul(pairAt(r0, j), xv));
       a1 = f64x2.add(a1, f64x2.mul(pairAt(r1, j), xv));
+      j += 2;
     }
     let s0 = f64x2.extract_lane(a0, 0), s1 = f64x2.extract_lane(a1, 0);
     if (j < bs) { const xa = f64At(x, j); s0 += f64At(r0, j) * xa; s1 += f64At(r1, j) * xa; }

@@ -9,7 +9,7 @@ import {
 import type { Recipe } from '../../src/solvers/recipe.js';
 import type { SystemMatrix } from '../../src/precond/types.js';
 import { randomBsr, randomVector, recipe, systemOf, rng } from '../precond/helpers.js';
-import { BLOCK_SIZES, bsrInArena, firstDifference, inArena, withArena } from './helpers.js';
+import { BLOCK_SIZES, TILE_BLOCK_SIZES, bsrInArena, firstDifference, inArena, withArena } from './helpers.js';
 
 const MiB = 1 << 20;
 
@@ -63,7 +63,7 @@ describe('preconditioner apply in WebAssembly against TypeScript', () => {
 });
 
 describe('dense block kernels in WebAssembly against TypeScript', () => {
-  for (const bs of [...BLOCK_SIZES, 33, 40]) {
+  for (const bs of [...BLOCK_SIZES, ...TILE_BLOCK_SIZES, 33]) {
     it(`bs ${bs}: LU (pivots), inverse, solve, C −= A·B, C = A·B, y = A x, y −= A x`, () => {
       const r = rng(40 + bs);
       const bb = bs * bs;
