@@ -188,11 +188,49 @@ function mulAddBs4(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize
   }
 }
 
+@inline function tiled4(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void {
+  // bs divisible by 4: four rows per pass, each row's partial sums as in tiled2 (one x load per four rows)
+  const bb = bs * bs;
+  const rowBytes = <usize>bs << 3;
+  for (let I = 0; I < n; I++) {
+    const yp = f64Ptr(y, I * bs);
+    initRow(yp, z, y, I, bs);
+    const end = i32At(rowPtr, I + 1);
+    for (let k = i32At(rowPtr, I); k < end; k++) {
+      const xp = f64Ptr(x, i32At(colInd, k) * bs);
+      let r0 = f64Ptr(values, k * bb);
+      for (let i = 0; i < bs; i += 4) {
+        const r1 = r0 + rowBytes, r2 = r1 + rowBytes, r3 = r2 + rowBytes;
+        let a0 = f64x2.splat(0), a1 = f64x2.splat(0), a2 = f64x2.splat(0), a3 = f64x2.splat(0);
+        let j = 0;
+        for (; j + 3 < bs; j += 4) {
+          const o = <usize>j << 3;
+          const xv = v128.load(xp + o), xw = v128.load(xp + o, 16);
+          a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o), xv));
+          a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o), xv));
+          a2 = f64x2.add(a2, f64x2.mul(v128.load(r2 + o), xv));
+          a3 = f64x2.add(a3, f64x2.mul(v128.load(r3 + o), xv));
+          a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o, 16), xw));
+          a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o, 16), xw));
+          a2 = f64x2.add(a2, f64x2.mul(v128.load(r2 + o, 16), xw));
+          a3 = f64x2.add(a3, f64x2.mul(v128.load(r3 + o, 16), xw));
+        }
+        setF64(yp, i, f64At(yp, i) + alpha * (f64x2.extract_lane(a0, 0) + f64x2.extract_lane(a0, 1)));
+        setF64(yp, i + 1, f64At(yp, i + 1) + alpha * (f64x2.extract_lane(a1, 0) + f64x2.extract_lane(a1, 1)));
+        setF64(yp, i + 2, f64At(yp, i + 2) + alpha * (f64x2.extract_lane(a2, 0) + f64x2.extract_lane(a2, 1)));
+        setF64(yp, i + 3, f64At(yp, i + 3) + alpha * (f64x2.extract_lane(a3, 0) + f64x2.extract_lane(a3, 1)));
+        r0 += rowBytes << 2;
+      }
+    }
+  }
+}
+
 function mulAddBs5(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled2(n, 5, rowPtr, colInd, values, x, alpha, z, y); }
 function mulAddBs6(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled3(n, 6, rowPtr, colInd, values, x, alpha, z, y); }
 function mulAddBs7(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled2(n, 7, rowPtr, colInd, values, x, alpha, z, y); }
-function mulAddBs8(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled2(n, 8, rowPtr, colInd, values, x, alpha, z, y); }
+function mulAddBs8(n: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled4(n, 8, rowPtr, colInd, values, x, alpha, z, y); }
 function mulAddTiled2(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled2(n, bs, rowPtr, colInd, values, x, alpha, z, y); }
+function mulAddTiled4(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled4(n, bs, rowPtr, colInd, values, x, alpha, z, y); }
 function mulAddTiled3(n: i32, bs: i32, rowPtr: usize, colInd: usize, values: usize, x: usize, alpha: f64, z: usize, y: usize): void { tiled3(n, bs, rowPtr, colInd, values, x, alpha, z, y); }
 
 /** y = z + α·A x (z = 0: y = α·A x), dispatching on bs like mulAdd in src/sparse/bsr.ts. */
@@ -208,6 +246,7 @@ export function bsrMulAdd(n: i32, bs: i32, rowPtr: usize, colInd: usize, values:
     case 8: mulAddBs8(n, rowPtr, colInd, values, x, alpha, z, y); return;
     default:
       if (bs % 3 == 0 && bs <= 33) mulAddTiled3(n, bs, rowPtr, colInd, values, x, alpha, z, y);
+      else if ((bs & 3) == 0) mulAddTiled4(n, bs, rowPtr, colInd, values, x, alpha, z, y);
       else mulAddTiled2(n, bs, rowPtr, colInd, values, x, alpha, z, y);
   }
 }

@@ -32,8 +32,10 @@ export function firstDifference(a: Float64Array, b: Float64Array): string | unde
 export const BLOCK_SIZES = [1, 2, 3, 4, 5, 6, 7, 8, 9, 12, 16, 30, 11, 17];
 
 /**
- * Block sizes that reach every remainder of the tiles' column loop (two column pairs per pass, then
- * at most one pair, then at most one odd column): bs mod 4 = 0, 1, 2, 3 for the two-row tile (10, 14,
- * 36, 40 with 5, 7, 8, 11, 16, 17 above) and the three-row tile (15, 27 with 6, 9, 12, 30 above).
+ * Block sizes that reach every branch of the block mat-vec tiles' column loop (two column pairs per
+ * pass, then at most one pair, then at most one odd column): the two-row tile (bs mod 4 = 1, 2, 3:
+ * 10, 14 here, 5, 7, 11, 17 above; every bs through the generic path), the three-row tile (bs mod 4
+ * = 3: 15, 27 here, 6, 9, 12, 30 above) and the four-row tile (bs divisible by 4 outside the
+ * three-row range: 36, 40 here, 4, 8, 16 above).
  */
 export const TILE_BLOCK_SIZES = [10, 14, 15, 27, 36, 40];
