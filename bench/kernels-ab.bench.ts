@@ -5,14 +5,15 @@
  * read the same arrays. Calls alternate old and new (order flipped every pair) and the ratio
  * new/old is taken per pair, so load that comes and goes on a shared machine hits both sides.
  *
- *   npx tsx bench/kernels-ab.bench.ts [--base REV] [--rounds N] [--quick] [--only spmv|mgs|gmres] [--values V]
+ *   npx tsx bench/kernels-ab.bench.ts [--base REV] [--rounds N] [--quick] [--only spmv|mgs|gmres] [--values V] [--applies-only]
  *
  * --values: stored values of each stencil matrix (default 6e6, far beyond cache; 2e5 keeps them in
  * cache, which shows the instruction cost alone).
  *
  * Rows:
- *  - spmv bs B: y = A x on the bench matrices (acoustics 2D+t p = 2, bs 30, generated; seeded random
- *    block 5-point stencils with bs 4, 8, 16, 40, about 6 M stored values each — invented);
+ *  - spmv bs B: y = A x on seeded random block 5-point stencils with bs 4, 8, 16, 30, 40 (about
+ *    --values stored values each — invented) and on the acoustics matrix (2D+t p = 2, bs 30,
+ *    generated, 7 M stored values whatever --values says);
  *  - mgs j=…: one modified Gram–Schmidt orthogonalization against j + 1 basis vectors of the
  *    acoustics length, as gmres.ts does it (norm of A z, dot, j fused update+dot, fused update+norm,
  *    scale);
@@ -49,6 +50,7 @@ const quick = argv.includes('--quick');
 const base = opt('--base', 'main');
 const rounds = Number(opt('--rounds', quick ? '3' : '7'));
 const only = opt('--only', '');
+const appliesOnly = argv.includes('--applies-only');
 
 /** The base revision's kernel module, compiled into a temporary folder. */
 function buildBase(rev: string): Uint8Array {
@@ -128,12 +130,12 @@ async function main(): Promise<void> {
   const acoustics = gen.bsr;
   const nAc = acoustics.nBlockRows * acoustics.bs;
   const target = Number(opt('--values', quick ? '1e6' : '6e6'));
-  const stencils = [4, 8, 16, 40].map((bs) => stencil(Math.max(4, Math.round(Math.sqrt(target / (5 * bs * bs)))), bs, 1000 + bs));
-  const mats: Bsr[] = [...stencils.slice(0, 3), acoustics, stencils[3]];
+  const stencils = [4, 8, 16, 30, 40].map((bs) => stencil(Math.max(4, Math.round(Math.sqrt(target / (5 * bs * bs)))), bs, 1000 + bs));
+  const mats: Bsr[] = [...stencils, acoustics];
   const bytesOf = (a: Bsr): number => a.values.byteLength + a.colInd.byteLength + a.rowPtr.byteLength;
   let total = 0;
   for (const a of mats) total += bytesOf(a) + 2 * a.nBlockRows * a.bs * 8;
-  const arena = new KernelArena(total + 64 * nAc * 8 + 4 * bytesOf(acoustics) + (64 << 20));
+  const arena = new KernelArena(2 * total + 80 * nAc * 8 + 4 * bytesOf(acoustics) + 4 * bytesOf(stencils[2]) + 4 * bytesOf(stencils[3]) + (64 << 20));
   const kNew = arena.k;
   const kOld = withShims(new WA.Instance(oldModule, { env: { memory: arena.memory } }).exports as unknown as KernelExports);
   const inA = <T extends Float64Array | Int32Array>(a: T): T => {
@@ -150,7 +152,7 @@ async function main(): Promise<void> {
       const x = arena.f64(n)!, y = arena.f64(n)!;
       for (let i = 0; i < n; i++) x[i] = Math.sin(i);
       await settle(200);
-      ab({ label: `spmv bs ${a.bs} (${(a.values.length / 1e6).toFixed(1)} M)`, reps: 9,
+      ab({ label: `spmv bs ${a.bs} (${a0 === acoustics ? 'acoustics, ' : ''}${(a.values.length / 1e6).toFixed(1)} M)`, reps: 9,
         run: (k) => k.bsrMulAdd(a.nBlockRows, a.bs, p(a.rowPtr), p(a.colInd), p(a.values), p(x), 1, 0, p(y)) }, kOld, kNew);
     }
   }
@@ -175,28 +177,51 @@ async function main(): Promise<void> {
   }
 
   if (only === '' || only === 'gmres') {
-    const bsrK: Bsr = { ...acoustics, rowPtr: inA(acoustics.rowPtr), colInd: inA(acoustics.colInd), values: inA(acoustics.values) };
-    // the block preconditioners read the block view only; a scalar view asked for is built on demand
-    let csr: ReturnType<typeof bsrToCsr> | undefined;
-    const system: SystemMatrix = { bsr: bsrK, get csr() { return (csr ??= bsrToCsr(acoustics)); }, slabOffsets: Int32Array.from(gen.layout.slabOffsets ?? []) };
+    const swap = (k: KernelExports): void => { (arena as unknown as { k: KernelExports }).k = k; };
+    // the bs 16 and bs 30 stencils with their diagonal blocks shifted by 2·bs (as bench/compiled-library.bench.ts)
+    const shift = (a: Bsr): Bsr => {
+      const bs = a.bs, out: Bsr = { ...a, values: Float64Array.from(a.values) };
+      for (let I = 0; I < a.nBlockRows; I++) {
+        for (let q = a.rowPtr[I]; q < a.rowPtr[I + 1]; q++) {
+          if (a.colInd[q] === I) for (let d = 0; d < bs; d++) out.values[q * bs * bs + d * bs + d] += 2 * bs;
+        }
+      }
+      return out;
+    };
+    const stencilSystem = (a: Bsr) => ({ name: `stencil bs ${a.bs}`, bsr: shift(a), rhs: Float64Array.from({ length: a.nBlockRows * a.bs }, (_, i) => Math.cos(i)), slabOffsets: undefined });
+    const systems = [
+      { name: 'acoustics', bsr: acoustics, rhs: gen.rhs, slabOffsets: Int32Array.from(gen.layout.slabOffsets ?? []) as Int32Array | undefined },
+      stencilSystem(stencils[2]), stencilSystem(stencils[3]),
+    ];
     setActiveArena(arena);
-    const rhs = inA(gen.rhs);
-    const A = bsrOperator(system.bsr!);
-    for (const pc of ['none', 'block-jacobi', 'block-gs', 'block-ilu0']) {
-      const recipe = parseRecipe({ preconditioner: pc, restart: 30, rtol: 0, maxIterations: 30, ...(pc === 'block-gs' ? { sweep: 'symmetric' } : {}) }, 'bench');
-      const M = createPreconditioner(system, recipe);
-      if (!M.setup().ok) { console.log(`${pc}: setup failed`); continue; }
-      const x = arena.f64(nAc)!;
-      const mark = arena.mark();
-      const opts = { ...krylovOptionsFromRecipe(recipe, M), ritz: false };
-      await settle(200);
-      ab({ label: `gmres(30) cycle ${pc}`, reps: 3, run: (k) => {
-        (arena as unknown as { k: KernelExports }).k = k;
-        x.fill(0);
-        gmres(A, rhs, x, opts);
-        arena.release(mark);
-      } }, kOld, kNew);
-      (arena as unknown as { k: KernelExports }).k = kNew;
+    for (const sys of systems) {
+      const n = sys.bsr.nBlockRows * sys.bsr.bs;
+      const bsrK: Bsr = { ...sys.bsr, rowPtr: inA(sys.bsr.rowPtr), colInd: inA(sys.bsr.colInd), values: inA(sys.bsr.values) };
+      // the block preconditioners read the block view only; a scalar view asked for is built on demand
+      let csr: ReturnType<typeof bsrToCsr> | undefined;
+      const src = sys.bsr;
+      const system: SystemMatrix = { bsr: bsrK, get csr() { return (csr ??= bsrToCsr(src)); }, slabOffsets: sys.slabOffsets };
+      const rhs = inA(sys.rhs);
+      const A = bsrOperator(bsrK);
+      const r = arena.f64(n)!, z = arena.f64(n)!;
+      for (let i = 0; i < n; i++) r[i] = Math.sin(i);
+      for (const pc of ['none', 'block-jacobi', 'block-gs', 'block-ilu0']) {
+        const recipe = parseRecipe({ preconditioner: pc, restart: 30, rtol: 0, maxIterations: 30, ...(pc === 'block-gs' ? { sweep: 'symmetric' } : {}) }, 'bench');
+        const M = createPreconditioner(system, recipe);
+        if (!M.setup().ok) { console.log(`${pc}: setup failed`); continue; }
+        const x = arena.f64(n)!;
+        const mark = arena.mark();
+        const opts = { ...krylovOptionsFromRecipe(recipe, M), ritz: false };
+        await settle(200);
+        if (pc !== 'none') ab({ label: `${sys.name}: apply ${pc}`, reps: 9, run: (k) => { swap(k); M.apply(r, z); } }, kOld, kNew);
+        if (!appliesOnly) ab({ label: `${sys.name}: gmres(30) cycle ${pc}`, reps: 3, run: (k) => {
+          swap(k);
+          x.fill(0);
+          gmres(A, rhs, x, opts);
+          arena.release(mark);
+        } }, kOld, kNew);
+        swap(kNew);
+      }
     }
     setActiveArena(null);
     console.log(`kernel calls during the solves: ${arena.dispatched} in WebAssembly, ${arena.missed} in TypeScript (must be 0)`);
