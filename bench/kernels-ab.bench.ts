@@ -207,6 +207,16 @@ async function main(): Promise<void> {
       for (let i = 0; i < n; i++) r[i] = Math.sin(i);
       for (const pc of ['none', 'block-jacobi', 'block-gs', 'block-ilu0']) {
         const recipe = parseRecipe({ preconditioner: pc, restart: 30, rtol: 0, maxIterations: 30, ...(pc === 'block-gs' ? { sweep: 'symmetric' } : {}) }, 'bench');
+        if (pc !== 'none') {
+          await settle(200);
+          ab({ label: `${sys.name}: setup ${pc}`, reps: 3, run: (k) => {
+            swap(k);
+            const m = arena.mark();
+            createPreconditioner(system, recipe).setup();
+            arena.release(m);
+          } }, kOld, kNew);
+          swap(kNew);
+        }
         const M = createPreconditioner(system, recipe);
         if (!M.setup().ok) { console.log(`${pc}: setup failed`); continue; }
         const x = arena.f64(n)!;
