@@ -17,10 +17,13 @@
  *  - mgs j=…: one modified Gram–Schmidt orthogonalization against j + 1 basis vectors of the
  *    acoustics length, as gmres.ts does it (norm of A z, dot, j fused update+dot, fused update+norm,
  *    scale);
- *  - gmres PC: one GMRES(30) cycle (30 iterations, rtol 0) on the acoustics matrix with the default
-
- *    recipe's preconditioner settings (block Gauss–Seidel: symmetric sweep), the whole solve in kernel memory; the kernels called by the
- *    TypeScript solver are swapped between the two modules (the arena's export object).
+ *  - setup PC / apply PC / gmres(30) cycle PC: one preconditioner setup (its buffers released
+ *    after each), one application, and one GMRES(30) cycle (30 iterations, rtol 0; the cycles not
+ *    with --applies-only), on the acoustics matrix and on the bs 16 and bs 30 stencils with their
+ *    diagonal blocks shifted by 2·bs, with the default recipe's preconditioner settings (block
+ *    Gauss–Seidel: symmetric sweep), the whole solve in kernel memory; the kernels called by the
+ *    TypeScript solver and preconditioners are swapped between the two modules (the arena's
+ *    export object).
  * Prints median seconds of each side and the new/old ratio (median of pair ratios per round;
  * median and min–max over rounds), with the load average. Figures only; no assertions.
  */
@@ -91,14 +94,6 @@ const median = (xs: number[]): number => { const s = [...xs].sort((a, b) => a - 
 const oldBytes = buildBase(base);
 const oldModule = new WA.Module(oldBytes);
 
-/** Shims for kernels the base module lacks: the calls the old code made instead (same arithmetic). */
-function withShims(k: KernelExports): KernelExports {
-  const s = Object.create(k) as KernelExports & Record<string, unknown>;
-  const has = (name: string): boolean => typeof (k as unknown as Record<string, unknown>)[name] === 'function';
-  void has;
-  return s;
-}
-
 interface Row { label: string; run: (k: KernelExports) => void; reps: number }
 
 /**
@@ -137,7 +132,7 @@ async function main(): Promise<void> {
   for (const a of mats) total += bytesOf(a) + 2 * a.nBlockRows * a.bs * 8;
   const arena = new KernelArena(2 * total + 80 * nAc * 8 + 4 * bytesOf(acoustics) + 4 * bytesOf(stencils[2]) + 4 * bytesOf(stencils[3]) + (64 << 20));
   const kNew = arena.k;
-  const kOld = withShims(new WA.Instance(oldModule, { env: { memory: arena.memory } }).exports as unknown as KernelExports);
+  const kOld = new WA.Instance(oldModule, { env: { memory: arena.memory } }).exports as unknown as KernelExports;
   const inA = <T extends Float64Array | Int32Array>(a: T): T => {
     const v = (a instanceof Float64Array ? arena.f64(a.length) : arena.i32(a.length)) as T;
     v.set(a);
