@@ -19,7 +19,7 @@ import {
   luFactor, luInverse, luSolve, luSolveNaive,
 } from '../../src/precond/dense.js';
 import { rng } from './helpers.js';
-import { inArena, withArena } from '../kernels/helpers.js';
+import { firstDifference, inArena, withArena } from '../kernels/helpers.js';
 
 const DECOY = 12345.5; // a value no kernel result here can take
 const PAD = 40; // decoys before and after each range (more than one block row of the largest bs below)
@@ -180,5 +180,28 @@ describe('hand-over to WebAssembly when the arrays live in kernel memory', () =>
       expect(handOvers(bs, (k) => blockGemm(k.c, 0, k.a, 0, k.b, 0, bs))).toBe(1);
       expect(handOvers(bs, (k) => blockGemmSub(k.c, 0, k.a, 0, k.b, 0, bs))).toBe(bs === 1 ? 0 : 1);
     }
+  });
+});
+
+describe('mat-vecs above the three-rows-per-pass range, bit for bit against WebAssembly', () => {
+  // bs 39: a multiple of 3 past 33, so two rows per pass with a last single row (its one running
+  // sum rounds differently from a three-row pass); the WebAssembly twin makes the same choice
+  it('bs = 39: y = A x and y −= A x agree exactly with the kernels in kernel memory', () => {
+    const bs = 39, r = rng(3939);
+    const a = Float64Array.from({ length: bs * bs }, () => 2 * r() - 1);
+    const x = Float64Array.from({ length: bs }, () => 2 * r() - 1), y0 = Float64Array.from({ length: bs }, () => 2 * r() - 1);
+    const mv = new Float64Array(bs), mvs = y0.slice();
+    blockMatVec(a, 0, bs, x, 0, mv, 0);
+    blockMatVecSub(a, 0, bs, x, 0, mvs, 0);
+    withArena(1 << 20, (arena) => {
+      const A = inArena(arena, a), X = inArena(arena, x);
+      const MV = inArena(arena, new Float64Array(bs)), MVS = inArena(arena, y0);
+      const before = arena.dispatched;
+      blockMatVec(A, 0, bs, X, 0, MV, 0);
+      blockMatVecSub(A, 0, bs, X, 0, MVS, 0);
+      expect(arena.dispatched).toBe(before + 2);
+      expect(firstDifference(MV, mv)).toBeUndefined();
+      expect(firstDifference(MVS, mvs)).toBeUndefined();
+    });
   });
 });
