@@ -2,7 +2,9 @@ import { FaceKind } from '../mesh/space-time.js';
 import { createElementAffine, elementAffine, faceLocalVertices, referenceToPhysical } from '../mesh/geometry.js';
 import { leftFaceFrame, rightFaceOrder } from './face-coupling.js';
 import { addProductNT, transposeTable } from './dense-products.js';
-import type { FaceTable, VolumeTable } from './reference-tables.js';
+import type { FaceTable, ReferenceTables } from './reference-tables.js';
+import { orthonormalBasis, basisDimension, MAX_BASIS_ORDER } from './basis.js';
+import { simplexQuadrature } from './quadrature.js';
 import type { NonlinearSystemPhysics } from './physics/types.js';
 import type { Discretization, ProgressSink } from './assemble.js';
 
@@ -60,13 +62,23 @@ export function assembleNonlinearSystem(
   const nElements = mesh.nElements;
   const total = nElements + mesh.nFaces;
 
-  const vt = values ? volumeTransposed(vol, nb, D) : null;
-  const pg = new Float64Array(d * nb * nqv); // physical gradients pg[(k·nb + a)·nqv + q], k < d
   const C = new Float64Array(d * mm * nqv); // C[(k·mm + ij)·nqv + q] = w_q ∂F_{k,i}/∂U_j
   const activeK = new Uint8Array(d * mm);
-  const Y = new Float64Array(nb * nqv);
+  const mo = values ? volumeMoments(tables) : null;
+  const nbL = mo ? mo.nbL : 0, nP = mo ? mo.nP : 0;
+  const actIndex = new Int32Array(d * mm);
+  const Cc = new Float64Array(mo ? d * mm * nqv : 0);
+  const mom = new Float64Array(d * mm * nP);
+  const Mt = new Float64Array(d * mm * nb * nbL);
+  const Gk = new Float64Array(nb * d * nbL); // Gk[a·d·nbL + k·nbL + s] = Σ_l J⁻¹_{lk} S_l[a][s]
+  const Bij = new Float64Array(nb * d * nbL);
   let nqfMax = 0;
-  const Z = { L: new Float64Array(0), R: new Float64Array(0), W: new Float64Array(0) };
+  const fr = faceRestriction(tables);
+  const nbF = fr.nbF;
+  const Z = {
+    L: new Float64Array(0), R: new Float64Array(0), W: new Float64Array(0),
+    N: new Float64Array(nbF * nbF), PT: new Float64Array(nb * nbF),
+  };
   const activeL = new Uint8Array(mm), activeR = new Uint8Array(mm);
 
   const evalState = (phi: Float64Array, po: number, base: number, out: Float64Array): void => {
@@ -77,6 +89,53 @@ export function assembleNonlinearSystem(
     }
   };
 
+  /**
+   * Volume blocks of element e (Ji, det, diag as below) from the gathered C: moments
+   * mom_{k,ij}[r] = Σ_q P_r(q) C_{k,ij}(q), then M_{k,ij}[s, b] = Σ_r E[s, b, r] mom_{k,ij}[r] and
+   * block (i, j) −= Σ_k G_k M_{k,ij} (see volumeMoments).
+   */
+  let eJi: Float64Array = aff.inverse, eDiag = 0;
+  const volumeBlocksByMoments = (): void => {
+    const vals = values!, m0 = mo!;
+    let nAct = 0;
+    for (let kij = 0; kij < d * mm; kij++) {
+      if (!activeK[kij]) { actIndex[kij] = -1; continue; }
+      Cc.set(C.subarray(kij * nqv, (kij + 1) * nqv), nAct * nqv);
+      actIndex[kij] = nAct++;
+    }
+    if (nAct === 0) return;
+    mom.fill(0, 0, nAct * nP);
+    addProductNT(Cc, 0, nAct, m0.PT, 0, nP, nqv, 1, mom, 0, nP);
+    const nm = nb * nbL;
+    Mt.fill(0, 0, nAct * nm);
+    addProductNT(mom, 0, nAct, m0.E, 0, nm, nP, 1, Mt, 0, nm);
+    const S = vol.convection, K = d * nbL;
+    for (let a = 0; a < nb; a++) {
+      for (let k = 0; k < d; k++) {
+        for (let sI = 0; sI < nbL; sI++) {
+          let g = 0;
+          for (let l = 0; l < D; l++) g += eJi[l * D + k] * S[l * nb * nb + a * nb + sI];
+          Gk[a * K + k * nbL + sI] = g;
+        }
+      }
+    }
+    for (let ij = 0; ij < mm; ij++) {
+      let any = false;
+      for (let k = 0; k < d; k++) {
+        const act = actIndex[k * mm + ij];
+        for (let b = 0; b < nb; b++) {
+          const o = b * K + k * nbL;
+          if (act < 0) Bij.fill(0, o, o + nbL);
+          else Bij.set(Mt.subarray(act * nm + b * nbL, act * nm + (b + 1) * nbL), o);
+        }
+        if (act >= 0) any = true;
+      }
+      if (!any) continue;
+      const i = (ij / m) | 0, j = ij - i * m;
+      addProductNT(Gk, 0, nb, Bij, 0, nb, K, -1, vals, eDiag + i * nb * bs + j * nb, bs);
+    }
+  };
+
   // ---- volume terms ----
   for (let e = 0; e < nElements; e++) {
     elementAffine(mesh, e, aff);
@@ -84,19 +143,8 @@ export function assembleNonlinearSystem(
     const det = aff.absDet;
     const uo = inv[e] * bs;
     const diag = values ? pattern.diagonal[e] * bb : 0;
-    if (vt) {
-      for (let k = 0; k < d; k++) {
-        for (let a = 0; a < nb; a++) {
-          const o = (k * nb + a) * nqv;
-          for (let q = 0; q < nqv; q++) {
-            let s = 0;
-            for (let l = 0; l < D; l++) s += vt.grad[(l * nb + a) * nqv + q] * Ji[l * D + k];
-            pg[o + q] = s;
-          }
-        }
-      }
-      activeK.fill(0);
-    }
+    eJi = Ji; eDiag = diag;
+    if (values) activeK.fill(0);
     for (let q = 0; q < nqv; q++) {
       referenceToPhysical(aff, vol.points, q * D, X);
       const po = q * nb;
@@ -118,7 +166,7 @@ export function assembleNonlinearSystem(
           residual[uo + i * nb + a] -= w * r;
         }
       }
-      if (vt) {
+      if (values) {
         for (let kij = 0; kij < d * mm; kij++) {
           const c = w * dG[kij];
           C[kij * nqv + q] = c;
@@ -130,23 +178,8 @@ export function assembleNonlinearSystem(
         }
       }
     }
-    if (vt && values) {
-      for (let ij = 0; ij < mm; ij++) {
-        let first = true;
-        for (let k = 0; k < d; k++) {
-          if (!activeK[k * mm + ij]) continue;
-          const co = (k * mm + ij) * nqv;
-          for (let a = 0; a < nb; a++) {
-            const go = (k * nb + a) * nqv, yo = a * nqv;
-            if (first) for (let q = 0; q < nqv; q++) Y[yo + q] = pg[go + q] * C[co + q];
-            else for (let q = 0; q < nqv; q++) Y[yo + q] += pg[go + q] * C[co + q];
-          }
-          first = false;
-        }
-        if (first) continue;
-        const i = (ij / m) | 0, j = ij - i * m;
-        addProductNT(Y, 0, nb, vt.phi, 0, nb, nqv, -1, values, diag + i * nb * bs + j * nb, bs);
-      }
+    if (values && mo) volumeBlocksByMoments();
+    if (values) {
       // time component: −|det J| Σ_l J⁻¹_{ld} S_l on each diagonal (i, i)
       const S = vol.convection;
       for (let a = 0; a < nb; a++) {
@@ -180,7 +213,7 @@ export function assembleNonlinearSystem(
     const nq = tabL.nq;
     if (values && nq > nqfMax) {
       nqfMax = nq;
-      Z.L = new Float64Array(mm * nq); Z.R = new Float64Array(mm * nq); Z.W = new Float64Array(nb * nq);
+      Z.L = new Float64Array(mm * nq); Z.R = new Float64Array(mm * nq); Z.W = new Float64Array(nbF * nq);
     }
     const IL = inv[L] * bs;
     const IR = twoSided ? inv[R] * bs : 0;
@@ -222,21 +255,29 @@ export function assembleNonlinearSystem(
       }
     }
     if (values) {
-      const phiL = faceTransposed(tabL, nb);
-      const phiR = twoSided ? faceTransposed(tabR, nb) : phiL;
-      const W = Z.W;
+      const TL = fr.T(tabL), TR = twoSided ? fr.T(tabR) : TL;
+      const { W, N, PT } = Z;
       for (let ij = 0; ij < mm; ij++) {
         const i = (ij / m) | 0, j = ij - i * m;
         const off = i * nb * bs + j * nb;
         if (activeL[ij]) {
-          weightRows(Z.L, ij * nq, phiL, nb, nq, W);
-          addProductNT(phiL, 0, nb, W, 0, nb, nq, 1, values, bLL + off, bs);
-          if (twoSided) addProductNT(phiR, 0, nb, W, 0, nb, nq, -1, values, bRL + off, bs);
+          // N = Ψ diag(z) Ψᵀ, PT[b, s] = Σ_t T_L[b, t] N[s, t]; LL = T_L PTᵀ, RL = −T_R PTᵀ
+          weightRows(Z.L, ij * nq, fr.psiT, nbF, nq, W);
+          N.fill(0);
+          addProductNT(fr.psiT, 0, nbF, W, 0, nbF, nq, 1, N, 0, nbF);
+          PT.fill(0);
+          addProductNT(TL, 0, nb, N, 0, nbF, nbF, 1, PT, 0, nbF);
+          addProductNT(TL, 0, nb, PT, 0, nb, nbF, 1, values, bLL + off, bs);
+          if (twoSided) addProductNT(TR, 0, nb, PT, 0, nb, nbF, -1, values, bRL + off, bs);
         }
         if (useR && activeR[ij]) {
-          weightRows(Z.R, ij * nq, phiR, nb, nq, W);
-          addProductNT(phiL, 0, nb, W, 0, nb, nq, 1, values, bLR + off, bs);
-          addProductNT(phiR, 0, nb, W, 0, nb, nq, -1, values, bRR + off, bs);
+          weightRows(Z.R, ij * nq, fr.psiT, nbF, nq, W);
+          N.fill(0);
+          addProductNT(fr.psiT, 0, nbF, W, 0, nbF, nq, 1, N, 0, nbF);
+          PT.fill(0);
+          addProductNT(TR, 0, nb, N, 0, nbF, nbF, 1, PT, 0, nbF);
+          addProductNT(TL, 0, nb, PT, 0, nb, nbF, 1, values, bLR + off, bs);
+          addProductNT(TR, 0, nb, PT, 0, nb, nbF, -1, values, bRR + off, bs);
         }
       }
     }
@@ -252,27 +293,88 @@ function weightRows(z: Float64Array, zo: number, phi: Float64Array, nb: number, 
   }
 }
 
-interface VolumeTransposed { phi: Float64Array; grad: Float64Array }
-const volumeCache = new WeakMap<VolumeTable, VolumeTransposed>();
-const faceCache = new WeakMap<FaceTable, Float64Array>();
+/**
+ * The element basis restricted to a face has degree p in the face's D − 1 coordinates ζ, so
+ * φ_a(ζ) = Σ_s T[a, s] ψ_s(ζ) exactly with ψ the nbF orthonormal polynomials of degree ≤ p on the
+ * unit (D − 1)-simplex and T[a, s] = Σ_q w_q φ_a(q) ψ_s(q) (the face rule integrates degree 2p).
+ * A face block Σ_q z(q) φ_a(q) φ'_b(q) is then T (Ψ diag(z) Ψᵀ) T'ᵀ: nbF² instead of nb² products
+ * per point. ψT[s·nq + q] = ψ_s at the face rule's points (the same ζ_q for every face table);
+ * T(table) is cached per table.
+ */
+interface FaceRestriction { nbF: number; psiT: Float64Array; T(tab: FaceTable): Float64Array }
+const restrictionCache = new WeakMap<ReferenceTables, FaceRestriction>();
 
-/** φ_b(q) as phi[b·nq + q] and ∂_{ξ_l} φ_a(q) as grad[(l·nb + a)·nq + q] (cached per table). */
-function volumeTransposed(vol: VolumeTable, nb: number, D: number): VolumeTransposed {
-  let t = volumeCache.get(vol);
-  if (!t) {
-    const nq = vol.nq;
-    const grad = new Float64Array(D * nb * nq);
-    for (let q = 0; q < nq; q++) {
-      for (let a = 0; a < nb; a++) for (let l = 0; l < D; l++) grad[(l * nb + a) * nq + q] = vol.grad[(q * nb + a) * D + l]!;
+function faceRestriction(tables: ReferenceTables): FaceRestriction {
+  let fr = restrictionCache.get(tables);
+  if (fr) return fr;
+  const D = tables.D, nb = tables.nb;
+  const canonical = Array.from({ length: D }, (_, i) => i); // face vertices 0..D−1: ξ_{i−1} = ζ_{i−1}
+  const ref = tables.face(canonical);
+  const nq = ref.nq;
+  const zeta = new Float64Array(nq * (D - 1));
+  for (let q = 0; q < nq; q++) for (let i = 0; i < D - 1; i++) zeta[q * (D - 1) + i] = ref.points[q * D + i]!;
+  const psi = orthonormalBasis((D - 1) as 1 | 2 | 3, tables.order);
+  const nbF = psi.nBasis;
+  const psiT = transposeTable(psi.evaluate(zeta, nq).values, nq, nbF);
+  const cache = new Map<FaceTable, Float64Array>();
+  const T = (tab: FaceTable): Float64Array => {
+    let t = cache.get(tab);
+    if (!t) {
+      t = new Float64Array(nb * nbF);
+      for (let q = 0; q < nq; q++) {
+        const w = tab.weights[q]!;
+        for (let a = 0; a < nb; a++) {
+          const c = w * tab.phi[q * nb + a]!;
+          for (let s = 0; s < nbF; s++) t[a * nbF + s] += c * psiT[s * nq + q]!;
+        }
+      }
+      cache.set(tab, t);
     }
-    t = { phi: transposeTable(vol.phi, nq, nb), grad };
-    volumeCache.set(vol, t);
-  }
-  return t;
+    return t;
+  };
+  fr = { nbF, psiT, T };
+  restrictionCache.set(tables, fr);
+  return fr;
 }
 
-function faceTransposed(tab: FaceTable, nb: number): Float64Array {
-  let t = faceCache.get(tab);
-  if (!t) { t = transposeTable(tab.phi, tab.nq, nb); faceCache.set(tab, t); }
-  return t;
+/**
+ * Tables for the volume blocks by moments (p ≥ 1): the physical gradients are degree p − 1, so
+ * ∂_k φ_a = Σ_{s<nbL} G_k[a, s] φ_s exactly (the basis is hierarchical and orthonormal, G_k from the
+ * convection integrals); and φ_s φ_b has degree 2p − 1, so φ_s φ_b = Σ_r E[s, b, r] P_r exactly with
+ * P the nP orthonormal polynomials of degree ≤ 2p − 1 and E[s, b, r] = ∫ φ_s φ_b P_r (a rule of
+ * degree 4p − 2). Hence Σ_q C(q) ∂_k φ_a(q) φ_b(q) = Σ_s G_k[a, s] Σ_r E[s, b, r] Σ_q C(q) P_r(q) for
+ * any C — the same sum as the point-by-point one, evaluated with nP moments instead of nb² products
+ * per point. PT[r·nq + q] = P_r(q) at the volume points, E[(b·nbL + s)·nP + r]. null for p = 0.
+ */
+interface VolumeMoments { nbL: number; nP: number; PT: Float64Array; E: Float64Array }
+const momentCache = new WeakMap<ReferenceTables, VolumeMoments | null>();
+
+function volumeMoments(tables: ReferenceTables): VolumeMoments | null {
+  if (momentCache.has(tables)) return momentCache.get(tables)!;
+  const p = tables.order, D = tables.D as 2 | 3 | 4, nb = tables.nb, vol = tables.volume;
+  let out: VolumeMoments | null = null; // p = 0: constant basis, no gradients, no spatial volume blocks
+  if (p >= 1) {
+    if (2 * p - 1 > MAX_BASIS_ORDER) throw new RangeError(`assembleNonlinearSystem: order ${p} needs a basis of order ${2 * p - 1} (limit ${MAX_BASIS_ORDER})`);
+    const nbL = basisDimension(D, p - 1);
+    const P = orthonormalBasis(D, 2 * p - 1);
+    const nP = P.nBasis;
+    const PT = transposeTable(P.evaluate(vol.points, vol.nq).values, vol.nq, nP);
+    const rule = simplexQuadrature(D, 4 * p - 2);
+    const phi = tables.basis.evaluate(rule.points, rule.nPoints).values;
+    const pr = P.evaluate(rule.points, rule.nPoints).values;
+    const E = new Float64Array(nb * nbL * nP);
+    for (let q = 0; q < rule.nPoints; q++) {
+      const w = rule.weights[q]!;
+      for (let b = 0; b < nb; b++) {
+        for (let s = 0; s < nbL; s++) {
+          const c = w * phi[q * nb + s]! * phi[q * nb + b]!;
+          const o = (b * nbL + s) * nP;
+          for (let r = 0; r < nP; r++) E[o + r] += c * pr[q * nP + r]!;
+        }
+      }
+    }
+    out = { nbL, nP, PT, E };
+  }
+  momentCache.set(tables, out);
+  return out;
 }
