@@ -100,7 +100,8 @@ export function assembleNonlinearSystem(
     let nAct = 0;
     for (let kij = 0; kij < d * mm; kij++) {
       if (!activeK[kij]) { actIndex[kij] = -1; continue; }
-      Cc.set(C.subarray(kij * nqv, (kij + 1) * nqv), nAct * nqv);
+      const src = kij * nqv, dst = nAct * nqv;
+      for (let q = 0; q < nqv; q++) Cc[dst + q] = C[src + q];
       actIndex[kij] = nAct++;
     }
     if (nAct === 0) return;
@@ -125,8 +126,8 @@ export function assembleNonlinearSystem(
         const act = actIndex[k * mm + ij];
         for (let b = 0; b < nb; b++) {
           const o = b * K + k * nbL;
-          if (act < 0) Bij.fill(0, o, o + nbL);
-          else Bij.set(Mt.subarray(act * nm + b * nbL, act * nm + (b + 1) * nbL), o);
+          const src = act * nm + b * nbL;
+          for (let sI = 0; sI < nbL; sI++) Bij[o + sI] = act < 0 ? 0 : Mt[src + sI];
         }
         if (act >= 0) any = true;
       }
