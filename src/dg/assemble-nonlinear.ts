@@ -71,13 +71,13 @@ export function assembleNonlinearSystem(
   const mom = new Float64Array(d * mm * nP);
   const Mt = new Float64Array(d * mm * nb * nbL);
   const Gk = new Float64Array(nb * d * nbL); // Gk[a·d·nbL + k·nbL + s] = Σ_l J⁻¹_{lk} S_l[a][s]
-  const Bij = new Float64Array(nb * d * nbL);
+  const Bij = new Float64Array(mm * nb * d * nbL); // Bij[(ij·nb + b)·d·nbL + k·nbL + s] = M_{k,ij}[s, b]
   let nqfMax = 0;
   const fr = faceRestriction(tables);
   const nbF = fr.nbF;
   const Z = {
     L: new Float64Array(0), R: new Float64Array(0), W: new Float64Array(0),
-    N: new Float64Array(nbF * nbF), PT: new Float64Array(nb * nbF),
+    N: new Float64Array(mm * nbF * nbF), PT: new Float64Array(mm * nb * nbF),
   };
   const activeL = new Uint8Array(mm), activeR = new Uint8Array(mm);
 
@@ -120,20 +120,22 @@ export function assembleNonlinearSystem(
         }
       }
     }
+    const nBK = nb * K;
     for (let ij = 0; ij < mm; ij++) {
-      let any = false;
       for (let k = 0; k < d; k++) {
         const act = actIndex[k * mm + ij];
         for (let b = 0; b < nb; b++) {
-          const o = b * K + k * nbL;
+          const o = ij * nBK + b * K + k * nbL;
           const src = act * nm + b * nbL;
           for (let sI = 0; sI < nbL; sI++) Bij[o + sI] = act < 0 ? 0 : Mt[src + sI];
         }
-        if (act >= 0) any = true;
       }
-      if (!any) continue;
-      const i = (ij / m) | 0, j = ij - i * m;
-      addProductNT(Gk, 0, nb, Bij, 0, nb, K, -1, vals, eDiag + i * nb * bs + j * nb, bs);
+    }
+    // block row i, all j at once: values[(i·nb + a)·bs + j·nb + b] −= Σ Gk[a, ·] Bij[(i·m + j)·nb + b, ·]
+    for (let i = 0; i < m; i++) {
+      let any = false;
+      for (let kij = 0; kij < d * mm; kij++) if (actIndex[kij] >= 0 && ((kij % mm) / m | 0) === i) any = true;
+      if (any) addProductNT(Gk, 0, nb, Bij, i * m * nBK, m * nb, K, -1, vals, eDiag + i * nb * bs, bs);
     }
   };
 
@@ -196,6 +198,45 @@ export function assembleNonlinearSystem(
     if ((e & 4095) === 4095) progress(e + 1, total);
   }
 
+  /**
+   * Face blocks of one side's coefficients z_ij(q) = w_q ∂H_i/∂U_j (Zs[ij·nq + q]): for each active
+   * (i, j), N_ij = Ψ diag(z_ij) Ψᵀ (all pairs in one product) and PT_ij[b, s] = Σ_t Tc[b, t] N_ij[s, t]
+   * (Tc: that side's restriction), then per row i of blocks one product over all j:
+   * block A (rows T_A) += T_A PTᵀ and block B (rows T_B, when present) −= T_B PTᵀ.
+   */
+  const faceSide = (
+    Zs: Float64Array, active: Uint8Array, nq: number, Tc: Float64Array,
+    TA: Float64Array, blockA: number, TB: Float64Array | null, blockB: number,
+  ): void => {
+    const vals = values!;
+    const { W, N, PT } = Z;
+    let nA = 0;
+    for (let ij = 0; ij < mm; ij++) {
+      if (!active[ij]) continue;
+      weightRows(Zs, ij * nq, fr.psiT, nbF, nq, W, nA * nbF * nq);
+      nA++;
+    }
+    if (nA === 0) return;
+    N.fill(0, 0, nA * nbF * nbF);
+    addProductNT(W, 0, nA * nbF, fr.psiT, 0, nbF, nq, 1, N, 0, nbF);
+    const nPT = nb * nbF;
+    let ai = 0;
+    for (let ij = 0; ij < mm; ij++) {
+      PT.fill(0, ij * nPT, (ij + 1) * nPT);
+      if (!active[ij]) continue;
+      addProductNT(Tc, 0, nb, N, ai * nbF * nbF, nbF, nbF, 1, PT, ij * nPT, nbF);
+      ai++;
+    }
+    for (let i = 0; i < m; i++) {
+      let any = false;
+      for (let j = 0; j < m; j++) if (active[i * m + j]) any = true;
+      if (!any) continue;
+      const po = i * m * nPT;
+      addProductNT(TA, 0, nb, PT, po, m * nb, nbF, 1, vals, blockA + i * nb * bs, bs);
+      if (TB) addProductNT(TB, 0, nb, PT, po, m * nb, nbF, -1, vals, blockB + i * nb * bs, bs);
+    }
+  };
+
   // ---- face terms ----
   const { faceLeft, faceRight, faceLeftLocal, faceKind } = mesh;
   const { faceBlocks } = pattern;
@@ -214,7 +255,7 @@ export function assembleNonlinearSystem(
     const nq = tabL.nq;
     if (values && nq > nqfMax) {
       nqfMax = nq;
-      Z.L = new Float64Array(mm * nq); Z.R = new Float64Array(mm * nq); Z.W = new Float64Array(nbF * nq);
+      Z.L = new Float64Array(mm * nq); Z.R = new Float64Array(mm * nq); Z.W = new Float64Array(mm * nbF * nq);
     }
     const IL = inv[L] * bs;
     const IR = twoSided ? inv[R] * bs : 0;
@@ -257,40 +298,18 @@ export function assembleNonlinearSystem(
     }
     if (values) {
       const TL = fr.T(tabL), TR = twoSided ? fr.T(tabR) : TL;
-      const { W, N, PT } = Z;
-      for (let ij = 0; ij < mm; ij++) {
-        const i = (ij / m) | 0, j = ij - i * m;
-        const off = i * nb * bs + j * nb;
-        if (activeL[ij]) {
-          // N = Ψ diag(z) Ψᵀ, PT[b, s] = Σ_t T_L[b, t] N[s, t]; LL = T_L PTᵀ, RL = −T_R PTᵀ
-          weightRows(Z.L, ij * nq, fr.psiT, nbF, nq, W);
-          N.fill(0);
-          addProductNT(fr.psiT, 0, nbF, W, 0, nbF, nq, 1, N, 0, nbF);
-          PT.fill(0);
-          addProductNT(TL, 0, nb, N, 0, nbF, nbF, 1, PT, 0, nbF);
-          addProductNT(TL, 0, nb, PT, 0, nb, nbF, 1, values, bLL + off, bs);
-          if (twoSided) addProductNT(TR, 0, nb, PT, 0, nb, nbF, -1, values, bRL + off, bs);
-        }
-        if (useR && activeR[ij]) {
-          weightRows(Z.R, ij * nq, fr.psiT, nbF, nq, W);
-          N.fill(0);
-          addProductNT(fr.psiT, 0, nbF, W, 0, nbF, nq, 1, N, 0, nbF);
-          PT.fill(0);
-          addProductNT(TR, 0, nb, N, 0, nbF, nbF, 1, PT, 0, nbF);
-          addProductNT(TL, 0, nb, PT, 0, nb, nbF, 1, values, bLR + off, bs);
-          addProductNT(TR, 0, nb, PT, 0, nb, nbF, -1, values, bRR + off, bs);
-        }
-      }
+      faceSide(Z.L, activeL, nq, TL, TL, bLL, twoSided ? TR : null, bRL);
+      if (useR) faceSide(Z.R, activeR, nq, TR, TL, bLR, TR, bRR);
     }
     if ((f & 4095) === 4095) progress(nElements + f + 1, total);
   }
 }
 
-/** W[b·nq + q] = z[zo + q] · φ[b·nq + q]. */
-function weightRows(z: Float64Array, zo: number, phi: Float64Array, nb: number, nq: number, W: Float64Array): void {
+/** W[wo + b·nq + q] = z[zo + q] · φ[b·nq + q]. */
+function weightRows(z: Float64Array, zo: number, phi: Float64Array, nb: number, nq: number, W: Float64Array, wo: number): void {
   for (let b = 0; b < nb; b++) {
     const o = b * nq;
-    for (let q = 0; q < nq; q++) W[o + q] = z[zo + q]! * phi[o + q]!;
+    for (let q = 0; q < nq; q++) W[wo + o + q] = z[zo + q]! * phi[o + q]!;
   }
 }
 
