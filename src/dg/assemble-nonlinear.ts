@@ -140,6 +140,7 @@ export function assembleNonlinearSystem(
   };
 
   // ---- volume terms ----
+  const vgrad = vol.grad;
   for (let e = 0; e < nElements; e++) {
     elementAffine(mesh, e, aff);
     const Ji = aff.inverse;
@@ -165,7 +166,7 @@ export function assembleNonlinearSystem(
         const go = (po + a) * D;
         for (let i = 0; i < m; i++) {
           let r = 0;
-          for (let l = 0; l < D; l++) r += vol.grad[go + l] * PG[l * m + i];
+          for (let l = 0; l < D; l++) r += vgrad[go + l] * PG[l * m + i];
           residual[uo + i * nb + a] -= w * r;
         }
       }
@@ -253,6 +254,7 @@ export function assembleNonlinearSystem(
       tabR = tables.face(rightOrder);
     }
     const nq = tabL.nq;
+    const phiL = tabL.phi, phiR = tabR.phi;
     if (values && nq > nqfMax) {
       nqfMax = nq;
       Z.L = new Float64Array(mm * nq); Z.R = new Float64Array(mm * nq); Z.W = new Float64Array(mm * nbF * nq);
@@ -276,8 +278,8 @@ export function assembleNonlinearSystem(
       const w = tabL.weights[q] * wscale;
       for (let i = 0; i < m; i++) {
         const H = w * h[i];
-        for (let a = 0; a < nb; a++) residual[IL + i * nb + a] += H * tabL.phi[po + a];
-        if (twoSided) for (let a = 0; a < nb; a++) residual[IR + i * nb + a] -= H * tabR.phi[po + a];
+        for (let a = 0; a < nb; a++) residual[IL + i * nb + a] += H * phiL[po + a];
+        if (twoSided) for (let a = 0; a < nb; a++) residual[IR + i * nb + a] -= H * phiR[po + a];
       }
       if (!values) continue;
       if (kind === FaceKind.slabInterface) {

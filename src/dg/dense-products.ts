@@ -30,7 +30,17 @@ export function addProductNT(
       out[o0 + c] += s * s00; out[o0 + c + 1] += s * s01; out[o0 + c + 2] += s * s02; out[o0 + c + 3] += s * s03;
       out[o1 + c] += s * s10; out[o1 + c + 1] += s * s11; out[o1 + c + 2] += s * s12; out[o1 + c + 3] += s * s13;
     }
-    for (; c < nc; c++) {
+    for (; c + 1 < nc; c += 2) {
+      const b0 = bo + c * K, b1 = b0 + K;
+      let s00 = 0, s01 = 0, s10 = 0, s11 = 0;
+      for (let k = 0; k < K; k++) {
+        const x0 = A[a0 + k]!, x1 = A[a1 + k]!, y0 = B[b0 + k]!, y1 = B[b1 + k]!;
+        s00 += x0 * y0; s01 += x0 * y1; s10 += x1 * y0; s11 += x1 * y1;
+      }
+      out[o0 + c] += s * s00; out[o0 + c + 1] += s * s01;
+      out[o1 + c] += s * s10; out[o1 + c + 1] += s * s11;
+    }
+    if (c < nc) {
       const b0 = bo + c * K;
       let s00 = 0, s10 = 0;
       for (let k = 0; k < K; k++) { const y0 = B[b0 + k]!; s00 += A[a0 + k]! * y0; s10 += A[a1 + k]! * y0; }
