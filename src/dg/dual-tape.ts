@@ -31,9 +31,9 @@ export class DualTape {
   }
 
   constant(x: number): number {
-    const r = this.alloc();
+    const r = this.alloc(), n = this.n, d = this.d, ro = r * n;
+    for (let i = 0; i < n; i++) d[ro + i] = 0;
     this.v[r] = x;
-    this.d.fill(0, r * this.n, (r + 1) * this.n);
     return r;
   }
 
@@ -54,8 +54,9 @@ export class DualTape {
 
   /** a + x (x a plain number). */
   addc(a: number, x: number): number {
-    const r = this.alloc(), n = this.n;
-    this.d.copyWithin(r * n, a * n, (a + 1) * n);
+    const r = this.alloc(), n = this.n, d = this.d;
+    const ao = a * n, ro = r * n;
+    for (let i = 0; i < n; i++) d[ro + i] = d[ao + i]!;
     this.v[r] = this.v[a]! + x;
     return r;
   }
