@@ -201,7 +201,7 @@ export function assembleNonlinearSystem(
 
   /**
    * Face blocks of one side's coefficients z_ij(q) = w_q ∂H_i/∂U_j (Zs[ij·nq + q]): for each active
-   * (i, j), N_ij = Ψ diag(z_ij) Ψᵀ (all pairs in one product) and PT_ij[b, s] = Σ_t Tc[b, t] N_ij[s, t]
+   * (i, j), N_ij = Ψ diag(z_ij) Ψᵀ (all (i, j) in one product against the products ψ_s ψ_t) and PT_ij[b, s] = Σ_t Tc[b, t] N_ij[s, t]
    * (Tc: that side's restriction), then per row i of blocks one product over all j:
    * block A (rows T_A) += T_A PTᵀ and block B (rows T_B, when present) −= T_B PTᵀ.
    */
@@ -211,21 +211,36 @@ export function assembleNonlinearSystem(
   ): void => {
     const vals = values!;
     const { W, N, PT } = Z;
+    // N_ij[s, t] = Σ_q z_ij(q) ψ_s(q) ψ_t(q), from the nbF(nbF + 1)/2 products ψ_s ψ_t (s ≤ t)
     let nA = 0;
     for (let ij = 0; ij < mm; ij++) {
       if (!active[ij]) continue;
-      weightRows(Zs, ij * nq, fr.psiT, nbF, nq, W, nA * nbF * nq);
+      const src = ij * nq, dst = nA * nq;
+      for (let q = 0; q < nq; q++) W[dst + q] = Zs[src + q]!;
       nA++;
     }
     if (nA === 0) return;
-    N.fill(0, 0, nA * nbF * nbF);
-    addProductNT(W, 0, nA * nbF, fr.psiT, 0, nbF, nq, 1, N, 0, nbF);
+    const nU = fr.nPairs;
+    N.fill(0, 0, nA * nU);
+    addProductNT(W, 0, nA, fr.pairsT, 0, nU, nq, 1, N, 0, nU);
+    const nn = nbF * nbF;
+    for (let a2 = nA - 1; a2 >= 0; a2--) {
+      // unpack in place from the back: packed row a2 (nU entries at a2·nU) → full nbF² at a2·nn
+      let u = a2 * nU + nU - 1;
+      for (let sI = nbF - 1; sI >= 0; sI--) {
+        for (let tI = nbF - 1; tI >= sI; tI--) {
+          const v = N[u--]!;
+          N[a2 * nn + sI * nbF + tI] = v;
+          N[a2 * nn + tI * nbF + sI] = v;
+        }
+      }
+    }
     const nPT = nb * nbF;
     let ai = 0;
     for (let ij = 0; ij < mm; ij++) {
       PT.fill(0, ij * nPT, (ij + 1) * nPT);
       if (!active[ij]) continue;
-      addProductNT(Tc, 0, nb, N, ai * nbF * nbF, nbF, nbF, 1, PT, ij * nPT, nbF);
+      addProductNT(Tc, 0, nb, N, ai * nn, nbF, nbF, 1, PT, ij * nPT, nbF);
       ai++;
     }
     for (let i = 0; i < m; i++) {
@@ -257,7 +272,7 @@ export function assembleNonlinearSystem(
     const phiL = tabL.phi, phiR = tabR.phi;
     if (values && nq > nqfMax) {
       nqfMax = nq;
-      Z.L = new Float64Array(mm * nq); Z.R = new Float64Array(mm * nq); Z.W = new Float64Array(mm * nbF * nq);
+      Z.L = new Float64Array(mm * nq); Z.R = new Float64Array(mm * nq); Z.W = new Float64Array(mm * nq);
     }
     const IL = inv[L] * bs;
     const IR = twoSided ? inv[R] * bs : 0;
@@ -307,14 +322,6 @@ export function assembleNonlinearSystem(
   }
 }
 
-/** W[wo + b·nq + q] = z[zo + q] · φ[b·nq + q]. */
-function weightRows(z: Float64Array, zo: number, phi: Float64Array, nb: number, nq: number, W: Float64Array, wo: number): void {
-  for (let b = 0; b < nb; b++) {
-    const o = b * nq;
-    for (let q = 0; q < nq; q++) W[wo + o + q] = z[zo + q]! * phi[o + q]!;
-  }
-}
-
 /**
  * The element basis restricted to a face has degree p in the face's D − 1 coordinates ζ, so
  * φ_a(ζ) = Σ_s T[a, s] ψ_s(ζ) exactly with ψ the nbF orthonormal polynomials of degree ≤ p on the
@@ -323,7 +330,7 @@ function weightRows(z: Float64Array, zo: number, phi: Float64Array, nb: number, 
  * per point. ψT[s·nq + q] = ψ_s at the face rule's points (the same ζ_q for every face table);
  * T(table) is cached per table.
  */
-interface FaceRestriction { nbF: number; psiT: Float64Array; T(tab: FaceTable): Float64Array }
+interface FaceRestriction { nbF: number; psiT: Float64Array; nPairs: number; pairsT: Float64Array; T(tab: FaceTable): Float64Array }
 const restrictionCache = new WeakMap<ReferenceTables, FaceRestriction>();
 
 function faceRestriction(tables: ReferenceTables): FaceRestriction {
@@ -354,7 +361,14 @@ function faceRestriction(tables: ReferenceTables): FaceRestriction {
     }
     return t;
   };
-  fr = { nbF, psiT, T };
+  // pairsT[u·nq + q] = ψ_s(q) ψ_t(q) for the pairs s ≤ t in row order (u = 0 … nbF(nbF + 1)/2 − 1)
+  const nPairs = (nbF * (nbF + 1)) / 2;
+  const pairsT = new Float64Array(nPairs * nq);
+  let u = 0;
+  for (let sI = 0; sI < nbF; sI++) {
+    for (let tI = sI; tI < nbF; tI++, u++) for (let q = 0; q < nq; q++) pairsT[u * nq + q] = psiT[sI * nq + q]! * psiT[tI * nq + q]!;
+  }
+  fr = { nbF, psiT, nPairs, pairsT, T };
   restrictionCache.set(tables, fr);
   return fr;
 }
