@@ -21,14 +21,16 @@ import type { Discretization, ProgressSink } from './assemble.js';
  *
  * How the Jacobian blocks are formed (the same sums as the point-by-point reference twin,
  * assemble-nonlinear-reference.ts, in another order, so equal to round-off):
- *  - volume: with the physical gradients ∂_k φ_a = Σ_l ∂_{ξ_l} φ_a J⁻¹_{lk} and the weighted
- *    spatial flux Jacobians C_{k,ij}(q) = w_q ∂F_{k,i}/∂U_j (k < d) gathered over all points first,
- *    block (i, j) is −Y_ij Φᵀ with Y_ij[a, q] = Σ_k ∂_k φ_a(q) C_{k,ij}(q): one dense product per
- *    (i, j) over the quadrature points. The time component ∂G_d/∂U = I (the interface contract,
- *    checked) gives −|det J| Σ_l J⁻¹_{ld} S_l on the diagonal blocks i = j, S_l the reference
- *    convection integrals.
- *  - faces: Z_ij[b, q] = w_q (∂H_i/∂U_j)(q) φ_b(q) for either side, then block (i, j) of the four
- *    element pairs is ±Φ_{L|R} Z_ijᵀ.
+ *  - volume: the weighted spatial flux Jacobians C_{k,ij}(q) = w_q ∂F_{k,i}/∂U_j (k < d) are
+ *    gathered over all points first; then moments against the orthonormal polynomials of degree
+ *    2p − 1, one small product to M_{k,ij}[s, b] = Σ_q φ_s C_{k,ij} φ_b (φ_s of degree ≤ p − 1), and
+ *    block (i, j) −= Σ_k G_k M_{k,ij} with ∂_k φ_a = Σ_s G_k[a, s] φ_s (volumeMoments). The time
+ *    component ∂G_d/∂U = I (the interface contract, checked) gives −|det J| Σ_l J⁻¹_{ld} S_l on the
+ *    diagonal blocks i = j, S_l the reference convection integrals.
+ *  - faces: z_ij(q) = w_q (∂H_i/∂U_j)(q) for either side, N_ij = Ψ diag(z_ij) Ψᵀ on the basis ψ of
+ *    the face (degree p in D − 1 variables) and block (i, j) of the element pairs ±T N_ij T'ᵀ with
+ *    φ = T ψ on the face (faceRestriction).
+ * The residual is summed point by point exactly as in the reference (identical).
  * Pairs (i, j) whose coefficient is zero at every point are skipped, as the reference skips zero
  * coefficients point by point.
  */

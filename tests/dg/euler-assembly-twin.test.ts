@@ -2,8 +2,8 @@
  * Fast against slow: the nonlinear assembler (dense products per element and face,
  * src/dg/assemble-nonlinear.ts) and the point-by-point reference twin it replaced
  * (src/dg/assemble-nonlinear-reference.ts) give the same Euler residual and Jacobian to round-off,
- * for both fluxes, 1D+t, 2D+t and 3D+t, at the projected state and at perturbed states (each entry
- * scaled by 1 ± 1 %, so face jumps and the Roe entropy fix see other branches).
+ * for both fluxes, 1D+t, 2D+t and 3D+t, p = 0, 1, 2, at the projected state and at perturbed
+ * states (each entry scaled by 1 ± 1 %, so face jumps and the Roe entropy fix see other branches).
  */
 import { describe, it, expect } from 'vitest';
 import { buildDiscretization, parseGeneratorParams } from '../../src/dg/generate.js';
@@ -16,6 +16,7 @@ import type { NonlinearSystemPhysics } from '../../src/dg/physics/types.js';
 const cases: [string, Record<string, unknown>][] = [
   ['1D+t shock tube p = 2', { dim: 1, order: 2, cells: 8, slabs: 2, state: 'shock-tube', jitter: 0.1 }],
   ['1D+t shock tube p = 1, inflow', { dim: 1, order: 1, cells: 6, slabs: 3, state: 'shock-tube' }],
+  ['2D+t vortex p = 0 (no volume gradients)', { dim: 2, order: 0, cells: 3, slabs: 2, state: 'vortex', extent: [10, 10], periodic: [true, true] }],
   ['2D+t vortex p = 2', { dim: 2, order: 2, cells: 3, slabs: 1, state: 'vortex', jitter: 0.1, extent: [10, 10], periodic: [true, true] }],
   ['2D+t uniform p = 1, sheared, walls', { dim: 2, order: 1, cells: 3, slabs: 2, state: 'uniform', shear: 'align', jitter: 0.15 }],
   ['3D+t uniform p = 1', { dim: 3, order: 1, cells: 1, slabs: 1, state: 'uniform', jitter: 0.1 }],
