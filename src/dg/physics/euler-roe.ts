@@ -4,7 +4,9 @@
  * dual-number version in euler-flux.ts (eulerNumericalFluxDual(… 'roe' …): dualState, normalFlux,
  * roeDissipation), so values and derivatives are bit-identical to it — the same choices (nothing
  * frozen; |·|, max and the entropy fix's δ differentiate their active branch). See euler-flux.ts
- * for the formulas and their sources.
+ * for the formulas and their sources. The assembler now runs the hand-written chain rule of
+ * euler-roe-closed.ts (same H bit for bit, Jacobians to round-off); this version stays as its
+ * reference twin in the tests and in bench/roe-flux-ab.bench.ts.
  */
 import { DualTape } from '../dual-tape.js';
 
