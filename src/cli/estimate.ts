@@ -35,6 +35,7 @@ interface EstimateCliOptions {
   periodic?: boolean;
   slabs: number;
   restart: number;
+  deflate?: number;
   blocks?: number;
   json?: boolean;
   layout?: string;
@@ -59,6 +60,7 @@ export function estimateInputFromOptions(o: EstimateCliOptions): EstimateInput {
   }
   const input: EstimateInput = {
     spaceDim: o.dim as 1 | 2 | 3, order: o.order, equations: o.equations, slabs: o.slabs, restart: o.restart,
+    ...(o.deflate !== undefined ? { deflate: o.deflate } : {}),
     ...(o.elements !== undefined ? { elements: o.elements } : { cells: o.cells!.length === 1 ? o.cells![0] : o.cells!, layersPerSlab: o.layers ?? 1, periodic: o.periodic === true }),
   };
   if (o.blocks === undefined) return input;
@@ -100,7 +102,7 @@ export function renderEstimate(e: MemoryEstimate): string {
   }
   for (const p of Object.keys(a.notProjected)) rows.push([`  ${p}`, '—', '—']);
   rows.push([`Krylov basis (restart ${e.restart}, reserved)`, '', '']);
-  for (const k of ESTIMATE_KRYLOV) bytes(`  ${k}`, a.krylov[k], s.krylov[k]);
+  for (const k of ESTIMATE_KRYLOV) bytes(`  ${k}${k === 'gmres-dr' || k === 'gcro-dr' ? ` (deflate ${e.deflate})` : ''}`, a.krylov[k], s.krylov[k]);
   rows.push(null);
   bytes('Jacobian + block-ilu0 + gmres', peakBytes(a, 'block-ilu0', 'gmres'), peakBytes(s, 'block-ilu0', 'gmres'));
   bytes('Jacobian + block-jacobi + gmres', peakBytes(a, 'block-jacobi', 'gmres'), peakBytes(s, 'block-jacobi', 'gmres'));
@@ -150,6 +152,7 @@ export function renderMatrixEstimate(file: string, e: MatrixEstimate): string {
     `memory estimate for ${file}: n = ${formatCount(e.n)}, ${formatCount(e.blockRows)} block rows of ${e.bs}, ${formatCount(e.blocks)} stored blocks${e.slabs !== undefined ? `, ${e.slabs} slabs` : ''}`,
     `  Jacobian: BSR ${formatBytes(e.jacobian.bsr)}, CSR ${formatBytes(e.jacobian.csr)} (a solve holds CSR with jacobi and ilu0, BSR otherwise)`,
     `  Krylov basis (restart ${e.restart}, reserved): gmres ${formatBytes(e.krylov.gmres)}, fgmres ${formatBytes(e.krylov.fgmres)}, bicgstab ${formatBytes(e.krylov.bicgstab)}`,
+    `    deflated (deflate ${e.deflate}): gmres-dr ${formatBytes(e.krylov['gmres-dr'])}, gcro-dr ${formatBytes(e.krylov['gcro-dr'])}`,
     '',
     line(['  preconditioner', 'bytes', 'with Jacobian and Krylov basis (fgmres for slab, p-multigrid; else gmres)']),
     ...rows.map(line),
@@ -166,7 +169,7 @@ async function runMatrixEstimate(file: string, opts: EstimateCliOptions): Promis
     if (opts[key] !== undefined) throw optionError(flag, 'describes mesh sizes; a matrix file gives them (use one or the other)');
   }
   const sys = await loadSystem(file, { blockSize: opts.blockSize, layoutPath: opts.layout });
-  const e = estimateMatrix(sys, preconditionerNames(), opts.restart, sys);
+  const e = estimateMatrix(sys, preconditionerNames(), opts.restart, sys, opts.deflate);
   process.stdout.write(opts.json ? `${JSON.stringify(e, null, 2)}\n` : renderMatrixEstimate(file, e));
 }
 
@@ -184,6 +187,7 @@ export function registerEstimate(program: Command): void {
     .option('--periodic', 'with --cells: periodic space boundaries (every space face interior)')
     .option('--slabs <s>', 'number of time slabs (default 1)', intOption('--slabs', 1, 100_000_000))
     .option('--restart <k>', 'GMRES/FGMRES basis vectors per cycle', intOption('--restart', 1, 100_000), 30)
+    .option('--deflate <k>', 'harmonic Ritz vectors kept by gmres-dr and gcro-dr, 0 ≤ k < restart (default min(10, ⌊restart/3⌋))', intOption('--deflate', 0, 100_000))
     .option('--blocks <n>', 'exact stored block count of the whole matrix (e.g. from `slabbench inspect`)', intOption('--blocks', 1, Number.MAX_SAFE_INTEGER))
     .option('--layout <file>', 'with a matrix file: layout file to use instead of NAME.layout.json')
     .option('--block-size <n>', 'with a matrix file: block size when there is no layout', intOption('--block-size', 1, 1_000_000))
@@ -203,6 +207,9 @@ Examples:
   slabbench estimate --dim 2 --order 2 --cells 64 --layers 2 --slabs 8 --restart 50
   slabbench estimate --dim 1 --order 2 --equations 2 --elements 3200 --slabs 4 --blocks 13588 --json`)
     .action(async (matrix: string | undefined, opts: EstimateCliOptions) => {
+      if (opts.deflate !== undefined && opts.deflate >= opts.restart) {
+        throw optionError('--deflate', `expected an integer from 0 to restart − 1 = ${opts.restart - 1}, got ${opts.deflate}`);
+      }
       if (matrix !== undefined) { await runMatrixEstimate(matrix, opts); return; }
       const estimate = estimateMemory(estimateInputFromOptions({ ...opts, slabs: opts.slabs ?? 1 }));
       process.stdout.write(opts.json ? `${JSON.stringify(estimate, null, 2)}\n` : renderEstimate(estimate));

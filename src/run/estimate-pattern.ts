@@ -28,7 +28,8 @@ import type { Bsr, ModalLayout } from '../sparse/types.js';
 import type { SystemMatrix } from '../precond/types.js';
 import type { PMultigridOptions, Recipe } from '../solvers/recipe.js';
 import { DEFAULT_INNER_RECIPE, defaultPMultigrid, parseRecipe } from '../solvers/recipe.js';
-import { krylovWorkspaceBytes } from '../solvers/krylov.js';
+import { krylovWorkspaceBytes, reservedBasisBytes, type BasisKrylov } from '../solvers/krylov.js';
+import { defaultDeflate } from '../solvers/options.js';
 import { createPreconditioner } from '../precond/registry.js';
 import { totalBytes } from '../precond/common.js';
 import { validSlabOffsets } from '../precond/block-tools.js';
@@ -318,8 +319,10 @@ export interface MatrixEstimate {
   jacobian: { bsr: number; csr: number };
   /** Per registered preconditioner (default options): its bytes with their parts and source, or why it is not projected. */
   preconditioners: Record<string, ProjectionOutcome>;
+  /** The deflate the gmres-dr and gcro-dr figures assume. */
+  deflate: number;
   /** Reserved Krylov basis at a full cycle (the most a solve holds). */
-  krylov: { gmres: number; fgmres: number; bicgstab: number };
+  krylov: Record<BasisKrylov, number>;
 }
 
 /** A matrix as estimate reads it: its block structure without building block values. */
@@ -336,7 +339,7 @@ export interface EstimatedMatrix {
  * Project every preconditioner of `names` with its default options on matrix a. AIR's setup runs
  * on `system` (the matrix with its values) when given; without it air is refused.
  */
-export function estimateMatrix(a: EstimatedMatrix, names: readonly string[], restart: number, system?: SystemMatrix): MatrixEstimate {
+export function estimateMatrix(a: EstimatedMatrix, names: readonly string[], restart: number, system?: SystemMatrix, deflate = defaultDeflate(restart)): MatrixEstimate {
   const s = a.blockStructure();
   const nb = s.nBlockRows, bs = a.bs, blocks = s.rowPtr[nb];
   const m: PatternMatrix = {
@@ -345,12 +348,11 @@ export function estimateMatrix(a: EstimatedMatrix, names: readonly string[], res
   };
   const preconditioners: Record<string, ProjectionOutcome> = {};
   for (const name of names) preconditioners[name] = projectPreconditioner(m, defaultRecipeFor(name));
-  const k = Math.max(1, Math.min(restart, a.n));
   return {
-    n: a.n, blockRows: nb, bs, blocks, nnz: a.nnz, restart,
+    n: a.n, blockRows: nb, bs, blocks, nnz: a.nnz, restart, deflate,
     ...(a.slabOffsets ? { slabs: a.slabOffsets.length - 1 } : {}),
     jacobian: { bsr: (nb + 1) * 4 + blocks * 4 + blocks * bs * bs * 8, csr: (a.n + 1) * 4 + a.nnz * 12 },
     preconditioners,
-    krylov: { gmres: (k + 1) * a.n * 8, fgmres: (2 * k + 1) * a.n * 8, bicgstab: 8 * a.n * 8 },
+    krylov: reservedBasisBytes(restart, a.n, deflate),
   };
 }

@@ -50,12 +50,17 @@
  *  - Krylov basis, reserved for a full cycle (an upper bound: GMRES allocates a vector when it first
  *    writes it, so a run stopping after k < m iterations holds k + 1; results report this figure as
  *    memory.basisReservedBytes): GMRES (m+1)·n·8, FGMRES (2m+1)·n·8 (the preconditioned vectors
- *    too), BiCGStab 8·n·8 (eight work vectors with a preconditioner), m = min(restart, n). The small
- *    Hessenberg and rotation arrays are left out.
+ *    too), GMRES-DR (m+k+2)·n·8 (the basis and the k+1 vectors of the next cycle's deflated start),
+ *    GCRO-DR (m+1+4k)·n·8 (the basis, the recycled U_k and C_k and their next versions), BiCGStab
+ *    8·n·8 (eight work vectors with a preconditioner), m = min(restart, n), k = min(deflate, m − 1)
+ *    with deflate's default defaultDeflate(restart) (reservedBasisBytes, src/solvers/krylov.ts).
+ *    The small Hessenberg and rotation arrays are left out.
  */
 
 import type { ModalLayout } from '../sparse/types.js';
 import { defaultRecipeFor, isRefused, projectPreconditioner } from './estimate-pattern.js';
+import { BASIS_KRYLOV, reservedBasisBytes } from '../solvers/krylov.js';
+import { defaultDeflate } from '../solvers/options.js';
 
 export type BlockCountSource = 'exact' | 'structured-mesh' | 'upper-bound';
 
@@ -70,6 +75,8 @@ export interface EstimateInput {
   slabs: number;
   /** GMRES/FGMRES basis vectors per cycle. */
   restart: number;
+  /** Harmonic Ritz vectors GMRES-DR and GCRO-DR keep (default defaultDeflate(restart)); 0 ≤ deflate < restart. */
+  deflate?: number;
   /** Total space-time elements (give this, or cells). */
   elements?: number;
   /** Cells per space direction of the structured Kuhn mesh: one count for every axis, or one per axis (give this, or elements). */
@@ -91,7 +98,7 @@ export const ESTIMATE_PRECONDITIONERS = ['none', 'jacobi', 'block-jacobi', 'bloc
 /** Projected by estimateMatrix on a matrix file only (their storage needs the pattern or the values). */
 export const MATRIX_ONLY_PRECONDITIONERS = ['schwarz', 'direct', 'air'] as const;
 export type EstimatePreconditioner = (typeof ESTIMATE_PRECONDITIONERS)[number];
-export const ESTIMATE_KRYLOV = ['gmres', 'fgmres', 'bicgstab'] as const;
+export const ESTIMATE_KRYLOV = BASIS_KRYLOV;
 export type EstimateKrylov = (typeof ESTIMATE_KRYLOV)[number];
 
 export interface Footprint {
@@ -122,6 +129,8 @@ export interface MemoryEstimate {
   bs: number;
   slabs: number;
   restart: number;
+  /** The deflate the gmres-dr and gcro-dr rows assume (given, or defaultDeflate(restart)). */
+  deflate: number;
   blockCountSource: BlockCountSource;
   allAtOnce: Footprint;
   /** One slab (the largest when elements do not divide evenly). */
@@ -175,7 +184,7 @@ export function generatorModes(spaceDim: number, order: number, equations: numbe
   return { nEquations: equations, arrangement: 'equation-major', degrees };
 }
 
-function footprint(elements: number, blocks: number, bs: number, restart: number, slab?: Footprint, fillBlocks?: number, modes?: ModalLayout): Footprint {
+function footprint(elements: number, blocks: number, bs: number, restart: number, deflate: number, slab?: Footprint, fillBlocks?: number, modes?: ModalLayout): Footprint {
   const n = elements * bs;
   const bb = bs * bs;
   const nnz = blocks * bb;
@@ -183,7 +192,6 @@ function footprint(elements: number, blocks: number, bs: number, restart: number
   const indices = blocks * 4 + (elements + 1) * 4;
   const csrIndices = nnz * 4 + (n + 1) * 4;
   const diagInverse = { 'inverse blocks': elements * bb * 8 };
-  const m = Math.max(1, Math.min(restart, n));
   const blockIluOn = (nBlocks: number): { total: number; parts: Record<string, number> } =>
     sum({ factors: nBlocks * bb * 8, 'factor pattern': nBlocks * 4 + 2 * (elements + 1) * 4, workspace: bs * 8 });
   const blockIlu0 = blockIluOn(blocks);
@@ -224,7 +232,7 @@ function footprint(elements: number, blocks: number, bs: number, restart: number
         'slab vectors': 2 * ns * 8,
       }),
     },
-    krylov: { gmres: (m + 1) * n * 8, fgmres: (2 * m + 1) * n * 8, bicgstab: 8 * n * 8 },
+    krylov: reservedBasisBytes(restart, n, deflate),
     notProjected,
   };
 }
@@ -248,6 +256,8 @@ export function estimateMemory(input: EstimateInput): MemoryEstimate {
   check(isPosInt(equations), `equations must be an integer ≥ 1, got ${equations}`);
   check(isPosInt(slabs), `slabs must be an integer ≥ 1, got ${slabs}`);
   check(isPosInt(restart), `restart must be an integer ≥ 1, got ${restart}`);
+  const deflate = input.deflate ?? defaultDeflate(restart);
+  check(Number.isInteger(deflate) && deflate >= 0 && deflate < restart, `deflate must be an integer from 0 to restart − 1 = ${restart - 1}, got ${deflate}`);
   check((input.elements === undefined) !== (input.cells === undefined), 'give exactly one of elements and cells');
   const nBasis = spaceTimeBasisSize(d, p);
   const bs = equations * nBasis;
@@ -292,10 +302,10 @@ export function estimateMemory(input: EstimateInput): MemoryEstimate {
     source = 'exact';
   }
   const modes = generatorModes(d, p, equations);
-  const slab = footprint(slabElements, slabBlocks, bs, restart, undefined, undefined, modes);
+  const slab = footprint(slabElements, slabBlocks, bs, restart, deflate, undefined, undefined, modes);
   return {
-    spaceDim: d, order: p, equations, nBasis, bs, slabs, restart, blockCountSource: source,
-    allAtOnce: footprint(elements, blocks, bs, restart, slab, input.fillBlocks, modes),
+    spaceDim: d, order: p, equations, nBasis, bs, slabs, restart, deflate, blockCountSource: source,
+    allAtOnce: footprint(elements, blocks, bs, restart, deflate, slab, input.fillBlocks, modes),
     slab,
   };
 }

@@ -7,6 +7,7 @@ import { bicgstab } from './bicgstab.js';
 import { stationary } from './stationary.js';
 import { gmresDr } from './gmres-dr.js';
 import { gcroDr } from './gcro-dr.js';
+import { defaultDeflate } from './options.js';
 import { UserError } from '../util/errors.js';
 
 /**
@@ -48,18 +49,39 @@ export function krylovSolve(
   }
 }
 
+/** The Krylov methods whose reserved basis `estimate` projects (every method but the stationary iteration). */
+export const BASIS_KRYLOV = ['gmres', 'fgmres', 'gmres-dr', 'gcro-dr', 'bicgstab'] as const;
+export type BasisKrylov = (typeof BASIS_KRYLOV)[number];
+
+/**
+ * The reserved basis of each method of BASIS_KRYLOV for n unknowns with the given restart, as
+ * krylovWorkspaceBytes counts it for the cycle length a solve uses: m = min(restart, n) and, for
+ * the deflated methods, k = min(deflate ?? defaultDeflate(restart), m − 1), as
+ * checkDeflatedOptions resolves them. What `estimate` projects (its `krylov` rows).
+ */
+export function reservedBasisBytes(restart: number, n: number, deflate?: number): Record<BasisKrylov, number> {
+  const m = Math.max(1, Math.min(restart, n));
+  const k = Math.min(deflate ?? defaultDeflate(restart), m - 1);
+  const out = {} as Record<BasisKrylov, number>;
+  for (const krylov of BASIS_KRYLOV) out[krylov] = krylovWorkspaceBytes({ krylov, restart: m, deflate: k }, n);
+  return out;
+}
+
 /**
  * Bytes the Krylov method of a recipe reserves for a solve of n unknowns (its basis and work
  * vectors at a full cycle): GMRES (restart + 1)·n·8, FGMRES (2·restart + 1)·n·8, GMRES-DR
- * (restart + k + 2)·n·8, GCRO-DR (restart + 1 + 4k)·n·8 (k = deflate), BiCGStab 8·n·8,
+ * (restart + k + 2)·n·8 ((restart + 1)·n·8 at k = 0), GCRO-DR (restart + 1 + 4k)·n·8 (k =
+ * deflate, default defaultDeflate(restart), at most restart − 1), BiCGStab 8·n·8,
  * stationary 2·n·8. The inner solves of slab and p-multigrid's coarse solves report this figure.
  */
 export function krylovWorkspaceBytes(r: Pick<Recipe, 'krylov' | 'restart' | 'deflate'>, n: number): number {
+  // k as the deflated methods resolve it (checkDeflatedOptions); GMRES-DR keeps no second basis at k = 0
+  const k = Math.max(0, Math.min(r.deflate ?? defaultDeflate(r.restart), r.restart - 1));
   switch (r.krylov) {
     case 'gmres': return (r.restart + 1) * n * 8;
     case 'fgmres': return (2 * r.restart + 1) * n * 8;
-    case 'gmres-dr': return (r.restart + (r.deflate ?? 0) + 2) * n * 8;
-    case 'gcro-dr': return (r.restart + 1 + 4 * (r.deflate ?? 0)) * n * 8;
+    case 'gmres-dr': return (r.restart + 1 + (k > 0 ? k + 1 : 0)) * n * 8;
+    case 'gcro-dr': return (r.restart + 1 + 4 * k) * n * 8;
     case 'bicgstab': return 8 * n * 8;
     case 'none': return 2 * n * 8;
   }

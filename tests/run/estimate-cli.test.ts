@@ -27,6 +27,12 @@ describe('slabbench estimate', () => {
     const parsed = JSON.parse(r.stdout) as MemoryEstimate;
     expect(parsed).toEqual(estimateMemory({ spaceDim: 2, order: 2, equations: 1, cells: 16, layersPerSlab: 2, periodic: false, slabs: 4, restart: 40 }));
     expect(parsed.blockCountSource).toBe('structured-mesh');
+    const d = await run(['--dim', '2', '--order', '2', '--cells', '16', '--slabs', '4', '--restart', '40', '--deflate', '7', '--json']);
+    expect(d.code, d.stderr).toBe(0);
+    const pd = JSON.parse(d.stdout) as MemoryEstimate;
+    expect(pd).toEqual(estimateMemory({ spaceDim: 2, order: 2, equations: 1, cells: 16, layersPerSlab: 1, periodic: false, slabs: 4, restart: 40, deflate: 7 }));
+    expect(pd.deflate).toBe(7);
+    expect(pd.allAtOnce.krylov['gcro-dr']).toBe((40 + 1 + 4 * 7) * pd.allAtOnce.unknowns * 8);
   });
 
   it('takes one cell count per axis', async () => {
@@ -50,6 +56,8 @@ describe('slabbench estimate', () => {
       [['--dim', '2', '--order', '1', '--elements', '10', '--blocks', '5'], /--blocks/],
       [['--dim', '2', '--order', '1', '--elements', '3', '--slabs', '4'], /--elements/],
       [['--dim', '2', '--order', '1', '--elements', '10', '--restart', '0'], /--restart/],
+      [['--dim', '2', '--order', '1', '--elements', '10', '--restart', '8', '--deflate', '8'], /option --deflate: expected an integer from 0 to restart − 1 = 7, got 8/],
+      [['--dim', '2', '--order', '1', '--elements', '10', '--deflate', '-1'], /--deflate/],
     ];
     for (const [args, re] of bad) {
       const r = await run(args);
@@ -69,6 +77,7 @@ describe('slabbench estimate', () => {
     const sys = await loadSystem(file);
     const lib = estimateMatrix(sys, preconditionerNames(), 30, sys);
     expect(e).toEqual(lib);
+    expect(e.krylov['gmres-dr']).toBe((30 + 10 + 2) * e.n * 8); // default deflate min(10, ⌊30/3⌋) = 10
     expect(e.preconditioners.air).toMatchObject({ source: 'measured by setup' });
     expect(e.preconditioners['block-ilu0']).toMatchObject({ source: 'counted' });
     // this committed case's layout has no modes: p-multigrid is refused, saying why

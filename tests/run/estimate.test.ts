@@ -167,6 +167,30 @@ describe('estimate: preconditioner factors and Krylov basis against measured buf
     expect(Object.values(bi.buffers.krylov).reduce((x, y) => x + y, 0)).toBe(e.allAtOnce.krylov.bicgstab);
     expect(bi.basisReservedBytes).toBe(e.allAtOnce.krylov.bicgstab);
   });
+
+  it('Krylov basis bytes match GMRES-DR and GCRO-DR (default and given deflate, k = 0 included)', () => {
+    const b = new Float64Array(system.csr.nRows).fill(1);
+    const n = system.csr.nRows;
+    const run = (o: Partial<Recipe>) => solveSystem(system, b, recipe({ rtol: 1e-30, maxIterations: 3, preconditioner: 'jacobi', restart: 5, ...o })).result.memory;
+    // the n-length vectors of each method's buffers (its Hessenberg-sized arrays are left out, as for GMRES)
+    const vectors = (m: ReturnType<typeof run>, names: string[]) => names.reduce((s, k) => s + (m.buffers.krylov[k] ?? 0), 0);
+    const dr = ['basis', 'deflationBasis'];
+    const gcro = ['basis', 'recycledU', 'recycledC', 'newU', 'newC'];
+    // restart 5: default deflate ⌊5/3⌋ = 1
+    expect(e.deflate).toBe(1);
+    expect(vectors(run({ krylov: 'gmres-dr' }), dr)).toBe(e.allAtOnce.krylov['gmres-dr']);
+    expect(e.allAtOnce.krylov['gmres-dr']).toBe((5 + 1 + 2) * n * 8);
+    expect(vectors(run({ krylov: 'gcro-dr' }), gcro)).toBe(e.allAtOnce.krylov['gcro-dr']);
+    expect(e.allAtOnce.krylov['gcro-dr']).toBe((5 + 1 + 4) * n * 8);
+    for (const deflate of [0, 3]) {
+      const ek = estimateMemory({ ...input, deflate });
+      expect(ek.deflate).toBe(deflate);
+      expect(vectors(run({ krylov: 'gmres-dr', deflate }), dr), `deflate ${deflate}`).toBe(ek.allAtOnce.krylov['gmres-dr']);
+      expect(vectors(run({ krylov: 'gcro-dr', deflate }), gcro), `deflate ${deflate}`).toBe(ek.allAtOnce.krylov['gcro-dr']);
+    }
+    expect(estimateMemory({ ...input, deflate: 0 }).allAtOnce.krylov['gmres-dr']).toBe(e.allAtOnce.krylov.gmres);
+    expect(() => estimateMemory({ ...input, deflate: 5 })).toThrow(/deflate must be an integer from 0 to restart − 1 = 4, got 5/);
+  });
 });
 
 describe('estimate: input checks', () => {
