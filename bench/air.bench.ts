@@ -29,7 +29,7 @@ import type { Bsr } from '../src/sparse/types.js';
 import type { SystemMatrix } from '../src/precond/types.js';
 import { DEFAULT_AIR_OPTIONS, DEFAULT_RECIPE, type Recipe } from '../src/solvers/recipe.js';
 import { solveSystem } from '../src/solvers/run-recipe.js';
-import { measureStreamBandwidth, settle } from './stream.js';
+import { measureStreamBandwidths, settle } from './stream.js';
 
 const quick = process.argv.includes('--quick');
 const study = !process.argv.includes('--no-study');
@@ -50,7 +50,7 @@ function systemOf(bsr: Bsr, slabOffsets: readonly number[] | undefined): SystemM
   return { bsr, csr: bsrToCsr(bsr), slabOffsets: slabOffsets ? Int32Array.from(slabOffsets) : undefined };
 }
 
-async function measureCase(label: string, bsr: Bsr, slabOffsets: readonly number[] | undefined, rhs: Float64Array, bandwidth: number): Promise<void> {
+async function measureCase(label: string, bsr: Bsr, slabOffsets: readonly number[] | undefined, rhs: Float64Array, bandwidth: { wasm: number; js: number }): Promise<void> {
   const { nBlockRows: nb, bs } = bsr;
   const nnz = bsr.rowPtr[nb] * bs * bs;
   console.log(`\n${label}: n = ${nb * bs}, bs = ${bs}, ${nb} block rows, ${(nnz / 1e6).toFixed(2)} M nonzeros`);
@@ -67,7 +67,7 @@ async function measureCase(label: string, bsr: Bsr, slabOffsets: readonly number
   console.log(`  GMRES(30) + AIR: ${result.cause} after ${its} iterations; setup ${result.timing.setupSeconds.toFixed(2)} s ` +
     `(scaling ${st.scalingSeconds.toFixed(2)} s), solve ${result.timing.solveSeconds.toFixed(2)} s = ${(result.timing.solveSeconds / Math.max(1, its) * 1e3).toFixed(1)} ms/iteration`);
   console.log(`  V-cycle (one application): ${(tApply * 1e3).toFixed(1)} ms (${applies} applications), ${(st.cycleFlops / 1e6).toFixed(0)} MFlop, ≈ ${(bytes / 1e6).toFixed(1)} MB read → ` +
-    `ratio to triad ${(tApply / (bytes / (bandwidth * 1e9))).toFixed(2)}`);
+    `ratio to triad ${(tApply / (bytes / (bandwidth.wasm * 1e9))).toFixed(2)} (WebAssembly), ${(tApply / (bytes / (bandwidth.js * 1e9))).toFixed(2)} (JavaScript); kernels ${result.kernels ?? 'typescript'}`);
   console.log(`  levels ${st.levels}, operator complexity ${st.operatorComplexity.toFixed(2)}, grid complexity ${st.gridComplexity.toFixed(2)}, coarsest: ${st.coarsestSolve}; ` +
     `preconditioner ${(result.memory.preconditionerBytes / 2 ** 20).toFixed(1)} MiB, matrix ${(result.memory.matrixBytes / 2 ** 20).toFixed(1)} MiB`);
   console.log('  level  block rows  blocks     C      F   Z blocks  largest Z system  setup s   MiB');
@@ -86,8 +86,8 @@ function advection(order: number, cells: number, slabs: number, thickness: numbe
 }
 
 console.log(`load average ${os.loadavg().map((v) => v.toFixed(2)).join(' ')}, ${os.cpus().length} cores`);
-const bandwidth = await measureStreamBandwidth();
-console.log(`streaming triad: ${bandwidth.toFixed(2)} GB/s`);
+const bandwidth = await measureStreamBandwidths();
+console.log(`streaming triad: WebAssembly ${bandwidth.wasm.toFixed(2)} GB/s (the yardstick), JavaScript ${bandwidth.js.toFixed(2)} GB/s`);
 
 {
   const c = quick ? 8 : 26, s = quick ? 2 : 3;

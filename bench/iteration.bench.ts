@@ -1,6 +1,7 @@
 /**
- * Time per GMRES(30) iteration (issue 4) with block ILU(0), block Jacobi and block Gauss–Seidel,
- * against the bytes each iteration must move, at the streaming bandwidth measured in the same run.
+ * Time per GMRES(30) iteration with block ILU(0), block Jacobi and block Gauss–Seidel, against the
+ * bytes each iteration must move, at the streaming bandwidth measured in the same run; each recipe
+ * on the WebAssembly kernels (the default in solves) and on the TypeScript fallback.
  *
  *   npx tsx bench/iteration.bench.ts [--quick]
  *
@@ -19,9 +20,10 @@
  *    (j = 0..29), plus 5 vectors for the operator/preconditioner input and output and ‖A z‖.
  * Time per iteration: solve seconds of one full GMRES(30) cycle (maxIterations 30, rtol 0, so the
  * cycle-end update and true-residual check are included, 1/30 of an extra SpMV + apply). After a
- * warm-up cycle, five pairs: a short streaming triad, then one cycle; the ratio
+ * warm-up cycle, five pairs: a short run of both streaming triads (bench/stream.ts: WebAssembly, the
+ * yardstick, and JavaScript, the second column), then one cycle; the ratio
  * time / (bytes / triad bandwidth) is taken per pair and the row prints the medians (and the
- * range of the ratios). Pairing matters on a shared machine: the triad swung between 7 and
+ * range of the ratios) against the WebAssembly triad, and the median against the JavaScript one. Pairing matters on a shared machine: the triad swung between 7 and
  * 12 GB/s within minutes on the bench machine. The process settles (bench/stream.ts settle) before
  * each row. Target: ratio ≤ 1.5. "of which M" is the median time of one preconditioner
  * application inside the solve, and "M ratio" its own bytes-time ratio, so a slow iteration can be
@@ -34,10 +36,10 @@ import type { SystemMatrix } from '../src/precond/types.js';
 import { createPreconditioner } from '../src/precond/registry.js';
 import { DEFAULT_RECIPE, parseRecipe, type Recipe } from '../src/solvers/recipe.js';
 import { bsrOperator } from '../src/solvers/operator.js';
-import { gmres } from '../src/solvers/gmres.js';
-import { krylovOptionsFromRecipe } from '../src/solvers/options.js';
+import { prepareSolve } from '../src/solvers/run-recipe.js';
 import { sumBytes } from '../src/solvers/result.js';
-import { measureStreamBandwidth, settle } from './stream.js';
+import { measureStreamBandwidths, settle } from './stream.js';
+import { loadavg } from 'node:os';
 
 const quick = process.argv.includes('--quick');
 const cells = quick ? [6, 6] : [12, 12];
@@ -81,8 +83,9 @@ const variants: Array<{ label: string; over: Partial<Recipe> }> = [
   { label: `block-gs${DEFAULT_RECIPE.blockInverse === 'lu' ? ' *' : ' lu'}`, over: { preconditioner: 'block-gs', blockInverse: 'lu' } },
 ];
 
-console.log(`\n${'precond'.padEnd(21) + 's/iteration'.padStart(12) + 'of which M'.padStart(12) + '  ' + 'matrix MB'.padStart(9) + '   ' + 'precond MB'.padStart(9) + '  ' + 'basis MB'.padStart(9) + '  ' + 'total MB'.padStart(9) + '  ' + 'triad GB/s'.padStart(10) + '  ' + 'bytes-time s'.padStart(13) + '   ratio  M ratio'}`);
-for (const { label, over } of variants) {
+console.log(`load average at the start ${loadavg()[0].toFixed(1)}; ratios against the WebAssembly triad, "JS ratio" against the JavaScript triad`);
+console.log(`\n${'precond'.padEnd(21) + 'kernels'.padEnd(11) + 's/iteration'.padStart(12) + 'of which M'.padStart(12) + '  ' + 'matrix MB'.padStart(9) + '   ' + 'precond MB'.padStart(9) + '  ' + 'basis MB'.padStart(9) + '  ' + 'total MB'.padStart(9) + '  ' + 'triad GB/s'.padStart(10) + '  ' + 'bytes-time s'.padStart(13) + '   ratio  M ratio  JS ratio'}`);
+for (const { label, over } of variants) for (const kernels of ['wasm', 'typescript'] as const) {
   const recipe = parseRecipe({ ...over, restart, rtol: 0, maxIterations: restart }, 'bench');
   const M = createPreconditioner(system, recipe);
   const outcome = M.setup();
@@ -92,26 +95,33 @@ for (const { label, over } of variants) {
   const precondBytes = recipe.preconditioner === 'block-gs'
     ? factorBytes + lowerBlocks * bs * bs * 8 + bsr.colInd.byteLength + bsr.rowPtr.byteLength
     : factorBytes;
+  // the timed cycles: the recipe prepared once on the chosen kernels (matrix and factors in
+  // kernel memory for wasm), one full cycle per solve
+  const prepared = prepareSolve(system, recipe, { kernels });
   await settle();
-  // Pairs: a short triad right before each measured cycle, and the ratio taken per pair, so load
+  // Pairs: short triads right before each measured cycle, and the ratio taken per pair, so load
   // that comes and goes on a shared machine hits both sides of a ratio; the row shows medians.
   const bytes = matrixBytes + precondBytes + basisBytes;
   const perIts: number[] = [], perApplies: number[] = [], bandwidths: number[] = [];
-  const ratios: number[] = [], applyRatios: number[] = [];
+  const ratios: number[] = [], applyRatios: number[] = [], jsRatios: number[] = [];
+  let ran = '';
   for (let rep = 0; rep <= (quick ? 1 : 5); rep++) {
-    const bw = rep > 0 ? await measureStreamBandwidth({ timeMs: quick ? 150 : 300 }) : 0;
-    const x = new Float64Array(n);
-    const r = gmres(A, gen.rhs, x, { ...krylovOptionsFromRecipe(recipe, M), ritz: false });
+    const bw = rep > 0 ? await measureStreamBandwidths({ timeMs: quick ? 150 : 300 }) : { wasm: 0, js: 0 };
+    const r = prepared.solve(gen.rhs).result;
+    ran = r.kernels ?? kernels;
     if (rep === 0) continue; // the first cycle warms up the JIT
     const perIt = r.timing.solveSeconds / r.iterations, perApply = r.timing.secondsPerPreconditionerApply;
-    perIts.push(perIt); perApplies.push(perApply); bandwidths.push(bw);
-    ratios.push(perIt / (bytes / (bw * 1e9)));
-    applyRatios.push(precondBytes > 0 ? perApply / (precondBytes / (bw * 1e9)) : Number.NaN);
+    perIts.push(perIt); perApplies.push(perApply); bandwidths.push(bw.wasm);
+    ratios.push(perIt / (bytes / (bw.wasm * 1e9)));
+    jsRatios.push(perIt / (bytes / (bw.js * 1e9)));
+    applyRatios.push(precondBytes > 0 ? perApply / (precondBytes / (bw.wasm * 1e9)) : Number.NaN);
   }
+  prepared.dispose();
   const perIt = median(perIts), perApply = median(perApplies), bandwidth = median(bandwidths);
   const bytesTime = bytes / (bandwidth * 1e9);
   const mb = (b: number) => (b / 1e6).toFixed(1).padStart(9);
-  console.log(`${label.padEnd(21)}${perIt.toExponential(3).padStart(12)}${perApply.toExponential(3).padStart(12)}  ${mb(matrixBytes)}   ${mb(precondBytes)}  ${mb(basisBytes)}  ${mb(bytes)}  ` +
+  console.log(`${label.padEnd(21)}${ran.padEnd(11)}${perIt.toExponential(3).padStart(12)}${perApply.toExponential(3).padStart(12)}  ${mb(matrixBytes)}   ${mb(precondBytes)}  ${mb(basisBytes)}  ${mb(bytes)}  ` +
     `${bandwidth.toFixed(2).padStart(10)}  ${bytesTime.toExponential(3).padStart(13)}   ${median(ratios).toFixed(2)}   ${precondBytes > 0 ? median(applyRatios).toFixed(2) : "  –"}` +
-    `   (ratios ${Math.min(...ratios).toFixed(2)}–${Math.max(...ratios).toFixed(2)})`);
+    `     ${median(jsRatios).toFixed(2)}   (ratios ${Math.min(...ratios).toFixed(2)}–${Math.max(...ratios).toFixed(2)})`);
 }
+console.log(`load average at the end ${loadavg()[0].toFixed(1)}`);

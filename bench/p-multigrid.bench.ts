@@ -23,7 +23,7 @@ import { parseRecipe } from '../src/solvers/recipe.js';
 import { solveSystem } from '../src/solvers/run-recipe.js';
 import { totalBytes } from '../src/precond/common.js';
 import type { SystemMatrix } from '../src/precond/types.js';
-import { measureStreamBandwidth, settle } from './stream.js';
+import { measureStreamBandwidths, settle } from './stream.js';
 
 const quick = process.argv.includes('--quick');
 
@@ -51,8 +51,9 @@ for (const c of cases) {
   const b = new Float64Array(n);
   bsrSpmv(g.bsr, new Float64Array(n).fill(1), b);
   await settle();
-  const triad = await measureStreamBandwidth({ timeMs: 600 });
-  console.log(`\n${c.name}: n = ${n}, block size ${g.bsr.bs}, ${stored} stored entries; triad ${triad.toFixed(2)} GB/s`);
+  const triads = await measureStreamBandwidths({ timeMs: 600 });
+  const triad = triads.wasm;
+  console.log(`\n${c.name}: n = ${n}, block size ${g.bsr.bs}, ${stored} stored entries; triad ${triad.toFixed(2)} GB/s (WebAssembly; the ratios below), JavaScript triad ${triads.js.toFixed(2)} GB/s (multiply a ratio by ${fmt(triad / triads.js)} for it); level kernels timed here: TypeScript`);
   const recipe = parseRecipe({ krylov: 'fgmres', preconditioner: 'p-multigrid', rtol: 1e-8 }, 'bench');
   const reps = quick ? 3 : 5;
   let M = createPreconditioner(sys, recipe) as PMultigridPreconditioner;

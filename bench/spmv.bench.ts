@@ -1,5 +1,6 @@
 /**
- * BSR SpMV effective bandwidth (issue 2 target: ≥ 70% of a plain streaming loop, same run).
+ * BSR SpMV effective bandwidth (target: ≥ 70% of a streaming loop, same run), for the WebAssembly
+ * kernels (src/kernels/sparse.ts, the default in solves) and the TypeScript twins (the fallback).
  *
  *   npx tsx bench/spmv.bench.ts [--quick]
  *
@@ -8,16 +9,22 @@
  * row coupled to itself, its 3 face neighbours and the same element one layer earlier (upwind in
  * time) — 2592 block rows, 12672 blocks, 20.3 million stored values, built in memory.
  * Bytes moved per product: values + colInd + rowPtr + x + y (each read or written once).
- * The streaming baseline is the triad of bench/stream.ts, timed in the same tinybench runs: 7 short
- * rounds (3 with --quick) of triad + kernels back to back; medians over rounds are printed.
- * Second table (skipped with --quick): the dispatching kernel against the plain triple loop for
- * smaller block sizes on the same kind of pattern (~8 million stored values each), to show which
- * fast paths pay off. Figures only; no assertions.
+ * The streaming baselines are the triads of bench/stream.ts, timed in the same tinybench runs: the
+ * WebAssembly triad (the yardstick: it runs at about a compiled loop's speed) and the JavaScript
+ * triad (a second column: a plain Float64Array loop reaches only about half of it). 7 short rounds
+ * (3 with --quick) of both triads + the kernels back to back; medians over rounds are printed.
+ * The WebAssembly kernel runs on copies of the arrays in one kernel memory (KernelArena), as a solve
+ * does; the TypeScript kernels on the JavaScript heap.
+ * Second table (skipped with --quick): WebAssembly, the TypeScript fast path and the plain triple
+ * loop for smaller block sizes on the same kind of pattern (~8 million stored values each), to show
+ * which fast paths pay off. Figures only; no assertions.
  */
 import { Bench } from 'tinybench';
 import { bsrSpmvKernel, bsrSpmvReferenceKernel, bsrBytes } from '../src/sparse/bsr.js';
 import type { Bsr } from '../src/sparse/types.js';
-import { addStreamTask, gbPerSecond, streamArrays } from './stream.js';
+import { addStreamTask, addWasmStreamTask, gbPerSecond, streamArrays, wasmStreamArrays } from './stream.js';
+import { KernelArena, kernelCopyF64, kernelCopyI32, kernelF64, setActiveArena } from '../src/kernels-host/arena.js';
+import { loadavg } from 'node:os';
 import { mulberry32 } from '../src/util/random.js';
 
 const rng = mulberry32;
@@ -72,6 +79,15 @@ function fmt(x: number, d = 2): string {
   return Number.isFinite(x) ? x.toFixed(d) : 'n/a';
 }
 
+/** The matrix and two vectors copied into a fresh kernel memory made active (the WebAssembly path). */
+function inKernelMemory(a: Bsr, x: Float64Array): { a: Bsr; x: Float64Array; y: Float64Array } {
+  const n = a.nBlockRows * a.bs;
+  const arena = new KernelArena(bsrBytes(a) + 2 * n * 8 + (1 << 20));
+  setActiveArena(arena);
+  const w: Bsr = { ...a, rowPtr: kernelCopyI32(a.rowPtr), colInd: kernelCopyI32(a.colInd), values: kernelCopyF64(a.values) };
+  return { a: w, x: kernelCopyF64(x), y: kernelF64(n) };
+}
+
 function median(v: number[]): number {
   const s = v.filter((x) => Number.isFinite(x)).sort((a, b) => a - b);
   if (s.length === 0) return Number.NaN;
@@ -85,32 +101,46 @@ async function main(): Promise<void> {
   const x = new Float64Array(n).map((_, i) => Math.sin(i));
   const y = new Float64Array(n);
   const stream = streamArrays();
-  // Several short rounds, each timing the triad and the kernels back to back, so a busy machine
+  const wstream = wasmStreamArrays();
+  const w = inKernelMemory(a, x);
+  // Several short rounds, each timing both triads and the kernels back to back, so a busy machine
   // slows both sides of a ratio alike; figures are medians over rounds.
   const rounds = quick ? 3 : 7;
-  const triad: number[] = [], fast: number[] = [], plain: number[] = [], ratio: number[] = [];
+  const triadW: number[] = [], triadJ: number[] = [], wasm: number[] = [], fast: number[] = [], plain: number[] = [];
+  const ratioW: number[] = [], ratioJ: number[] = [];
+  const load0 = loadavg()[0];
   for (let round = 0; round < rounds; round++) {
     const bench = new Bench({ name: 'spmv', time: 400, warmupTime: 100 });
+    addWasmStreamTask(bench, wstream);
     addStreamTask(bench, stream);
-    bench.add('bsr spmv bs 40', () => bsrSpmvKernel(a.nBlockRows, a.bs, a.rowPtr, a.colInd, a.values, x, y));
+    bench.add('bsr spmv bs 40, WebAssembly', () => bsrSpmvKernel(w.a.nBlockRows, w.a.bs, w.a.rowPtr, w.a.colInd, w.a.values, w.x, w.y));
+    bench.add('bsr spmv bs 40, TypeScript', () => bsrSpmvKernel(a.nBlockRows, a.bs, a.rowPtr, a.colInd, a.values, x, y));
     bench.add('bsr spmv bs 40, plain triple loop', () => bsrSpmvReferenceKernel(a.nBlockRows, a.bs, a.rowPtr, a.colInd, a.values, x, y));
     process.stderr.write(`running bs 40, round ${round + 1} of ${rounds} …\n`);
     await bench.run();
-    triad.push(gbPerSecond(bench.tasks[0], stream.bytes));
-    fast.push(gbPerSecond(bench.tasks[1], spmvBytes(a)));
-    plain.push(gbPerSecond(bench.tasks[2], spmvBytes(a)));
-    ratio.push(fast[round] / triad[round]);
+    triadW.push(gbPerSecond(bench.tasks[0], wstream.bytes));
+    triadJ.push(gbPerSecond(bench.tasks[1], stream.bytes));
+    wasm.push(gbPerSecond(bench.tasks[2], spmvBytes(a)));
+    fast.push(gbPerSecond(bench.tasks[3], spmvBytes(a)));
+    plain.push(gbPerSecond(bench.tasks[4], spmvBytes(a)));
+    ratioW.push(wasm[round] / triadW[round]);
+    ratioJ.push(wasm[round] / triadJ[round]);
   }
   const nBlocks = a.rowPtr[a.nBlockRows];
-  const tri = median(triad);
+  const tw = median(triadW), tj = median(triadJ);
+  const row = (label: string, gb: number): string => `  ${label.padEnd(40)} ${fmt(gb).padStart(6)} GB/s   ${fmt(gb / tw).padStart(5)}   ${fmt(gb / tj).padStart(5)}`;
   console.log(`BSR SpMV, bs 40: ${a.nBlockRows} block rows, ${nBlocks} blocks (${fmt(nBlocks / a.nBlockRows)} per row), `
-    + `${a.values.length} stored values, ${fmt(spmvBytes(a) / 1e6, 1)} MB moved per product; median of ${rounds} rounds`);
-  console.log(`  stream triad (plain Float64Array loop)   ${fmt(tri)} GB/s`);
-  console.log(`  bsrSpmv (tiled generic path)             ${fmt(median(fast))} GB/s   ratio to triad ${fmt(median(ratio))}   (target ≥ 0.70)`);
-  console.log(`  plain triple loop (reference kernel)     ${fmt(median(plain))} GB/s   ratio to triad ${fmt(median(plain) / tri)}`);
-  console.log(`  per-round ratios: ${ratio.map((r) => fmt(r)).join(' ')}`);
+    + `${a.values.length} stored values, ${fmt(spmvBytes(a) / 1e6, 1)} MB moved per product; median of ${rounds} rounds; load ${fmt(load0, 1)} → ${fmt(loadavg()[0], 1)}`);
+  console.log(`  ${''.padEnd(40)} ${''.padStart(11)}   ratio to triad`);
+  console.log(`  ${''.padEnd(40)} ${''.padStart(11)}   ${'wasm'.padStart(5)}   ${'JS'.padStart(5)}`);
+  console.log(row('stream triad, WebAssembly (yardstick)', tw));
+  console.log(row('stream triad, JavaScript', tj));
+  console.log(`${row('bsrSpmv, WebAssembly (solves)', median(wasm))}   (target ≥ 0.70 of the WebAssembly triad)`);
+  console.log(row('bsrSpmv, TypeScript (tiled fallback)', median(fast)));
+  console.log(row('plain triple loop (reference kernel)', median(plain)));
+  console.log(`  per-round ratios WebAssembly SpMV / WebAssembly triad: ${ratioW.map((r) => fmt(r)).join(' ')}; / JavaScript triad: ${ratioJ.map((r) => fmt(r)).join(' ')}`);
+  setActiveArena(null);
   if (quick) return;
-  const triadRef = tri;
 
   const rows: string[] = [];
   for (const bs of [1, 2, 3, 4, 6, 10, 20]) {
@@ -119,17 +149,25 @@ async function main(): Promise<void> {
     const m = dgPattern(side, side, 9, bs, bs);
     const xm = new Float64Array(m.nBlockRows * bs).map((_, i) => Math.cos(i));
     const ym = new Float64Array(m.nBlockRows * bs);
+    const wm = inKernelMemory(m, xm);
     const b2 = new Bench({ name: `spmv bs ${bs}`, time: 700, warmupTime: 150 });
+    addWasmStreamTask(b2, wstream);
+    addStreamTask(b2, stream);
+    b2.add('wasm', () => bsrSpmvKernel(wm.a.nBlockRows, bs, wm.a.rowPtr, wm.a.colInd, wm.a.values, wm.x, wm.y));
     b2.add('fast', () => bsrSpmvKernel(m.nBlockRows, bs, m.rowPtr, m.colInd, m.values, xm, ym));
     b2.add('plain', () => bsrSpmvReferenceKernel(m.nBlockRows, bs, m.rowPtr, m.colInd, m.values, xm, ym));
     process.stderr.write(`running bs ${bs} …\n`);
     await b2.run();
-    const gf = gbPerSecond(b2.tasks[0], spmvBytes(m));
-    const gp = gbPerSecond(b2.tasks[1], spmvBytes(m));
-    rows.push(`  ${String(bs).padStart(3)}  ${String(m.values.length).padStart(9)}  ${fmt(gf).padStart(6)}  ${fmt(gp).padStart(6)}  ${fmt(gf / gp).padStart(5)}  ${fmt(gf / triadRef).padStart(5)}`);
+    setActiveArena(null);
+    const gtw = gbPerSecond(b2.tasks[0], wstream.bytes), gtj = gbPerSecond(b2.tasks[1], stream.bytes);
+    const gw = gbPerSecond(b2.tasks[2], spmvBytes(m));
+    const gf = gbPerSecond(b2.tasks[3], spmvBytes(m));
+    const gp = gbPerSecond(b2.tasks[4], spmvBytes(m));
+    rows.push(`  ${String(bs).padStart(3)}  ${String(m.values.length).padStart(9)}  ${fmt(gw).padStart(6)}  ${fmt(gf).padStart(6)}  ${fmt(gp).padStart(6)}  ${fmt(gf / gp).padStart(7)}  ${fmt(gw / gtw).padStart(9)}  ${fmt(gw / gtj).padStart(7)}`);
   }
-  console.log('\nFast path against the plain triple loop (GB/s, same run):');
-  console.log('   bs     values    fast   plain  speedup  fast/triad');
+  console.log('\nWebAssembly, TypeScript fast path and plain triple loop (GB/s, same run; triads timed beside each bs):');
+  console.log('   bs     values    wasm      TS   plain  TS/plain  wasm/wasm  wasm/JS');
+  console.log('                                                     triad      triad');
   for (const r of rows) console.log(r);
 }
 

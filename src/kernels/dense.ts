@@ -1,6 +1,7 @@
 // Dense bs×bs row-major block kernels: twins of src/precond/dense.ts with the same arithmetic.
 // Mat-vec tiles keep the TypeScript partial sums (s even columns, t odd columns) in the lanes of
-// one f64x2 (bit-identical); loops whose iterations are independent (row operations of LU, the
+// one f64x2 (bit-identical; the column loop takes two pairs per pass, both into the same lanes in
+// column order); loops whose iterations are independent (row operations of LU, the
 // inverse and C −= A·B, over the column index j) take two columns per v128 (also bit-identical:
 // the same operations per entry). Pointers are byte addresses of the block's first entry.
 import { f64At, setF64, i32At, setI32, pairAt } from './common';
@@ -12,11 +13,22 @@ import { f64At, setF64, i32At, setI32, pairAt } from './common';
     const r1 = r0 + rowBytes, r2 = r1 + rowBytes;
     let a0 = f64x2.splat(0), a1 = f64x2.splat(0), a2 = f64x2.splat(0);
     let j = 0;
-    for (; j + 1 < bs; j += 2) {
+    for (; j + 3 < bs; j += 4) {
+      const o = <usize>j << 3;
+      const xv = v128.load(x + o), xw = v128.load(x + o, 16);
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o), xv));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o), xv));
+      a2 = f64x2.add(a2, f64x2.mul(v128.load(r2 + o), xv));
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o, 16), xw));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o, 16), xw));
+      a2 = f64x2.add(a2, f64x2.mul(v128.load(r2 + o, 16), xw));
+    }
+    if (j + 1 < bs) {
       const xv = pairAt(x, j);
       a0 = f64x2.add(a0, f64x2.mul(pairAt(r0, j), xv));
       a1 = f64x2.add(a1, f64x2.mul(pairAt(r1, j), xv));
       a2 = f64x2.add(a2, f64x2.mul(pairAt(r2, j), xv));
+      j += 2;
     }
     let s0 = f64x2.extract_lane(a0, 0), s1 = f64x2.extract_lane(a1, 0), s2 = f64x2.extract_lane(a2, 0);
     if (j < bs) { const xa = f64At(x, j); s0 += f64At(r0, j) * xa; s1 += f64At(r1, j) * xa; s2 += f64At(r2, j) * xa; }
@@ -30,6 +42,37 @@ import { f64At, setF64, i32At, setI32, pairAt } from './common';
   }
 }
 
+@inline function rows4(a: usize, bs: i32, x: usize, y: usize, subtract: bool): void {
+  // bs divisible by 4: four rows per pass, each row's partial sums as in rows2
+  const rowBytes = <usize>bs << 3;
+  let r0 = a;
+  for (let i = 0; i < bs; i += 4) {
+    const r1 = r0 + rowBytes, r2 = r1 + rowBytes, r3 = r2 + rowBytes;
+    let a0 = f64x2.splat(0), a1 = f64x2.splat(0), a2 = f64x2.splat(0), a3 = f64x2.splat(0);
+    for (let j = 0; j < bs; j += 4) {
+      const o = <usize>j << 3;
+      const xv = v128.load(x + o), xw = v128.load(x + o, 16);
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o), xv));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o), xv));
+      a2 = f64x2.add(a2, f64x2.mul(v128.load(r2 + o), xv));
+      a3 = f64x2.add(a3, f64x2.mul(v128.load(r3 + o), xv));
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o, 16), xw));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o, 16), xw));
+      a2 = f64x2.add(a2, f64x2.mul(v128.load(r2 + o, 16), xw));
+      a3 = f64x2.add(a3, f64x2.mul(v128.load(r3 + o, 16), xw));
+    }
+    const v0 = f64x2.extract_lane(a0, 0) + f64x2.extract_lane(a0, 1), v1 = f64x2.extract_lane(a1, 0) + f64x2.extract_lane(a1, 1);
+    const v2 = f64x2.extract_lane(a2, 0) + f64x2.extract_lane(a2, 1), v3 = f64x2.extract_lane(a3, 0) + f64x2.extract_lane(a3, 1);
+    if (subtract) {
+      setF64(y, i, f64At(y, i) - v0); setF64(y, i + 1, f64At(y, i + 1) - v1);
+      setF64(y, i + 2, f64At(y, i + 2) - v2); setF64(y, i + 3, f64At(y, i + 3) - v3);
+    } else {
+      setF64(y, i, v0); setF64(y, i + 1, v1); setF64(y, i + 2, v2); setF64(y, i + 3, v3);
+    }
+    r0 += rowBytes << 2;
+  }
+}
+
 @inline function rows2(a: usize, bs: i32, x: usize, y: usize, subtract: bool): void {
   const rowBytes = <usize>bs << 3;
   let i = 0;
@@ -38,10 +81,19 @@ import { f64At, setF64, i32At, setI32, pairAt } from './common';
     const r1 = r0 + rowBytes;
     let a0 = f64x2.splat(0), a1 = f64x2.splat(0);
     let j = 0;
-    for (; j + 1 < bs; j += 2) {
+    for (; j + 3 < bs; j += 4) {
+      const o = <usize>j << 3;
+      const xv = v128.load(x + o), xw = v128.load(x + o, 16);
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o), xv));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o), xv));
+      a0 = f64x2.add(a0, f64x2.mul(v128.load(r0 + o, 16), xw));
+      a1 = f64x2.add(a1, f64x2.mul(v128.load(r1 + o, 16), xw));
+    }
+    if (j + 1 < bs) {
       const xv = pairAt(x, j);
       a0 = f64x2.add(a0, f64x2.mul(pairAt(r0, j), xv));
       a1 = f64x2.add(a1, f64x2.mul(pairAt(r1, j), xv));
+      j += 2;
     }
     let s0 = f64x2.extract_lane(a0, 0), s1 = f64x2.extract_lane(a1, 0);
     if (j < bs) { const xa = f64At(x, j); s0 += f64At(r0, j) * xa; s1 += f64At(r1, j) * xa; }
@@ -82,6 +134,7 @@ import { f64At, setF64, i32At, setI32, pairAt } from './common';
     return;
   }
   if (bs % 3 == 0 && bs <= 33) rows3(a, bs, x, y, subtract);
+  else if ((bs & 3) == 0) rows4(a, bs, x, y, subtract);
   else rows2(a, bs, x, y, subtract);
 }
 
@@ -378,7 +431,18 @@ export function blockGemm(c: usize, a: usize, b: usize, bs: i32): void {
 }
 
 export function allFinite(a: usize, len: i32): bool {
-  for (let p = 0; p < len; p++) { const v = f64At(a, p); if (v - v != 0) return false; }
+  // v − v is +0 for finite v and NaN for NaN or ±Inf, so OR-ing the bits of v − v over the range
+  // leaves zero exactly when every entry is finite (the TypeScript twin's answer, without a branch
+  // per entry; a non-finite range is read to its end)
+  let m = i64x2.splat(0);
+  let p = 0;
+  for (; p + 7 < len; p += 8) {
+    const o = a + (<usize>p << 3);
+    const u0 = v128.load(o), u1 = v128.load(o, 16), u2 = v128.load(o, 32), u3 = v128.load(o, 48);
+    m = v128.or(m, v128.or(v128.or(f64x2.sub(u0, u0), f64x2.sub(u1, u1)), v128.or(f64x2.sub(u2, u2), f64x2.sub(u3, u3))));
+  }
+  if (v128.any_true(m)) return false;
+  for (; p < len; p++) { const v = f64At(a, p); if (v - v != 0) return false; }
   return true;
 }
 

@@ -107,6 +107,70 @@ describe('closed-form local Lax–Friedrichs (fast) against the differentiated f
   }
 });
 
+describe('allocation-free Roe (fast, euler-roe.ts) against the dual-number Roe (slow)', () => {
+  // transonic pairs (u·n̂ = 0.8 c on the left, 1.2 c on the right, and the mirror) put λ̂ of an
+  // acoustic field between λ(U_L) and λ(U_R), so the entropy fix and its δ branches are taken
+  const transonic = (r: () => number, d: number, n: Float64Array, left: number, right: number): [Float64Array, Float64Array] => {
+    let nx = 0;
+    for (let k = 0; k < d; k++) nx += n[k]! ** 2;
+    nx = Math.sqrt(nx);
+    const side = (f: number): Float64Array => {
+      const rho = 0.5 + r(), p = 0.5 + r(), c = Math.sqrt((G * p) / rho);
+      const u = Array.from({ length: d }, (_, k) => (f * c * n[k]!) / nx);
+      const U = new Float64Array(d + 2);
+      toConserved(rho, u, p, G, U);
+      return U;
+    };
+    return [side(left), side(right)];
+  };
+  // whether |λ̂| < δ for an acoustic field (Roe averages with plain numbers, as euler-flux.ts)
+  const entropyFixActive = (UL: Float64Array, UR: Float64Array, n: Float64Array, d: number): boolean => {
+    let nx = 0;
+    for (let k = 0; k < d; k++) nx += n[k]! ** 2;
+    nx = Math.sqrt(nx);
+    if (nx === 0) return false;
+    const prim = (U: Float64Array) => {
+      const un = Array.from({ length: d }, (_, k) => U[1 + k]! / U[0]!).reduce((s, u, k) => s + (u * n[k]!) / nx, 0);
+      const p = pressureOf(U, d, G);
+      return { un, c: Math.sqrt((G * p) / U[0]!), H: (U[d + 1]! + p) / U[0]!, u: Array.from({ length: d }, (_, k) => U[1 + k]! / U[0]!) };
+    };
+    const l = prim(UL), rr = prim(UR);
+    const wl = Math.sqrt(UL[0]!), wr = Math.sqrt(UR[0]!);
+    const uHat = l.u.map((u, k) => (u * wl + rr.u[k]! * wr) / (wl + wr));
+    const HHat = (l.H * wl + rr.H * wr) / (wl + wr);
+    const cHat = Math.sqrt((G - 1) * (HHat - 0.5 * uHat.reduce((s, u) => s + u * u, 0)));
+    const unHat = uHat.reduce((s, u, k) => s + (u * n[k]!) / nx, 0);
+    return [-1, 1].some((sg) => {
+      const lam = (un: number, c: number) => n[d]! + nx * (un + sg * c);
+      const lh = lam(unHat, cHat);
+      return Math.abs(lh) < Math.max(0, lh - lam(l.un, l.c), lam(rr.un, rr.c) - lh);
+    });
+  };
+  for (const d of [1, 2, 3]) {
+    it(`${d}D: H, ∂H/∂U_L and ∂H/∂U_R are bit-identical, on random, transonic and time-face samples`, () => {
+      const r = mulberry32(300 + d);
+      const m = d + 2;
+      let fixed = 0;
+      for (let t = 0; t < 60; t++) {
+        const n = randomNormal(r, d, t % 5 === 0 ? 0 : 0.6);
+        let UL: Float64Array, UR: Float64Array;
+        if (t % 3 === 1) [UL, UR] = transonic(r, d, n, 0.8, 1.2);
+        else if (t % 3 === 2) [UL, UR] = transonic(r, d, n, -1.2, -0.8);
+        else { UL = randomState(r, d, 1.5); UR = randomState(r, d, 1.5); }
+        if (t % 10 === 9) { n.fill(0); n[d] = t % 20 === 9 ? 1 : -1; } // time faces
+        const fast = flux('roe', UL, UR, n, d);
+        const h = new Float64Array(m), dL = new Float64Array(m * m), dR = new Float64Array(m * m);
+        eulerNumericalFluxDual('roe', UL, UR, n, d, G, h, dL, dR);
+        expect(fast.h).toEqual(h);
+        expect(fast.dL).toEqual(dL);
+        expect(fast.dR).toEqual(dR);
+        if (entropyFixActive(UL, UR, n, d)) fixed++;
+      }
+      expect(fixed).toBeGreaterThan(10);
+    });
+  }
+});
+
 describe('numerical fluxes: local Lax–Friedrichs and Roe with the Harten–Hyman fix', () => {
   for (const name of ['llf', 'roe'] as const) {
     for (const d of [1, 2, 3]) {

@@ -190,9 +190,9 @@ describe('writeGeneratedCase and suite cases', () => {
       rmSync(dir, { recursive: true, force: true });
     }
   });
-  it('the demo suite lists nine invented scenarios that all validate', () => {
+  it('the demo suite lists ten invented scenarios that all validate', () => {
     const cases = readSuiteCases(new URL('../../matrices/suite.json', import.meta.url).pathname);
-    expect(cases.map((c) => c.name)).toEqual(['duct-pulse', 'stirred-tank', 'corridor-smoke', 'channel-bore', 'room-sound', 'tank-burst', 'hall-eddy', 'room-recirculation', 'corridor-front']);
+    expect(cases.map((c) => c.name)).toEqual(['duct-pulse', 'stirred-tank', 'corridor-smoke', 'channel-bore', 'room-sound', 'tank-burst', 'hall-eddy', 'room-recirculation', 'corridor-front', 'floor-screed']);
     for (const c of cases) expect(c.note).toMatch(/^invented scenario/);
   });
 });

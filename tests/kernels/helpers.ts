@@ -30,3 +30,12 @@ export function firstDifference(a: Float64Array, b: Float64Array): string | unde
 
 /** Block sizes with a specialized WebAssembly path (1–8) and generic ones (both tile shapes). */
 export const BLOCK_SIZES = [1, 2, 3, 4, 5, 6, 7, 8, 9, 12, 16, 30, 11, 17];
+
+/**
+ * Block sizes that reach every branch of the block mat-vec tiles' column loop (two column pairs per
+ * pass, then at most one pair, then at most one odd column): the two-row tile (bs mod 4 = 1, 2, 3:
+ * 10, 14 here, 5, 7, 11, 17 above; every bs through the generic path), the three-row tile (bs mod 4
+ * = 3: 15, 27 here, 6, 9, 12, 30 above) and the four-row tile (bs divisible by 4 outside the
+ * three-row range: 36, 40 here, 4, 8, 16 above).
+ */
+export const TILE_BLOCK_SIZES = [10, 14, 15, 27, 36, 40];

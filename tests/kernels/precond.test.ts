@@ -4,12 +4,12 @@
 import { describe, expect, it } from 'vitest';
 import { createPreconditioner } from '../../src/precond/registry.js';
 import {
-  blockGemm, blockGemmSub, blockMatVec, blockMatVecSub, luFactor, luInverse, luSolve, PIVOT_RTOL,
+  allFinite, blockGemm, blockGemmSub, blockMatVec, blockMatVecSub, luFactor, luInverse, luSolve, PIVOT_RTOL,
 } from '../../src/precond/dense.js';
 import type { Recipe } from '../../src/solvers/recipe.js';
 import type { SystemMatrix } from '../../src/precond/types.js';
 import { randomBsr, randomVector, recipe, systemOf, rng } from '../precond/helpers.js';
-import { BLOCK_SIZES, bsrInArena, firstDifference, inArena, withArena } from './helpers.js';
+import { BLOCK_SIZES, TILE_BLOCK_SIZES, bsrInArena, firstDifference, inArena, withArena } from './helpers.js';
 
 const MiB = 1 << 20;
 
@@ -63,7 +63,7 @@ describe('preconditioner apply in WebAssembly against TypeScript', () => {
 });
 
 describe('dense block kernels in WebAssembly against TypeScript', () => {
-  for (const bs of [...BLOCK_SIZES, 33, 40]) {
+  for (const bs of [...BLOCK_SIZES, ...TILE_BLOCK_SIZES, 33]) {
     it(`bs ${bs}: LU (pivots), inverse, solve, C −= A·B, C = A·B, y = A x, y −= A x`, () => {
       const r = rng(40 + bs);
       const bb = bs * bs;
@@ -103,6 +103,35 @@ describe('dense block kernels in WebAssembly against TypeScript', () => {
       });
     });
   }
+
+  it('allFinite: the same answer as TypeScript for a NaN, +Inf or −Inf at every position of every length 0–40, and for finite extremes', () => {
+    const r = rng(77);
+    withArena(MiB, (arena) => {
+      const before = arena.dispatched;
+      let calls = 0;
+      for (let len = 0; len <= 40; len++) {
+        const base = Float64Array.from({ length: len + 3 }, () => 2 * r() - 1);
+        // finite extremes (−0, subnormal, largest double) must not read as non-finite
+        if (len > 2) { base[1] = -0; base[2] = 5e-324; base[len] = -Number.MAX_VALUE; }
+        const check = (a: Float64Array, o: number): void => {
+          const expected = allFinite(a, o, len);
+          expect(allFinite(inArena(arena, a), o, len)).toBe(expected);
+          calls++;
+        };
+        check(base, 0);
+        check(base, 3); // offset start: the window [3, 3 + len) misses entries 0–2
+        for (const bad of [Number.NaN, Infinity, -Infinity]) {
+          for (let p = 0; p < len; p++) {
+            const a = Float64Array.from(base); a[p] = bad;
+            check(a, 0);
+            expect(allFinite(a, 0, len)).toBe(false);
+          }
+          if (len > 0) { const a = Float64Array.from(base); a[len] = bad; check(a, 0); expect(allFinite(a, 0, len)).toBe(true); }
+        }
+      }
+      expect(arena.dispatched - before).toBe(calls);
+    });
+  });
 
   it('a zero pivot stops LU at the same column in both', () => {
     for (const bs of [3, 8, 20]) {

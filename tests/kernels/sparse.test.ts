@@ -7,12 +7,12 @@ import { csrMultiplyAdd, csrSpmv } from '../../src/sparse/csr.js';
 import { axpy, axpyDot, axpyNorm2, bicgDirection, dot, norm2, scale, subtractFrom, waxpy } from '../../src/solvers/vector.js';
 import { activeArena } from '../../src/kernels-host/arena.js';
 import { randomBsr, randomCsr, randomVector, rng } from '../sparse/random-sparse.js';
-import { BLOCK_SIZES, bsrInArena, firstDifference, inArena, withArena } from './helpers.js';
+import { BLOCK_SIZES, TILE_BLOCK_SIZES, bsrInArena, firstDifference, inArena, withArena } from './helpers.js';
 
 const MiB = 1 << 20;
 
 describe('BSR products in WebAssembly against TypeScript', () => {
-  for (const bs of BLOCK_SIZES) {
+  for (const bs of [...BLOCK_SIZES, ...TILE_BLOCK_SIZES]) {
     it(`bs ${bs}: y = A x, y = z + αA x, y += αA x, r = b − A x, generic tile`, () => {
       const r = rng(100 + bs);
       const a = randomBsr(r, 23, 23, bs, 4);

@@ -146,6 +146,14 @@ describe('committed suites', () => {
     expect(ci.recipes.map((r) => r.name)).toEqual(['gmres-block-jacobi', 'gmres-block-gs-symmetric', 'gmres-block-ilu0-downstream', 'fgmres-slab-loose']);
   });
 
+  it('the multilevel suite is valid: generated invented cases, the demo floor screed committed, no slab recipe', async () => {
+    const ml = await loadSuite(fileURLToPath(new URL('../../matrices/multilevel-suite.json', import.meta.url)));
+    expect(ml.matrices.map((m) => m.name)).toEqual(['floor-screed', 'floor-screed-6', 'floor-screed-8', 'floor-screed-10']);
+    expect(ml.matrices.every((m) => m.kind === 'generate' && m.note?.startsWith('invented scenario'))).toBe(true);
+    expect(prebuiltCase(ml.matrices[0] as GeneratedMatrixEntry)?.mtx).toMatch(/matrices\/demo\/floor-screed\.mtx\.gz$/);
+    expect(ml.recipes.some((r) => r.preconditioner === 'slab')).toBe(false);
+  });
+
   it('every demo case has a committed copy built from exactly its suite parameters', async () => {
     const demo = await loadSuite(fileURLToPath(new URL('../../matrices/suite.json', import.meta.url)));
     // every single-system entry has a copy; a generated sequence is built into the cache on first use

@@ -21,6 +21,7 @@
  * n_t U_R for n_t < 0, as the space-time assembler requires.
  */
 import { Dual } from '../dual.js';
+import { roeFluxTape } from './euler-roe.js';
 
 /** Conserved variables from primitive (ρ, u₁…u_d, p). */
 export function toConserved(rho: number, u: ArrayLike<number>, p: number, gamma: number, out: Float64Array, o = 0): void {
@@ -134,7 +135,7 @@ export function eulerNumericalFlux(
   h: Float64Array, dL: Float64Array, dR: Float64Array,
 ): void {
   if (name === 'llf') llfClosedForm(UL, UR, n, d, gamma, h, dL, dR);
-  else eulerNumericalFluxDual(name, UL, UR, n, d, gamma, h, dL, dR);
+  else roeFluxTape(UL, UR, n, d, gamma, h, dL, dR); // bit-identical to the dual-number version, allocation-free
 }
 
 const llfWork = { AL: new Float64Array(25), AR: new Float64Array(25), F: new Float64Array(5), dF: new Float64Array(25), gL: new Float64Array(5), gR: new Float64Array(5), sL: new Float64Array(5), sR: new Float64Array(5) };
@@ -203,7 +204,10 @@ function llfClosedForm(
   }
 }
 
-/** eulerNumericalFlux by forward-mode differentiation of the flux as written (both fluxes; the slow twin for LLF). */
+/**
+ * eulerNumericalFlux by forward-mode differentiation of the flux as written (both fluxes): the slow
+ * twin of the closed-form LLF and of the allocation-free Roe (euler-roe.ts), kept as their reference.
+ */
 export function eulerNumericalFluxDual(
   name: EulerFluxName, UL: ArrayLike<number>, UR: ArrayLike<number>, n: ArrayLike<number>, d: number, gamma: number,
   h: Float64Array, dL: Float64Array, dR: Float64Array,

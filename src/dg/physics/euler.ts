@@ -133,10 +133,13 @@ export const euler: PhysicsDefinition = {
       : conservedAt;
     const exact = stateName !== 'expression' && fields.inflow === undefined ? conservedAt : null;
     const fk = new Float64Array(m), dfk = new Float64Array(m * m);
-    const check = (U: Float64Array, where: string): void => {
+    // where: 0 = a quadrature point of element `index`, 1/2 = inner/outer side of face `index`
+    // (the message is built only on failure: this runs at every quadrature point)
+    const check = (U: Float64Array, where: 0 | 1 | 2, index: number): void => {
       const p = pressureOf(U, d, gamma);
       if (!(U[0]! > 0) || !(p > 0)) {
-        throw new UserError(`euler: the state has density ${U[0]!.toPrecision(4)} and pressure ${p.toPrecision(4)} at ${where}; the linearization needs both > 0 (use a smoother state or a finer mesh)`);
+        const at = where === 0 ? `a quadrature point of element ${index}` : `face ${index} (${where === 1 ? 'inner' : 'outer'} side)`;
+        throw new UserError(`euler: the state has density ${U[0]!.toPrecision(4)} and pressure ${p.toPrecision(4)} at ${at}; the linearization needs both > 0 (use a smoother state or a finer mesh)`);
       }
     };
     return {
@@ -169,7 +172,7 @@ export const euler: PhysicsDefinition = {
       },
       boundaryData: boundaryAt,
       volumeFlux(_X, _xo, U, G, dG, element) {
-        check(U, `a quadrature point of element ${element}`);
+        check(U, 0, element);
         for (let l = 0; l < d; l++) {
           eulerSpatialFlux(U, l, d, gamma, fk, dfk);
           G.set(fk, l * m);
@@ -181,8 +184,8 @@ export const euler: PhysicsDefinition = {
         for (let i = 0; i < m; i++) dG[d * m * m + i * m + i] = 1;
       },
       numericalFlux(_X, _xo, UL, UR, n, h, dL, dR, face) {
-        check(UL, `face ${face} (inner side)`);
-        check(UR, `face ${face} (outer side)`);
+        check(UL, 1, face);
+        check(UR, 2, face);
         eulerNumericalFlux(fluxName, UL, UR, n, d, gamma, h, dL, dR);
       },
     };
