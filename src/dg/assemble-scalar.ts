@@ -83,8 +83,9 @@ export function assembleScalar(
     const I = inv[e];
     const uo = I * nb;
     const diag = values ? pattern.diagonal[e] * bb : 0;
-    if (constantDG && nu === 0) {
-      // Constant flux Jacobian and zero state: −det Σ_l (J⁻¹ dG)_l S_l, no quadrature loop.
+    if (constantDG && nu === 0 && !state) {
+      // Constant flux Jacobian and zero state: −det Σ_l (J⁻¹ dG)_l S_l, no quadrature loop (with a
+      // state the loop below also adds the state's volume term −∫ G(u)·∇v to the residual).
       if (values) {
         for (let l = 0; l < D; l++) {
           let s = 0;

@@ -10,8 +10,8 @@ import type { PhysicsDefinition, ScalarPhysics } from './types.js';
  *   λ(u) = u (b·n_x) + n_t  (Rusanov 1961; e.g. Hesthaven & Warburton, Nodal DG Methods, 2008, §2.2).
  * On a slab interface b·n_x = 0, λ = n_t = ±1, α = 1 and H is the earlier slab's value.
  * The generator assembles the exact Jacobian of this discrete residual at a given state (the
- * max in α is differentiated on its active branch) and −residual as the right-hand side: one
- * Newton step.
+ * max in α is differentiated on its active branch, the left one on a tie |λ(u⁻)| = |λ(u⁺)|) and
+ * −residual as the right-hand side: one Newton step.
  */
 
 export const DEFAULT_BURGERS_INITIAL = '0.6 - 0.4 * tanh((x - 0.3 * Lx) / (0.05 * Lx))';
