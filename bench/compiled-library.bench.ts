@@ -35,7 +35,7 @@ import { solveSystem } from '../src/solvers/run-recipe.js';
 import { planKernels } from '../src/solvers/kernel-plan.js';
 import { DEFAULT_RECIPE, type Recipe } from '../src/solvers/recipe.js';
 import { kernelF64 } from '../src/kernels-host/arena.js';
-import { mulberry32 } from '../src/util/random.js';
+import { blockStencil } from './block-stencil.js';
 import { measureStreamBandwidths, settle } from './stream.js';
 
 const ROOT = fileURLToPath(new URL('..', import.meta.url));
@@ -50,33 +50,6 @@ const PRECONDITIONERS = ['none', 'block-jacobi', 'block-gs', 'block-ilu0'] as co
 
 const fmt = (x: number, d = 2): string => (Number.isFinite(x) ? x.toFixed(d) : '–');
 const median = (xs: number[]): number => { const s = [...xs].sort((a, b) => a - b); return s[s.length >> 1]; };
-
-function stencil(grid: number, bs: number, seed: number): Bsr {
-  const r = mulberry32(seed);
-  const nb = grid * grid, bb = bs * bs;
-  const rowPtr = new Int32Array(nb + 1);
-  const cols: number[] = [];
-  for (let I = 0; I < nb; I++) {
-    const i = Math.floor(I / grid), j = I % grid;
-    const nbrs = [I];
-    if (i > 0) nbrs.push(I - grid);
-    if (j > 0) nbrs.push(I - 1);
-    if (j < grid - 1) nbrs.push(I + 1);
-    if (i < grid - 1) nbrs.push(I + grid);
-    nbrs.sort((a, b) => a - b);
-    cols.push(...nbrs);
-    rowPtr[I + 1] = cols.length;
-  }
-  const colInd = Int32Array.from(cols);
-  const values = new Float64Array(cols.length * bb);
-  for (let k = 0; k < values.length; k++) values[k] = 2 * r() - 1;
-  for (let I = 0; I < nb; I++) {
-    for (let k = rowPtr[I]; k < rowPtr[I + 1]; k++) {
-      if (colInd[k] === I) for (let d = 0; d < bs; d++) values[k * bb + d * bs + d] += 2 * bs;
-    }
-  }
-  return { nBlockRows: nb, nBlockCols: nb, bs, rowPtr, colInd, values };
-}
 
 async function ensureMatrices(): Promise<Array<{ name: string; file: string; bs: number; solve: boolean }>> {
   mkdirSync(DATA, { recursive: true });
@@ -96,7 +69,7 @@ async function ensureMatrices(): Promise<Array<{ name: string; file: string; bs:
     const file = join(DATA, `stencil-bs${bs}-g${grid}.mtx`);
     if (!existsSync(file)) {
       process.stderr.write(`writing ${file} …\n`);
-      await writeMatrixMarket(file, bsrToCsr(stencil(grid, bs, 1000 + bs)), { comments: [`invented block 5-point stencil, bs ${bs}, grid ${grid}×${grid}`] });
+      await writeMatrixMarket(file, bsrToCsr(blockStencil(grid, bs, 1000 + bs, { dominant: true })), { comments: [`invented block 5-point stencil, bs ${bs}, grid ${grid}×${grid}`] });
     }
     out.push({ name: `block stencil bs ${bs} (${grid}×${grid})`, file, bs, solve: bs === 16 });
   }

@@ -44,6 +44,7 @@ import { bsrOperator } from '../src/solvers/operator.js';
 import { gmres } from '../src/solvers/gmres.js';
 import { krylovOptionsFromRecipe } from '../src/solvers/options.js';
 import { mulberry32 } from '../src/util/random.js';
+import { blockStencil } from './block-stencil.js';
 import { settle } from './stream.js';
 
 const ROOT = fileURLToPath(new URL('..', import.meta.url));
@@ -66,27 +67,6 @@ function buildBase(rev: string): Uint8Array {
       '--optimizeLevel', String(cfg.optimizeLevel), '--shrinkLevel', String(cfg.shrinkLevel)], { stdio: 'inherit' });
     return readFileSync(join(dir, 'k.wasm'));
   } finally { rmSync(dir, { recursive: true, force: true }); }
-}
-
-function stencil(grid: number, bs: number, seed: number): Bsr {
-  const r = mulberry32(seed);
-  const nb = grid * grid, bb = bs * bs;
-  const rowPtr = new Int32Array(nb + 1);
-  const cols: number[] = [];
-  for (let I = 0; I < nb; I++) {
-    const i = Math.floor(I / grid), j = I % grid;
-    const nbrs = [I];
-    if (i > 0) nbrs.push(I - grid);
-    if (j > 0) nbrs.push(I - 1);
-    if (j < grid - 1) nbrs.push(I + 1);
-    if (i < grid - 1) nbrs.push(I + grid);
-    nbrs.sort((a, b) => a - b);
-    cols.push(...nbrs);
-    rowPtr[I + 1] = cols.length;
-  }
-  const values = new Float64Array(cols.length * bb);
-  for (let k = 0; k < values.length; k++) values[k] = 2 * r() - 1;
-  return { nBlockRows: nb, nBlockCols: nb, bs, rowPtr, colInd: Int32Array.from(cols), values };
 }
 
 const median = (xs: number[]): number => { const s = [...xs].sort((a, b) => a - b); return s[s.length >> 1]; };
@@ -125,7 +105,7 @@ async function main(): Promise<void> {
   const acoustics = gen.bsr;
   const nAc = acoustics.nBlockRows * acoustics.bs;
   const target = Number(opt('--values', quick ? '1e6' : '6e6'));
-  const stencils = [4, 8, 16, 30, 40].map((bs) => stencil(Math.max(4, Math.round(Math.sqrt(target / (5 * bs * bs)))), bs, 1000 + bs));
+  const stencils = [4, 8, 16, 30, 40].map((bs) => blockStencil(Math.max(4, Math.round(Math.sqrt(target / (5 * bs * bs)))), bs, 1000 + bs));
   const mats: Bsr[] = [...stencils, acoustics];
   const bytesOf = (a: Bsr): number => a.values.byteLength + a.colInd.byteLength + a.rowPtr.byteLength;
   let total = 0;

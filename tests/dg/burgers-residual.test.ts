@@ -23,28 +23,9 @@ import { describe, it, expect } from 'vitest';
 import { parseGeneratorParams, generateWithDiscretization } from '../../src/dg/generate.js';
 import { assembleDg } from '../../src/dg/assemble.js';
 import { projectFunction } from '../../src/dg/projection.js';
+import { gaussLegendre01 } from './own-simplex-rule.js';
 
 const params = (o: Record<string, unknown>) => parseGeneratorParams(o, 'test');
-
-/** n-point Gauss–Legendre nodes and weights on [0, 1] (Newton on P_n; common practice). */
-function gaussLegendre01(n: number): { x: number[]; w: number[] } {
-  const x: number[] = [], w: number[] = [];
-  for (let i = 1; i <= n; i++) {
-    let z = Math.cos((Math.PI * (i - 0.25)) / (n + 0.5));
-    let dp = 0;
-    for (let it = 0; it < 100; it++) {
-      let p0 = 1, p1 = z;
-      for (let k = 2; k <= n; k++) { const p2 = ((2 * k - 1) * z * p1 - (k - 1) * p0) / k; p0 = p1; p1 = p2; }
-      dp = (n * (z * p1 - p0)) / (z * z - 1);
-      const dz = p1 / dp;
-      z -= dz;
-      if (Math.abs(dz) < 1e-16) break;
-    }
-    x.push((1 - z) / 2);
-    w.push(1 / ((1 - z * z) * dp * dp)); // 2/((1−z²)P'²) on [−1, 1], halved for [0, 1]
-  }
-  return { x, w };
-}
 
 /**
  * ∫ over the simplex with vertices V[0..D] (each a D-vector) of f, by the collapsed (Duffy) map

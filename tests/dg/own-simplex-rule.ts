@@ -2,8 +2,8 @@
  * The tests' own quadrature and simplex geometry, independent of src/dg (quadrature, basis) and
  * src/mesh/geometry: Gauss–Legendre nodes by Newton's method on the three-term recurrence, a
  * collapsed (Duffy) conical product rule on the unit k-simplex (Stroud, Approximate Calculation of
- * Multiple Integrals, 1971), and face measures and normals from vertex coordinates. The same
- * construction as in burgers-residual.test.ts, shared here by the checks of the assembly.
+ * Multiple Integrals, 1971), and face measures and normals from vertex coordinates. Shared by
+ * the checks of the assembly and burgers-residual.test.ts.
  */
 
 /** n-point Gauss–Legendre nodes and weights on [0, 1] (Newton on P_n; common practice). */
