@@ -1,7 +1,7 @@
 import { FaceKind } from '../mesh/space-time.js';
 import { createElementAffine, elementAffine, faceLocalVertices, referenceToPhysical } from '../mesh/geometry.js';
 import { leftFaceFrame, rightFaceOrder } from './face-coupling.js';
-import { addProductNT, transposeTable } from './dense-products.js';
+import { addProductNT, addProductNTPair, transposeTable } from './dense-products.js';
 import type { FaceTable, ReferenceTables } from './reference-tables.js';
 import { orthonormalBasis, basisDimension, MAX_BASIS_ORDER } from './basis.js';
 import { simplexQuadrature } from './quadrature.js';
@@ -250,8 +250,8 @@ export function assembleNonlinearSystem(
       for (let j = 0; j < m; j++) if (active[i * m + j]) any = true;
       if (!any) continue;
       const po = i * m * nPT;
-      addProductNT(TA, 0, nb, PT, po, m * nb, nbF, 1, vals, blockA + i * nb * bs, bs);
-      if (TB) addProductNT(TB, 0, nb, PT, po, m * nb, nbF, -1, vals, blockB + i * nb * bs, bs);
+      if (TB) addProductNTPair(TA, TB, 0, nb, PT, po, m * nb, nbF, 1, vals, blockA + i * nb * bs, -1, vals, blockB + i * nb * bs, bs);
+      else addProductNT(TA, 0, nb, PT, po, m * nb, nbF, 1, vals, blockA + i * nb * bs, bs);
     }
   };
 
