@@ -84,9 +84,11 @@ export function assembleNonlinearSystem(
   const activeL = new Uint8Array(mm), activeR = new Uint8Array(mm);
 
   const evalState = (phi: Float64Array, po: number, base: number, out: Float64Array): void => {
+    if (!state) { out.fill(0); return; }
     for (let i = 0; i < m; i++) {
+      const so = base + i * nb;
       let s = 0;
-      if (state) for (let b = 0; b < nb; b++) s += phi[po + b] * state[base + i * nb + b];
+      for (let b = 0; b < nb; b++) s += phi[po + b]! * state[so + b]!;
       out[i] = s;
     }
   };
@@ -156,20 +158,35 @@ export function assembleNonlinearSystem(
       const po = q * nb;
       evalState(vol.phi, po, uo, U);
       physics.volumeFlux(X, 0, U, G, dG, e);
-      for (let l = 0; l < D; l++) {
-        for (let i = 0; i < m; i++) {
-          let s = 0;
-          for (let k = 0; k < D; k++) s += Ji[l * D + k] * G[k * m + i];
-          PG[l * m + i] = s;
-        }
-      }
       const w = vol.weights[q] * det;
-      for (let a = 0; a < nb; a++) {
-        const go = (po + a) * D;
-        for (let i = 0; i < m; i++) {
-          let r = 0;
-          for (let l = 0; l < D; l++) r += vgrad[go + l] * PG[l * m + i];
-          residual[uo + i * nb + a] -= w * r;
+      if (D === 3) {
+        // the general loops below written out for D = 3: the same sums in the same order (identical)
+        for (let l = 0; l < 3; l++) {
+          const j0 = Ji[l * 3]!, j1 = Ji[l * 3 + 1]!, j2 = Ji[l * 3 + 2]!;
+          for (let i = 0; i < m; i++) PG[l * m + i] = 0 + j0 * G[i]! + j1 * G[m + i]! + j2 * G[2 * m + i]!;
+        }
+        for (let a = 0; a < nb; a++) {
+          const go = (po + a) * 3;
+          const g0 = vgrad[go]!, g1 = vgrad[go + 1]!, g2 = vgrad[go + 2]!;
+          for (let i = 0; i < m; i++) {
+            residual[uo + i * nb + a] -= w * (0 + g0 * PG[i]! + g1 * PG[m + i]! + g2 * PG[2 * m + i]!);
+          }
+        }
+      } else {
+        for (let l = 0; l < D; l++) {
+          for (let i = 0; i < m; i++) {
+            let s = 0;
+            for (let k = 0; k < D; k++) s += Ji[l * D + k] * G[k * m + i];
+            PG[l * m + i] = s;
+          }
+        }
+        for (let a = 0; a < nb; a++) {
+          const go = (po + a) * D;
+          for (let i = 0; i < m; i++) {
+            let r = 0;
+            for (let l = 0; l < D; l++) r += vgrad[go + l] * PG[l * m + i];
+            residual[uo + i * nb + a] -= w * r;
+          }
         }
       }
       if (values) {
