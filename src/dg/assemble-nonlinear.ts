@@ -66,6 +66,8 @@ export function assembleNonlinearSystem(
 
   const C = new Float64Array(d * mm * nqv); // C[(k·mm + ij)·nqv + q] = w_q ∂F_{k,i}/∂U_j
   const activeK = new Uint8Array(d * mm);
+  const identity = new Float64Array(mm); // identity[i·m + j] = δ_ij
+  for (let i = 0; i < m; i++) identity[i * m + i] = 1;
   const mo = values ? volumeMoments(tables) : null;
   const nbL = mo ? mo.nbL : 0, nP = mo ? mo.nP : 0;
   const actIndex = new Int32Array(d * mm);
@@ -138,7 +140,7 @@ export function assembleNonlinearSystem(
     // block row i, all j at once: values[(i·nb + a)·bs + j·nb + b] −= Σ Gk[a, ·] Bij[(i·m + j)·nb + b, ·]
     for (let i = 0; i < m; i++) {
       let any = false;
-      for (let kij = 0; kij < d * mm; kij++) if (actIndex[kij] >= 0 && ((kij % mm) / m | 0) === i) any = true;
+      for (let k = 0; k < d; k++) for (let j = 0; j < m; j++) if (actIndex[k * mm + i * m + j] >= 0) any = true;
       if (any) addProductNT(Gk, 0, nb, Bij, i * m * nBK, m * nb, K, -1, vals, eDiag + i * nb * bs, bs);
     }
   };
@@ -197,7 +199,7 @@ export function assembleNonlinearSystem(
         }
         const to = d * mm;
         for (let ij = 0; ij < mm; ij++) {
-          if (dG[to + ij] !== ((ij % (m + 1)) === 0 ? 1 : 0)) throw new Error(`element ${e}: the time component of ∂G/∂U is not the identity`);
+          if (dG[to + ij] !== identity[ij]) throw new Error(`element ${e}: the time component of ∂G/∂U is not the identity`);
         }
       }
     }
