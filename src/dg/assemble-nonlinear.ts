@@ -1,7 +1,7 @@
 import { FaceKind } from '../mesh/space-time.js';
 import { createElementAffine, elementAffine, faceLocalVertices, referenceToPhysical } from '../mesh/geometry.js';
 import { leftFaceFrame, rightFaceOrder } from './face-coupling.js';
-import { addProductNT, transposeTable } from './dense-products.js';
+import { addProductNT, addProductNTPair, transposeTable } from './dense-products.js';
 import type { FaceTable, ReferenceTables } from './reference-tables.js';
 import { orthonormalBasis, basisDimension, MAX_BASIS_ORDER } from './basis.js';
 import { simplexQuadrature } from './quadrature.js';
@@ -66,6 +66,8 @@ export function assembleNonlinearSystem(
 
   const C = new Float64Array(d * mm * nqv); // C[(k·mm + ij)·nqv + q] = w_q ∂F_{k,i}/∂U_j
   const activeK = new Uint8Array(d * mm);
+  const identity = new Float64Array(mm); // identity[i·m + j] = δ_ij
+  for (let i = 0; i < m; i++) identity[i * m + i] = 1;
   const mo = values ? volumeMoments(tables) : null;
   const nbL = mo ? mo.nbL : 0, nP = mo ? mo.nP : 0;
   const actIndex = new Int32Array(d * mm);
@@ -84,9 +86,11 @@ export function assembleNonlinearSystem(
   const activeL = new Uint8Array(mm), activeR = new Uint8Array(mm);
 
   const evalState = (phi: Float64Array, po: number, base: number, out: Float64Array): void => {
+    if (!state) { out.fill(0); return; }
     for (let i = 0; i < m; i++) {
+      const so = base + i * nb;
       let s = 0;
-      if (state) for (let b = 0; b < nb; b++) s += phi[po + b] * state[base + i * nb + b];
+      for (let b = 0; b < nb; b++) s += phi[po + b]! * state[so + b]!;
       out[i] = s;
     }
   };
@@ -136,7 +140,7 @@ export function assembleNonlinearSystem(
     // block row i, all j at once: values[(i·nb + a)·bs + j·nb + b] −= Σ Gk[a, ·] Bij[(i·m + j)·nb + b, ·]
     for (let i = 0; i < m; i++) {
       let any = false;
-      for (let kij = 0; kij < d * mm; kij++) if (actIndex[kij] >= 0 && ((kij % mm) / m | 0) === i) any = true;
+      for (let k = 0; k < d; k++) for (let j = 0; j < m; j++) if (actIndex[k * mm + i * m + j] >= 0) any = true;
       if (any) addProductNT(Gk, 0, nb, Bij, i * m * nBK, m * nb, K, -1, vals, eDiag + i * nb * bs, bs);
     }
   };
@@ -156,20 +160,35 @@ export function assembleNonlinearSystem(
       const po = q * nb;
       evalState(vol.phi, po, uo, U);
       physics.volumeFlux(X, 0, U, G, dG, e);
-      for (let l = 0; l < D; l++) {
-        for (let i = 0; i < m; i++) {
-          let s = 0;
-          for (let k = 0; k < D; k++) s += Ji[l * D + k] * G[k * m + i];
-          PG[l * m + i] = s;
-        }
-      }
       const w = vol.weights[q] * det;
-      for (let a = 0; a < nb; a++) {
-        const go = (po + a) * D;
-        for (let i = 0; i < m; i++) {
-          let r = 0;
-          for (let l = 0; l < D; l++) r += vgrad[go + l] * PG[l * m + i];
-          residual[uo + i * nb + a] -= w * r;
+      if (D === 3) {
+        // the general loops below written out for D = 3: the same sums in the same order (identical)
+        for (let l = 0; l < 3; l++) {
+          const j0 = Ji[l * 3]!, j1 = Ji[l * 3 + 1]!, j2 = Ji[l * 3 + 2]!;
+          for (let i = 0; i < m; i++) PG[l * m + i] = 0 + j0 * G[i]! + j1 * G[m + i]! + j2 * G[2 * m + i]!;
+        }
+        for (let a = 0; a < nb; a++) {
+          const go = (po + a) * 3;
+          const g0 = vgrad[go]!, g1 = vgrad[go + 1]!, g2 = vgrad[go + 2]!;
+          for (let i = 0; i < m; i++) {
+            residual[uo + i * nb + a] -= w * (0 + g0 * PG[i]! + g1 * PG[m + i]! + g2 * PG[2 * m + i]!);
+          }
+        }
+      } else {
+        for (let l = 0; l < D; l++) {
+          for (let i = 0; i < m; i++) {
+            let s = 0;
+            for (let k = 0; k < D; k++) s += Ji[l * D + k] * G[k * m + i];
+            PG[l * m + i] = s;
+          }
+        }
+        for (let a = 0; a < nb; a++) {
+          const go = (po + a) * D;
+          for (let i = 0; i < m; i++) {
+            let r = 0;
+            for (let l = 0; l < D; l++) r += vgrad[go + l] * PG[l * m + i];
+            residual[uo + i * nb + a] -= w * r;
+          }
         }
       }
       if (values) {
@@ -180,7 +199,7 @@ export function assembleNonlinearSystem(
         }
         const to = d * mm;
         for (let ij = 0; ij < mm; ij++) {
-          if (dG[to + ij] !== ((ij % (m + 1)) === 0 ? 1 : 0)) throw new Error(`element ${e}: the time component of ∂G/∂U is not the identity`);
+          if (dG[to + ij] !== identity[ij]) throw new Error(`element ${e}: the time component of ∂G/∂U is not the identity`);
         }
       }
     }
@@ -250,8 +269,8 @@ export function assembleNonlinearSystem(
       for (let j = 0; j < m; j++) if (active[i * m + j]) any = true;
       if (!any) continue;
       const po = i * m * nPT;
-      addProductNT(TA, 0, nb, PT, po, m * nb, nbF, 1, vals, blockA + i * nb * bs, bs);
-      if (TB) addProductNT(TB, 0, nb, PT, po, m * nb, nbF, -1, vals, blockB + i * nb * bs, bs);
+      if (TB) addProductNTPair(TA, TB, 0, nb, PT, po, m * nb, nbF, 1, vals, blockA + i * nb * bs, -1, vals, blockB + i * nb * bs, bs);
+      else addProductNT(TA, 0, nb, PT, po, m * nb, nbF, 1, vals, blockA + i * nb * bs, bs);
     }
   };
 
