@@ -3,7 +3,10 @@
  * the same run: `npx tsx bench/compiled-library.bench.ts [--quick] [--rounds N]`.
  *
  * The library side is bench/compiled_library.py on Debian's python3-petsc4py (the options it uses
- * are listed at the top of that script); without petsc4py the bench prints our figures and a note.
+ * are listed at the top of that script), kept running per matrix and called between our own
+ * repeats, so each of our timings has one of theirs next to it (ratios of two runs minutes apart
+ * swung 2× with last-level cache residency on the shared bench machine); without petsc4py the
+ * bench prints our figures and a note.
  * Benchmarks only: petsc4py is never used by tests or CI.
  *
  * Matrices (written to bench/data/, reused when present; invented test problems):
@@ -22,8 +25,9 @@
  * triads (WebAssembly and JavaScript) are printed with each round. Print the load average: on a
  * shared machine figures move by 2× within minutes.
  */
-import { execFileSync, spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, writeFileSync } from 'node:fs';
+import { execFileSync, spawn, type ChildProcessWithoutNullStreams } from 'node:child_process';
+import { createInterface } from 'node:readline';
+import { existsSync, mkdirSync } from 'node:fs';
 import { cpus, loadavg } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -76,22 +80,54 @@ async function ensureMatrices(): Promise<Array<{ name: string; file: string; bs:
   return out;
 }
 
-interface LibraryResult {
-  library: string; spmvSeconds: number; readSeconds: number;
-  preconditioners: Record<string, { setupSeconds: number[]; solveSeconds: number[]; iterations: number[] }>;
+/**
+ * The library kept running for one matrix (bench/compiled_library.py --serve): each request is one
+ * JSON line and its answer one JSON line, so our repeats and theirs alternate on warm processes.
+ */
+class Library {
+  private pending: Array<(line: string | null) => void> = [];
+  private queued: string[] = [];
+  private closed = false;
+  private stderr = '';
+  private constructor(private readonly child: ChildProcessWithoutNullStreams) {
+    createInterface({ input: child.stdout }).on('line', (line) => {
+      const r = this.pending.shift();
+      if (r) r(line); else this.queued.push(line);
+    });
+    child.stderr.on('data', (d: Buffer) => { this.stderr += d.toString(); });
+    child.on('close', () => { this.closed = true; for (const r of this.pending.splice(0)) r(null); });
+  }
+
+  /** Start it on a matrix file; a string says why it could not start. */
+  static async start(file: string, bs: number): Promise<Library | string> {
+    if (!existsSync('/usr/bin/python3')) return 'no /usr/bin/python3';
+    const lib = new Library(spawn('/usr/bin/python3', [join(ROOT, 'bench', 'compiled_library.py'), '--serve', file, String(bs)]));
+    const first = await lib.next();
+    if (first === null) {
+      const err = lib.stderr.trim().split('\n').pop() ?? '';
+      return /No module named 'petsc4py'/.test(lib.stderr) ? 'python3-petsc4py is not installed' : `library run failed: ${err}`;
+    }
+    return lib;
+  }
+
+  private next(): Promise<string | null> {
+    const q = this.queued.shift();
+    if (q !== undefined) return Promise.resolve(q);
+    if (this.closed) return Promise.resolve(null);
+    return new Promise((resolve) => this.pending.push(resolve));
+  }
+
+  async request<T>(cmd: object): Promise<T> {
+    this.child.stdin.write(`${JSON.stringify(cmd)}\n`);
+    const line = await this.next();
+    if (line === null) throw new Error(`compiled library stopped: ${this.stderr.trim().split('\n').pop() ?? ''}`);
+    return JSON.parse(line) as T;
+  }
+
+  quit(): void { this.child.stdin.end(`${JSON.stringify({ op: 'quit' })}\n`); }
 }
 
-function runLibrary(file: string, bs: number, solve: boolean): LibraryResult | string {
-  if (!existsSync('/usr/bin/python3')) return 'no /usr/bin/python3';
-  const job = join(DATA, 'library-job.json');
-  writeFileSync(job, JSON.stringify({ file, bs, spmvRepeats: 20, solveRepeats: REPEATS, iterations: ITERATIONS, preconditioners: solve ? PRECONDITIONERS : [] }));
-  const res = spawnSync('/usr/bin/python3', [join(ROOT, 'bench', 'compiled_library.py'), job], { encoding: 'utf8', maxBuffer: 1 << 24 });
-  if (res.status !== 0) {
-    const err = (res.stderr || '').trim().split('\n').pop() ?? '';
-    return /No module named 'petsc4py'/.test(res.stderr) ? 'python3-petsc4py is not installed' : `library run failed: ${err}`;
-  }
-  return JSON.parse(res.stdout.trim().split('\n').pop()!) as LibraryResult;
-}
+interface LibrarySolve { setupSeconds: number; solveSeconds: number; iterations: number }
 
 function spmvBytes(a: Bsr): number {
   const nBlocks = a.rowPtr[a.nBlockRows];
@@ -109,9 +145,9 @@ async function main(): Promise<void> {
       const a = sys.bsr;
       const nnz = a.rowPtr[a.nBlockRows] * a.bs * a.bs;
       console.log(`\n${m.name}: n = ${a.nBlockRows * a.bs}, bs ${a.bs}, ${(nnz / 1e6).toFixed(2)} M stored values`);
-      const lib = runLibrary(m.file, m.bs, m.solve);
-      const libNote = typeof lib === 'string' ? lib : undefined;
-      if (libNote) console.log(`  compiled library skipped: ${libNote}`);
+      const started = await Library.start(m.file, m.bs);
+      const lib = typeof started === 'string' ? undefined : started;
+      if (typeof started === 'string') console.log(`  compiled library skipped: ${started}`);
       // SpMV: TypeScript on the JavaScript heap, then WebAssembly in kernel memory
       const n = a.nBlockRows * a.bs;
       const reps = quick ? 5 : 15;
@@ -121,13 +157,20 @@ async function main(): Promise<void> {
       const tTs = time(() => bsrSpmv(a, xj, yj));
       const plan = planKernels(sys, { ...DEFAULT_RECIPE }, 'wasm');
       const xw = kernelF64(n).fill(1), yw = kernelF64(n);
-      const tW = time(() => bsrSpmv(sys.bsr, xw, yw));
+      // ours and theirs alternated, three pairs; medians of each side and of the per-pair ratios
+      const oursS: number[] = [], theirsS: number[] = [], pairRatios: number[] = [];
+      for (let pair = 0; pair < 3; pair++) {
+        oursS.push(time(() => bsrSpmv(sys.bsr, xw, yw)));
+        theirsS.push(lib ? (await lib.request<{ spmvSeconds: number }>({ op: 'spmv', repeats: reps })).spmvSeconds : NaN);
+        pairRatios.push(theirsS[pair] / oursS[pair]);
+      }
+      const tW = median(oursS);
       plan.finish();
       const bytes = spmvBytes(a);
-      const theirs = libNote ? NaN : bytes / (lib as LibraryResult).spmvSeconds / 1e9;
+      const theirs = bytes / median(theirsS) / 1e9;
       console.log(`  SpMV GB/s: ours WebAssembly ${fmt(bytes / tW / 1e9)}, ours TypeScript ${fmt(bytes / tTs / 1e9)}, theirs ${fmt(theirs)};` +
-        ` ours/theirs ${fmt(bytes / tW / 1e9 / theirs)} (target ≥ 1.0); ours/WebAssembly triad ${fmt(bytes / tW / 1e9 / triad.wasm)}`);
-      if (!m.solve) continue;
+        ` ours/theirs ${fmt(median(pairRatios))} (target ≥ 1.0; pairs ${pairRatios.map((r) => fmt(r)).join(' ')}); ours/WebAssembly triad ${fmt(bytes / tW / 1e9 / triad.wasm)}`);
+      if (!m.solve) { lib?.quit(); continue; }
       const b = new Float64Array(n);
       bsrSpmv(a, new Float64Array(n).fill(1), b);
       console.log(`  GMRES(30), ${ITERATIONS} iterations per solve; ratios ours/theirs (targets: per iteration ≤ 0.8, setup ≤ 1.5)`);
@@ -139,12 +182,19 @@ async function main(): Promise<void> {
         };
         await settle(100);
         const ours = [];
-        for (let rep = 0; rep < REPEATS; rep++) ours.push(solveSystem(sys, b, recipe, { kernels: 'wasm' }).result);
+        const L: { setupSeconds: number[]; solveSeconds: number[]; iterations: number[] } | undefined = lib ? { setupSeconds: [], solveSeconds: [], iterations: [] } : undefined;
+        // ours and theirs alternated, one fresh solver each per repeat
+        for (let rep = 0; rep < REPEATS; rep++) {
+          ours.push(solveSystem(sys, b, recipe, { kernels: 'wasm' }).result);
+          if (lib && L) {
+            const s = await lib.request<LibrarySolve>({ op: 'solve', name: pc, iterations: ITERATIONS });
+            L.setupSeconds.push(s.setupSeconds); L.solveSeconds.push(s.solveSeconds); L.iterations.push(s.iterations);
+          }
+        }
         const perIt = (s: number, it: number): number => s / Math.max(1, it);
         const o1 = perIt(ours[0].timing.solveSeconds, ours[0].iterations);
         const oW = Math.min(...ours.slice(1).map((r) => perIt(r.timing.solveSeconds, r.iterations)));
         const oS = Math.min(...ours.slice(1).map((r) => r.timing.setupSeconds));
-        const L = libNote ? undefined : (lib as LibraryResult).preconditioners[pc];
         const t1 = L ? perIt(L.solveSeconds[0], L.iterations[0]) : NaN;
         const tW = L ? Math.min(...L.solveSeconds.slice(1).map((s, i) => perIt(s, L.iterations[i + 1]))) : NaN;
         const tS = L ? Math.min(...L.setupSeconds.slice(1)) : NaN;
@@ -152,6 +202,7 @@ async function main(): Promise<void> {
           `${fmt(o1, 4)} / ${fmt(t1, 4)} / ${fmt(o1 / t1)}`.padEnd(54) + `${fmt(oW, 4)} / ${fmt(tW, 4)} / ${fmt(oW / tW)}`.padEnd(44) +
           `${ours.map((r) => r.iterations).join(',')} vs ${L ? L.iterations.join(',') : '–'}; kernels ${ours[1].kernels}; our cold setup ${fmt(ours[0].timing.setupSeconds, 3)} s`);
       }
+      lib?.quit();
     }
   }
   console.log(`\nload average at the end: ${loadavg().map((x) => x.toFixed(1)).join(' ')}`);

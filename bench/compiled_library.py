@@ -2,10 +2,16 @@
 """Time the same matrix in a compiled general-purpose sparse library (petsc4py, Debian's
 python3-petsc4py), for bench/compiled-library.bench.ts. Benchmarks only: never used by tests or CI.
 
-Usage: compiled_library.py JOB.json   (JOB: {"file", "bs", "spmvRepeats", "iterations", "preconditioners"})
-Prints one JSON object on stdout: SpMV seconds (median), and per preconditioner, for each of
-`solveRepeats` fresh solvers, the setup seconds, the seconds of one GMRES(30) solve of `iterations`
-iterations, and the iterations done (their GMRES may stop early on a breakdown test).
+Usage: compiled_library.py --serve FILE BS
+Reads the matrix once, prints one JSON line {"ready": true, "library", "n", "bs", "nBlocks",
+"readSeconds"}, then answers one JSON command per stdin line with one JSON line on stdout, so the
+bench can interleave its own repeats with these on a warm process (ratios of runs minutes apart
+swing with cache residency on a shared machine):
+  {"op": "spmv", "repeats": k}            -> {"spmvSeconds": median of k products}
+  {"op": "solve", "name": P, "iterations": m}
+                                          -> {"setupSeconds", "solveSeconds", "iterations"} of one
+                                             fresh solver (their GMRES may stop early on a breakdown test)
+  {"op": "quit"}                          -> exits
 
 Options used on their side (named here so the comparison can be checked):
   matrix     seqbaij with the block size of the layout (their block CSR type), from the .mtx file
@@ -41,17 +47,14 @@ petsc4py.init(sys.argv[:1])
 from petsc4py import PETSc  # noqa: E402
 
 
-def main():
-    job = json.load(open(sys.argv[1]))
-    bs = int(job['bs'])
+def load(file, bs):
     t0 = time.perf_counter()
-    a = scipy.io.mmread(job['file']).tocsr()
+    a = scipy.io.mmread(file).tocsr()
     a.sum_duplicates()
     b = scipy.sparse.bsr_matrix(a, blocksize=(bs, bs))
     b.sort_indices()
     read_s = time.perf_counter() - t0
     n = a.shape[0]
-    nb = n // bs
     data = np.ascontiguousarray(b.data.reshape(-1))
     A = PETSc.Mat().createBAIJ(size=(n, n), bsize=bs, csr=(b.indptr.astype(PETSc.IntType), b.indices.astype(PETSc.IntType), data))
     A.assemble()
@@ -60,60 +63,75 @@ def main():
     x.set(1.0)
     A.mult(x, y)
     rhs = y.copy()
-    out = {'library': 'petsc4py %d.%d.%d' % PETSc.Sys.getVersion(), 'n': n, 'bs': bs, 'nBlocks': int(b.indptr[-1]), 'readSeconds': read_s}
-    reps = int(job.get('spmvRepeats', 20))
+    info = {'ready': True, 'library': 'petsc4py %d.%d.%d' % PETSc.Sys.getVersion(), 'n': n, 'bs': bs, 'nBlocks': int(b.indptr[-1]), 'readSeconds': read_s}
+    return A, x, y, rhs, info
+
+
+def spmv(A, x, y, reps):
     times = []
     for _ in range(reps):
         t = time.perf_counter()
         A.mult(x, y)
         times.append(time.perf_counter() - t)
-    out['spmvSeconds'] = float(np.median(times))
-    its = int(job['iterations'])
-    pcs = {}
-    reps = int(job.get('solveRepeats', 3))
-    for name in job['preconditioners']:
-        rec = {'setupSeconds': [], 'solveSeconds': [], 'iterations': []}
-        for rep in range(reps):
-            # their diagonal-block inverses are cached on the matrix (pbjacobi, sor); scaling by 1
-            # marks them stale, so every fresh solver computes them again, as ours does
-            A.scale(1.0)
-            opts = PETSc.Options()
-            opts['ksp_gmres_modifiedgramschmidt'] = None
-            ksp = PETSc.KSP().create()
-            ksp.setOperators(A)
-            ksp.setType('gmres')
-            ksp.setGMRESRestart(30)
-            ksp.setPCSide(PETSc.PC.Side.RIGHT)
-            ksp.setTolerances(rtol=1e-30, atol=0.0, divtol=1e30, max_it=its)
-            ksp.setNormType(PETSc.KSP.NormType.UNPRECONDITIONED)
-            pc = ksp.getPC()
-            if name == 'none':
-                pc.setType('none')
-            elif name == 'block-jacobi':
-                pc.setType('pbjacobi')
-            elif name == 'block-ilu0':
-                pc.setType('ilu')
-                pc.setFactorLevels(0)
-                pc.setFactorOrdering('natural')
-            elif name == 'block-gs':
-                pc.setType('sor')  # defaults: local symmetric sweep, omega 1, 1 iteration
-            else:
-                raise SystemExit('unknown preconditioner ' + name)
-            ksp.setFromOptions()
-            t = time.perf_counter()
-            ksp.setUp()
-            pc.setUp()
-            rec['setupSeconds'].append(time.perf_counter() - t)
-            sol = A.createVecRight()
-            sol.set(0.0)
-            t = time.perf_counter()
-            ksp.solve(rhs, sol)
-            rec['solveSeconds'].append(time.perf_counter() - t)
-            rec['iterations'].append(ksp.getIterationNumber())
-            ksp.destroy()
-        pcs[name] = rec
-    out['preconditioners'] = pcs
-    print(json.dumps(out))
+    return {'spmvSeconds': float(np.median(times))}
+
+
+def solve(A, rhs, name, its):
+    # their diagonal-block inverses are cached on the matrix (pbjacobi, sor); scaling by 1
+    # marks them stale, so every fresh solver computes them again, as ours does
+    A.scale(1.0)
+    opts = PETSc.Options()
+    opts['ksp_gmres_modifiedgramschmidt'] = None
+    ksp = PETSc.KSP().create()
+    ksp.setOperators(A)
+    ksp.setType('gmres')
+    ksp.setGMRESRestart(30)
+    ksp.setPCSide(PETSc.PC.Side.RIGHT)
+    ksp.setTolerances(rtol=1e-30, atol=0.0, divtol=1e30, max_it=its)
+    ksp.setNormType(PETSc.KSP.NormType.UNPRECONDITIONED)
+    pc = ksp.getPC()
+    if name == 'none':
+        pc.setType('none')
+    elif name == 'block-jacobi':
+        pc.setType('pbjacobi')
+    elif name == 'block-ilu0':
+        pc.setType('ilu')
+        pc.setFactorLevels(0)
+        pc.setFactorOrdering('natural')
+    elif name == 'block-gs':
+        pc.setType('sor')  # defaults: local symmetric sweep, omega 1, 1 iteration
+    else:
+        raise SystemExit('unknown preconditioner ' + name)
+    ksp.setFromOptions()
+    t = time.perf_counter()
+    ksp.setUp()
+    pc.setUp()
+    setup = time.perf_counter() - t
+    sol = A.createVecRight()
+    sol.set(0.0)
+    t = time.perf_counter()
+    ksp.solve(rhs, sol)
+    out = {'setupSeconds': setup, 'solveSeconds': time.perf_counter() - t, 'iterations': ksp.getIterationNumber()}
+    ksp.destroy()
+    return out
+
+
+def main():
+    if len(sys.argv) != 4 or sys.argv[1] != '--serve':
+        raise SystemExit('usage: compiled_library.py --serve FILE BS')
+    A, x, y, rhs, info = load(sys.argv[2], int(sys.argv[3]))
+    print(json.dumps(info), flush=True)
+    for line in sys.stdin:
+        cmd = json.loads(line)
+        if cmd['op'] == 'quit':
+            break
+        if cmd['op'] == 'spmv':
+            out = spmv(A, x, y, int(cmd['repeats']))
+        elif cmd['op'] == 'solve':
+            out = solve(A, rhs, cmd['name'], int(cmd['iterations']))
+        else:
+            raise SystemExit('unknown command ' + cmd['op'])
+        print(json.dumps(out), flush=True)
 
 
 main()
