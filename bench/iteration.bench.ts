@@ -85,7 +85,7 @@ const variants: Array<{ label: string; over: Partial<Recipe> }> = [
 
 console.log(`load average at the start ${loadavg()[0].toFixed(1)}; ratios against the WebAssembly triad, "JS ratio" against the JavaScript triad`);
 console.log(`\n${'precond'.padEnd(21) + 'kernels'.padEnd(11) + 's/iteration'.padStart(12) + 'of which M'.padStart(12) + '  ' + 'matrix MB'.padStart(9) + '   ' + 'precond MB'.padStart(9) + '  ' + 'basis MB'.padStart(9) + '  ' + 'total MB'.padStart(9) + '  ' + 'triad GB/s'.padStart(10) + '  ' + 'bytes-time s'.padStart(13) + '   ratio  M ratio  JS ratio'}`);
-for (const { label, over } of variants) for (const kernels of ['wasm', 'typescript'] as const) {
+for (const { label, over } of variants) {
   const recipe = parseRecipe({ ...over, restart, rtol: 0, maxIterations: restart }, 'bench');
   const M = createPreconditioner(system, recipe);
   const outcome = M.setup();
@@ -95,33 +95,35 @@ for (const { label, over } of variants) for (const kernels of ['wasm', 'typescri
   const precondBytes = recipe.preconditioner === 'block-gs'
     ? factorBytes + lowerBlocks * bs * bs * 8 + bsr.colInd.byteLength + bsr.rowPtr.byteLength
     : factorBytes;
-  // the timed cycles: the recipe prepared once on the chosen kernels (matrix and factors in
-  // kernel memory for wasm), one full cycle per solve
-  const prepared = prepareSolve(system, recipe, { kernels });
-  await settle();
-  // Pairs: short triads right before each measured cycle, and the ratio taken per pair, so load
-  // that comes and goes on a shared machine hits both sides of a ratio; the row shows medians.
-  const bytes = matrixBytes + precondBytes + basisBytes;
-  const perIts: number[] = [], perApplies: number[] = [], bandwidths: number[] = [];
-  const ratios: number[] = [], applyRatios: number[] = [], jsRatios: number[] = [];
-  let ran = '';
-  for (let rep = 0; rep <= (quick ? 1 : 5); rep++) {
-    const bw = rep > 0 ? await measureStreamBandwidths({ timeMs: quick ? 150 : 300 }) : { wasm: 0, js: 0 };
-    const r = prepared.solve(gen.rhs).result;
-    ran = r.kernels ?? kernels;
-    if (rep === 0) continue; // the first cycle warms up the JIT
-    const perIt = r.timing.solveSeconds / r.iterations, perApply = r.timing.secondsPerPreconditionerApply;
-    perIts.push(perIt); perApplies.push(perApply); bandwidths.push(bw.wasm);
-    ratios.push(perIt / (bytes / (bw.wasm * 1e9)));
-    jsRatios.push(perIt / (bytes / (bw.js * 1e9)));
-    applyRatios.push(precondBytes > 0 ? perApply / (precondBytes / (bw.wasm * 1e9)) : Number.NaN);
+  // the bytes above are counted once per recipe; the timed cycles: the recipe prepared once on
+  // each kernel set (matrix and factors in kernel memory for wasm), one full cycle per solve
+  for (const kernels of ['wasm', 'typescript'] as const) {
+    const prepared = prepareSolve(system, recipe, { kernels });
+    await settle();
+    // Pairs: short triads right before each measured cycle, and the ratio taken per pair, so load
+    // that comes and goes on a shared machine hits both sides of a ratio; the row shows medians.
+    const bytes = matrixBytes + precondBytes + basisBytes;
+    const perIts: number[] = [], perApplies: number[] = [], bandwidths: number[] = [];
+    const ratios: number[] = [], applyRatios: number[] = [], jsRatios: number[] = [];
+    let ran = '';
+    for (let rep = 0; rep <= (quick ? 1 : 5); rep++) {
+      const bw = rep > 0 ? await measureStreamBandwidths({ timeMs: quick ? 150 : 300 }) : { wasm: 0, js: 0 };
+      const r = prepared.solve(gen.rhs).result;
+      ran = r.kernels ?? kernels;
+      if (rep === 0) continue; // the first cycle warms up the JIT
+      const perIt = r.timing.solveSeconds / r.iterations, perApply = r.timing.secondsPerPreconditionerApply;
+      perIts.push(perIt); perApplies.push(perApply); bandwidths.push(bw.wasm);
+      ratios.push(perIt / (bytes / (bw.wasm * 1e9)));
+      jsRatios.push(perIt / (bytes / (bw.js * 1e9)));
+      applyRatios.push(precondBytes > 0 ? perApply / (precondBytes / (bw.wasm * 1e9)) : Number.NaN);
+    }
+    prepared.dispose();
+    const perIt = median(perIts), perApply = median(perApplies), bandwidth = median(bandwidths);
+    const bytesTime = bytes / (bandwidth * 1e9);
+    const mb = (b: number) => (b / 1e6).toFixed(1).padStart(9);
+    console.log(`${label.padEnd(21)}${ran.padEnd(11)}${perIt.toExponential(3).padStart(12)}${perApply.toExponential(3).padStart(12)}  ${mb(matrixBytes)}   ${mb(precondBytes)}  ${mb(basisBytes)}  ${mb(bytes)}  ` +
+      `${bandwidth.toFixed(2).padStart(10)}  ${bytesTime.toExponential(3).padStart(13)}   ${median(ratios).toFixed(2)}   ${precondBytes > 0 ? median(applyRatios).toFixed(2) : "  –"}` +
+      `     ${median(jsRatios).toFixed(2)}   (ratios ${Math.min(...ratios).toFixed(2)}–${Math.max(...ratios).toFixed(2)})`);
   }
-  prepared.dispose();
-  const perIt = median(perIts), perApply = median(perApplies), bandwidth = median(bandwidths);
-  const bytesTime = bytes / (bandwidth * 1e9);
-  const mb = (b: number) => (b / 1e6).toFixed(1).padStart(9);
-  console.log(`${label.padEnd(21)}${ran.padEnd(11)}${perIt.toExponential(3).padStart(12)}${perApply.toExponential(3).padStart(12)}  ${mb(matrixBytes)}   ${mb(precondBytes)}  ${mb(basisBytes)}  ${mb(bytes)}  ` +
-    `${bandwidth.toFixed(2).padStart(10)}  ${bytesTime.toExponential(3).padStart(13)}   ${median(ratios).toFixed(2)}   ${precondBytes > 0 ? median(applyRatios).toFixed(2) : "  –"}` +
-    `     ${median(jsRatios).toFixed(2)}   (ratios ${Math.min(...ratios).toFixed(2)}–${Math.max(...ratios).toFixed(2)})`);
 }
 console.log(`load average at the end ${loadavg()[0].toFixed(1)}`);
