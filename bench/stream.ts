@@ -78,15 +78,6 @@ export async function measureStreamBandwidths(opts: { length?: number; timeMs?: 
   return { wasm: gbPerSecond(bench.tasks[0], w.bytes), js: gbPerSecond(bench.tasks[1], j.bytes) };
 }
 
-/** Run the (JavaScript) triad alone and return GB/s (median of the samples). */
-export async function measureStreamBandwidth(opts: { length?: number; timeMs?: number } = {}): Promise<number> {
-  const arrays = streamArrays(opts.length);
-  const bench = new Bench({ name: 'stream', time: opts.timeMs ?? 1000, warmupTime: 200 });
-  addStreamTask(bench, arrays);
-  await bench.run();
-  return gbPerSecond(bench.tasks[0], arrays.bytes);
-}
-
 /**
  * Let the process settle before timing: a full garbage collection (exposed at run time through
  * V8's flag, common practice for benches) and a short pause. Without it, the first kernels timed
