@@ -107,7 +107,7 @@ for (const { label, over } of variants) {
     const ratios: number[] = [], applyRatios: number[] = [], jsRatios: number[] = [];
     let ran = '';
     for (let rep = 0; rep <= (quick ? 1 : 5); rep++) {
-      const bw = rep > 0 ? await measureStreamBandwidths({ timeMs: quick ? 150 : 300 }) : { wasm: 0, js: 0 };
+      const bw = rep > 0 ? await measureStreamBandwidths({ timeMs: quick ? 150 : 300 }) : { wasm: 0, js: 0, read: 0 };
       const r = prepared.solve(gen.rhs).result;
       ran = r.kernels ?? kernels;
       if (rep === 0) continue; // the first cycle warms up the JIT

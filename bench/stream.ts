@@ -67,15 +67,25 @@ export function addWasmStreamTask(bench: Bench, arrays: WasmStreamArrays, name =
   bench.add(name, () => k.triad(n, py, pa, 1.5, pb));
 }
 
-/** Both triads in one tinybench run: { wasm, js } in GB/s (medians). */
-export async function measureStreamBandwidths(opts: { length?: number; timeMs?: number } = {}): Promise<{ wasm: number; js: number }> {
+/**
+ * Both triads in one tinybench run, plus a read-only stream: { wasm, js, read } in GB/s (medians).
+ * `read` is the WebAssembly sum of squares (src/kernels/vector.ts `sumSquares`, f64x2, two
+ * accumulators) over one of the triad's arrays, 8 bytes per entry and no store: the rate at which
+ * one core can read memory, which bounds a product or sweep that must read a matrix beyond the
+ * last-level cache (the triad's store traffic makes it the lower of the two on this machine).
+ */
+export async function measureStreamBandwidths(opts: { length?: number; timeMs?: number } = {}): Promise<{ wasm: number; js: number; read: number }> {
   const w = wasmStreamArrays(opts.length);
   const j = streamArrays(opts.length);
   const bench = new Bench({ name: 'stream', time: opts.timeMs ?? 1000, warmupTime: 200 });
   addWasmStreamTask(bench, w);
   addStreamTask(bench, j);
+  const n = w.a.length, pa = w.a.byteOffset;
+  let sink = 0;
+  bench.add('read stream (WebAssembly)', () => { sink += w.arena.k.sumSquares(n, pa); });
   await bench.run();
-  return { wasm: gbPerSecond(bench.tasks[0], w.bytes), js: gbPerSecond(bench.tasks[1], j.bytes) };
+  if (!Number.isFinite(sink)) throw new Error('read stream: non-finite sum');
+  return { wasm: gbPerSecond(bench.tasks[0], w.bytes), js: gbPerSecond(bench.tasks[1], j.bytes), read: gbPerSecond(bench.tasks[2], 8 * n) };
 }
 
 /**
