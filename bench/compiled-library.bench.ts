@@ -90,6 +90,8 @@ class Library {
   private queued: string[] = [];
   private closed = false;
   private stderr = '';
+  /** The ready line: library version and the BLAS thread count it runs with. */
+  info: { library?: string; blasThreads?: string } = {};
   private constructor(private readonly child: ChildProcessWithoutNullStreams) {
     createInterface({ input: child.stdout }).on('line', (line) => {
       const r = this.pending.shift();
@@ -108,6 +110,7 @@ class Library {
       const err = lib.stderr.trim().split('\n').pop() ?? '';
       return /No module named 'petsc4py'/.test(lib.stderr) ? 'python3-petsc4py is not installed' : `library run failed: ${err}`;
     }
+    lib.info = JSON.parse(first) as Library['info'];
     return lib;
   }
 
@@ -171,6 +174,7 @@ async function main(): Promise<void> {
       const started = await Library.start(m.file, m.bs);
       const lib = typeof started === 'string' ? undefined : started;
       if (typeof started === 'string') console.log(`  compiled library skipped: ${started}`);
+      else console.log(`  compiled library: ${started.info.library ?? '?'}, BLAS threads ${started.info.blasThreads ?? '?'} (ours: one thread)`);
       // SpMV: TypeScript on the JavaScript heap, then WebAssembly in kernel memory
       const n = a.nBlockRows * a.bs;
       const reps = quick ? 5 : 15;

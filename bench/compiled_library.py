@@ -14,6 +14,7 @@ swing with cache residency on a shared machine):
   {"op": "quit"}                          -> exits
 
 Options used on their side (named here so the comparison can be checked):
+  threads    one (OPENBLAS_NUM_THREADS=1, OMP_NUM_THREADS=1, set before the libraries load)
   matrix     seqbaij with the block size of the layout (their block CSR type), from the .mtx file
   Krylov     ksp gmres, restart 30, right preconditioning, modified Gram-Schmidt
              (-ksp_gmres_modifiedgramschmidt, as ours), rtol 1e-30 so exactly `iterations` run
@@ -30,6 +31,13 @@ import json
 import os
 import sys
 import time
+
+# One thread, like our kernels: Debian links the library to the pthread build of OpenBLAS, whose dot
+# products and axpys (their Gram-Schmidt steps) otherwise use every core above about 10^4 entries,
+# and whose threaded sums round differently (their GMRES then stops early on its breakdown test).
+# Set before numpy and the library load; the ready line reports it.
+for _var in ('OPENBLAS_NUM_THREADS', 'OMP_NUM_THREADS'):
+    os.environ[_var] = '1'
 
 if 'PETSC_DIR' not in os.environ and not os.path.isdir('/usr/lib/petsc'):
     # Debian's alternatives link /usr/lib/petsc may be absent; point at the installed build
@@ -63,7 +71,8 @@ def load(file, bs):
     x.set(1.0)
     A.mult(x, y)
     rhs = y.copy()
-    info = {'ready': True, 'library': 'petsc4py %d.%d.%d' % PETSc.Sys.getVersion(), 'n': n, 'bs': bs, 'nBlocks': int(b.indptr[-1]), 'readSeconds': read_s}
+    info = {'ready': True, 'library': 'petsc4py %d.%d.%d' % PETSc.Sys.getVersion(), 'n': n, 'bs': bs, 'nBlocks': int(b.indptr[-1]), 'readSeconds': read_s,
+            'blasThreads': os.environ['OPENBLAS_NUM_THREADS']}
     return A, x, y, rhs, info
 
 
