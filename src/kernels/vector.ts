@@ -48,9 +48,23 @@ export function scale(n: i32, a: f64, x: usize): void {
 
 /** y ← y + a·x, then (y, z). */
 export function axpyDot(n: i32, a: f64, x: usize, y: usize, z: usize): f64 {
+  // eight entries per pass with constant offsets (1.15–1.2× the four-entry loop in cache, a scratch
+  // measurement); s still takes the pairs at i ≡ 0 (mod 4) and t those at i ≡ 2, in index order
   const av = f64x2.splat(a);
   let s = f64x2.splat(0), t = f64x2.splat(0);
   let i = 0;
+  for (; i + 7 < n; i += 8) {
+    const o = <usize>i << 3, py = y + o, px = x + o, pz = z + o;
+    const v0 = f64x2.add(v128.load(py), f64x2.mul(av, v128.load(px)));
+    const v1 = f64x2.add(v128.load(py, 16), f64x2.mul(av, v128.load(px, 16)));
+    const v2 = f64x2.add(v128.load(py, 32), f64x2.mul(av, v128.load(px, 32)));
+    const v3 = f64x2.add(v128.load(py, 48), f64x2.mul(av, v128.load(px, 48)));
+    v128.store(py, v0); v128.store(py, v1, 16); v128.store(py, v2, 32); v128.store(py, v3, 48);
+    s = f64x2.add(s, f64x2.mul(v0, v128.load(pz)));
+    t = f64x2.add(t, f64x2.mul(v1, v128.load(pz, 16)));
+    s = f64x2.add(s, f64x2.mul(v2, v128.load(pz, 32)));
+    t = f64x2.add(t, f64x2.mul(v3, v128.load(pz, 48)));
+  }
   for (; i + 3 < n; i += 4) {
     const v = f64x2.add(pairAt(y, i), f64x2.mul(av, pairAt(x, i)));
     const w = f64x2.add(pairAt(y, i + 2), f64x2.mul(av, pairAt(x, i + 2)));
@@ -68,11 +82,23 @@ export function axpyDot(n: i32, a: f64, x: usize, y: usize, z: usize): f64 {
   return (s0 + f64x2.extract_lane(s, 1)) + (f64x2.extract_lane(t, 0) + f64x2.extract_lane(t, 1));
 }
 
-/** y ← y + a·x, then ‖y‖₂. */
+/** y ← y + a·x, then ‖y‖₂ (passes as in axpyDot). */
 export function axpyNorm2(n: i32, a: f64, x: usize, y: usize): f64 {
   const av = f64x2.splat(a);
   let s = f64x2.splat(0), t = f64x2.splat(0);
   let i = 0;
+  for (; i + 7 < n; i += 8) {
+    const o = <usize>i << 3, py = y + o, px = x + o;
+    const v0 = f64x2.add(v128.load(py), f64x2.mul(av, v128.load(px)));
+    const v1 = f64x2.add(v128.load(py, 16), f64x2.mul(av, v128.load(px, 16)));
+    const v2 = f64x2.add(v128.load(py, 32), f64x2.mul(av, v128.load(px, 32)));
+    const v3 = f64x2.add(v128.load(py, 48), f64x2.mul(av, v128.load(px, 48)));
+    v128.store(py, v0); v128.store(py, v1, 16); v128.store(py, v2, 32); v128.store(py, v3, 48);
+    s = f64x2.add(s, f64x2.mul(v0, v0));
+    t = f64x2.add(t, f64x2.mul(v1, v1));
+    s = f64x2.add(s, f64x2.mul(v2, v2));
+    t = f64x2.add(t, f64x2.mul(v3, v3));
+  }
   for (; i + 3 < n; i += 4) {
     const v = f64x2.add(pairAt(y, i), f64x2.mul(av, pairAt(x, i)));
     const w = f64x2.add(pairAt(y, i + 2), f64x2.mul(av, pairAt(x, i + 2)));

@@ -81,7 +81,7 @@ describe('CSR products in WebAssembly against TypeScript', () => {
 });
 
 describe('vector kernels in WebAssembly against TypeScript (odd lengths: SIMD tails)', () => {
-  for (const n of [0, 1, 2, 3, 4, 5, 7, 8, 13, 1001]) {
+  for (const n of [0, 1, 2, 3, 4, 5, 7, 8, 12, 13, 15, 1001, 1006]) {
     it(`length ${n}`, () => {
       const r = rng(50 + n);
       const x = randomVector(r, n), y = randomVector(r, n), z = randomVector(r, n);
