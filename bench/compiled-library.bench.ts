@@ -140,8 +140,9 @@ function spmvBytes(a: Bsr): number {
 
 /**
  * Memory floors of one GMRES iteration at the read-stream rate (seconds): `storage` = the bytes of
- * the matrix and the preconditioner's stored arrays, each read once (a hard lower bound for any
- * implementation when they exceed the last-level cache, as on the bench files); `work` = the work
+ * the matrix and the preconditioner's stored arrays, each read once (about a lower bound for any
+ * implementation when they exceed the last-level cache, as on the bench files; a compiled read ran
+ * up to about 1.4× our read stream's rate in one check, README "Benchmarks"); `work` = the work
  * model's bytes per iteration (README "Work model": every vector pass too, some of which may hit
  * cache, so it bounds only an implementation that moves what the model counts).
  */
@@ -156,7 +157,7 @@ function floorNote(): void {
   if (floorNoted) return;
   floorNoted = true;
   console.log('  (floors / theirs: the storage floor and the work-model floor of one iteration at the read-stream rate, over their time per' +
-    ' iteration; a storage floor above 0.8 means no implementation reading these arrays once per iteration can meet the ≤ 0.8 target here)');
+    ' iteration; a storage floor near or above 0.8 leaves an implementation reading these arrays once per iteration almost no room for the ≤ 0.8 target here)');
 }
 
 async function main(): Promise<void> {
