@@ -228,9 +228,10 @@ async function main(): Promise<void> {
         const t1 = L ? perIt(L.solveSeconds[0], L.iterations[0]) : NaN;
         const tW = L ? Math.min(...L.solveSeconds.slice(1).map((s, i) => perIt(s, L.iterations[i + 1]))) : NaN;
         const tS = L ? Math.min(...L.setupSeconds.slice(1)) : NaN;
+        const fl = floors(ours[1], triad.read);
         console.log(`  ${pc.padEnd(13)} ${fmt(oS, 3)} / ${fmt(tS, 3)} / ${fmt(oS / tS)}`.padEnd(48) +
           `${fmt(o1, 4)} / ${fmt(t1, 4)} / ${fmt(o1 / t1)}`.padEnd(54) + `${fmt(oW, 4)} / ${fmt(tW, 4)} / ${fmt(oW / tW)}`.padEnd(44) +
-          `${fmt(floors(ours[1], triad.read).storage / tW)} ${fmt(floors(ours[1], triad.read).work / tW)}`.padEnd(18) +
+          `${fmt(fl.storage / tW)} ${fmt(fl.work / tW)}`.padEnd(18) +
           `${ours.map((r) => r.iterations).join(',')} vs ${L ? L.iterations.join(',') : '–'}; kernels ${ours[1].kernels}; our cold setup ${fmt(ours[0].timing.setupSeconds, 3)} s`);
       }
       lib?.quit();

@@ -70,9 +70,11 @@ export function addWasmStreamTask(bench: Bench, arrays: WasmStreamArrays, name =
 /**
  * Both triads in one tinybench run, plus a read-only stream: { wasm, js, read } in GB/s (medians).
  * `read` is the WebAssembly sum of squares (src/kernels/vector.ts `sumSquares`, f64x2, two
- * accumulators) over one of the triad's arrays, 8 bytes per entry and no store: the rate at which
- * one core can read memory, which bounds a product or sweep that must read a matrix beyond the
- * last-level cache (the triad's store traffic makes it the lower of the two on this machine).
+ * accumulators) over one of the triad's arrays, 8 bytes per entry and no store: about the rate at
+ * which one core can read memory, which bounds a product or sweep that must read a matrix beyond
+ * the last-level cache. It is not an upper bound: on the 2026-12-03 machine it read 9.3–10.8 GB/s
+ * while the triad moved 10.4–13.1 GB/s of counted bytes and a compiled one-thread read 12–16 GB/s
+ * (README "Benchmarks"), so floors computed from it can overstate by up to about 1.4×.
  */
 export async function measureStreamBandwidths(opts: { length?: number; timeMs?: number } = {}): Promise<{ wasm: number; js: number; read: number }> {
   const w = wasmStreamArrays(opts.length);
